@@ -1,0 +1,298 @@
+"""The one pint registry and the quantity types every record uses.
+
+Chemists type amounts the way they write them in the notebook ("0.20 mmol", "143 µL",
+"-78 °C", "3 eq"). This module turns such text (or a stored ``{"value", "unit"}`` pair)
+into a pint Quantity of the right dimension, or raises a `UnitError` that says which
+field got what and what it expects. Temperatures are offset units, so they are always
+built with ``Q_(x, "degC")`` and never multiplied.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Annotated, Any
+
+import pint
+from pydantic import BeforeValidator, PlainSerializer, WithJsonSchema
+
+from .errors import UnitError
+
+ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+ureg.define("equiv = [] = eq = equivalent = equivalents = equiv.")
+ureg.define("weight_percent = 0.01")
+Q_ = ureg.Quantity
+
+#: Lab spellings pint does not read as such, rewritten before parsing.
+_SPELLINGS = [
+    (re.compile(r"µ|μ"), "u"),
+    (re.compile(r"°\s*C\b"), "degC"),
+    (re.compile(r"°\s*F\b"), "degF"),
+    (re.compile(r"(?<![A-Za-z])℃"), "degC"),
+    (re.compile(r"\bwt\s*%"), "weight_percent"),
+    (re.compile(r"\bw/w\b"), ""),
+    (re.compile(r"\bhrs?\b"), "h"),
+    (re.compile(r"\bmins\b"), "min"),
+    (re.compile(r"\bsec\b"), "s"),
+    (re.compile(r"\bmol/L\b"), "M"),
+    (re.compile(r"\bmmol/mL\b"), "M"),
+]
+
+#: What each field kind expects, in words and as a pint dimensionality.
+KINDS: dict[str, tuple[str, str, str]] = {
+    # kind: (dimensionality, words, examples)
+    "amount": ("[substance]", "an amount of substance", "mmol, µmol, mol"),
+    "mass": ("[mass]", "a mass", "mg, g"),
+    "volume": ("[length] ** 3", "a volume", "µL, mL, L"),
+    "molarity": ("[substance] / [length] ** 3", "a concentration", "M, mM"),
+    "density": ("[mass] / [length] ** 3", "a density", "g/mL"),
+    "temperature": ("[temperature]", "a temperature", "°C, K"),
+    "duration": ("[time]", "a time", "min, h"),
+    "molar_mass": ("[mass] / [substance]", "a molar mass", "g/mol"),
+    "equiv": ("", "a number of equivalents", "equiv, eq"),
+    "fraction": ("", "a fraction or percentage", "98 %, 0.98, 5 wt%"),
+    "pressure": ("[pressure]", "a pressure", "bar, kPa"),
+}
+
+#: Unit each kind is stored and compared in.
+CANONICAL_UNITS = {
+    "amount": "mmol",
+    "mass": "mg",
+    "volume": "uL",
+    "molarity": "M",
+    "density": "g/mL",
+    "temperature": "degC",
+    "duration": "min",
+    "molar_mass": "g/mol",
+    "equiv": "equiv",
+    "fraction": "dimensionless",
+    "pressure": "bar",
+}
+
+
+def _describe(q: pint.Quantity) -> str:
+    """Name the dimension a quantity actually has, for the error message."""
+    for kind, (dim, words, _) in KINDS.items():
+        if kind in ("equiv", "fraction"):
+            continue
+        if q.dimensionality == ureg.parse_expression("1 " + _probe_unit(kind)).dimensionality:
+            return words
+    if q.dimensionless:
+        return "a plain number"
+    return f"of dimension {q.dimensionality}"
+
+
+def _probe_unit(kind: str) -> str:
+    return {"amount": "mol", "mass": "g", "volume": "L", "molarity": "M", "density": "g/mL",
+            "temperature": "K", "duration": "s", "molar_mass": "g/mol", "pressure": "Pa"}[kind]
+
+
+def _label(field: str | None) -> str:
+    return f"{field} " if field else ""
+
+
+def _normalise_text(text: str) -> str:
+    t = text.strip()
+    for pattern, repl in _SPELLINGS:
+        t = pattern.sub(repl, t)
+    t = re.sub(r"(?<=\d)\s*%$", " percent", t)
+    return t
+
+
+def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quantity:
+    """Read what a chemist typed (or a stored pair) as a Quantity of the kind's dimension.
+
+    Accepts a Quantity, a ``{"value": v, "unit": u}`` mapping, a string such as
+    ``"0.20 mmol"``, or — only for dimensionless kinds — a bare number.
+    """
+    if kind not in KINDS:
+        raise ValueError(f"unknown quantity kind {kind!r}")
+    dim, words, examples = KINDS[kind]
+    shown = value
+    if isinstance(value, pint.Quantity):
+        q = value
+    elif isinstance(value, dict):
+        if set(value) - {"value", "unit"} or "value" not in value:
+            raise UnitError(
+                f"{_label(field)}{value!r} is not a quantity",
+                'write it as {"value": 1.5, "unit": "mmol"} or as text such as "1.5 mmol"',
+                field=field,
+            )
+        v = value["value"]
+        unit = value.get("unit") or ""
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            raise UnitError(f"{_label(field)}value {v!r} is not a number", "give a number", field=field)
+        shown = f"{v} {unit}".strip()
+        q = _build(float(v), str(unit), field, shown, examples)
+    elif isinstance(value, bool):
+        raise UnitError(f"{_label(field)}{value!r} is not a quantity", f"give {words} ({examples})", field=field)
+    elif isinstance(value, (int, float)):
+        if not dim:
+            q = Q_(float(value), "equiv" if kind == "equiv" else "dimensionless")
+        else:
+            raise UnitError(
+                f"{_label(field)}'{value}' has no unit; expected {words}",
+                f"add a unit, e.g. '{value} {examples.split(',')[0]}'",
+                field=field,
+            )
+    elif isinstance(value, str):
+        q = _parse_text(value, field, examples, words, dim)
+    else:
+        raise UnitError(f"{_label(field)}{value!r} is not a quantity", f"give {words} ({examples})", field=field)
+
+    mag = q.magnitude
+    if isinstance(mag, complex) or not isinstance(mag, (int, float)) or not math.isfinite(float(mag)):
+        raise UnitError(f"{_label(field)}'{shown}' is not a finite number", f"give {words} ({examples})", field=field)
+
+    if dim:
+        expected = ureg.parse_expression("1 " + _probe_unit(kind)).dimensionality
+        if q.dimensionality != expected:
+            raise UnitError(
+                f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
+                f"give {words} ({examples})",
+                field=field,
+            )
+    elif not q.dimensionless:
+        raise UnitError(
+            f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
+            f"give {words} ({examples})",
+            field=field,
+        )
+    if kind == "temperature":
+        kelvin = q.to("K").magnitude
+        if kelvin < 0:
+            raise UnitError(f"{_label(field)}'{shown}' is below absolute zero", "check the sign and unit", field=field)
+        return q
+    return q
+
+
+def _build(v: float, unit: str, field: str | None, shown: str, examples: str) -> pint.Quantity:
+    unit = _normalise_text(unit) if unit else ""
+    try:
+        if unit in ("", "dimensionless"):
+            return Q_(v, "dimensionless")
+        if unit == "percent":
+            return Q_(v, "percent")
+        return Q_(v, unit)
+    except Exception as exc:  # pint raises many kinds (even AssertionError) on odd text
+        raise UnitError(f"{_label(field)}unit '{unit}' in '{shown}' is not known", f"use one of {examples}", field=field) from exc
+
+
+def _parse_text(text: str, field: str | None, examples: str, words: str, dim: str) -> pint.Quantity:
+    t = _normalise_text(text)
+    m = re.fullmatch(r"([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*)", t)
+    if not m:
+        raise UnitError(
+            f"{_label(field)}'{text}' is not a number with a unit",
+            f"write a number then a unit, e.g. '1.5 {examples.split(',')[0].strip()}'",
+            field=field,
+        )
+    number, unit = float(m.group(1)), m.group(2).strip()
+    if not unit and dim:
+        raise UnitError(
+            f"{_label(field)}'{text}' has no unit; expected {words}",
+            f"add a unit, e.g. '{m.group(1)} {examples.split(',')[0].strip()}'",
+            field=field,
+        )
+    return _build(number, unit, field, text, examples)
+
+
+def to_canonical(q: pint.Quantity, kind: str) -> float:
+    """Magnitude in the unit the project stores and compares this kind in."""
+    unit = CANONICAL_UNITS[kind]
+    if kind == "fraction":
+        return float(q.to("dimensionless").magnitude)
+    if kind == "equiv":
+        return float(q.to("equiv").magnitude) if not q.unitless else float(q.magnitude)
+    return float(q.to(unit).magnitude)
+
+
+_UNIT_TEXT = {
+    "microliter": "µL", "milliliter": "mL", "liter": "L", "nanoliter": "nL",
+    "millimole": "mmol", "micromole": "µmol", "mole": "mol", "nanomole": "nmol",
+    "milligram": "mg", "gram": "g", "microgram": "µg", "kilogram": "kg",
+    "degree_Celsius": "°C", "kelvin": "K", "degree_Fahrenheit": "°F",
+    "hour": "h", "minute": "min", "second": "s", "day": "d",
+    "molar": "M", "millimolar": "mM", "micromolar": "µM",
+    "equiv": "equiv", "percent": "%", "weight_percent": "wt%", "dimensionless": "",
+    "gram / milliliter": "g/mL", "gram / mole": "g/mol", "gram / liter": "g/L",
+    "gram / centimeter ** 3": "g/cm³", "kilogram / liter": "kg/L",
+    "bar": "bar", "kilopascal": "kPa", "pascal": "Pa", "atmosphere": "atm", "psi": "psi",
+    "mole / liter": "M", "millimole / milliliter": "M", "millimole / liter": "mM",
+}
+
+
+def unit_text(q: pint.Quantity) -> str:
+    """The unit as a chemist writes it (µL, °C, mmol), for storage and display."""
+    name = str(q.units)
+    if name in _UNIT_TEXT:
+        return _UNIT_TEXT[name]
+    return f"{q.units:~}".replace(" ", "")
+
+
+def dump_quantity(q: pint.Quantity | None) -> dict | None:
+    """The stored form: ``{"value": 1.5, "unit": "mmol"}`` (full precision)."""
+    if q is None:
+        return None
+    unit = unit_text(q)
+    if unit in ("", "dimensionless"):
+        unit = ""
+    return {"value": float(q.magnitude), "unit": unit}
+
+
+def quantity_type(kind: str):
+    """An annotated pydantic type for one kind: parses lab text, dumps a value/unit pair."""
+
+    def _validate(v: Any, info=None) -> pint.Quantity:
+        return parse_quantity(v, kind)
+
+    schema = {
+        "anyOf": [
+            {"type": "string", "description": f"{KINDS[kind][1]} written with its unit, e.g. '{KINDS[kind][2].split(',')[0]}'"},
+            {
+                "type": "object",
+                "properties": {"value": {"type": "number"}, "unit": {"type": "string"}},
+                "required": ["value"],
+                "additionalProperties": False,
+            },
+        ]
+    }
+    if not KINDS[kind][0]:
+        schema["anyOf"].insert(0, {"type": "number"})
+    return Annotated[
+        Any,
+        BeforeValidator(lambda v: _validate(v)),
+        PlainSerializer(dump_quantity, return_type=dict | None, when_used="always"),
+        WithJsonSchema(schema),
+    ]
+
+
+Amount = quantity_type("amount")
+Mass = quantity_type("mass")
+Volume = quantity_type("volume")
+Molarity = quantity_type("molarity")
+Density = quantity_type("density")
+Temperature = quantity_type("temperature")
+Duration = quantity_type("duration")
+MolarMass = quantity_type("molar_mass")
+Fraction = quantity_type("fraction")
+Equiv = quantity_type("equiv")
+
+
+def fmt_mmol(x: float | None) -> str:
+    """mmol to 3 significant figures, as chemists write them."""
+    if x is None:
+        return "—"
+    return f"{x:.3g}" if abs(x) >= 1e-3 else f"{x:.2e}"
+
+
+def fmt_mg(x: float | None) -> str:
+    return "—" if x is None else f"{x:.1f}"
+
+
+def fmt_ul(x: float | None) -> str:
+    return "—" if x is None else f"{x:.0f}"
+
+
+def fmt_equiv(x: float | None) -> str:
+    return "—" if x is None else f"{x:.2f}".rstrip("0").rstrip(".") if x != int(x) else f"{x:.1f}"
