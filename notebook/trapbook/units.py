@@ -283,7 +283,10 @@ def fmt_mmol(x: float | None) -> str:
     """mmol to 3 significant figures, as chemists write them."""
     if x is None:
         return "—"
-    return f"{x:.3g}" if abs(x) >= 1e-3 else f"{x:.2e}"
+    if x == 0:
+        return "0"
+    text = f"{x:#.3g}" if abs(x) >= 1e-3 else f"{x:.2e}"
+    return text.rstrip(".")
 
 
 def fmt_mg(x: float | None) -> str:

@@ -1,0 +1,63 @@
+"""Builds the demo notebook from demo_lab/ (a fictional group's runs) for a first look."""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+from .errors import TrapbookError
+from .records import load_run, load_screen
+
+
+def demo_lab_dir() -> Path:
+    """demo_lab/ beside the source tree (TRAPBOOK_DEMO_LAB overrides)."""
+    env = os.environ.get("TRAPBOOK_DEMO_LAB")
+    if env:
+        return Path(env)
+    here = Path(__file__).resolve()
+    for parent in here.parents:
+        cand = parent / "demo_lab"
+        if (cand / "runs").is_dir():
+            return cand
+    raise TrapbookError("the demo lab files were not found", "run from a checkout of Trapbook, or set TRAPBOOK_DEMO_LAB")
+
+
+def default_demo_path() -> Path:
+    import platformdirs
+
+    return Path(platformdirs.user_data_dir("trapbook", appauthor=False)) / "demo.sqlite"
+
+
+def load_demo_files(src: Path | None = None):
+    src = src or demo_lab_dir()
+    runs = []
+    for f in sorted((src / "runs").glob("*.json")):
+        try:
+            runs.append(load_run(json.loads(f.read_text(encoding="utf-8"))))
+        except TrapbookError as exc:
+            raise TrapbookError(f"demo file {f.name}: {exc.message}", exc.hint) from None
+    screens = [load_screen(json.loads(f.read_text(encoding="utf-8"))) for f in sorted((src / "screens").glob("*.json"))]
+    return runs, screens
+
+
+def build_demo(path: Path | None = None, src: Path | None = None) -> dict:
+    """A fresh demo notebook at `path` (the per-user demo file by default); replaces an older demo."""
+    from .store import Notebook
+
+    src = src or demo_lab_dir()
+    path = path or default_demo_path()
+    runs, screens = load_demo_files(src)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    for suffix in ("", "-wal", "-shm"):
+        p = Path(str(path) + suffix)
+        if p.exists():
+            p.unlink()
+    with Notebook.create(path) as nb:
+        with nb.transaction():
+            for run in runs:
+                nb.add_run(run, author=run.chemist or "demo", reason="demo lab", keep_id=True)
+            for sc in screens:
+                nb.add_screen(sc, author=sc.chemist or "demo", reason="demo lab")
+        n_runs, n_screens = nb.count_runs(), len(nb.list_screens())
+    return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src)}

@@ -1,0 +1,115 @@
+"""JSON lines: one run per line, in the run-file format of schemas/run.schema.json.
+
+Import is all or nothing: every line is validated first, and a single bad record stops
+the import with its line number and field, before anything is written.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from ..errors import ExchangeError, RecordError, TrapbookError
+from ..records import Run, canonical_json, load_run
+
+
+def runs_for_export(nb, screen: str | None = None, include_withdrawn: bool = False) -> list[Run]:
+    if screen:
+        sc = nb.get_screen(screen)
+        return nb.screen_runs(sc)
+    return list(nb.iter_runs(include_withdrawn=include_withdrawn))
+
+
+def to_jsonl(runs: list[Run]) -> str:
+    return "".join(json.dumps(r.to_json_dict(), ensure_ascii=False, sort_keys=True) + "\n" for r in runs)
+
+
+def export_runs(nb, fmt: str = "jsonl", screen: str | None = None, output: str | None = None, include_withdrawn: bool = False):
+    """Export runs as text (returned) or to a file (path returned)."""
+    fmt = (fmt or "jsonl").lower()
+    runs = runs_for_export(nb, screen, include_withdrawn)
+    if fmt == "jsonl":
+        text = to_jsonl(runs)
+        if output:
+            _write_atomic(Path(output), text)
+            return output
+        return text
+    from . import registry
+
+    return registry.export(nb, fmt, runs, screen=screen, output=output)
+
+
+def _write_atomic(path: Path, text: str) -> None:
+    tmp = path.with_name(path.name + ".part")
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        tmp.replace(path)
+    except OSError as exc:
+        raise ExchangeError(f"cannot write {path}: {exc.strerror}", "choose a writable path") from None
+
+
+def parse_jsonl(text: str, source: str) -> list[Run]:
+    runs = []
+    for n, raw in enumerate(text.splitlines(), 1):
+        if not raw.strip():
+            continue
+        try:
+            data = json.loads(raw)
+        except json.JSONDecodeError as exc:
+            raise ExchangeError(f"{source} line {n} is not valid JSON ({exc.msg})", "fix that line; nothing was imported") from None
+        try:
+            runs.append(load_run(data))
+        except RecordError as exc:
+            raise ExchangeError(f"{source} line {n}: {exc.message}", "fix that record; nothing was imported") from None
+    return runs
+
+
+def read_runs(path: Path) -> list[Run]:
+    if not path.exists():
+        raise ExchangeError(f"no file {path}", "give the path of a file to import")
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise ExchangeError(f"cannot read {path}: {exc}", "give a UTF-8 text file") from None
+    stripped = text.lstrip()
+    if stripped.startswith("["):
+        try:
+            items = json.loads(text)
+        except json.JSONDecodeError as exc:
+            raise ExchangeError(f"{path} is not valid JSON ({exc.msg}, line {exc.lineno})", "fix the file; nothing was imported") from None
+        out = []
+        for i, item in enumerate(items, 1):
+            try:
+                out.append(load_run(item))
+            except RecordError as exc:
+                raise ExchangeError(f"{path} record {i}: {exc.message}", "fix that record; nothing was imported") from None
+        return out
+    if stripped.startswith("{") and "\n{" not in stripped.strip():
+        try:
+            return [load_run(json.loads(text))]
+        except json.JSONDecodeError:
+            pass
+        except RecordError as exc:
+            raise ExchangeError(f"{path}: {exc.message}", "fix the record; nothing was imported") from None
+    return parse_jsonl(text, str(path))
+
+
+def import_path(nb, path: Path, author: str | None = None) -> dict:
+    """Recognise the file's format and import it atomically; report what was imported."""
+    suffix = "".join(path.suffixes[-2:]).lower() if path.suffixes else ""
+    if path.is_dir() or suffix.endswith((".zip", ".pb", ".pbtxt")) or path.suffix.lower() in (".pb", ".pbtxt", ".zip"):
+        from . import registry
+
+        return registry.import_other(nb, path, author=author)
+    runs = read_runs(path)
+    if not runs:
+        raise ExchangeError(f"{path} holds no runs", "check the file")
+    try:
+        results = nb.import_runs(runs, author=author, reason=f"imported from {path.name}")
+    except TrapbookError:
+        raise
+    notes = [f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id]
+    return {"imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}
+
+
+__all__ = ["export_runs", "import_path", "to_jsonl", "read_runs", "canonical_json"]

@@ -1,0 +1,135 @@
+"""Tables of a notebook file and the migrations that build them, each recorded once."""
+
+from __future__ import annotations
+
+import datetime as _dt
+import sqlite3
+from typing import Callable
+
+SCHEMA_VERSION = 1
+
+
+def _script(conn: sqlite3.Connection, script: str) -> None:
+    """Run statements one by one: executescript would commit the open migration transaction."""
+    for stmt in script.split(";"):
+        if stmt.strip():
+            conn.execute(stmt)
+
+
+def _v1(conn: sqlite3.Connection) -> None:
+    _script(
+        conn,
+        """
+        CREATE TABLE IF NOT EXISTS runs (
+            id TEXT PRIMARY KEY,
+            title TEXT NOT NULL,
+            chemist TEXT,
+            date TEXT,
+            status TEXT,
+            screen TEXT,
+            withdrawn INTEGER NOT NULL DEFAULT 0,
+            version INTEGER NOT NULL,
+            hash TEXT NOT NULL,
+            created TEXT NOT NULL,
+            updated TEXT NOT NULL,
+            data TEXT NOT NULL
+        );
+        CREATE TABLE IF NOT EXISTS versions (
+            run_id TEXT NOT NULL,
+            version INTEGER NOT NULL,
+            author TEXT NOT NULL,
+            time TEXT NOT NULL,
+            reason TEXT NOT NULL,
+            action TEXT NOT NULL,
+            prev_hash TEXT,
+            hash TEXT NOT NULL,
+            data TEXT NOT NULL,
+            PRIMARY KEY (run_id, version)
+        );
+        CREATE TABLE IF NOT EXISTS screens (
+            id TEXT PRIMARY KEY,
+            name TEXT NOT NULL,
+            version INTEGER NOT NULL,
+            created TEXT NOT NULL,
+            updated TEXT NOT NULL,
+            data TEXT NOT NULL
+        );
+        CREATE TABLE IF NOT EXISTS screen_versions (
+            screen_id TEXT NOT NULL,
+            version INTEGER NOT NULL,
+            author TEXT NOT NULL,
+            time TEXT NOT NULL,
+            reason TEXT NOT NULL,
+            data TEXT NOT NULL,
+            PRIMARY KEY (screen_id, version)
+        );
+        CREATE TABLE IF NOT EXISTS run_index (
+            run_id TEXT PRIMARY KEY,
+            precursor TEXT,
+            intermediate TEXT,
+            trap TEXT,
+            trap_smiles TEXT,
+            fluoride TEXT,
+            additive TEXT,
+            solvent TEXT,
+            temp_min_c REAL,
+            temp_max_c REAL,
+            time_min REAL,
+            sealed INTEGER,
+            yield_pct REAL,
+            yield_kind TEXT,
+            worst TEXT,
+            findings TEXT
+        );
+        CREATE TABLE IF NOT EXISTS strain_cache (
+            key TEXT PRIMARY KEY,
+            smiles TEXT NOT NULL,
+            tier TEXT NOT NULL,
+            engine TEXT NOT NULL,
+            created TEXT NOT NULL,
+            result TEXT NOT NULL
+        );
+        CREATE TABLE IF NOT EXISTS settings (
+            key TEXT PRIMARY KEY,
+            value TEXT NOT NULL
+        );
+        CREATE TABLE IF NOT EXISTS counters (
+            name TEXT PRIMARY KEY,
+            value INTEGER NOT NULL
+        );
+        CREATE INDEX IF NOT EXISTS idx_index_trap ON run_index(trap);
+        CREATE INDEX IF NOT EXISTS idx_index_yield ON run_index(yield_pct);
+        CREATE INDEX IF NOT EXISTS idx_runs_screen ON runs(screen);
+        """
+    )
+
+
+#: (version, description, function). Append, never edit: a notebook records each one applied.
+MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
+    (1, "runs, versions, screens, index, strain cache, settings", _v1),
+]
+
+
+def migrate(conn: sqlite3.Connection) -> list[int]:
+    """Apply the migrations this notebook has not had; return the versions applied."""
+    conn.execute(
+        "CREATE TABLE IF NOT EXISTS migrations (version INTEGER PRIMARY KEY, applied TEXT NOT NULL, description TEXT NOT NULL)"
+    )
+    done = {row[0] for row in conn.execute("SELECT version FROM migrations")}
+    applied = []
+    for version, description, fn in MIGRATIONS:
+        if version in done:
+            continue
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            fn(conn)
+            conn.execute(
+                "INSERT INTO migrations (version, applied, description) VALUES (?, ?, ?)",
+                (version, _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"), description),
+            )
+            conn.execute("COMMIT")
+        except BaseException:
+            conn.execute("ROLLBACK")
+            raise
+        applied.append(version)
+    return applied
