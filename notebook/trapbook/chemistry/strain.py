@@ -175,7 +175,7 @@ def _same_bonds(mol_h: Chem.Mol, xyz: np.ndarray) -> bool:
     table = Chem.GetPeriodicTable()
     radii = np.array([table.GetRcovalent(a.GetAtomicNum()) for a in mol_h.GetAtoms()])
     dist = np.linalg.norm(xyz[:, None, :] - xyz[None, :, :], axis=-1)
-    bonded = dist < 1.25 * (radii[:, None] + radii[None, :])
+    bonded = dist < 1.15 * (radii[:, None] + radii[None, :])
     np.fill_diagonal(bonded, False)
     expected = np.zeros_like(bonded)
     for b in mol_h.GetBonds():
@@ -558,14 +558,17 @@ def _para_methyl(ipso: Chem.Atom) -> bool:
     return any(ipso.GetIdx() == m[0] for m in frag_mol.GetSubstructMatches(ring))
 
 
-def _verdict(phi_abs: float) -> str:
-    if phi_abs >= 180 - ALIGNED_WITHIN_DEG:
-        return "well aligned (antiperiplanar)"
-    if phi_abs <= ALIGNED_WITHIN_DEG:
-        return "well aligned (synperiplanar)"
-    if 60 <= phi_abs <= 120:
+def _verdict(weighted_abs: float, anti: float, syn: float) -> str:
+    """Judge by the aligned population first: a mean over two conformer families
+    (say 60 and 180 degrees) would otherwise read as a misleading 120."""
+    if anti + syn >= 0.5:
+        return "well aligned (antiperiplanar)" if anti >= syn else "well aligned (synperiplanar)"
+    if anti + syn >= 0.1:
+        side = "antiperiplanar" if anti >= syn else "synperiplanar"
+        return f"partly aligned (minor {side} population)"
+    if 45 <= weighted_abs <= 135:
         return "poorly aligned (near orthogonal)"
-    return "partly aligned (anticlinal)" if phi_abs > 120 else "partly aligned (synclinal)"
+    return "partly aligned (synclinal)" if weighted_abs < 45 else "partly aligned (anticlinal)"
 
 
 def _boltzmann(energies: list[float]) -> np.ndarray:
@@ -606,13 +609,14 @@ def _unit_report(mol, ens: cf.Ensemble, weights: np.ndarray, unit: tuple) -> dic
     si, c_si, c_x, x = unit
     phis = np.array([abs(geo.torsion_deg(ens.positions(c), si, c_si, c_x, x)) for c in ens.conf_ids])
     weighted = float(np.dot(weights, phis))
-    aligned = float(weights[(phis <= ALIGNED_WITHIN_DEG) | (phis >= 180 - ALIGNED_WITHIN_DEG)].sum())
+    syn = float(weights[phis <= ALIGNED_WITHIN_DEG].sum())
+    anti = float(weights[phis >= 180 - ALIGNED_WITHIN_DEG].sum())
     return {
         "atoms": {"si": si, "c_si": c_si, "c_x": c_x, "x": x},
         "leaving_group": _leaving_group(mol, x),
         "dihedral_deg": round(float(phis[0]), 1),
         "weighted_dihedral_deg": round(weighted, 1),
-        "aligned_fraction": round(aligned, 3),
-        "verdict": _verdict(weighted),
+        "aligned_fraction": round(anti + syn, 3),
+        "verdict": _verdict(weighted, anti, syn),
     }
 

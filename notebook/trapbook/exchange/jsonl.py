@@ -96,10 +96,10 @@ def read_runs(path: Path) -> list[Run]:
 
 def import_path(nb, path: Path, author: str | None = None) -> dict:
     """Recognise the file's format and import it atomically; report what was imported."""
-    suffix = "".join(path.suffixes[-2:]).lower() if path.suffixes else ""
-    if path.is_dir() or suffix.endswith((".zip", ".pb", ".pbtxt")) or path.suffix.lower() in (".pb", ".pbtxt", ".zip"):
-        from . import registry
+    from . import registry
 
+    path = Path(path)
+    if path.is_dir() or registry.format_of(path) is not None:
         return registry.import_other(nb, path, author=author)
     runs = read_runs(path)
     if not runs:

@@ -96,3 +96,72 @@ def index_run(nb: "Notebook", run: Run) -> None:
             json.dumps([f["code"] for f in findings]),
         ),
     )
+    row = nb.conn.execute("SELECT hash FROM runs WHERE id = ?", (run.id,)).fetchone()
+    index_search(nb.conn, run, row[0] if row else None)
+
+
+# --- structures and full text for search (written in the same transaction as the row above) ---
+
+#: Which lines of a run are searched by structure, and under what word a hit is reported.
+STRUCTURE_PARTS = ("precursor", "intermediate", "trap", "product")
+
+_CANONICAL: dict[str, str] = {}
+
+
+def run_structures(run: Run) -> list[tuple[str, str, str]]:
+    """(part, name, SMILES) of the precursor, intermediate, traps and products of a run."""
+    out: list[tuple[str, str, str]] = []
+    for line in run.lines:
+        if line.role in STRUCTURE_PARTS and line.smiles:
+            out.append((line.role, line.name, line.smiles))
+    if run.intermediate:
+        out.append(("intermediate", run.intermediate_name or "intermediate", run.intermediate))
+    return out
+
+
+def structure_id(conn, smiles: str) -> int:
+    """Id of a structure in the notebook, fingerprinted and stored on first sight."""
+    from ..chemistry import fingerprints
+
+    canon = _CANONICAL.get(smiles)
+    if canon is None:
+        from ..chemistry import molecules
+
+        canon = molecules.canonical(smiles)
+        if len(_CANONICAL) > 20000:
+            _CANONICAL.clear()
+        _CANONICAL[smiles] = canon
+    row = conn.execute("SELECT id FROM structures WHERE smiles = ?", (canon,)).fetchone()
+    if row:
+        return row[0]
+    bits = fingerprints.structure_bits(canon)
+    cur = conn.execute(
+        "INSERT INTO structures (smiles, inchikey, morgan, pattern, mol, scheme) VALUES (?,?,?,?,?,?)",
+        (canon, bits.inchikey, bits.morgan, bits.pattern, bits.mol, fingerprints.SCHEME),
+    )
+    return cur.lastrowid
+
+
+def run_text_fields(run: Run) -> tuple[str, str, str, str]:
+    """(title, notes, observations, tags) as indexed for full-text search; step notes count as notes."""
+    notes = " ".join(x for x in [run.notes or ""] + [s.note or "" for s in run.steps] if x)
+    obs = (run.outcome.observations or "") if run.outcome else ""
+    return run.title, notes, obs, " ".join(run.tags)
+
+
+def index_search(conn, run: Run, run_hash: str | None) -> None:
+    """Replace the run's structure links and full-text row; cheap when its structures are known."""
+    conn.execute("DELETE FROM run_structures WHERE run_id = ?", (run.id,))
+    rows = [(run.id, part, name, structure_id(conn, smi)) for part, name, smi in run_structures(run)]
+    conn.executemany("INSERT INTO run_structures (run_id, part, name, structure_id) VALUES (?,?,?,?)", rows)
+    row = conn.execute("SELECT n FROM search_state WHERE run_id = ?", (run.id,)).fetchone()
+    if row is None:
+        n = conn.execute("INSERT INTO search_state (run_id, hash) VALUES (?, ?)", (run.id, run_hash or "")).lastrowid
+    else:
+        n = row[0]
+        conn.execute("UPDATE search_state SET hash = ? WHERE n = ?", (run_hash or "", n))
+        conn.execute("DELETE FROM run_text WHERE rowid = ?", (n,))
+    conn.execute(
+        "INSERT INTO run_text (rowid, run_id, title, notes, observations, tags) VALUES (?,?,?,?,?,?)",
+        (n, run.id, *run_text_fields(run)),
+    )

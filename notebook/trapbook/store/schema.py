@@ -104,9 +104,48 @@ def _v1(conn: sqlite3.Connection) -> None:
     )
 
 
+def _v2_search(conn: sqlite3.Connection) -> None:
+    """Structures stored once with their fingerprints, which runs use them and as what, and
+    a full-text table, so a search never re-parses every molecule or reads every record."""
+    _script(
+        conn,
+        """
+        CREATE TABLE IF NOT EXISTS structures (
+            id INTEGER PRIMARY KEY,
+            smiles TEXT NOT NULL UNIQUE,
+            inchikey TEXT,
+            morgan BLOB NOT NULL,
+            pattern BLOB NOT NULL,
+            mol BLOB NOT NULL,
+            scheme TEXT NOT NULL
+        );
+        CREATE INDEX IF NOT EXISTS idx_structures_inchikey ON structures(inchikey);
+        CREATE TABLE IF NOT EXISTS run_structures (
+            run_id TEXT NOT NULL,
+            part TEXT NOT NULL,
+            name TEXT NOT NULL,
+            structure_id INTEGER NOT NULL
+        );
+        CREATE INDEX IF NOT EXISTS idx_run_structures_run ON run_structures(run_id);
+        CREATE INDEX IF NOT EXISTS idx_run_structures_structure ON run_structures(structure_id);
+        CREATE TABLE IF NOT EXISTS search_state (
+            n INTEGER PRIMARY KEY,
+            run_id TEXT NOT NULL UNIQUE,
+            hash TEXT NOT NULL
+        );
+        CREATE VIRTUAL TABLE IF NOT EXISTS run_text USING fts5(
+            run_id UNINDEXED, title, notes, observations, tags, tokenize = 'unicode61 remove_diacritics 2'
+        );
+        CREATE INDEX IF NOT EXISTS idx_runs_chemist ON runs(chemist);
+        CREATE INDEX IF NOT EXISTS idx_runs_date ON runs(date)
+        """
+    )
+
+
 #: (version, description, function). Append, never edit: a notebook records each one applied.
 MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
     (1, "runs, versions, screens, index, strain cache, settings", _v1),
+    (2, "search: structures with fingerprints, run structures, full-text table", _v2_search),
 ]
 
 

@@ -14,8 +14,8 @@ from typing import Any, Callable
 
 import click
 
-from . import __version__
-from .errors import TrapbookError
+from .. import __version__
+from ..errors import TrapbookError
 
 
 # --- plumbing ----------------------------------------------------------------------------
@@ -64,12 +64,12 @@ class Ctx:
         self.author = author
 
     def db_path(self) -> Path:
-        from .store import default_path
+        from ..store import default_path
 
         return Path(self.db).expanduser() if self.db else default_path()
 
     def notebook(self, create: bool = False):
-        from .store import Notebook
+        from ..store import Notebook
 
         return Notebook.open(self.db_path(), create=create)
 
@@ -95,8 +95,8 @@ def pass_ctx(fn: Callable) -> Callable:
 
 def read_run_file(path: str):
     """A Run from a run file path ('-' for stdin), or a TrapbookError naming the file."""
-    from .errors import RecordError
-    from .records import load_run_text
+    from ..errors import RecordError
+    from ..records import load_run_text
 
     if path == "-":
         text = sys.stdin.read()
@@ -152,7 +152,7 @@ def open_cmd(ctx: Ctx, path: str | None = None) -> None:
 
 def _open_ui(path: Path) -> None:
     try:
-        from .tui.app import run_app
+        from ..tui.app import run_app
     except ImportError:
         raise TrapbookError("the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'")
     run_app(path)
@@ -165,7 +165,7 @@ def _open_ui(path: Path) -> None:
 @guarded
 def init(ctx: Ctx, path: str | None, as_json: bool) -> None:
     """Create a notebook at PATH (or the default place)."""
-    from .store import Notebook
+    from ..store import Notebook
 
     p = Path(path).expanduser() if path else ctx.db_path()
     existed = p.exists()
@@ -179,13 +179,13 @@ def init(ctx: Ctx, path: str | None, as_json: bool) -> None:
 
 def _findings_for(run, nb=None) -> list:
     try:
-        from . import checks
+        from .. import checks
     except ImportError:
         return []
     settings = None
     strain = None
     if nb is not None:
-        from .strain_link import settings_for, strain_for_run
+        from ..strain_link import settings_for, strain_for_run
 
         settings = settings_for(nb)
         strain = strain_for_run(nb, run)
@@ -265,8 +265,8 @@ def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool) -> None:
 @guarded
 def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
     """Show one run: lines with amounts, steps, outcome and checks."""
-    from . import amounts
-    from .reports_text import run_text
+    from .. import amounts
+    from ..reports_text import run_text
 
     with ctx.notebook() as nb:
         run = nb.get_run(run_id, version)
@@ -308,7 +308,7 @@ def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: boo
     if not rows:
         click.echo("no runs yet: add one with 'trapbook add RUNFILE'")
         return
-    from .reports_text import run_rows_text
+    from ..reports_text import run_rows_text
 
     click.echo(run_rows_text(rows))
 
@@ -320,8 +320,8 @@ def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: boo
 @guarded
 def amounts_cmd(ctx: Ctx, runfile: str, as_json: bool) -> None:
     """Print the reagent table of RUNFILE (or a stored run id): mmol, equiv, mg, µL."""
-    from . import amounts
-    from .reports_text import amounts_text
+    from .. import amounts
+    from ..reports_text import amounts_text
 
     run = load_run_arg(ctx, runfile)
     table = amounts.compute(run)
@@ -382,7 +382,7 @@ def check(ctx: Ctx, ref: str, as_json: bool) -> None:
 @guarded
 def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, include_withdrawn: bool) -> None:
     """Export runs (JSON lines by default)."""
-    from .exchange import export_runs
+    from ..exchange import export_runs
 
     with ctx.notebook() as nb:
         text_or_path = export_runs(nb, fmt, screen=screen, output=output, include_withdrawn=include_withdrawn)
@@ -399,7 +399,7 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
 @guarded
 def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:
     """Import runs from a file (all or nothing; errors name the record and field)."""
-    from .exchange import import_path
+    from ..exchange import import_path
 
     with ctx.notebook(create=True) as nb:
         report = import_path(nb, Path(path), author=ctx.author)
@@ -418,7 +418,7 @@ def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:
 @guarded
 def demo(ctx: Ctx, no_ui: bool, as_json: bool) -> None:
     """Build the demo lab's notebook (in the per-user data directory) and open it."""
-    from .demo import build_demo
+    from ..demo import build_demo
 
     summary = build_demo(Path(ctx.db).expanduser() if ctx.db else None)
     if as_json:
@@ -427,8 +427,8 @@ def demo(ctx: Ctx, no_ui: bool, as_json: bool) -> None:
     click.echo(f"demo notebook: {summary['path']}")
     click.echo(f"  {summary['runs']} runs, {summary['screens']} screen(s) from {summary['source']}")
     if no_ui or not sys.stdout.isatty():
-        from .store import Notebook
-        from .reports_text import run_rows_text
+        from ..store import Notebook
+        from ..reports_text import run_rows_text
 
         with Notebook.open(summary["path"]) as nb:
             click.echo(run_rows_text(nb.list_runs()))
@@ -436,4 +436,5 @@ def demo(ctx: Ctx, no_ui: bool, as_json: bool) -> None:
     _open_ui(Path(summary["path"]))
 
 
-# --- commands added by other areas go below; keep each one a thin call into the core ------
+# Commands of other areas live in sibling modules of this package (cli/strain.py, ...)
+# and register themselves on `main` when cli/__init__.py imports them.

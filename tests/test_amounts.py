@@ -1,0 +1,118 @@
+"""Stoichiometry and yields against hand calculations from published constants."""
+
+import molmass
+import pytest
+
+from trapbook import amounts
+from trapbook.errors import RecordError
+from trapbook.records import load_run
+
+
+def _line(table, name):
+    row = table.line(name)
+    assert row is not None
+    return row
+
+
+def test_minimal_run_amounts(minimal_run):
+    table = amounts.compute(load_run(minimal_run))
+    assert table.limiting == "aryne precursor A"
+    # Source: REFERENCE.md furan M = 68.07 g/mol, density 0.951 g/mL (CRC, from memory):
+    # 0.200 mmol x 10 equiv x 68.07 mg/mmol / 0.951 mg/µL = 143 µL
+    furan = _line(table, "furan")
+    assert furan.volume_ul == pytest.approx(0.200 * 10 * 68.07 / 0.951, rel=1e-3)
+    assert round(furan.volume_ul) == 143
+    # 3.0 equiv of a 1.0 M solution on 0.200 mmol = 0.600 mmol = 600 µL (definition of molarity)
+    tbaf = _line(table, "TBAF 1.0 M in THF")
+    assert tbaf.volume_ul == pytest.approx(600.0)
+    assert tbaf.mass_mg is None  # a solution is dispensed by volume, not weighed
+    # precursor mass from its formula C10H13F3O3SSi, mass by molmass (independent of RDKit)
+    pre = _line(table, "aryne precursor A")
+    assert pre.mass_mg == pytest.approx(0.200 * molmass.Formula("C10H13F3O3SSi").mass, rel=1e-4)
+    assert pre.equiv == pytest.approx(1.0)
+    # concentration refers to the total liquid volume: 2000 + 600 + 143 µL
+    assert table.concentration_M == pytest.approx(0.200 / (2.0 + 0.600 + furan.volume_ul / 1000), rel=1e-6)
+    assert "total liquid" in table.concentration_basis
+
+
+def test_mass_given_with_purity_gives_mmol(minimal_run):
+    # 59.67 mg at 95 % purity of a 298.36 g/mol solid = 0.190 mmol (definition of purity as mass fraction)
+    minimal_run["lines"][0] = {"role": "precursor", "name": "aryne precursor A",
+                               "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "mass": "59.67 mg", "purity": "95 %"}
+    table = amounts.compute(load_run(minimal_run))
+    mw = molmass.Formula("C10H13F3O3SSi").mass
+    assert table.limiting_mmol == pytest.approx(59.67 * 0.95 / mw, rel=1e-4)
+    # equiv lines scale with the limiting amount
+    assert _line(table, "furan").mmol == pytest.approx(10 * 59.67 * 0.95 / mw, rel=1e-4)
+
+
+def test_hydrate_weighed_by_its_own_molar_mass(minimal_run):
+    # Source: REFERENCE.md, TBAF trihydrate 315.51 g/mol; 3.0 equiv on 0.200 mmol = 189.3 mg
+    minimal_run["lines"][1] = {"role": "fluoride source", "name": "TBAF·3H2O",
+                               "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "equiv": 3.0}
+    minimal_run["steps"][1]["add"] = ["TBAF·3H2O"]
+    table = amounts.compute(load_run(minimal_run))
+    row = _line(table, "TBAF·3H2O")
+    assert row.mass_mg == pytest.approx(0.600 * 315.51, abs=0.05)
+    # three waters per formula unit
+    assert row.water_mmol == pytest.approx(3 * 0.600)
+
+
+def test_neat_liquid_given_by_volume(minimal_run):
+    minimal_run["lines"][2] = {"role": "trap", "name": "furan", "smiles": "c1ccoc1", "volume": "143 µL", "density": "0.951 g/mL"}
+    table = amounts.compute(load_run(minimal_run))
+    # Source: REFERENCE.md furan constants; 143 µL x 0.951 / 68.07 = 1.998 mmol = 9.99 equiv
+    assert _line(table, "furan").equiv == pytest.approx(143 * 0.951 / 68.07 / 0.200, rel=2e-3)
+
+
+def test_qnmr_worked_example():
+    # Source: REFERENCE.md worked check (qNMR practice, Pauli et al. 2014, from memory):
+    # 0.100 mmol standard (3H, I = 3.00), product 1H with I = 0.62 -> 0.0620 mmol; 62 % at 0.100 mmol
+    assert amounts.nmr_mmol(0.100, 0.62, 1, 3.00, 3) == pytest.approx(0.0620)
+    run = load_run({
+        "title": "qNMR check",
+        "lines": [
+            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.100 mmol"},
+            {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
+            {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
+        ],
+        "outcome": {"products": [{"product": "adduct", "qnmr": {"standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1}}]},
+    })
+    (y,) = amounts.product_yields(run)
+    assert y.nmr_yield_pct == pytest.approx(62.0)
+    assert y.isolated_yield_pct is None
+
+
+def test_isolated_yield_and_mass_balance():
+    # Source: yield = n_product / n_theoretical (IUPAC Gold Book, "yield"); 1,4-epoxy-1,4-dihydronaphthalene C10H8O, M by molmass
+    m_adduct = molmass.Formula("C10H8O").mass
+    m_pre = molmass.Formula("C10H13F3O3SSi").mass
+    run = load_run({
+        "title": "yield check",
+        "lines": [
+            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.200 mmol"},
+            {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
+        ],
+        "outcome": {"products": [{"product": "adduct", "isolated_mass": f"{0.124 * m_adduct:.4f} mg", "dr": "1:4", "er": "19:1"}],
+                    "recovered_precursor": f"{0.040 * m_pre:.4f} mg"},
+    })
+    (y,) = amounts.product_yields(run)
+    assert y.isolated_yield_pct == pytest.approx(62.0, abs=0.01)
+    # Source: ee = (er - 1)/(er + 1); er 19:1 -> 90 % ee (IUPAC Gold Book E02070)
+    assert y.ee_pct == pytest.approx(90.0)
+    # dr is normalised major first
+    assert y.dr == "4:1" and y.dr_major_fraction == pytest.approx(0.8)
+    assert amounts.mass_balance_pct(run) == pytest.approx(62.0 + 20.0, abs=0.01)
+
+
+def test_limiting_line_in_equiv_is_refused(minimal_run):
+    minimal_run["lines"][0]["equiv"] = 1.0
+    del minimal_run["lines"][0]["amount"]
+    with pytest.raises(RecordError, match="limiting line"):
+        amounts.compute(load_run(minimal_run))
+
+
+def test_equiv_line_without_structure_says_what_to_add(minimal_run):
+    del minimal_run["lines"][2]["smiles"]
+    with pytest.raises(RecordError, match="SMILES"):
+        amounts.compute(load_run(minimal_run))
