@@ -613,3 +613,44 @@ def test_finding_rejects_unknown_code_or_severity():
         Finding("made-up", "warn", "x")
     with pytest.raises(TrapbookError):
         Finding("trap-late", "fatal", "x")
+
+
+def test_last_addition_step_without_time_is_noted():
+    d = base()
+    d["steps"] = d["steps"][:2]  # the fluoride goes in last and nothing says for how long
+    assert only(d, "step-no-time").steps == [2]
+
+
+# --- the demo lab (issue 4, "done when") ----------------------------------------------------
+
+from pathlib import Path  # noqa: E402
+
+DEMO_RUNS = Path(__file__).resolve().parents[1] / "demo_lab" / "runs"
+LATE_TRAP_DEMO = "TB-0010.json"  # "[3.3.1] alkene, furan added after TBAF (failed)"
+SEALED_120_DEMO = "TB-0002.json"  # "[3.3.1] alkene, anthracene, CsF/TBAB sealed 120 °C", MeCN
+
+
+def _demo(name: str) -> dict:
+    path = DEMO_RUNS / name
+    if not path.exists():
+        pytest.skip("demo lab run files not present")
+    return json.loads(path.read_text(encoding="utf-8"))
+
+
+def test_demo_late_trap_run_says_so_first():
+    first = check(_demo(LATE_TRAP_DEMO))[0]
+    assert first.code == "trap-late" and first.message.startswith("The trap was added after the fluoride source")
+
+
+def test_demo_sealed_120_run_gets_pressure_caution():
+    # Source: NASEM 2016 App. D — MeCN bp 81.6 °C, below 120 °C
+    f = only(_demo(SEALED_120_DEMO), "above-bp-sealed")
+    assert "blast shield" in f.caution and "MeCN" in f.lines
+
+
+def test_no_other_demo_run_gets_a_stop():
+    files = sorted(p.name for p in DEMO_RUNS.glob("*.json")) if DEMO_RUNS.exists() else []
+    if not files:
+        pytest.skip("demo lab run files not present")
+    stopped = {n: [f.code for f in check(_demo(n)) if f.severity == "stop"] for n in files if n != LATE_TRAP_DEMO}
+    assert {n: c for n, c in stopped.items() if c} == {}

@@ -559,7 +559,7 @@ def _gas_mmol(ctx: _Context, index: int) -> float:
 def _gas_text(ctx: _Context, mmol: float, t: float) -> str:
     gas = materials.by_key("tmsf")
     bar = mmol / 1000.0 * _GAS_CONSTANT * (t + 273.15) / (ctx.settings.headspace_ml / 1000.0)
-    return (f"Desilylation also releases up to {fmt_mmol(mmol)} mmol fluorotrimethylsilane (Me3SiF, bp about "
+    return (f"Desilylation releases up to {fmt_mmol(mmol)} mmol fluorotrimethylsilane (Me3SiF, bp about "
             f"{gas.bp_c.value:g} °C; {gas.bp_c.source}), a gas at this temperature: roughly {bar:.1f} bar more in "
             f"a {ctx.settings.headspace_ml:g} mL headspace (ideal gas, some dissolves).")
 
@@ -604,7 +604,7 @@ def _hot_finding(ctx: _Context, i: int, step, t: float, hot) -> Finding:
     msg = (f"Step {i + 1} heats a sealed vessel to {t:g} °C, above the boiling point of {which}, so pressure "
            f"builds. Vapour pressure of the pure liquid: {vp}.")
     if gas > 0:
-        msg += " " + _gas_text(ctx, gas, t)
+        msg += " On top of that: " + _gas_text(ctx, gas, t)
     return Finding("above-bp-sealed", "warn", msg, names, [i + 1], _pressure_caution())
 
 
@@ -621,7 +621,8 @@ def check_sealed_gas(ctx: _Context) -> list[Finding]:
         if hot or n <= 0:
             continue  # above-bp-sealed already says it, or no gas forms
         shown = t if t is not None else 20.0
-        msg = (f"Step {i + 1} is in a sealed vessel. " + _gas_text(ctx, n, shown)
+        at = f" at {t:g} °C" if t is not None else ""
+        msg = (f"Step {i + 1} is in a sealed vessel{at}. " + _gas_text(ctx, n, shown)
                + " Allow for this pressure when choosing the vessel.")
         names = _names(ctx.run.lines_by_role("precursor"))
         out.append(Finding("sealed-gas", "warn", msg, names, [i + 1], _pressure_caution()))
@@ -652,7 +653,7 @@ def check_steps(ctx: _Context) -> list[Finding]:
                "about 23 °C) so the run can be repeated and the solvent checks can run.")
         out.append(Finding("step-no-temperature", "note", msg, [], no_temp))
     no_time = [i + 1 for i, st in enumerate(run.steps)
-               if st.hold is None and st.over is None and not (st.add)]
+               if st.hold is None and st.over is None and not (st.add and i + 1 < len(run.steps))]
     if no_time:
         msg = (f"Step {', '.join(map(str, no_time))} has no hold or addition time. Record how long the flask "
                "was kept at that temperature.")

@@ -14,10 +14,9 @@ from .errors import TrapbookError
 
 def settings_for(nb):
     """The notebook's check thresholds (defaults where the lab has set none)."""
-    from . import checks
+    from .settings import notebook_check_settings
 
-    data = nb.get_setting("checks", None) if nb is not None else None
-    return checks.CheckSettings.from_dict(data) if data else checks.CheckSettings()
+    return notebook_check_settings(nb)
 
 
 def intermediate_of(run) -> str | None:

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from rdkit import Chem, rdBase
-from rdkit.Chem import rdDistGeom, rdForceFieldHelpers
+from rdkit.Chem import rdDistGeom, rdForceFieldHelpers, rdMolDescriptors
 
 from trapbook.errors import ChemistryError
 
@@ -59,8 +59,6 @@ def n_conformers_for(mol: Chem.Mol) -> int:
 
 
 def rdkit_rotors(mol: Chem.Mol) -> int:
-    from rdkit.Chem import rdMolDescriptors
-
     return rdMolDescriptors.CalcNumRotatableBonds(mol)
 
 
@@ -180,13 +178,13 @@ def stereo_signature(mol: Chem.Mol) -> tuple:
     return tuple(centres), tuple(bonds)
 
 
-def _specified(mol: Chem.Mol) -> tuple:
+def specified_stereo(mol: Chem.Mol) -> tuple:
     probe = Chem.Mol(mol)
     Chem.AssignStereochemistry(probe, cleanIt=True, force=True)
     return stereo_signature(probe)
 
 
-def _matches(mol_h: Chem.Mol, conf_id: int, wanted: tuple) -> bool:
+def stereo_matches(mol_h: Chem.Mol, conf_id: int, wanted: tuple) -> bool:
     if not wanted[0] and not wanted[1]:
         return True
     probe = Chem.Mol(mol_h)
@@ -208,7 +206,7 @@ def build_ensemble(
     saturated to get a first geometry when direct embedding fails."""
     n = n_confs or n_conformers_for(mol)
     mol_h = Chem.AddHs(mol)
-    wanted = _specified(mol)
+    wanted = specified_stereo(mol)
     got, route = _embed(mol_h, n, seed), "ETKDG"
     if got < max(3, n // 4) and relax_bonds:
         extra = _embed_analogue(mol, mol_h, relax_bonds, n, seed)
@@ -240,7 +238,7 @@ def _dedupe(mol_h, conf_ids, energies, wanted) -> list[tuple[int, float]]:
     for cid, e in order:
         if kept and abs(e - kept[-1][1]) < _DEDUP_KCAL:
             continue
-        if not _matches(mol_h, cid, wanted):
+        if not stereo_matches(mol_h, cid, wanted):
             continue
         kept.append((cid, e))
     return kept

@@ -14,6 +14,7 @@ labelled rough and the accurate tier (GFN2-xTB geometries) is the default answer
 
 from __future__ import annotations
 
+import functools
 import multiprocessing
 import time
 from concurrent.futures import ProcessPoolExecutor
@@ -25,7 +26,7 @@ import numpy as np
 import rdkit
 from rdkit import Chem, rdBase
 
-from trapbook.errors import ChemistryError
+from trapbook.errors import ChemistryError, TrapbookError
 
 from . import bridgehead as bh
 from . import conformers as cf
@@ -55,6 +56,25 @@ Progress = Callable[[str, float], None]
 # ---------------------------------------------------------------- classes and keys
 
 
+def _guarded(func):
+    """Turn any foreign exception (RDKit, tblite, numpy) into a ChemistryError, so the
+    CLI and TUI only ever see the one error hierarchy."""
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        try:
+            return func(*args, **kwargs)
+        except TrapbookError:
+            raise
+        except Exception as exc:  # noqa: BLE001 - deliberate boundary
+            raise ChemistryError(
+                f"The strain engine could not handle this structure ({type(exc).__name__}: {exc}).",
+                "Check the SMILES; if it is right, report it with the structure attached.",
+            ) from exc
+
+    return wrapper
+
+
 def stability_class(os_kcal: float | None) -> str | None:
     """Maier–Schleyer classes; the boundaries are theirs (kcal/mol)."""
     if os_kcal is None:
@@ -72,6 +92,7 @@ def canonical_smiles(smiles: str) -> str:
     return Chem.MolToSmiles(bh.parse(smiles))
 
 
+@_guarded
 def cache_key(smiles: str, tier: str = "accurate") -> str:
     """Key under which a result may be stored: a changed structure, tier or engine misses."""
     _check_tier(tier)
@@ -188,7 +209,7 @@ def _xtb_species(ens: cf.Ensemble, base: Species) -> Species:
     numbers = [a.GetAtomicNum() for a in ens.mol.GetAtoms()]
     ids = _xtb_candidates(ens)
     results = _run_jobs([(numbers, ens.positions(c)) for c in ids])
-    wanted = cf._specified(Chem.RemoveHs(ens.mol))
+    wanted = cf.specified_stereo(Chem.RemoveHs(ens.mol))
     good = []
     for res in results:
         if isinstance(res, str) or not _same_bonds(ens.mol, res.positions):
@@ -222,7 +243,7 @@ def _stereo_kept(mol_h: Chem.Mol, xyz: np.ndarray, wanted: tuple) -> bool:
     for i, p in enumerate(xyz):
         conf.SetAtomPosition(i, p.tolist())
     cid = probe.AddConformer(conf, assignId=True)
-    return cf._matches(probe, cid, wanted)
+    return cf.stereo_matches(probe, cid, wanted)
 
 
 def _species(mol: Chem.Mol, tier: str, relax_bonds: list[int] | None = None) -> Species:
@@ -236,6 +257,7 @@ def _reference_species(smiles: str, tier: str) -> Species:
     return _species(bh.parse(smiles), tier)
 
 
+@_guarded
 def conformer_energy(smiles: str, tier: str = "accurate") -> dict:
     """Lowest-conformer energy of any molecule (kcal/mol, the tier's own zero), for
     comparing isomers directly, e.g. trans- against cis-cyclooctene."""
@@ -430,6 +452,7 @@ def _notify(progress: Progress | None, stage: str, fraction: float) -> None:
         progress(stage, fraction)
 
 
+@_guarded
 def compute_strain(smiles: str, tier: str = "accurate", progress: Progress | None = None) -> dict:
     """Olefin strain and distortion of the intermediate's strained unit, as a JSON-ready dict."""
     _check_tier(tier)
@@ -577,6 +600,7 @@ def _boltzmann(energies: list[float]) -> np.ndarray:
     return w / w.sum()
 
 
+@_guarded
 def precursor_alignment(smiles: str) -> dict:
     """How well the C–Si bond lines up with the C–X bond it must push out, over the
     MMFF ensemble at 298 K; the diastereomer that cannot align may never fire."""

@@ -248,12 +248,16 @@ def update(ctx: Ctx, run_id: str, runfile: str, reason: str, from_version: int |
 @click.argument("run_id")
 @click.option("--reason", required=True, help="Why the run is withdrawn.")
 @click.option("--undo", is_flag=True, help="Bring a withdrawn run back.")
+@click.option("--json", "as_json", is_flag=True, help="Print {run_id, version, hash, withdrawn}.")
 @pass_ctx
 @guarded
-def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool) -> None:
+def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> None:
     """Withdraw a run (it is kept and stays readable; nothing is deleted)."""
     with ctx.notebook() as nb:
         res = nb.withdraw_run(run_id, reason, author=ctx.author, restore=undo)
+    if as_json:
+        emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash, "withdrawn": not undo})
+        return
     click.echo(f"{res.run_id} {'restored' if undo else 'withdrawn'} (version {res.version})")
 
 
@@ -438,3 +442,28 @@ def demo(ctx: Ctx, no_ui: bool, as_json: bool) -> None:
 
 # Commands of other areas live in sibling modules of this package (cli/strain.py, ...)
 # and register themselves on `main` when cli/__init__.py imports them.
+
+
+@main.command()
+@click.option("--set", "assignments", multiple=True, metavar="NAME=VALUE", help="Change a check threshold for this notebook.")
+@click.option("--reset", is_flag=True, help="Go back to the documented defaults.")
+@click.option("--json", "as_json", is_flag=True, help="Print {name: value} of every check threshold in force.")
+@pass_ctx
+@guarded
+def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, as_json: bool) -> None:
+    """Check thresholds of this notebook (trap minimum, water, concentration, ...)."""
+    from ..settings import notebook_check_settings, update_check_settings
+
+    with ctx.notebook(create=True) as nb:
+        if reset or assignments:
+            current = update_check_settings(nb, assignments, reset=reset)
+        else:
+            current = notebook_check_settings(nb)
+    data = current.to_dict()
+    if as_json:
+        emit_json(data)
+        return
+    from ..checks import SETTING_SOURCES
+
+    for name, value in data.items():
+        click.echo(f"{name:36} {value:g}    ({SETTING_SOURCES.get(name, '')})")

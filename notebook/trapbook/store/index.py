@@ -52,13 +52,18 @@ def best_yield(run: Run) -> tuple[float | None, str | None]:
     return best, kind
 
 
-def findings_for(run: Run) -> list[dict]:
+def findings_for(run: Run, nb: "Notebook | None" = None) -> list[dict]:
+    """The run's bench checks with the notebook's own thresholds and any cached strain."""
     try:
         from .. import checks
     except ImportError:  # the checks module is optional for the store
         return []
     try:
-        return [f.to_dict() for f in checks.run_checks(run)]
+        from ..strain_link import settings_for, strain_for_run
+
+        settings = settings_for(nb) if nb is not None else None
+        strain = strain_for_run(nb, run) if nb is not None else None
+        return [f.to_dict() for f in checks.run_checks(run, strain=strain, settings=settings)]
     except TrapbookError:
         return []
 
@@ -66,7 +71,7 @@ def findings_for(run: Run) -> list[dict]:
 def index_run(nb: "Notebook", run: Run) -> None:
     tmin, tmax = _temps(run)
     y, kind = best_yield(run)
-    findings = findings_for(run)
+    findings = findings_for(run, nb)
     worst = None
     if findings:
         top = min(findings, key=lambda f: _SEVERITY_RANK.get(f["severity"], 9))

@@ -1,0 +1,438 @@
+"""Find past runs by structure, conditions and words: "have we trapped this ring system, with what?".
+
+Every filter narrows the result (they combine with AND). Structure queries run over the
+precursor, intermediate, trap and product of every run; each distinct structure is
+stored once with its fingerprints when a run is saved, so a query screens the stored
+bit strings first and hands only the survivors to RDKit's atom-by-atom matcher.
+Condition filters read the summary row written at save time (store/index.py), never
+the records themselves.
+"""
+
+from __future__ import annotations
+
+import re
+import sqlite3
+from dataclasses import dataclass, field
+from typing import Iterable
+
+import numpy as np
+
+from .errors import ChemistryError, TrapbookError
+from .store import index as run_index
+
+#: Parts of a run that structure queries look at, in the order hits are reported.
+PARTS = run_index.STRUCTURE_PARTS
+_CHUNK = 900  # stay below SQLite's bound-parameter limit
+
+
+@dataclass
+class Hit:
+    """One run that passed every filter, with what made it match."""
+
+    run_id: str
+    title: str
+    score: float
+    matched: list[str] = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        return {"run_id": self.run_id, "title": self.title, "score": round(self.score, 4), "matched": list(self.matched)}
+
+
+# --- keeping the search tables filled -------------------------------------------------------
+
+
+def pending(nb) -> list[str]:
+    """Runs saved without search rows (a notebook from before search existed)."""
+    n_runs = nb.conn.execute("SELECT count(*) FROM runs").fetchone()[0]
+    n_done = nb.conn.execute("SELECT count(*) FROM search_state").fetchone()[0]
+    if n_runs == n_done:
+        return []
+    return [r[0] for r in nb.conn.execute(
+        "SELECT r.id FROM runs r LEFT JOIN search_state s ON s.run_id = r.id WHERE s.run_id IS NULL ORDER BY r.id")]
+
+
+def ensure_indexed(nb) -> int:
+    """Index whatever runs lack search rows; returns how many were indexed."""
+    todo = pending(nb)
+    if todo:
+        with nb.transaction():
+            for rid in todo:
+                run = nb.get_run(rid)
+                h = nb.conn.execute("SELECT hash FROM runs WHERE id = ?", (rid,)).fetchone()[0]
+                run_index.index_search(nb.conn, run, h)
+    return len(todo)
+
+
+def reindex(nb) -> int:
+    """Rebuild every structure, fingerprint and full-text row from the stored runs."""
+    with nb.transaction():
+        for table in ("run_structures", "search_state", "run_text", "structures"):
+            nb.conn.execute(f"DELETE FROM {table}")
+        n = 0
+        for rid, h, in nb.conn.execute("SELECT id, hash FROM runs ORDER BY id").fetchall():
+            run_index.index_search(nb.conn, nb.get_run(rid), h)
+            n += 1
+    _MATRICES.clear()
+    return n
+
+
+# --- fingerprint matrices, held in memory while the structure table is unchanged --------------
+
+_MATRICES: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
+
+
+def _matrix(nb, column: str) -> tuple[np.ndarray, np.ndarray]:
+    """(structure ids, fingerprints as an N×words uint64 array) for 'morgan' or 'pattern'."""
+    top, count = nb.conn.execute("SELECT max(id), count(*) FROM structures").fetchone()
+    key = (str(nb.path), column, top, count)
+    hit = _MATRICES.get(key)
+    if hit is not None:
+        return hit
+    rows = nb.conn.execute(f"SELECT id, {column} FROM structures ORDER BY id").fetchall()
+    ids = np.fromiter((r[0] for r in rows), dtype=np.int64, count=len(rows))
+    if rows:
+        bits = np.frombuffer(b"".join(r[1] for r in rows), dtype=np.uint64).reshape(len(rows), -1)
+    else:
+        bits = np.zeros((0, 32), dtype=np.uint64)
+    for k in [k for k in _MATRICES if k[0] == key[0] and k[1] == column]:
+        del _MATRICES[k]
+    _MATRICES[key] = (ids, bits)
+    return ids, bits
+
+
+def _as_words(data: bytes) -> np.ndarray:
+    return np.frombuffer(data, dtype=np.uint64)
+
+
+def substructure_ids(nb, query_text: str, screen: bool = True) -> tuple[dict[int, float], dict]:
+    """Ids of stored structures that contain the query (SMARTS or SMILES), each scored 1.
+
+    With screen=False every stored molecule goes to the matcher: the slow path the
+    fingerprint screen is measured against.
+    """
+    from .chemistry import fingerprints, molecules
+
+    query = molecules.substructure_query(query_text)
+    ids, bits = _matrix(nb, "pattern")
+    if screen:
+        q = _as_words(fingerprints.query_pattern(query))
+        keep = np.all((bits & q) == q, axis=1)
+        candidates = ids[keep].tolist()
+    else:
+        candidates = ids.tolist()
+    found: dict[int, float] = {}
+    for chunk in _chunks(candidates):
+        marks = ",".join("?" * len(chunk))
+        for sid, blob in nb.conn.execute(f"SELECT id, mol FROM structures WHERE id IN ({marks})", chunk):
+            if fingerprints.matches(fingerprints.mol_from_binary(blob), query):
+                found[sid] = 1.0
+    stats = {"structures": len(ids), "screened_in": len(candidates), "matched": len(found)}
+    return found, stats
+
+
+def similar_ids(nb, smiles: str, min_similarity: float) -> dict[int, float]:
+    """Stored structures with Morgan Tanimoto ≥ min_similarity to the query, with the value."""
+    from .chemistry import fingerprints
+
+    if not 0.0 <= min_similarity <= 1.0:
+        raise TrapbookError(f"minimum similarity {min_similarity:g} is outside 0–1", "give a Tanimoto threshold such as 0.6")
+    q = _as_words(fingerprints.query_morgan(smiles))
+    ids, bits = _matrix(nb, "morgan")
+    if len(ids) == 0:
+        return {}
+    inter = np.bitwise_count(bits & q).sum(axis=1, dtype=np.int64)
+    union = np.bitwise_count(bits | q).sum(axis=1, dtype=np.int64)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        sim = np.where(union > 0, inter / np.maximum(union, 1), 0.0)
+    keep = sim >= min_similarity - 1e-12
+    return {int(i): float(s) for i, s in zip(ids[keep], sim[keep])}
+
+
+def inchikey_ids(nb, key: str) -> dict[int, float]:
+    key = (key or "").strip().upper()
+    if not re.fullmatch(r"[A-Z]{14}(-[A-Z]{10}(-[A-Z])?)?", key):
+        raise TrapbookError(f"'{key}' is not an InChIKey", "give a key like SIVKZPBURVINMX-UHFFFAOYSA-N, or its first 14-letter block")
+    if len(key) == 14:
+        rows = nb.conn.execute("SELECT id FROM structures WHERE inchikey LIKE ?", (key + "-%",))
+    else:
+        rows = nb.conn.execute("SELECT id FROM structures WHERE inchikey = ?", (key,))
+    return {r[0]: 1.0 for r in rows}
+
+
+def _chunks(items: list, size: int = _CHUNK) -> Iterable[list]:
+    for i in range(0, len(items), size):
+        yield items[i:i + size]
+
+
+def _runs_of(nb, structure_scores: dict[int, float], what: str) -> dict[str, tuple[float, list[str]]]:
+    """run id → (best score, ["precursor: <name>", ...]) for runs using any of the structures."""
+    out: dict[str, tuple[float, list[str]]] = {}
+    sids = list(structure_scores)
+    for chunk in _chunks(sids):
+        marks = ",".join("?" * len(chunk))
+        for rid, part, name, sid in nb.conn.execute(
+            f"SELECT run_id, part, name, structure_id FROM run_structures WHERE structure_id IN ({marks})", chunk
+        ):
+            score = structure_scores[sid]
+            best, words = out.get(rid, (0.0, []))
+            label = f"{part}: {name}" + (f" ({what} {score:.2f})" if what == "similarity" else "")
+            if label not in words:
+                words.append(label)
+            out[rid] = (max(best, score), words)
+    order = {p: i for i, p in enumerate(PARTS)}
+    for rid, (best, words) in out.items():
+        words.sort(key=lambda w: order.get(w.split(":", 1)[0], 9))
+    return out
+
+
+# --- conditions --------------------------------------------------------------------------------
+
+
+def _number(value, kind: str, name: str) -> float | None:
+    """A bound given as a number (in °C, min or %) or as text with a unit ('2 h', '60 °C')."""
+    if value is None or value == "":
+        return None
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
+    from .units import parse_quantity, to_canonical
+
+    text = str(value).strip()
+    if kind == "percent":
+        try:
+            return float(text.rstrip("% "))
+        except ValueError:
+            raise TrapbookError(f"{name} '{text}' is not a percentage", "give a number such as 50") from None
+    try:
+        return float(text)
+    except ValueError:
+        pass
+    return to_canonical(parse_quantity(text, kind, name), kind)
+
+
+def _known_trap(text: str) -> tuple[list[str], list[str]]:
+    """Names and SMILES a trap query stands for: the built-in trap table, else the query itself."""
+    names, smiles = [text], []
+    try:
+        from .planning import find_trap
+
+        known = find_trap(text)
+    except ImportError:  # pragma: no cover - planning is part of the package
+        known = None
+    if known is not None:
+        names.extend([known.name, *known.aliases])
+        smiles.append(known.smiles)
+    from .chemistry import molecules
+
+    if molecules.is_valid(text) and not re.fullmatch(r"[A-Za-z][a-z]{3,}", text):
+        smiles.append(text)
+    canon = []
+    for s in smiles:
+        try:
+            canon.append(molecules.canonical(s))
+        except ChemistryError:
+            continue
+    return sorted({n.casefold() for n in names}), sorted(set(canon))
+
+
+def _list_match(column: str, names: list[str]) -> tuple[str, list]:
+    """SQL for 'one of the '; '-joined names in column equals one of names' (case-insensitive)."""
+    wrapped = f"(';' || lower(replace(coalesce({column}, ''), '; ', ';')) || ';')"
+    return "(" + " OR ".join(f"{wrapped} LIKE ?" for _ in names) + ")", [f"%;{_like_escape(n)};%" for n in names]
+
+
+def _like_escape(text: str) -> str:
+    return text.replace("%", "")
+
+
+def _substring(column: str, text: str) -> tuple[str, list]:
+    return f"lower(coalesce({column}, '')) LIKE ?", [f"%{text.casefold()}%"]
+
+
+def _resolve_screen(nb, screen: str) -> str:
+    return nb.get_screen(screen).id
+
+
+def _fts_query(text: str) -> list[str]:
+    """The text as typed (FTS5 syntax allowed), then a plain form with every word quoted."""
+    words = re.findall(r"[\w\-\.,']+", text, flags=re.UNICODE)
+    plain = " ".join('"' + w.replace('"', "") + '"' for w in words if w.strip("-.,'"))
+    return [text, plain] if plain and plain != text else [text]
+
+
+def text_ids(nb, text: str) -> dict[str, tuple[float, str]]:
+    """run id → (relevance 0–1, snippet) from the full-text table; bad syntax falls back to words."""
+    if not text or not text.strip():
+        raise TrapbookError("the text query is empty", "give one or more words, e.g. --text oligomers")
+    last: Exception | None = None
+    for q in _fts_query(text.strip()):
+        try:
+            rows = nb.conn.execute(
+                "SELECT run_id, bm25(run_text), snippet(run_text, -1, '[', ']', '…', 8) FROM run_text WHERE run_text MATCH ?",
+                (q,),
+            ).fetchall()
+        except sqlite3.OperationalError as exc:
+            last = exc
+            continue
+        if not rows:
+            return {}
+        best = min(r[1] for r in rows)  # bm25: more negative is more relevant
+        return {r[0]: ((r[1] / best) if best < 0 else 1.0, r[2]) for r in rows}
+    raise TrapbookError(f"cannot read the text query '{text}' ({last})", "use plain words, or quote a phrase: \"silyl triflate\"")
+
+
+def search(
+    nb,
+    *,
+    substructure: str | None = None,
+    similar: str | None = None,
+    min_similarity: float = 0.6,
+    inchikey: str | None = None,
+    trap: str | None = None,
+    fluoride: str | None = None,
+    additive: str | None = None,
+    solvent: str | None = None,
+    temp_min=None,
+    temp_max=None,
+    time_min=None,
+    time_max=None,
+    yield_min=None,
+    yield_max=None,
+    chemist: str | None = None,
+    date_from: str | None = None,
+    date_to: str | None = None,
+    screen: str | None = None,
+    tags: list[str] | str | None = None,
+    finding: str | None = None,
+    text: str | None = None,
+    limit: int | None = None,
+    include_withdrawn: bool = False,
+) -> list[Hit]:
+    """Runs passing every given filter, best first (similarity, then text relevance, then id).
+
+    Temperatures are the highest the flask reaches (°C), times the summed holds (min),
+    yields the run's best product yield (%, isolated preferred over NMR).
+    """
+    ensure_indexed(nb)
+    where: list[str] = []
+    args: list = []
+    matched: dict[str, list[str]] = {}
+    if not include_withdrawn:
+        where.append("r.withdrawn = 0")
+
+    trap_names: list[str] = []
+    if trap:
+        trap_names, trap_smiles = _known_trap(trap.strip())
+        sql, a = _list_match("i.trap", trap_names)
+        parts = [sql]
+        args_t = list(a)
+        if trap_smiles:
+            marks = ",".join("?" * len(trap_smiles))
+            parts.append(
+                f"r.id IN (SELECT rs.run_id FROM run_structures rs JOIN structures s ON s.id = rs.structure_id "
+                f"WHERE rs.part = 'trap' AND s.smiles IN ({marks}))"
+            )
+            args_t.extend(trap_smiles)
+        where.append("(" + " OR ".join(parts) + ")")
+        args.extend(args_t)
+    for column, value in (("i.fluoride", fluoride), ("i.additive", additive), ("i.solvent", solvent)):
+        if value:
+            sql, a = _substring(column, value.strip())
+            where.append(sql)
+            args.extend(a)
+    for column, value, op, kind, name in (
+        ("i.temp_max_c", temp_min, ">=", "temperature", "minimum temperature"),
+        ("i.temp_max_c", temp_max, "<=", "temperature", "maximum temperature"),
+        ("i.time_min", time_min, ">=", "duration", "minimum time"),
+        ("i.time_min", time_max, "<=", "duration", "maximum time"),
+        ("i.yield_pct", yield_min, ">=", "percent", "minimum yield"),
+        ("i.yield_pct", yield_max, "<=", "percent", "maximum yield"),
+    ):
+        bound = _number(value, kind, name)
+        if bound is not None:
+            where.append(f"{column} {op} ?")
+            args.append(bound)
+    if chemist:
+        sql, a = _substring("r.chemist", chemist.strip())
+        where.append(sql)
+        args.extend(a)
+    for value, op, name in ((date_from, ">=", "from"), (date_to, "<=", "to")):
+        if value:
+            text_date = str(value).strip()
+            if not re.fullmatch(r"\d{4}(-\d{2}(-\d{2})?)?", text_date):
+                raise TrapbookError(f"date {name} '{text_date}' is not written YYYY-MM-DD", "e.g. --date-from 2026-09-01")
+            if op == "<=" and len(text_date) < 10:
+                text_date += "-99"  # a year or month bound includes the whole period
+            where.append(f"r.date {op} ?")
+            args.append(text_date)
+    if screen:
+        where.append("r.screen = ?")
+        args.append(_resolve_screen(nb, screen.strip()))
+    if finding:
+        where.append("EXISTS (SELECT 1 FROM json_each(coalesce(i.findings, '[]')) WHERE value = ?)")
+        args.append(finding.strip())
+    tag_list = [t.strip() for t in (tags.split(",") if isinstance(tags, str) else (tags or [])) if t and t.strip()]
+
+    sql = (
+        "SELECT r.id, r.title, r.data, i.trap, i.fluoride, i.solvent, i.temp_max_c, i.time_min, i.yield_pct, i.yield_kind, i.findings "
+        "FROM runs r LEFT JOIN run_index i ON i.run_id = r.id"
+        + (" WHERE " + " AND ".join(where) if where else "")
+    )
+    need_data = bool(tag_list)
+    if not need_data:
+        sql = sql.replace("r.data", "NULL", 1)
+    rows = {row[0]: row for row in nb.conn.execute(sql, args)}
+
+    if tag_list:
+        import json
+
+        wanted = {t.casefold() for t in tag_list}
+        rows = {rid: row for rid, row in rows.items() if wanted <= {t.casefold() for t in json.loads(row[2]).get("tags", [])}}
+
+    scores: dict[str, float] = {rid: 1.0 for rid in rows}
+    for rid, row in rows.items():
+        words = matched.setdefault(rid, [])
+        if trap:
+            words.append(f"trap: {row[3]}")
+        if fluoride:
+            words.append(f"fluoride: {row[4]}")
+        if solvent:
+            words.append(f"solvent: {row[5]}")
+        if temp_min is not None or temp_max is not None:
+            words.append(f"temperature: {row[6]:g} °C" if row[6] is not None else "temperature: none recorded")
+        if time_min is not None or time_max is not None:
+            words.append(f"time: {row[7]:g} min" if row[7] is not None else "time: none recorded")
+        if yield_min is not None or yield_max is not None:
+            words.append(f"yield: {row[8]:.0f} % ({row[9]})" if row[8] is not None else "yield: none")
+        if finding:
+            words.append(f"finding: {finding.strip()}")
+        if tag_list:
+            words.append("tags: " + ", ".join(tag_list))
+
+    def narrow(found: dict[str, tuple[float, list[str]]], replace_score: bool) -> None:
+        for rid in list(scores):
+            if rid not in found:
+                del scores[rid]
+                continue
+            s, words = found[rid]
+            if replace_score:
+                scores[rid] = s
+            matched[rid].extend(words)
+
+    if substructure:
+        ids, _ = substructure_ids(nb, substructure)
+        narrow(_runs_of(nb, ids, "substructure"), False)
+    if inchikey:
+        narrow(_runs_of(nb, inchikey_ids(nb, inchikey), "inchikey"), False)
+    if similar:
+        narrow(_runs_of(nb, similar_ids(nb, similar, float(min_similarity)), "similarity"), True)
+    if text:
+        found = {rid: (rel, [f"text: {snip}"]) for rid, (rel, snip) in text_ids(nb, text).items()}
+        narrow(found, not similar)
+
+    hits = [Hit(rid, rows[rid][1], scores[rid], matched.get(rid, [])) for rid in scores]
+    hits.sort(key=lambda h: (-h.score, h.run_id))
+    if limit is not None:
+        if limit < 0:
+            raise TrapbookError(f"limit {limit} is negative", "give a positive number of results")
+        hits = hits[:limit]
+    return hits

@@ -1,0 +1,61 @@
+"""Turning stored values into what a chemist reads in a cell, and back into form text.
+
+Kept apart from the screens so the run table, the preview and the editor write numbers
+the same way (mg to 0.1, µL to 1, mmol to 3 significant figures, as units.py does).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+#: How a severity is marked in tables and the checks panel (our own marks).
+SEVERITY_MARK = {"stop": "✖", "warn": "▲", "note": "·"}
+SEVERITY_STYLE = {"stop": "bold #ff6f59", "warn": "#f2c14e", "note": "#8fa3b8"}
+
+
+def clip(text: Any, width: int) -> str:
+    """Cut a cell to `width` characters with an ellipsis, so columns stay aligned."""
+    s = "" if text is None else str(text)
+    return s if len(s) <= width else s[: max(width - 1, 0)] + "…"
+
+
+def qtext(value: Any) -> str:
+    """Stored quantity ({"value", "unit"}) or number -> the text a form field shows."""
+    if value is None:
+        return ""
+    if isinstance(value, dict) and "value" in value:
+        v = value["value"]
+        unit = value.get("unit") or ""
+        num = format(float(v), ".12g") if isinstance(v, (int, float)) else str(v)
+        return f"{num} {unit}".strip()
+    if isinstance(value, float):
+        return format(value, ".12g")
+    return str(value)
+
+
+def temp_text(c: float | None) -> str:
+    return "—" if c is None else f"{c:.0f} °C"
+
+
+def minutes_text(m: float | None) -> str:
+    if m is None:
+        return "—"
+    if m >= 60:
+        h = m / 60
+        return f"{h:.0f} h" if abs(h - round(h)) < 1e-9 else f"{h:.1f} h"
+    return f"{m:.0f} min"
+
+
+def yield_text(pct: float | None, kind: str | None = None) -> str:
+    if pct is None:
+        return "—"
+    mark = "ⁿ" if kind == "NMR" else ""
+    return f"{pct:.0f} %{mark}"
+
+
+def worst_text(worst: str | None) -> tuple[str, str]:
+    """'warn:water-brought' -> ('▲ water-brought', style)."""
+    if not worst:
+        return "", ""
+    sev, _, code = worst.partition(":")
+    return f"{SEVERITY_MARK.get(sev, '?')} {code}", SEVERITY_STYLE.get(sev, "")
