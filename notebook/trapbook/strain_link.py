@@ -20,17 +20,11 @@ def settings_for(nb):
 
 
 def intermediate_of(run) -> str | None:
-    """SMILES of the run's intermediate: as recorded, else none (derivation from the precursor is the engine's)."""
+    """SMILES of the run's intermediate: as recorded, else derived from a silyl precursor, else None."""
     if run.intermediate:
         return run.intermediate
-    try:
-        from .chemistry import strain
+    from .chemistry.derive import intermediate_from_precursor as derive
 
-        derive = getattr(strain, "intermediate_from_precursor", None)
-    except ImportError:
-        return None
-    if derive is None:
-        return None
     for line in run.lines_by_role("precursor"):
         if line.smiles:
             try:

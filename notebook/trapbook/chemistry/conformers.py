@@ -20,9 +20,11 @@ from trapbook.errors import ChemistryError
 
 SEED = 0xC0FFEE
 THREADS = 2
-# Attempts per conformer; enough for ordinary rings, small enough to fail fast on Bredt cases.
+# Attempts per conformer: enough for ordinary rings, few enough to fail fast on Bredt cases.
+# This count, not the timeout, is what bounds the work; the timeout (seconds per conformer)
+# is only a safety net, because a wall-clock cutoff would make results depend on machine load.
 _MAX_ITERATIONS = 20
-_TIMEOUT_S = 1
+_TIMEOUT_S = 10
 # Two MMFF minima closer than this are one conformer (identical minima agree to ~1e-4).
 _DEDUP_KCAL = 0.01
 _MMFF_ROUNDS = 4

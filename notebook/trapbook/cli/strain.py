@@ -71,14 +71,21 @@ def _strain_text(r: dict) -> str:
         return "\n".join(lines)
     if r.get("bridges"):
         b = r["bridges"]
-        lines.append(f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in a {r.get('trans_ring_size')}-membered ring")
+        n = r.get("trans_ring_size")
+        article = "an" if n in (8, 11, 18) else "a"
+        lines.append(f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in {article} {n}-membered ring (Wiseman)")
+    elif r.get("ring_size"):
+        lines.append(f"  in a {r['ring_size']}-membered ring")
     lines.append(f"  olefin strain: {_fmt(r.get('olefin_strain_kcal_mol'), '.1f', ' kcal/mol')} -> {r.get('stability_class')}")
     lines.append(f"  twist {_fmt(r.get('twist_deg'), '.1f', '°')}, pyramidalization {_fmt(r.get('pyramidalization_deg'), '.1f', '°')}, "
                  f"C=C {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
                  + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else ""))
     ref = r.get("reference")
-    if ref:
-        lines.append(f"  reference pair: {ref if isinstance(ref, str) else ref.get('name', ref)}")
+    if isinstance(ref, dict) and ref.get("unsaturated"):
+        u, sat = ref["unsaturated"], ref.get("saturated") or {}
+        lines.append(f"  reference pair: {u.get('name')} / {sat.get('name')} ({ref.get('substitution', '')})")
+    elif ref:
+        lines.append(f"  reference pair: {ref}")
     lines.append(f"  method: {r.get('method')}; {r.get('conformers')} conformers; {_fmt(r.get('seconds'), '.1f', ' s')}"
                  + (" (from the notebook's cache)" if r.get("cached") else ""))
     if r.get("rough"):

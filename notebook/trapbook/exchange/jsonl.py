@@ -109,7 +109,7 @@ def import_path(nb, path: Path, author: str | None = None) -> dict:
     except TrapbookError:
         raise
     notes = [f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id]
-    return {"imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}
+    return {"format": "jsonl", "imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}
 
 
 __all__ = ["export_runs", "import_path", "to_jsonl", "read_runs", "canonical_json"]

@@ -180,7 +180,7 @@ def _safety_notes(run: Run) -> list[str]:
             cautions.append(text)
     if any(s.sealed for s in run.steps) and not any("pressure" in c.lower() for c in cautions):
         cautions.append("A sealed vessel heated above the solvent's boiling point builds pressure: use a rated vessel behind a shield.")
-    if cautions:
+    if cautions and not any("SDS" in c for c in cautions):
         cautions.append(_CAUTION_TAIL)
     return cautions
 
@@ -420,6 +420,9 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
         "tags": json.dumps(run.tags, ensure_ascii=False) if run.tags else None,
         "factors": json.dumps(run.factors, ensure_ascii=False, sort_keys=True) if run.factors else None,
         "attachments": json.dumps([a.model_dump(mode="json", exclude_none=True) for a in run.attachments]) if run.attachments else None,
+        # The ORD has one temperature and time per reaction; the step sequence travels here.
+        "trapbook_steps": json.dumps([s.model_dump(mode="json", exclude_none=True) for s in run.steps], ensure_ascii=False) if run.steps else None,
+        "trapbook_line_order": json.dumps([ln.name for ln in run.lines], ensure_ascii=False),
     }.items() if v}
     for k, v in meta.items():
         prov.reaction_metadata[k].CopyFrom(_data(v))
@@ -568,7 +571,7 @@ def _data_value(d):
 
 def _num(v) -> float | None:
     if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
-        return float(v)
+        return _f32(float(v))
     try:
         f = float(v)
     except (TypeError, ValueError):
@@ -596,24 +599,64 @@ _VOLUME = {"LITER": 1e6, "MILLILITER": 1e3, "MICROLITER": 1.0, "NANOLITER": 1e-3
 _TIME = {"DAY": 1440.0, "HOUR": 60.0, "MINUTE": 1.0, "SECOND": 1 / 60}
 
 
+def _f32(v: float) -> float:
+    """ORD stores single-precision floats: 0.1 comes back as 0.10000000149; keep 7 digits."""
+    return float(f"{v:.7g}")
+
+
 def _unit_value(msg, table: dict) -> float | None:
-    unit = type(msg).DESCRIPTOR.enum_types[0].values_by_number[msg.units].name if msg.units else "UNSPECIFIED"
-    factor = table.get(unit)
+    unit = type(msg).DESCRIPTOR.enum_types[0].values_by_number.get(msg.units)
+    factor = table.get(unit.name) if unit is not None else None
     if factor is None or not math.isfinite(msg.value):
         return None
-    return msg.value * factor
+    return _f32(msg.value) * factor
+
+
+def _trapbook_steps(meta: dict, lines: list[dict], where: str, notes: list[str]) -> list[dict] | None:
+    """The step sequence written by a Trapbook export, if it is there and fits the lines."""
+    raw = meta.get("trapbook_steps")
+    if not isinstance(raw, str):
+        return None
+    try:
+        steps = json.loads(raw)
+    except ValueError:
+        notes.append(f"{where}: the Trapbook step list is not readable JSON; steps rebuilt from the ORD fields")
+        return None
+    names = {ln["name"].casefold() for ln in lines}
+    if not isinstance(steps, list) or not all(isinstance(s, dict) for s in steps):
+        notes.append(f"{where}: the Trapbook step list is malformed; steps rebuilt from the ORD fields")
+        return None
+    for s in steps:
+        add = s.get("add", [])
+        if not isinstance(add, list) or any(not isinstance(a, str) or a.casefold() not in names for a in add):
+            notes.append(f"{where}: the Trapbook step list names lines the ORD inputs do not have; steps rebuilt from the ORD fields")
+            return None
+    return steps
+
+
+def _in_order(lines: list[dict], meta: dict) -> list[dict]:
+    raw = meta.get("trapbook_line_order")
+    try:
+        order = json.loads(raw) if isinstance(raw, str) else None
+    except ValueError:
+        order = None
+    if not isinstance(order, list):
+        return lines
+    rank = {str(n).casefold(): i for i, n in enumerate(order)}
+    return sorted(lines, key=lambda ln: rank.get(ln["name"].casefold(), len(rank)))
 
 
 def _celsius(msg) -> float | None:
     if not msg.units or not math.isfinite(msg.value):
         return None
     unit = type(msg).TemperatureUnit.Name(msg.units)
+    v = _f32(msg.value)
     if unit == "CELSIUS":
-        return msg.value
+        return v
     if unit == "KELVIN":
-        return msg.value - 273.15
+        return v - 273.15
     if unit == "FAHRENHEIT":
-        return (msg.value - 32.0) * 5.0 / 9.0
+        return (v - 32.0) * 5.0 / 9.0
     return None
 
 
@@ -730,7 +773,7 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
             except ValueError:
                 notes.append(f"{where}: metadata '{key}' is not readable JSON; not kept")
     extra = [k for k in meta if k not in ("page", "screen", "status", "intermediate", "intermediate_name", "limiting",
-                                          "tags", "factors", "attachments")]
+                                          "tags", "factors", "attachments", "trapbook_steps", "trapbook_line_order")]
     if extra:
         notes.append(f"{where}: provenance metadata not kept: {', '.join(sorted(extra))}")
     if rxn.provenance.experimenter.name:
@@ -799,12 +842,15 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
             final["atmosphere"] = atm
     if final:
         steps.append(final)
-    if cond.details:
+    kept_steps = _trapbook_steps(meta, lines, where, notes)
+    if kept_steps is not None:
+        steps = kept_steps
+    elif cond.details:
         notes.append(f"{where}: step-by-step conditions are kept only as text in the run notes")
     notes_text = []
     if rxn.notes.procedure_details:
         notes_text.append(rxn.notes.procedure_details)
-    if cond.details:
+    if cond.details and kept_steps is None:
         notes_text.append("ORD conditions: " + cond.details)
     if notes_text:
         data["notes"] = "\n".join(notes_text)
@@ -846,15 +892,15 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
                     if stype in ("DR", "ER") and m.string_value:
                         res[stype.lower()] = m.string_value
                     elif stype in ("DR", "ER") and m.WhichOneof("value") == "float_value":
-                        res[stype.lower()] = f"{m.float_value.value:g}:1"
+                        res[stype.lower()] = f"{_f32(m.float_value.value):g}:1"
                     elif stype == "EE" and m.WhichOneof("value") == "percentage":
                         if "er" not in res and (m.details != "from er"):
-                            res["ee"] = m.percentage.value
+                            res["ee"] = _f32(m.percentage.value)
                     else:
                         notes.append(f"{pwhere}: selectivity {stype} not kept")
-                elif mtype == "YIELD" and m.analysis_key in outc.analyses:
-                    an = outc.analyses[m.analysis_key]
-                    d = {k: _data_value(x) for k, x in an.data.items()}
+                elif mtype == "YIELD":
+                    an = outc.analyses[m.analysis_key] if m.analysis_key in outc.analyses else None
+                    d = {k: _data_value(x) for k, x in an.data.items()} if an is not None else {}
                     if all(_num(d.get(k)) is not None for k in ("standard_integral", "standard_protons", "integral", "protons")):
                         q: dict[str, Any] = {k: _num(d[k]) for k in ("standard_integral", "integral")}
                         q.update({k: int(_num(d[k])) for k in ("standard_protons", "protons")})
@@ -863,11 +909,10 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
                         if _num(d.get("standard_amount_mmol")) is not None:
                             q["standard_amount"] = {"value": _num(d["standard_amount_mmol"]), "unit": "mmol"}
                         res["qnmr"] = q
-                    elif "isolated_mass" not in res or m.uses_internal_standard:
-                        notes.append(f"{pwhere}: a {m.percentage.value:g} % yield without the data behind it "
-                                     "(mass or NMR integrals) is not kept; Trapbook recomputes yields")
-                elif mtype == "YIELD":
-                    notes.append(f"{pwhere}: a yield without its analysis is not kept")
+                    elif not masses or m.uses_internal_standard:
+                        shown = f"{_f32(m.percentage.value):g} % " if m.WhichOneof("value") == "percentage" else ""
+                        notes.append(f"{pwhere}: a {shown}yield without the data behind it "
+                                     "(isolated mass or NMR integrals) is not kept; Trapbook recomputes yields")
                 elif mtype != "AMOUNT":
                     notes.append(f"{pwhere}: {mtype} measurement not kept")
             if isinstance(features.get("note"), str):
@@ -883,7 +928,7 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
     obs = [o.comment for o in rxn.observations if o.comment]
     if obs:
         data.setdefault("outcome", {"products": []})["observations"] = "\n".join(obs)
-    data["lines"] = lines
+    data["lines"] = _in_order(lines, meta)
     data["steps"] = steps
     if not data.get("limiting"):
         lim = [ln["name"] for ln in lines if ln["role"] == "precursor" and "equiv" not in ln]

@@ -33,6 +33,8 @@ BUILTIN: dict[str, dict[str, Any]] = {
         "import": "trapbook.exchange.crate:import_path",
         "suffixes": (".zip",),
     },
+    "csv": {"export": "trapbook.exchange.tables:export_csv"},
+    "xlsx": {"export": "trapbook.exchange.tables:export_xlsx"},
 }
 
 

@@ -1,0 +1,80 @@
+"""Commands that move runs and files in and out: attach, attachment, formats.
+
+`export` and `import` themselves live in cli/core.py; the formats they reach are
+dispatched by trapbook.exchange.registry.
+"""
+
+from __future__ import annotations
+
+import click
+
+from .core import Ctx, emit_json, guarded, main, pass_ctx
+
+
+@main.command()
+@click.argument("run_id")
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--reason", help="Reason recorded on the new version (default: 'attached NAME').")
+@click.option("--name", help="Name to record (default: the file's own name).")
+@click.option("--json", "as_json", is_flag=True,
+              help='Print {"run_id", "version", "name", "sha256", "size", "media_type", "stored_new"}.')
+@pass_ctx
+@guarded
+def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | None, as_json: bool) -> None:
+    """Attach FILE (spectrum, photo, raw NMR data) to RUN_ID.
+
+    The file is copied into the store beside the notebook under its SHA-256 and
+    recorded in a new version of the run. It is only ever read back as bytes, checked
+    against its hash — never opened or run by Trapbook.
+    """
+    from ..attachments import attach as do_attach
+
+    with ctx.notebook() as nb:
+        res = do_attach(nb, run_id, file, author=ctx.author, reason=reason, name=name)
+    if as_json:
+        emit_json(res)
+    else:
+        click.echo(f"{res['run_id']} version {res['version']}: attached {res['name']} "
+                   f"({res['size']} bytes, sha256 {res['sha256'][:12]}…)")
+
+
+@main.command("attachment")
+@click.argument("run_id")
+@click.argument("which")
+@click.option("-o", "--output", required=True, help="File or folder to write the verified copy to (never overwritten).")
+@click.option("--json", "as_json", is_flag=True, help='Print {"path"}.')
+@pass_ctx
+@guarded
+def attachment_cmd(ctx: Ctx, run_id: str, which: str, output: str, as_json: bool) -> None:
+    """Write a verified copy of one attachment of RUN_ID (WHICH: its name or SHA-256)."""
+    from ..attachments import export_file
+
+    with ctx.notebook() as nb:
+        path = export_file(nb, run_id, which, output)
+    if as_json:
+        emit_json({"path": str(path)})
+    else:
+        click.echo(f"wrote {path}")
+
+
+@main.command("formats")
+@click.option("--json", "as_json", is_flag=True, help='Print a list of {"name", "import"}.')
+@guarded
+def formats_cmd(as_json: bool) -> None:
+    """List the export formats (built in, and added by installed plugins)."""
+    from ..exchange import registry
+
+    rows = []
+    for name in registry.known_formats():
+        if name == "jsonl":
+            rows.append({"name": name, "import": True})
+            continue
+        try:
+            rows.append({"name": name, "import": bool(registry.spec(name).get("import"))})
+        except Exception:  # a broken plugin is listed, not fatal
+            rows.append({"name": name, "import": False})
+    if as_json:
+        emit_json(rows)
+    else:
+        for r in rows:
+            click.echo(f"{r['name']:10} export{' + import' if r['import'] else ''}")

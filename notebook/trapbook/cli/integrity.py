@@ -1,0 +1,97 @@
+"""Commands that keep records safe: verify, backup, restore."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+from .core import Ctx, emit_json, guarded, main, pass_ctx
+
+
+def _print_problems(problems: list[dict]) -> None:
+    for p in problems:
+        click.echo(f"  {p['code']:16} {p['record']}: {p['message']}")
+
+
+@main.command()
+@click.option("--no-files", is_flag=True, help="Skip re-hashing the attached files (faster on big stores).")
+@click.option("--json", "as_json", is_flag=True,
+              help='Print {"ok": bool, "path": str, "problems": [{"code", "record", "message"}], '
+                   '"checked": {"runs", "versions", "screens", "attachments"}}.')
+@pass_ctx
+@guarded
+def verify(ctx: Ctx, no_files: bool, as_json: bool) -> None:
+    """Check the notebook: version hash chains, current rows, attached files, SQLite's own check.
+
+    Reports any record changed outside Trapbook. Exit 0 when all is well, 1 when a
+    problem is found (2 when the notebook cannot be opened at all).
+    """
+    from ..integrity import verify_path
+
+    report = verify_path(ctx.db_path(), check_files=not no_files).to_dict()
+    if as_json:
+        emit_json(report)
+    else:
+        c = report["checked"]
+        counts = ", ".join(f"{v} {k}" for k, v in c.items())
+        if report["ok"]:
+            click.echo(f"ok: {report['path']} ({counts})")
+        else:
+            click.echo(f"NOT OK: {report['path']} has {len(report['problems'])} problem(s) ({counts}):")
+            _print_problems(report["problems"])
+            click.echo("  what to do: restore from a backup ('trapbook restore BACKUP'), or ask whoever edited the file", err=True)
+    if not report["ok"]:
+        sys.exit(1)
+
+
+@main.command()
+@click.argument("dest")
+@click.option("--json", "as_json", is_flag=True, help='Print {"path", "files_copied", "verified", "problems"}.')
+@pass_ctx
+@guarded
+def backup(ctx: Ctx, dest: str, as_json: bool) -> None:
+    """Copy the notebook and its attached files to DEST (a new file, or a folder).
+
+    Safe while the notebook is open and being saved to (SQLite online backup); the copy
+    is verified before it is reported. Never overwrites an existing file.
+    """
+    from ..backup import backup as do_backup
+
+    res = do_backup(ctx.db_path(), dest)
+    if as_json:
+        emit_json(res)
+    else:
+        click.echo(f"backed up to {res['path']} ({res['files_copied']} file(s) copied); "
+                   + ("verified" if res["verified"] else "COPY DOES NOT VERIFY"))
+        _print_problems(res["problems"])
+    if not res["verified"]:
+        sys.exit(1)
+
+
+@main.command()
+@click.argument("src")
+@click.option("--force", is_flag=True, help="Restore even if SRC does not pass verify (the current notebook is still kept).")
+@click.option("--json", "as_json", is_flag=True, help='Print {"path", "from", "previous_kept_at", "files_copied", "verified", "problems"}.')
+@pass_ctx
+@guarded
+def restore(ctx: Ctx, src: str, force: bool, as_json: bool) -> None:
+    """Put the backup SRC in place of the notebook (--db TARGET, or the default one).
+
+    SRC is verified first; the notebook already at the target is kept under a dated
+    name (NAME.before-restore-TIME.sqlite) before it is replaced.
+    """
+    from ..backup import restore as do_restore
+
+    res = do_restore(src, ctx.db_path(), force=force)
+    if as_json:
+        emit_json(res)
+    else:
+        click.echo(f"restored {res['path']} from {res['from']}")
+        if res["previous_kept_at"]:
+            click.echo(f"  the notebook that was there is kept at {res['previous_kept_at']}")
+        if not res["verified"]:
+            click.echo("  the restored notebook does NOT verify:")
+            _print_problems(res["problems"])
+    if not res["verified"]:
+        sys.exit(1)

@@ -1,0 +1,252 @@
+"""Read a finished screen, and line outcomes up against strain across the notebook.
+
+Two questions a PI asks: "which conditions won this screen?" and "where does trapping
+stop working as the intermediate gets more strained?". Isolated and NMR yields are
+never averaged together: a level's mean is given for each kind separately, and the
+headline yield of a run (used for its cell in the matrix and to pick the best run) is
+its isolated yield when there is one, otherwise its NMR yield, with the kind stated.
+
+Strain numbers are read from the notebook's cache only; review never starts a strain
+calculation (that is minutes of work and belongs to `trapbook strain`).
+"""
+
+from __future__ import annotations
+
+from statistics import mean
+
+from .errors import TrapbookError
+
+#: How the strain-vs-outcome ranking is computed; returned with every strain map.
+RANKING_METHOD = (
+    "Spearman rank correlation between olefin strain (OS, kcal/mol) and each intermediate's best yield "
+    "over all its runs; ties get their average rank; computed by hand (no fit is assumed). "
+    "Negative rho: yields fall as strain rises."
+)
+
+
+def _yields(run) -> dict:
+    """Isolated and NMR yield of the run's best product, its dr and ee; empty when not worked out."""
+    from . import amounts
+
+    out = {"isolated_yield_pct": None, "nmr_yield_pct": None, "dr": None, "ee_pct": None, "product": None, "yield_problem": None}
+    try:
+        ys = amounts.product_yields(run)
+    except TrapbookError as exc:
+        out["yield_problem"] = exc.message
+        return out
+    if not ys:
+        return out
+    best = max(ys, key=lambda y: (y.best_yield_pct if y.best_yield_pct is not None else -1.0))
+    out.update({"isolated_yield_pct": best.isolated_yield_pct, "nmr_yield_pct": best.nmr_yield_pct,
+                "dr": best.dr, "ee_pct": best.ee_pct, "product": best.product})
+    return out
+
+
+def headline(row: dict) -> tuple[float | None, str | None]:
+    """(yield %, 'isolated' | 'NMR') that stands for the run; isolated first."""
+    if row.get("isolated_yield_pct") is not None:
+        return row["isolated_yield_pct"], "isolated"
+    if row.get("nmr_yield_pct") is not None:
+        return row["nmr_yield_pct"], "NMR"
+    return None, None
+
+
+def _findings(nb, run) -> list:
+    try:
+        from . import checks
+        from .strain_link import settings_for, strain_for_run
+    except ImportError:
+        return []
+    try:
+        return checks.run_checks(run, strain=strain_for_run(nb, run), settings=settings_for(nb))
+    except TrapbookError:
+        return []
+
+
+def _summary(values: list[tuple[float, str]]) -> dict:
+    """Mean and best of (yield, run id) pairs; None when there are none."""
+    if not values:
+        return {"n": 0, "mean_pct": None, "best_pct": None, "best_run": None}
+    best = max(values, key=lambda v: (v[0], v[1]))
+    return {"n": len(values), "mean_pct": mean(v[0] for v in values), "best_pct": best[0], "best_run": best[1]}
+
+
+def _failed(row: dict) -> bool:
+    y, _ = headline(row)
+    return row["status"] == "failed" or (row["status"] == "done" and (y is None or y == 0.0))
+
+
+def review_screen(nb, screen_id: str) -> dict:
+    """The screen as a table of runs by its varied conditions, per-level summaries, the best
+    run, the failed runs with the findings that explain them, and a yield matrix."""
+    screen = nb.get_screen(screen_id)
+    runs = nb.screen_runs(screen)
+    factors = dict(screen.factors)
+    for run in runs:  # conditions a run names that the screen does not list
+        for k, v in run.factors.items():
+            factors.setdefault(k, [])
+            if v not in factors[k]:
+                factors[k].append(v)
+    rows = []
+    for run in runs:
+        y = _yields(run)
+        found = _findings(nb, run)
+        row = {"run_id": run.id, "title": run.title, "status": run.status,
+               "factors": {k: run.factors.get(k) for k in factors}, **y,
+               "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")]}
+        row["yield_pct"], row["yield_kind"] = headline(row)
+        rows.append(row)
+
+    levels: dict[str, dict[str, dict]] = {}
+    for name, lv in factors.items():
+        levels[name] = {}
+        for level in lv:
+            mine = [r for r in rows if r["factors"].get(name) == level]
+            iso = [(r["isolated_yield_pct"], r["run_id"]) for r in mine if r["isolated_yield_pct"] is not None]
+            nmr = [(r["nmr_yield_pct"], r["run_id"]) for r in mine if r["nmr_yield_pct"] is not None]
+            head = [(r["yield_pct"], r["run_id"]) for r in mine if r["yield_pct"] is not None]
+            levels[name][level] = {"runs": [r["run_id"] for r in mine], "isolated": _summary(iso), "nmr": _summary(nmr),
+                                   "headline": _summary(head)}
+
+    done = [r for r in rows if r["yield_pct"] is not None]
+    best = max(done, key=lambda r: (r["yield_pct"], r["run_id"])) if done else None
+    best_out = None
+    if best is not None:
+        kinds = {r["yield_kind"] for r in done}
+        best_out = {"run_id": best["run_id"], "title": best["title"], "factors": best["factors"], "yield_pct": best["yield_pct"],
+                    "yield_kind": best["yield_kind"],
+                    "note": None if len(kinds) == 1 else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield"}
+    failed = [{"run_id": r["run_id"], "title": r["title"], "status": r["status"], "yield_pct": r["yield_pct"],
+               "findings": r["findings"] or [], "explained": bool(r["findings"])} for r in rows if _failed(r)]
+    planned = [r["run_id"] for r in rows if r["status"] in ("planned", "running")]
+    return {
+        "screen_id": screen.id,
+        "name": screen.name,
+        "description": screen.description,
+        "factors": factors,
+        "rows": rows,
+        "levels": levels,
+        "best": best_out,
+        "failed": failed,
+        "not_done": planned,
+        "matrix": matrix(rows, factors),
+        "yield_rule": "headline yield = isolated if recorded, else NMR; level means are also given per kind",
+    }
+
+
+def matrix(rows: list[dict], factors: dict[str, list[str]]) -> dict | None:
+    """Headline yields in a grid of the first two varied conditions (the mean where a cell
+    holds several runs, e.g. when a third condition is also varied)."""
+    names = list(factors)
+    if not names:
+        return None
+    row_f = names[0]
+    col_f = names[1] if len(names) > 1 else None
+    row_levels = factors[row_f]
+    col_levels = factors[col_f] if col_f else [""]
+    cells = []
+    for rl in row_levels:
+        line = []
+        for cl in col_levels:
+            mine = [r for r in rows if r["factors"].get(row_f) == rl and (col_f is None or r["factors"].get(col_f) == cl)]
+            vals = [r["yield_pct"] for r in mine if r["yield_pct"] is not None]
+            line.append({"yield_pct": mean(vals) if vals else None, "n": len(vals), "runs": [r["run_id"] for r in mine],
+                         "kinds": sorted({r["yield_kind"] for r in mine if r["yield_kind"]})})
+        cells.append(line)
+    return {"rows": row_f, "columns": col_f, "row_levels": row_levels, "column_levels": col_levels if col_f else [],
+            "cells": cells, "averaged_over": names[2:]}
+
+
+# --- strain against outcome ------------------------------------------------------------------------
+
+
+def _ranks(values: list[float]) -> list[float]:
+    """1-based ranks, ties sharing their average rank."""
+    order = sorted(range(len(values)), key=lambda i: values[i])
+    ranks = [0.0] * len(values)
+    i = 0
+    while i < len(order):
+        j = i
+        while j + 1 < len(order) and values[order[j + 1]] == values[order[i]]:
+            j += 1
+        for k in range(i, j + 1):
+            ranks[order[k]] = (i + j) / 2.0 + 1.0
+        i = j + 1
+    return ranks
+
+
+def spearman(x: list[float], y: list[float]) -> float | None:
+    """Spearman's rho as the Pearson correlation of the ranks (exact with ties); None if undefined."""
+    if len(x) != len(y) or len(x) < 3:
+        return None
+    rx, ry = _ranks(x), _ranks(y)
+    mx, my = mean(rx), mean(ry)
+    sxy = sum((a - mx) * (b - my) for a, b in zip(rx, ry))
+    sxx = sum((a - mx) ** 2 for a in rx)
+    syy = sum((b - my) ** 2 for b in ry)
+    if sxx == 0 or syy == 0:
+        return None
+    return sxy / (sxx * syy) ** 0.5
+
+
+def _canonical(smiles: str) -> str:
+    from .chemistry import molecules
+
+    try:
+        return molecules.canonical(smiles)
+    except TrapbookError:
+        return smiles
+
+
+def strain_map(nb) -> dict:
+    """For each intermediate of the notebook: its cached strain and class, and the best yield per trap."""
+    from .strain_link import intermediate_of, strain_for_run
+    from .store.index import best_yield
+
+    groups: dict[str, dict] = {}
+    for run in nb.iter_runs(include_withdrawn=False):
+        smi = intermediate_of(run)
+        if not smi:
+            continue
+        key = _canonical(smi)
+        g = groups.setdefault(key, {"smiles": key, "name": run.intermediate_name, "runs": [], "traps": {}, "strain": None})
+        g["name"] = g["name"] or run.intermediate_name
+        g["runs"].append(run.id)
+        if g["strain"] is None:
+            g["strain"] = strain_for_run(nb, run)
+        if run.status not in ("done", "failed"):
+            continue
+        y, kind = best_yield(run)
+        for trap in run.lines_by_role("trap") or [None]:
+            tname = trap.name if trap is not None else "(no trap)"
+            cur = g["traps"].get(tname)
+            if y is not None and (cur is None or cur["yield_pct"] is None or y > cur["yield_pct"]):
+                g["traps"][tname] = {"yield_pct": y, "yield_kind": kind, "run_id": run.id}
+            elif cur is None:
+                g["traps"][tname] = {"yield_pct": None, "yield_kind": None, "run_id": run.id}
+    out = []
+    for g in groups.values():
+        st = g["strain"] or {}
+        os_val = st.get("olefin_strain_kcal_mol")
+        ys = [t["yield_pct"] for t in g["traps"].values() if t["yield_pct"] is not None]
+        out.append({
+            "smiles": g["smiles"],
+            "name": g["name"],
+            "runs": g["runs"],
+            "olefin_strain_kcal_mol": os_val,
+            "stability_class": st.get("stability_class"),
+            "strain_method": st.get("method") or st.get("tier"),
+            "strain_status": "cached" if g["strain"] else "not computed",
+            "best_yield_pct": max(ys) if ys else None,
+            "traps": [{"trap": k, **v} for k, v in sorted(g["traps"].items())],
+        })
+    out.sort(key=lambda e: (e["olefin_strain_kcal_mol"] is None, e["olefin_strain_kcal_mol"] or 0.0, e["smiles"]))
+    pairs = [(e["olefin_strain_kcal_mol"], e["best_yield_pct"]) for e in out
+             if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
+    rho = spearman([p[0] for p in pairs], [p[1] for p in pairs])
+    return {
+        "intermediates": out,
+        "ranking": {"method": RANKING_METHOD, "n": len(pairs), "spearman_rho": rho,
+                    "note": None if rho is not None else "needs at least 3 intermediates with both a cached strain and a yield, and not all tied"},
+        "missing_strain": [e["smiles"] for e in out if e["strain_status"] == "not computed"],
+    }

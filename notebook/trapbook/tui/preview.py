@@ -1,0 +1,88 @@
+"""The Logbook's preview of one run: amounts to weigh, the addition track, the outcome."""
+
+from __future__ import annotations
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+
+from ..errors import TrapbookError
+from ..units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
+from .text import clip
+
+
+def run_findings(nb, run):
+    """Bench checks of a run with the notebook's settings and cached strain; None if unavailable."""
+    try:
+        from .. import checks
+    except ImportError:
+        return None
+    from ..strain_link import settings_for, strain_for_run
+
+    return checks.run_checks(run, strain=strain_for_run(nb, run), settings=settings_for(nb))
+
+
+def amounts_table(table) -> Table:
+    t = Table(box=None, padding=(0, 1), show_edge=False, header_style="bold #8fa3b8")
+    for col, just in (("role", "left"), ("line", "left"), ("equiv", "right"), ("mmol", "right"),
+                      ("mg", "right"), ("µL", "right")):
+        t.add_column(col, justify=just)
+    for row in table.lines:
+        if row.role == "product":
+            continue
+        t.add_row(row.role, clip(row.name, 34), fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg),
+                  fmt_ul(row.volume_ul))
+    return t
+
+
+def preview(nb, run_id: str):
+    from .. import amounts
+    from .widgets.timeline import track
+
+    run = nb.get_run(run_id)
+    meta = nb.run_meta(run_id)
+    head = Text()
+    head.append(f"{run.id}  ", style="bold #7fb7be")
+    head.append(run.title, style="bold")
+    head.append(f"   v{meta['version']} · {run.status}" + (f" · screen {run.screen}" if run.screen else ""), style="#8fa3b8")
+    if nb.get_setting(f"draft:{run_id}"):
+        head.append("  ✎ unsaved draft", style="#f2c14e")
+    parts = [head]
+    try:
+        table = amounts.compute(run)
+        parts.append(amounts_table(table))
+        yields = amounts.product_yields(run, table)
+    except TrapbookError as exc:
+        parts.append(Text(f"amounts: {exc.message}", style="italic #f2c14e"))
+        yields = []
+    try:
+        findings = run_findings(nb, run)
+    except TrapbookError:
+        findings = None
+    grid = Table.grid(padding=(0, 3))
+    grid.add_column()
+    grid.add_column()
+    out = Text()
+    for y in yields:
+        out.append(f"{y.product}: ", style="bold")
+        bits = []
+        if y.isolated_yield_pct is not None:
+            bits.append(f"{y.isolated_yield_pct:.0f} % isolated")
+        if y.nmr_yield_pct is not None:
+            bits.append(f"{y.nmr_yield_pct:.0f} % NMR")
+        if y.dr:
+            bits.append(f"dr {y.dr}")
+        if y.ee_pct is not None:
+            bits.append(f"ee {y.ee_pct:.0f} %")
+        out.append(", ".join(bits) or "no yield recorded")
+        out.append("\n")
+    if findings:
+        from .text import SEVERITY_MARK, SEVERITY_STYLE
+
+        for f in findings[:3]:
+            out.append(f"{SEVERITY_MARK[f.severity]} {f.code} ", style=SEVERITY_STYLE[f.severity])
+        if len(findings) > 3:
+            out.append(f"+{len(findings) - 3} more", style="#8fa3b8")
+    grid.add_row(track(run, findings), out)
+    parts.append(grid)
+    return Group(*parts)

@@ -1,0 +1,62 @@
+"""Keys: every key of every screen, read from the screens' own bindings so it cannot drift."""
+
+from __future__ import annotations
+
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+# Keys of the forms that are not bindings (Textual's own widgets handle them).
+FORM_KEYS = [
+    ("Tab / Shift+Tab", "next / previous field"),
+    ("Enter (in a line or step field)", "keep the line or step being written"),
+    ("Enter (on a table row)", "open the run, or load the line or step into the form"),
+    ("→ (at the end of a field)", "accept the suggested completion (roles, status)"),
+    ("Space (on a checkbox)", "tick or untick"),
+    ("mouse", "click a row, a tab, a header to sort, a button"),
+]
+
+
+def _key_text(b: Binding) -> str:
+    return b.key_display or b.key.replace("ctrl+", "ctrl+").replace("left_square_bracket", "[").replace(
+        "right_square_bracket", "]").replace("slash", "/")
+
+
+def key_table() -> Table:
+    from ..app import TrapbookApp
+    from .dialogs import LeaveDialog, ReasonDialog
+    from .editor import WorkbenchScreen
+    from .history import TrailScreen
+    from .review import BoardScreen
+    from .runs import LogbookScreen
+
+    screens = [("Everywhere", TrapbookApp), ("Logbook (runs)", LogbookScreen), ("Workbench (run editor)", WorkbenchScreen),
+               ("Screen board (review)", BoardScreen), ("Version trail (history)", TrailScreen),
+               ("Leaving with unsaved changes", LeaveDialog), ("Reason for a change", ReasonDialog)]
+    t = Table(box=None, padding=(0, 2), show_header=False)
+    t.add_column(style="bold #f0a83c", min_width=22)
+    t.add_column()
+    for title, cls in screens:
+        t.add_row(Text(title, style="bold #7fb7be underline"), "")
+        for b in cls.BINDINGS:
+            if isinstance(b, tuple):
+                b = Binding(*b)
+            t.add_row(_key_text(b), b.description or b.action)
+        t.add_row("", "")
+    t.add_row(Text("In forms and tables", style="bold #7fb7be underline"), "")
+    for k, d in FORM_KEYS:
+        t.add_row(k, d)
+    return t
+
+
+class KeysScreen(ModalScreen):
+    BINDINGS = [Binding("escape,f1,q", "app.pop_screen", "Close")]
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(id="keys-box"):
+            yield Static(Text("Keys  (Esc closes)", style="bold"), id="keys-title")
+            yield Static(key_table(), id="keys-table")

@@ -1,0 +1,216 @@
+"""Screen board: a screen's yields by its two varied conditions, its winner, and how
+outcomes across the notebook follow the strain of the intermediate.
+
+The numbers are the core's (review.review_screen and review.strain_map); strain is read
+from the cache, and `g` fills missing fast-tier values in a worker so the plot has points.
+"""
+
+from __future__ import annotations
+
+from rich.console import Group
+from rich.text import Text
+from textual import work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import Screen
+from textual.widgets import Footer, Header, ProgressBar, Static
+
+from ...errors import TrapbookError
+from ..widgets.heatgrid import grid
+
+
+def best_text(review: dict) -> Text:
+    out = Text()
+    best = review.get("best")
+    if best:
+        out.append("Best conditions: ", style="bold")
+        out.append(", ".join(f"{k} = {v}" for k, v in best["factors"].items()), style="bold #f0a83c")
+        out.append(f"  →  {best['yield_pct']:.0f} % ({best['yield_kind']}), {best['run_id']}\n")
+        if best.get("note"):
+            out.append(best["note"] + "\n", style="italic #8fa3b8")
+    else:
+        out.append("No run of this screen has a yield yet.\n", style="italic")
+    for name, levels in (review.get("levels") or {}).items():
+        out.append(f"\n{name}: ", style="bold #7fb7be")
+        bits = []
+        for level, s in levels.items():
+            h = s.get("headline") or {}
+            if h.get("n"):
+                bits.append(f"{level} mean {h['mean_pct']:.0f} % / best {h['best_pct']:.0f} %")
+            else:
+                bits.append(f"{level} —")
+        out.append(" · ".join(bits))
+    failed = review.get("failed") or []
+    if failed:
+        out.append("\n\nFailed or empty runs:\n", style="bold #ff6f59")
+        for f in failed:
+            why = "; ".join(x["code"] for x in f["findings"]) or "no finding explains it"
+            out.append(f"  {f['run_id']} {f['title']}: {why}\n")
+    if review.get("not_done"):
+        out.append(f"\nNot done yet: {', '.join(review['not_done'])}", style="italic")
+    return out
+
+
+class BoardScreen(Screen):
+    """Review of one condition screen at a time."""
+
+    BINDINGS = [
+        Binding("left_square_bracket", "turn(-1)", "Prev screen", key_display="["),
+        Binding("right_square_bracket", "turn(1)", "Next screen", key_display="]"),
+        Binding("o", "open_best", "Open best run"),
+        Binding("g", "fill_strain", "Compute missing strain"),
+        Binding("escape", "app.pop_screen", "Back"),
+    ]
+
+    def __init__(self, screen_id: str | None = None):
+        super().__init__()
+        self.wanted = screen_id
+        self.ids: list[str] = []
+        self.index = 0
+        self.review: dict | None = None
+        self.map: dict | None = None
+
+    def compose(self) -> ComposeResult:
+        from textual_plotext import PlotextPlot
+
+        yield Header()
+        yield Static("", id="board-title")
+        with Horizontal(id="board"):
+            with VerticalScroll(id="board-left"):
+                yield Static("", id="heat")
+                yield Static("", id="best")
+            with Vertical(id="board-right"):
+                yield PlotextPlot(id="strain-plot")
+                yield Static("", id="plot-note")
+                yield ProgressBar(id="fill-progress", show_eta=False)
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.query_one("#fill-progress").display = False
+        self.ids = [s.id for s in self.app.nb.list_screens()]
+        if self.wanted in self.ids:
+            self.index = self.ids.index(self.wanted)
+        self.show()
+
+    def show(self) -> None:
+        title = self.query_one("#board-title", Static)
+        if not self.ids:
+            title.update(Text("No screens in this notebook yet (plan one with 'trapbook screen plan').", style="italic"))
+            self.show_plot()
+            return
+        try:
+            from ... import review
+        except ImportError:
+            title.update(Text("Screen review is not available in this installation.", style="italic"))
+            return
+        sid = self.ids[self.index]
+        try:
+            self.review = review.review_screen(self.app.nb, sid)
+        except TrapbookError as exc:
+            title.update(Text(exc.message, style="#ff6f59"))
+            return
+        r = self.review
+        head = Text()
+        head.append(f" {r['screen_id']} ", style="bold #101418 on #7fb7be")
+        head.append(f"  {r['name']}", style="bold")
+        head.append(f"   screen {self.index + 1} of {len(self.ids)}", style="#8fa3b8")
+        if r.get("description"):
+            head.append(f"\n {r['description']}", style="italic")
+        title.update(head)
+        best = (r.get("best") or {}).get("run_id")
+        self.query_one("#heat", Static).update(Group(grid(r.get("matrix"), best),
+                                                     Text(r.get("yield_rule", ""), style="italic #8fa3b8")))
+        self.query_one("#best", Static).update(best_text(r))
+        self.show_plot()
+
+    def show_plot(self) -> None:
+        from ... import review
+
+        plot = self.query_one("#strain-plot")
+        note = self.query_one("#plot-note", Static)
+        try:
+            self.map = review.strain_map(self.app.nb)
+        except TrapbookError as exc:
+            note.update(Text(exc.message, style="#ff6f59"))
+            return
+        pts = [e for e in self.map["intermediates"]
+               if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
+        plt = plot.plt
+        plt.clear_data()
+        plt.clear_figure()
+        plt.title("best yield vs olefin strain, all runs")
+        plt.xlabel("OS (kcal/mol)")
+        plt.ylabel("best yield %")
+        if pts:
+            xs = [e["olefin_strain_kcal_mol"] for e in pts]
+            ys = [e["best_yield_pct"] for e in pts]
+            plt.scatter(xs, ys, marker="●", color="orange")
+            for e in pts:
+                label = (e.get("name") or e["smiles"]).replace("bicyclo", "")
+                plt.text(label, e["olefin_strain_kcal_mol"], e["best_yield_pct"], color="cyan")
+            plt.ylim(0, 100)
+        plot.refresh()
+        rk = self.map.get("ranking") or {}
+        text = Text()
+        missing = self.map.get("missing_strain") or []
+        if missing:
+            text.append(f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n",
+                        style="#f2c14e")
+        if rk.get("spearman_rho") is not None:
+            text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} intermediates. ", style="bold")
+        elif rk.get("note"):
+            text.append(rk["note"] + ". ", style="italic")
+        methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
+        if methods:
+            text.append("Strain method: " + "; ".join(methods), style="italic #8fa3b8")
+        note.update(text)
+
+    def action_turn(self, delta: int) -> None:
+        if self.ids:
+            self.index = (self.index + delta) % len(self.ids)
+            self.show()
+
+    def action_open_best(self) -> None:
+        from .editor import WorkbenchScreen
+
+        best = (self.review or {}).get("best")
+        if best:
+            self.app.push_screen(WorkbenchScreen(run_id=best["run_id"]))
+
+    def action_fill_strain(self) -> None:
+        missing = list((self.map or {}).get("missing_strain") or [])
+        if not missing:
+            self.notify("Every intermediate already has a cached strain value.")
+            return
+        bar = self.query_one("#fill-progress", ProgressBar)
+        bar.display = True
+        bar.update(total=len(missing), progress=0)
+        self.fill(missing)
+
+    @work(thread=True, exclusive=True, group="fill-strain", exit_on_error=False)
+    def fill(self, smiles_list: list[str]) -> None:
+        from ...store import Notebook
+        from ...strain_link import get_strain
+
+        problems = []
+        with Notebook.open(self.app.nb.path) as nb:
+            for i, smi in enumerate(smiles_list):
+                try:
+                    get_strain(nb, smi, "fast")
+                except TrapbookError as exc:
+                    problems.append(f"{smi}: {exc.message}")
+                self.app.call_from_thread(self._filled_one, i + 1)
+        self.app.call_from_thread(self._filled, problems)
+
+    def _filled_one(self, n: int) -> None:
+        if self.is_mounted:
+            self.query_one("#fill-progress", ProgressBar).update(progress=n)
+
+    def _filled(self, problems: list[str]) -> None:
+        if not self.is_mounted:
+            return
+        self.query_one("#fill-progress").display = False
+        if problems:
+            self.notify("\n".join(problems), title="Some strain values failed", severity="warning")
+        self.show_plot()

@@ -1,0 +1,61 @@
+"""A labelled one-line form field with its message beside it.
+
+Bad input is answered where it was typed: each field runs its own check on every key and
+writes what is wrong (or what was understood, like a molar mass) in the message column.
+"""
+
+from __future__ import annotations
+
+from typing import Callable
+
+from textual.app import ComposeResult
+from textual.containers import Horizontal
+from textual.suggester import SuggestFromList
+from textual.widgets import Input, Label, Static
+
+#: A check takes the text and returns (ok, message).
+Check = Callable[[str], tuple[bool, str]]
+
+
+class Field(Horizontal):
+    """Label, input and message in one row; `check` runs as the user types."""
+
+    DEFAULT_CLASSES = "field"
+
+    def __init__(self, label: str, field_id: str, placeholder: str = "", check: Check | None = None,
+                 suggestions: list[str] | None = None, value: str = ""):
+        super().__init__(id=f"row-{field_id}")
+        self.label = label
+        self.field_id = field_id
+        self.placeholder = placeholder
+        self.check = check
+        self.suggestions = suggestions
+        self.initial = value
+
+    def compose(self) -> ComposeResult:
+        yield Label(self.label, classes="field-label")
+        suggester = SuggestFromList(self.suggestions, case_sensitive=False) if self.suggestions else None
+        yield Input(value=self.initial, placeholder=self.placeholder, id=self.field_id, suggester=suggester,
+                    classes="field-input")
+        yield Static("", id=f"msg-{self.field_id}", classes="field-msg")
+
+    @property
+    def input(self) -> Input:
+        return self.query_one(Input)
+
+    def message(self, text: str, ok: bool = True) -> None:
+        msg = self.query_one(f"#msg-{self.field_id}", Static)
+        msg.update(text)
+        msg.set_class(not ok, "bad")
+
+    def run_check(self) -> bool:
+        """Check the current text; empty text is always fine (the field is optional)."""
+        text = self.input.value.strip()
+        if not text or self.check is None:
+            self.message("")
+            self.input.set_class(False, "bad")
+            return True
+        ok, msg = self.check(text)
+        self.message(msg, ok)
+        self.input.set_class(not ok, "bad")
+        return ok

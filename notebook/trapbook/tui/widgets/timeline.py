@@ -1,0 +1,101 @@
+"""The addition track: when the precursor, the trap and the fluoride source enter the flask.
+
+A trapping run lives or dies by one fact — is the trap already in the flask when the
+fluoride meets the precursor? — so the track draws one lane per key line across the
+ordered steps, and states the verdict the bench checks reached (it does not judge itself).
+"""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.widgets import Static
+
+from ..text import SEVERITY_STYLE
+
+#: Lanes drawn, in order, and how each is labelled and coloured (our own palette).
+LANES = (
+    ("precursor", "precursor", "#7fb7be"),
+    ("trap", "trap", "#9be564"),
+    ("fluoride source", "F⁻ source", "#ff9f1c"),
+)
+LABEL_W = 11
+
+
+def _entry_steps(run) -> dict[str, int]:
+    """First step (0-based) in which each line name is added."""
+    first: dict[str, int] = {}
+    for i, step in enumerate(run.steps):
+        for name in step.add:
+            first.setdefault(name.casefold(), i)
+    return first
+
+
+def _temp(step) -> str:
+    if step.temperature is None:
+        return ""
+    from ...units import to_canonical
+
+    return f"{to_canonical(step.temperature, 'temperature'):.0f}°"
+
+
+def track(run, findings: list | None) -> Text:
+    """The track as Rich text; `findings` are the bench checks of the same run."""
+    out = Text()
+    n = len(run.steps)
+    if n == 0:
+        out.append("No steps yet: say what goes in when (Steps tab).", style="italic #8fa3b8")
+        return out
+    cell = 6 if n <= 5 else 4 if n <= 8 else 3
+    first = _entry_steps(run)
+    out.append(" " * LABEL_W)
+    for i in range(n):
+        out.append(f"{i + 1:<{cell}}", style="bold")
+    out.append("\n" + " " * LABEL_W)
+    for step in run.steps:
+        mark = _temp(step) + ("▣" if step.sealed else "")
+        out.append(f"{mark[:cell - 1]:<{cell}}", style="#8fa3b8")
+    out.append("\n")
+    for role, label, colour in LANES:
+        lines = run.lines_by_role(role)
+        if not lines:
+            out.append(f"{label:<{LABEL_W}}", style=colour)
+            out.append("none in this run\n", style="italic #8fa3b8")
+            continue
+        for line in lines:
+            at = first.get(line.name.casefold())
+            out.append(f"{label[:LABEL_W - 1]:<{LABEL_W}}", style=colour)
+            for i in range(n):
+                if at is None or i < at:
+                    out.append("·".ljust(cell), style="#4a5866")
+                elif i == at:
+                    out.append("●" + "━" * (cell - 1), style=f"bold {colour}")
+                else:
+                    out.append("━" * cell, style=colour)
+            if at is None:
+                out.append(" never added", style="#f2c14e")
+            out.append("\n")
+    out.append(verdict(run, findings))
+    return out
+
+
+def verdict(run, findings: list | None) -> Text:
+    """One line stating what the checks said about the order of additions."""
+    codes = {f.code: f for f in (findings or [])}
+    if findings is None:
+        return Text("order not judged: checks not available", style="italic #8fa3b8")
+    if "trap-late" in codes:
+        return Text("✖ trap enters after the fluoride source", style=SEVERITY_STYLE["stop"])
+    if "no-trap" in codes:
+        return Text("▲ no trap line: nothing to catch the intermediate", style=SEVERITY_STYLE["warn"])
+    if "trap-order-unknown" in codes:
+        return Text("▲ steps do not say when the trap goes in", style=SEVERITY_STYLE["warn"])
+    if run.lines_by_role("trap") and run.lines_by_role("fluoride source"):
+        return Text("✔ trap in the flask before the fluoride source", style="bold #9be564")
+    return Text("")
+
+
+class AdditionTrack(Static):
+    """Shows `track()` of the run being looked at."""
+
+    def show(self, run, findings: list | None) -> None:
+        self.update(track(run, findings) if run is not None else Text("no valid run to draw", style="italic"))

@@ -1,0 +1,213 @@
+"""ORD export and import, judged by the ORD project's own validator and message builders."""
+
+from __future__ import annotations
+
+import copy
+
+import molmass
+import pytest
+from google.protobuf import json_format, text_format
+from ord_schema import message_helpers, validations
+from ord_schema.proto import dataset_pb2, reaction_pb2
+
+from trapbook import amounts
+from trapbook.errors import ExchangeError
+from trapbook.exchange import export_runs, import_path
+from trapbook.exchange import ord as ordx
+from trapbook.records import load_run
+
+
+def _component(rxn, name):
+    for inp in rxn.inputs.values():
+        for c in inp.components:
+            if message_helpers.get_compound_name(c) == name:
+                return c, inp
+    for wk in rxn.workups:
+        for c in wk.input.components:
+            if message_helpers.get_compound_name(c) == name:
+                return c, None
+    raise AssertionError(f"no component {name}")
+
+
+def test_screen_export_passes_the_ord_validator(demo_notebook, tmp_path):
+    out = tmp_path / "screen.pb"
+    export_runs(demo_notebook, "ord", screen="SC-0001", output=str(out))
+    ds = dataset_pb2.Dataset()
+    ds.ParseFromString(out.read_bytes())
+    assert len(ds.reactions) == 6
+    # Source: ord_schema.validations (the ORD's own validator), the check ORD submissions must pass
+    validations.validate_datasets({"screen.pb": ds})  # raises ValidationError on any error
+    for rxn in ds.reactions:
+        res = validations.validate_message(rxn, raise_on_error=False)
+        assert res.errors == []
+    assert ds.name.startswith("331 trap")
+
+
+def test_every_demo_run_exports_without_validation_errors(demo_notebook):
+    runs = list(demo_notebook.iter_runs())
+    ds, report = ordx.build_dataset(runs)
+    # Source: ord_schema.validations.validate_message
+    out = validations.validate_message(ds, raise_on_error=False)
+    assert out.errors == []
+    assert report["reactions"] == len(runs) == 18
+
+
+def test_roles_amounts_and_order(minimal_run):
+    run = load_run(dict(minimal_run, id="TB-0042"))
+    rxn, notes = ordx.run_to_reaction(run, email="ada@example.org")
+    R = reaction_pb2.ReactionRole
+    pre, inp_pre = _component(rxn, "aryne precursor A")
+    furan, inp_furan = _component(rxn, "furan")
+    tbaf, inp_tbaf = _component(rxn, "TBAF 1.0 M in THF")
+    thf, _ = _component(rxn, "THF")
+    assert pre.reaction_role == R.REACTANT and pre.is_limiting
+    assert furan.reaction_role == R.REACTANT  # the trap ends up in the product
+    assert tbaf.reaction_role == R.REAGENT
+    assert thf.reaction_role == R.SOLVENT
+    # Source: REFERENCE.md, equiv_i = n_i / n_limiting: 10 equiv of furan on 0.200 mmol is 2.00 mmol
+    assert furan.amount.moles.value == pytest.approx(2.0, rel=1e-6)
+    assert furan.amount.moles.units == reaction_pb2.Moles.MILLIMOLE
+    assert tbaf.amount.moles.value == pytest.approx(0.6, rel=1e-6)
+    assert thf.amount.volume.value == pytest.approx(2000.0) and thf.amount.volume.units == reaction_pb2.Volume.MICROLITER
+    # The trap is in the flask before the fluoride (addition_order), as the run file says.
+    assert inp_pre is inp_furan and inp_furan.addition_order < inp_tbaf.addition_order
+    # Source: ORD schema, ReactionInput.addition_temperature is the temperature of the addition
+    assert inp_tbaf.addition_temperature.value == pytest.approx(-78.0)
+    assert rxn.outcomes[0].reaction_time.value == pytest.approx(120.0)
+    # common practice, no source: a fluoride source calls for the HF / calcium gluconate caution
+    assert "calcium gluconate" in rxn.notes.safety_notes and "SDS" in rxn.notes.safety_notes
+    assert rxn.provenance.record_created.person.email == "ada@example.org"
+    assert validations.validate_message(rxn, raise_on_error=False).errors == []
+
+
+def test_qnmr_yield_against_the_reference_formula(demo_notebook):
+    run = demo_notebook.get_run("TB-0004")
+    rxn, _ = ordx.run_to_reaction(run)
+    prod = rxn.outcomes[0].products[0]
+    y = [m for m in prod.measurements if m.type == m.YIELD]
+    assert len(y) == 1 and y[0].uses_internal_standard
+    # Source: REFERENCE.md qNMR relation n_P = n_IS (I_P/N_P)/(I_IS/N_IS) (Pauli et al. 2014, from memory);
+    # 16.8 mg 1,3,5-trimethoxybenzene C9H12O3 (M by molmass), I_IS 3.00 for 3 H, product 0.771 for 1 H, 0.100 mmol scale
+    n_is = 16.8 / molmass.Formula("C9H12O3").mass
+    expected = 100.0 * n_is * (0.771 / 1) / (3.00 / 3) / 0.100
+    assert y[0].percentage.value == pytest.approx(expected, rel=1e-4)
+    # ORD requires an INTERNAL_STANDARD component when a measurement uses one
+    assert validations.reaction_has_internal_standard(rxn)
+
+
+def test_isolated_yield_dr_and_ee(minimal_run):
+    data = copy.deepcopy(minimal_run)
+    data["lines"].append({"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"})
+    data["outcome"] = {"products": [{"product": "adduct", "isolated_mass": "20.0 mg", "dr": "3:1", "er": "95:5"}]}
+    rxn, _ = ordx.run_to_reaction(load_run(data))
+    prod = rxn.outcomes[0].products[0]
+    by_type = {}
+    for m in prod.measurements:
+        by_type.setdefault(reaction_pb2.ProductMeasurement.ProductMeasurementType.Name(m.type), []).append(m)
+    # Source: yield = n_product / n_theoretical (IUPAC Gold Book "yield"); C10H8O mass by molmass
+    expected = 100.0 * (20.0 / molmass.Formula("C10H8O").mass) / 0.200
+    assert by_type["YIELD"][0].percentage.value == pytest.approx(expected, rel=1e-4)
+    assert by_type["AMOUNT"][0].amount.mass.value == pytest.approx(20.0)
+    sel = {reaction_pb2.ProductMeasurement.Selectivity.SelectivityType.Name(m.selectivity.type): m for m in by_type["SELECTIVITY"]}
+    assert sel["DR"].string_value == "3:1"
+    # Source: IUPAC Gold Book E02070, ee = (er - 1)/(er + 1); 95:5 -> 90 % ee
+    assert sel["EE"].percentage.value == pytest.approx(90.0)
+    assert validations.validate_message(rxn, raise_on_error=False).errors == []
+
+
+def test_trapbook_to_ord_and_back_keeps_amounts_yields_and_steps(demo_notebook, tmp_path, notebook):
+    out = tmp_path / "all.pbtxt"
+    export_runs(demo_notebook, "ord", output=str(out))
+    text_format.Parse(out.read_text(encoding="utf-8"), dataset_pb2.Dataset())  # protobuf's own parser reads it
+    report = import_path(notebook, out)
+    assert report["format"] == "ord" and len(report["imported"]) == 18
+    for orig in demo_notebook.iter_runs():
+        back = notebook.get_run(orig.id)
+        assert [ln.name for ln in back.lines] == [ln.name for ln in orig.lines]
+        assert [ln.role for ln in back.lines] == [ln.role for ln in orig.lines]
+        assert [ln.given for ln in back.lines] == [ln.given for ln in orig.lines]
+        assert len(back.steps) == len(orig.steps)
+        ta, tb = amounts.compute(orig), amounts.compute(back)
+        for a, b in zip(ta.lines, tb.lines):
+            assert (a.mmol is None) == (b.mmol is None)
+            if a.mmol is not None:
+                # ORD stores single-precision floats (about 7 digits)
+                assert b.mmol == pytest.approx(a.mmol, rel=1e-6)
+        ya = [y.best_yield_pct for y in amounts.product_yields(orig)]
+        yb = [y.best_yield_pct for y in amounts.product_yields(back)]
+        assert yb == pytest.approx(ya, rel=1e-6)
+
+
+def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
+    # A reaction made with ord_schema's own builders, as another tool would write it.
+    rxn = reaction_pb2.Reaction()
+    rxn.inputs["precursor"].components.add().CopyFrom(
+        message_helpers.build_compound(smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", name="aryne precursor",
+                                       role="reactant", amount="0.5 mmol", is_limiting=True))
+    rxn.inputs["precursor"].addition_order = 1
+    rxn.inputs["furan"].components.add().CopyFrom(
+        message_helpers.build_compound(smiles="c1ccoc1", name="furan", role="reactant", amount="5 mmol"))
+    rxn.inputs["furan"].addition_order = 1
+    rxn.inputs["CsF"].components.add().CopyFrom(
+        message_helpers.build_compound(smiles="[Cs+].[F-]", name="CsF", role="reagent", amount="228 mg"))
+    rxn.inputs["CsF"].addition_order = 2
+    rxn.inputs["MeCN"].components.add().CopyFrom(
+        message_helpers.build_compound(smiles="CC#N", name="MeCN", role="solvent", amount="5 mL"))
+    rxn.conditions.temperature.setpoint.CopyFrom(reaction_pb2.Temperature(value=353.15, units=reaction_pb2.Temperature.KELVIN))
+    out = rxn.outcomes.add()
+    out.reaction_time.CopyFrom(reaction_pb2.Time(value=2, units=reaction_pb2.Time.HOUR))
+    prod = message_helpers.build_compound(smiles="C1=CC2OC1c1ccccc12", name="oxabenzonorbornadiene")
+    p = out.products.add()
+    p.identifiers.extend(prod.identifiers)
+    m = p.measurements.add()
+    m.type = m.YIELD
+    m.percentage.value = 64.0
+    path = tmp_path / "other.json"
+    ds = dataset_pb2.Dataset(name="x", description="y")
+    ds.reactions.append(rxn)
+    path.write_text(json_format.MessageToJson(ds), encoding="utf-8")
+
+    report = import_path(notebook, path)
+    run = notebook.get_run(report["imported"][0])
+    roles = {ln.name: ln.role for ln in run.lines}
+    assert roles == {"aryne precursor": "precursor", "furan": "trap", "CsF": "fluoride source", "MeCN": "solvent",
+                     "oxabenzonorbornadiene": "product"}
+    assert run.line("CsF").mass.to("mg").magnitude == pytest.approx(228.0)
+    assert run.line("MeCN").volume.to("mL").magnitude == pytest.approx(5.0)
+    # Source: 353.15 K = 80 °C (definition of the Celsius scale)
+    assert run.steps[-1].temperature.to("degC").magnitude == pytest.approx(80.0, abs=1e-3)
+    assert run.steps[-1].hold.to("min").magnitude == pytest.approx(120.0)
+    # what did not map is reported, not dropped silently
+    assert any("64 % yield" in n for n in report["notes"])
+    # equiv from the ORD amounts: 5 mmol furan on 0.5 mmol limiting is 10 equiv
+    assert amounts.compute(run).line("furan").equiv == pytest.approx(10.0)
+
+
+@pytest.mark.parametrize("payload,name", [
+    (b"\x00\x01garbage\xff", "bad.pb"),
+    (b"reactions { inputs { key: 1 } }", "bad.pbtxt"),
+    (b'{"reactions": [{"inputs": 5}]}', "bad.json"),
+    (b"", "empty.pb"),
+])
+def test_malformed_ord_files_write_nothing(notebook, tmp_path, payload, name):
+    path = tmp_path / name
+    path.write_bytes(payload)
+    before = notebook.count_runs()
+    with pytest.raises(ExchangeError) as exc:
+        import_path(notebook, path)
+    assert exc.value.message and exc.value.hint
+    assert notebook.count_runs() == before
+
+
+def test_bad_reaction_is_named_and_nothing_written(notebook, tmp_path, minimal_run):
+    ds, _ = ordx.build_dataset([load_run(minimal_run), load_run(minimal_run)])
+    # Reaction 2 gets a negative amount, which Trapbook refuses (and names).
+    comp = next(iter(ds.reactions[1].inputs.values())).components[0]
+    comp.amount.moles.value = -1.0
+    comp.features.clear()
+    path = tmp_path / "two.pb"
+    path.write_bytes(ds.SerializeToString())
+    with pytest.raises(ExchangeError) as exc:
+        import_path(notebook, path)
+    assert "reaction 2" in exc.value.message and "amount" in exc.value.message
+    assert notebook.count_runs() == 0
