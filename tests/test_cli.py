@@ -102,7 +102,7 @@ def test_missing_notebook_and_run_are_messages(cli):
 
 def test_demo_no_ui_builds_the_demo(tmp_path):
     runner = CliRunner()
-    res = runner.invoke(main, ["--db", str(tmp_path / "demo.sqlite"), "demo", "--json"])
+    res = runner.invoke(main, ["--db", str(tmp_path / "demo.sqlite"), "demo", "--strain", "none", "--json"])
     assert res.exit_code == 0, res.output
     data = json.loads(res.output)
     assert data["runs"] >= 16 and data["screens"] >= 1

@@ -41,8 +41,12 @@ def load_demo_files(src: Path | None = None):
     return runs, screens
 
 
-def build_demo(path: Path | None = None, src: Path | None = None) -> dict:
-    """A fresh demo notebook at `path` (the per-user demo file by default); replaces an older demo."""
+def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: str | None = None, progress=None) -> dict:
+    """A fresh demo notebook at `path` (the per-user demo file by default); replaces an older demo.
+
+    With `strain_tier`, the strain of each demo intermediate is computed (and cached in
+    the notebook) so that strain cards, checks and the strain map have numbers to show.
+    """
     from .store import Notebook
 
     src = src or demo_lab_dir()
@@ -60,4 +64,22 @@ def build_demo(path: Path | None = None, src: Path | None = None) -> dict:
             for sc in screens:
                 nb.add_screen(sc, author=sc.chemist or "demo", reason="demo lab")
         n_runs, n_screens = nb.count_runs(), len(nb.list_screens())
-    return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src)}
+        computed = _compute_strain(nb, runs, strain_tier, progress) if strain_tier else []
+    return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src), "strain": computed}
+
+
+def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
+    from .strain_link import get_strain
+
+    smiles = sorted({r.intermediate for r in runs if r.intermediate})
+    out = []
+    for i, smi in enumerate(smiles):
+        if progress:
+            progress(f"strain of {smi} ({tier})", i / len(smiles))
+        res = get_strain(nb, smi, tier=tier)
+        out.append({"smiles": smi, "olefin_strain_kcal_mol": res.get("olefin_strain_kcal_mol"),
+                    "stability_class": res.get("stability_class"), "tier": tier})
+    if progress:
+        progress("done", 1.0)
+    nb.reindex()
+    return out

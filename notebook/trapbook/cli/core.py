@@ -417,14 +417,21 @@ def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:
 
 @main.command()
 @click.option("--no-ui", is_flag=True, help="Only build the demo notebook and print a summary.")
-@click.option("--json", "as_json", is_flag=True, help="Print {path, runs, screens} (implies --no-ui).")
+@click.option("--strain", "strain_tier", type=click.Choice(["none", "fast", "accurate"]), default="accurate", show_default=True,
+              help="Compute the strain of the demo intermediates (accurate: GFN2-xTB, about 15 s).")
+@click.option("--json", "as_json", is_flag=True, help="Print {path, runs, screens, source, strain: [...]} (implies --no-ui).")
 @pass_ctx
 @guarded
-def demo(ctx: Ctx, no_ui: bool, as_json: bool) -> None:
+def demo(ctx: Ctx, no_ui: bool, strain_tier: str, as_json: bool) -> None:
     """Build the demo lab's notebook (in the per-user data directory) and open it."""
     from ..demo import build_demo
 
-    summary = build_demo(Path(ctx.db).expanduser() if ctx.db else None)
+    def progress(stage: str, fraction: float) -> None:
+        if not as_json:
+            click.echo(f"  {fraction * 100:3.0f}%  {stage}", err=True)
+
+    summary = build_demo(Path(ctx.db).expanduser() if ctx.db else None,
+                         strain_tier=None if strain_tier == "none" else strain_tier, progress=progress)
     if as_json:
         emit_json(summary)
         return

@@ -452,8 +452,12 @@ def build_dataset(runs: list[Run], screen=None, email: str | None = None, name: 
         ds.description = f"{len(runs)} run(s) exported from a Trapbook notebook"
         ds.dataset_id = ord_dataset_id("runs:" + ",".join(sorted(r.id or r.title for r in runs)))
     notes: list[str] = []
-    for run in runs:
+    seen: set[str] = set()
+    for i, run in enumerate(runs, 1):
         rxn, rnotes = run_to_reaction(run, email=email)
+        if rxn.reaction_id in seen:  # unsaved runs with the same title
+            rxn.reaction_id = ord_reaction_id(f"{run.id or run.title}#{i}")
+        seen.add(rxn.reaction_id)
         notes += [f"{run.id or run.title}: {n}" for n in rnotes]
         ds.reactions.append(rxn)
     errors, warnings = validate(ds)

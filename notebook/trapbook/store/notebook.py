@@ -397,6 +397,14 @@ class Notebook:
     def cached_strain_for(self, smiles: str) -> list[dict]:
         return [json.loads(r[0]) for r in self.conn.execute("SELECT result FROM strain_cache WHERE smiles = ?", (smiles,))]
 
+    def reindex(self, run_ids: Iterable[str] | None = None) -> int:
+        """Rebuild the summary rows (e.g. after strain results arrive, which change the checks)."""
+        ids = list(run_ids) if run_ids is not None else self.run_ids()
+        with self.transaction():
+            for rid in ids:
+                run_index.index_run(self, self.get_run(rid))
+        return len(ids)
+
     # --- bulk ----------------------------------------------------------------------
     def import_runs(self, runs: Iterable[Run], author: str | None = None, reason: str = "imported", keep_ids: bool = True) -> list[SaveResult]:
         """All or nothing: either every run is stored or none is."""

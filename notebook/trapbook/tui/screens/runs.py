@@ -34,7 +34,7 @@ COLUMNS = (
     ("yield_pct", "Yield", 6),
     ("worst", "Worst finding", 14),
 )
-WIDTH = {key: width - 1 for key, width, in ((k, w) for k, _, w in COLUMNS)}
+WIDTH = {key: width - 1 for key, _, width in COLUMNS}
 TEXT_KEYS = ("id", "title", "chemist", "intermediate", "trap", "fluoride", "solvent", "worst", "screen")
 PREFIXES = {"trap": ("trap",), "chemist": ("chemist",), "finding": ("worst",), "fluoride": ("fluoride",),
             "solvent": ("solvent",), "screen": ("screen",)}
