@@ -199,6 +199,16 @@ def test_malformed_ord_files_write_nothing(notebook, tmp_path, payload, name):
     assert notebook.count_runs() == before
 
 
+def test_deeply_nested_metadata_is_reported_not_raised(notebook, tmp_path, minimal_run):
+    rxn, _ = ordx.run_to_reaction(load_run(minimal_run))
+    rxn.provenance.reaction_metadata["trapbook_steps"].string_value = "[" * 100_000
+    rxn.provenance.reaction_metadata["tags"].string_value = "[" * 100_000
+    path = tmp_path / "deep.pb"
+    path.write_bytes(rxn.SerializeToString())
+    report = import_path(notebook, path)
+    assert any("not readable JSON" in n for n in report["notes"])
+
+
 def test_bad_reaction_is_named_and_nothing_written(notebook, tmp_path, minimal_run):
     ds, _ = ordx.build_dataset([load_run(minimal_run), load_run(minimal_run)])
     # Reaction 2 gets a negative amount, which Trapbook refuses (and names).
@@ -211,3 +221,14 @@ def test_bad_reaction_is_named_and_nothing_written(notebook, tmp_path, minimal_r
         import_path(notebook, path)
     assert "reaction 2" in exc.value.message and "amount" in exc.value.message
     assert notebook.count_runs() == 0
+
+
+@pytest.mark.parametrize("suffix", [".pb", ".pbtxt", ".json"])
+def test_a_lone_reaction_file_imports(notebook, tmp_path, minimal_run, suffix):
+    rxn, _ = ordx.run_to_reaction(load_run(dict(minimal_run, id="TB-0077")))
+    path = tmp_path / f"one{suffix}"
+    payload = ordx.serialise(rxn, path)
+    path.write_bytes(payload) if isinstance(payload, bytes) else path.write_text(payload, encoding="utf-8")
+    report = import_path(notebook, path)
+    assert report["imported"] == ["TB-0077"]
+    assert notebook.get_run("TB-0077").title == minimal_run["title"]

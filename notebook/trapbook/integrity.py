@@ -117,7 +117,7 @@ def _verify_runs(conn, rep: Report, version_hash) -> None:
                 run = Run.model_validate(json.loads(data))
                 if canonical_json(run.to_json_dict()) != data:
                     rep.add("not-canonical", where, "JSON is not in the form Trapbook writes")
-            except (ValueError, TypeError, TrapbookError) as exc:
+            except (ValueError, TypeError, RecursionError, TrapbookError) as exc:
                 rep.add("bad-record", where, f"not a readable run record ({str(exc).splitlines()[0][:120]})")
             prev = h
         last = versions[-1]
@@ -136,7 +136,7 @@ def _verify_runs(conn, rep: Report, version_hash) -> None:
                 d = json.loads(cdata)
                 if d.get("title") != title or d.get("status", "done") != status or d.get("screen") != screen:
                     rep.add("current-mismatch", run_id, "title, status or screen column differs from the run's data")
-            except ValueError:
+            except (ValueError, RecursionError):
                 pass
     for run_id in current:
         if run_id not in by_run:
@@ -167,7 +167,7 @@ def _verify_files(nb, rep: Report) -> None:
     for run_id, version, data in nb.conn.execute("SELECT run_id, version, data FROM versions ORDER BY run_id, version"):
         try:
             atts = json.loads(data).get("attachments") or []
-        except (ValueError, AttributeError):
+        except (ValueError, AttributeError, RecursionError):
             continue
         for a in atts:
             if isinstance(a, dict) and isinstance(a.get("sha256"), str):

@@ -28,7 +28,7 @@ import re
 from dataclasses import dataclass, field
 
 from .errors import RecordError, TrapbookError
-from .records import Line, Run, Screen, load_run
+from .records import Run, Screen, load_run
 
 # --- what the planner knows ------------------------------------------------------------------
 
@@ -544,7 +544,8 @@ def totals(plan: PlannedScreen) -> list[dict]:
         for row in pr.amounts.lines:
             if row.role == "product":
                 continue
-            d = acc.setdefault(row.name, {"line": row.name, "role": row.role, "vials": 0, "mass_mg": 0.0, "volume_ul": 0.0, "mmol": 0.0})
+            d = acc.setdefault(row.name, {"line": row.name, "role": row.role, "form": row.form, "vials": 0,
+                                          "mass_mg": 0.0, "volume_ul": 0.0, "mmol": 0.0})
             d["vials"] += 1
             d["mass_mg"] += row.mass_mg or 0.0
             d["volume_ul"] += row.volume_ul or 0.0
@@ -560,9 +561,18 @@ _SAFETY = (
 )
 
 
-def bench_sheet_text(plan: PlannedScreen) -> str:
+def _total_text(t: dict) -> str:
+    """A liquid's total as a volume, a solid's as a mass."""
     from .units import fmt_mg, fmt_ul
 
+    if t["form"] in ("neat liquid", "solution", "solvent") and t["volume_ul"]:
+        return f"{fmt_ul(t['volume_ul'])} µL"
+    if t["mass_mg"]:
+        return f"{fmt_mg(t['mass_mg'])} mg"
+    return f"{fmt_ul(t['volume_ul'])} µL" if t["volume_ul"] else "—"
+
+
+def bench_sheet_text(plan: PlannedScreen) -> str:
     lines = [f"BENCH SHEET — {plan.screen.name}" + (f" ({plan.screen_id})" if plan.screen_id else "")]
     lines.append(f"varied: " + "; ".join(f"{k}: {', '.join(v)}" for k, v in plan.screen.factors.items()))
     if plan.screen.scale:
@@ -572,7 +582,7 @@ def bench_sheet_text(plan: PlannedScreen) -> str:
     lines.append("")
     lines.append("have at hand (sum over vials, add your own excess):")
     for t in totals(plan):
-        amt = f"{fmt_mg(t['mass_mg'])} mg" if t["mass_mg"] else (f"{fmt_ul(t['volume_ul'])} µL" if t["volume_ul"] else "—")
+        amt = _total_text(t)
         lines.append(f"  {t['line'][:40]:40} {t['role']:17} {amt:>12}  in {t['vials']} vial(s)")
     for i, pr in enumerate(plan.runs):
         rid = plan.run_ids[i] if i < len(plan.run_ids) else ""
@@ -596,8 +606,6 @@ def bench_sheet_text(plan: PlannedScreen) -> str:
 
 def bench_sheet_html(plan: PlannedScreen) -> str:
     """A printable page: one block per vial with check boxes, in the order of addition."""
-    from .units import fmt_mg, fmt_ul
-
     e = html.escape
     out = ["<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
            f"<title>Bench sheet — {e(plan.screen.name)}</title>",
@@ -614,7 +622,7 @@ def bench_sheet_html(plan: PlannedScreen) -> str:
     out.append(f"<p class='safety'>{e(_SAFETY)}</p>")
     out.append("<h2>Have at hand</h2><table><tr><th>material</th><th>role</th><th>total</th><th>vials</th></tr>")
     for t in totals(plan):
-        amt = f"{fmt_mg(t['mass_mg'])} mg" if t["mass_mg"] else (f"{fmt_ul(t['volume_ul'])} µL" if t["volume_ul"] else "—")
+        amt = _total_text(t)
         out.append(f"<tr><td>{e(t['line'])}</td><td>{e(t['role'])}</td><td class='n'>{e(amt)}</td><td class='n'>{t['vials']}</td></tr>")
     out.append("</table>")
     for i, pr in enumerate(plan.runs):

@@ -407,6 +407,8 @@ def load_run_text(text: str, source: str = "run file") -> Run:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise RecordError(f"{source} is not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", "fix the JSON syntax") from None
+    except RecursionError:
+        raise RecordError(f"{source} is nested too deeply to be a run file", "check the file is a Trapbook run (JSON)") from None
     return load_run(data)
 
 

@@ -120,12 +120,12 @@ def substructure_ids(nb, query_text: str, screen: bool = True) -> tuple[dict[int
         candidates = ids[keep].tolist()
     else:
         candidates = ids.tolist()
-    found: dict[int, float] = {}
+    pairs: list[tuple[int, str]] = []
     for chunk in _chunks(candidates):
         marks = ",".join("?" * len(chunk))
-        for sid, blob in nb.conn.execute(f"SELECT id, mol FROM structures WHERE id IN ({marks})", chunk):
-            if fingerprints.matches(fingerprints.mol_from_binary(blob), query):
-                found[sid] = 1.0
+        pairs += nb.conn.execute(f"SELECT id, smiles FROM structures WHERE id IN ({marks})", chunk).fetchall()
+    hits = fingerprints.matching_indices([p[1] for p in pairs], query)
+    found: dict[int, float] = {pairs[i][0]: 1.0 for i in hits}
     stats = {"structures": len(ids), "screened_in": len(candidates), "matched": len(found)}
     return found, stats
 
@@ -372,15 +372,41 @@ def search(
         args.append(finding.strip())
     tag_list = [t.strip() for t in (tags.split(",") if isinstance(tags, str) else (tags or [])) if t and t.strip()]
 
-    sql = (
-        "SELECT r.id, r.title, r.data, i.trap, i.fluoride, i.solvent, i.temp_max_c, i.time_min, i.yield_pct, i.yield_kind, i.findings "
-        "FROM runs r LEFT JOIN run_index i ON i.run_id = r.id"
-        + (" WHERE " + " AND ".join(where) if where else "")
-    )
+    # Structure and text filters first: they give small run sets, so the condition query
+    # below reads only those rows instead of every run of the notebook.
+    found_sets: list[tuple[dict[str, tuple[float, list[str]]], bool]] = []
+    if substructure:
+        ids, _ = substructure_ids(nb, substructure)
+        found_sets.append((_runs_of(nb, ids, "substructure"), False))
+    if inchikey:
+        found_sets.append((_runs_of(nb, inchikey_ids(nb, inchikey), "inchikey"), False))
+    if similar:
+        found_sets.append((_runs_of(nb, similar_ids(nb, similar, float(min_similarity)), "similarity"), True))
+    if text:
+        found_sets.append(({rid: (rel, [f"text: {snip}"]) for rid, (rel, snip) in text_ids(nb, text).items()}, not similar))
+    restrict: set[str] | None = None
+    for found, _ in found_sets:
+        restrict = set(found) if restrict is None else restrict & set(found)
+
     need_data = bool(tag_list)
-    if not need_data:
-        sql = sql.replace("r.data", "NULL", 1)
-    rows = {row[0]: row for row in nb.conn.execute(sql, args)}
+    sql = (
+        "SELECT r.id, r.title, " + ("r.data" if need_data else "NULL") + ", i.trap, i.fluoride, i.solvent, i.temp_max_c, "
+        "i.time_min, i.yield_pct, i.yield_kind, i.findings "
+    )
+    if any("i." in w for w in where):
+        # Summary-row filters: run_index drives the scan (small rows, tested first); survivors look up their run.
+        sql += "FROM run_index i CROSS JOIN runs r ON r.id = i.run_id"
+    else:
+        sql += "FROM runs r LEFT JOIN run_index i ON i.run_id = r.id"
+    rows: dict[str, tuple] = {}
+    if restrict is None:
+        full = sql + (" WHERE " + " AND ".join(where) if where else "")
+        rows = {row[0]: row for row in nb.conn.execute(full, args)}
+    else:
+        for chunk in _chunks(sorted(restrict), _CHUNK - len(args)):
+            cond = where + [f"r.id IN ({','.join('?' * len(chunk))})"]
+            for row in nb.conn.execute(sql + " WHERE " + " AND ".join(cond), args + chunk):
+                rows[row[0]] = row
 
     if tag_list:
         import json
@@ -407,27 +433,12 @@ def search(
             words.append(f"finding: {finding.strip()}")
         if tag_list:
             words.append("tags: " + ", ".join(tag_list))
-
-    def narrow(found: dict[str, tuple[float, list[str]]], replace_score: bool) -> None:
-        for rid in list(scores):
-            if rid not in found:
-                del scores[rid]
-                continue
+    for found, replace_score in found_sets:
+        for rid in scores:
             s, words = found[rid]
             if replace_score:
                 scores[rid] = s
             matched[rid].extend(words)
-
-    if substructure:
-        ids, _ = substructure_ids(nb, substructure)
-        narrow(_runs_of(nb, ids, "substructure"), False)
-    if inchikey:
-        narrow(_runs_of(nb, inchikey_ids(nb, inchikey), "inchikey"), False)
-    if similar:
-        narrow(_runs_of(nb, similar_ids(nb, similar, float(min_similarity)), "similarity"), True)
-    if text:
-        found = {rid: (rel, [f"text: {snip}"]) for rid, (rel, snip) in text_ids(nb, text).items()}
-        narrow(found, not similar)
 
     hits = [Hit(rid, rows[rid][1], scores[rid], matched.get(rid, [])) for rid in scores]
     hits.sort(key=lambda h: (-h.score, h.run_id))

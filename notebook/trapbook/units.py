@@ -18,7 +18,15 @@ from pydantic import BeforeValidator, PlainSerializer, WithJsonSchema
 
 from .errors import UnitError
 
-ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+def _registry() -> pint.UnitRegistry:
+    """The registry, from pint's on-disk definition cache when it can be used (start-up speed)."""
+    try:
+        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True, cache_folder=":auto:")
+    except Exception:  # an unwritable cache folder must not stop the program
+        return pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+
+
+ureg = _registry()
 ureg.define("equiv = [] = eq = equivalent = equivalents = equiv.")
 ureg.define("weight_percent = 0.01")
 Q_ = ureg.Quantity

@@ -117,3 +117,26 @@ def screen_passes(query_bits: bytes, mol_bits: bytes) -> bool:
 
 def matches(mol: Chem.Mol, query: Chem.Mol) -> bool:
     return mol.HasSubstructMatch(query, useChirality=False)
+
+
+def matching_indices(smiles: list[str], query: Chem.Mol, threads: int = 0) -> list[int]:
+    """Positions of the molecules (canonical SMILES written by RDKit) that contain the query.
+
+    RDKit's substructure library does the parsing and matching in C++ on several threads
+    (0 = all cores), which is what keeps a broad query over thousands of screened-in
+    molecules within a fraction of a second.
+    """
+    from rdkit.Chem import rdSubstructLibrary
+
+    if not smiles:
+        return []
+    holder = rdSubstructLibrary.CachedTrustedSmilesMolHolder()
+    for s in smiles:
+        holder.AddSmiles(s)
+    lib = rdSubstructLibrary.SubstructLibrary(holder)
+    try:
+        hits = lib.GetMatches(query, recursionPossible=True, useChirality=False, useQueryQueryMatches=False,
+                              numThreads=threads or -1, maxResults=len(smiles))
+    except Exception as exc:  # RDKit raises assorted types on exotic queries
+        raise ChemistryError(f"the substructure match failed ({exc})", "simplify the SMARTS") from None
+    return sorted(hits)

@@ -18,7 +18,6 @@ import datetime as _dt
 import hashlib
 import json
 import os
-import shutil
 import stat
 import tempfile
 import zipfile
@@ -244,8 +243,8 @@ def _load_json(path: Path, eid: str) -> Any:
         raise ExchangeError(f"the crate lists {eid} but the file is not in it", "nothing was imported")
     try:
         return json.loads(path.read_text(encoding="utf-8"))
-    except (ValueError, UnicodeDecodeError, OSError) as exc:
-        raise ExchangeError(f"{eid} is not valid JSON ({exc})", "nothing was imported") from None
+    except (ValueError, UnicodeDecodeError, OSError, RecursionError) as exc:
+        raise ExchangeError(f"{eid} is not valid JSON ({str(exc)[:120]})", "nothing was imported") from None
 
 
 def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], list[str]]:

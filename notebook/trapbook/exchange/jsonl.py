@@ -57,6 +57,8 @@ def parse_jsonl(text: str, source: str) -> list[Run]:
             data = json.loads(raw)
         except json.JSONDecodeError as exc:
             raise ExchangeError(f"{source} line {n} is not valid JSON ({exc.msg})", "fix that line; nothing was imported") from None
+        except RecursionError:
+            raise ExchangeError(f"{source} line {n} is nested too deeply to be a run", "fix that line; nothing was imported") from None
         try:
             runs.append(load_run(data))
         except RecordError as exc:
@@ -77,6 +79,10 @@ def read_runs(path: Path) -> list[Run]:
             items = json.loads(text)
         except json.JSONDecodeError as exc:
             raise ExchangeError(f"{path} is not valid JSON ({exc.msg}, line {exc.lineno})", "fix the file; nothing was imported") from None
+        except RecursionError:
+            raise ExchangeError(f"{path} is nested too deeply to hold runs", "fix the file; nothing was imported") from None
+        if not isinstance(items, list):
+            raise ExchangeError(f"{path} is not a list of runs", "fix the file; nothing was imported")
         out = []
         for i, item in enumerate(items, 1):
             try:
@@ -87,7 +93,7 @@ def read_runs(path: Path) -> list[Run]:
     if stripped.startswith("{") and "\n{" not in stripped.strip():
         try:
             return [load_run(json.loads(text))]
-        except json.JSONDecodeError:
+        except (json.JSONDecodeError, RecursionError):
             pass
         except RecordError as exc:
             raise ExchangeError(f"{path}: {exc.message}", "fix the record; nothing was imported") from None

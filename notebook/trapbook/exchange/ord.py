@@ -185,32 +185,8 @@ def _safety_notes(run: Run) -> list[str]:
     return cautions
 
 
-def run_to_reaction(run: Run, email: str | None = None, record_time: str | None = None):
-    """One run as an ORD Reaction, plus notes on what could not be expressed."""
-    from .. import amounts
-
-    r, _ = _pb()
-    notes: list[str] = []
-    rxn = r.Reaction()
-    rxn.reaction_id = ord_reaction_id(run.id or run.title)
-    if run.id:
-        ident = rxn.identifiers.add()
-        ident.type = ident.CUSTOM
-        ident.details = _RUN_ID_DETAILS
-        ident.value = run.id
-    ident = rxn.identifiers.add()
-    ident.type = ident.CUSTOM
-    ident.details = _TITLE_DETAILS
-    ident.value = run.title
-
-    try:
-        table = amounts.compute(run)
-        limiting_name = table.limiting
-    except TrapbookError as exc:
-        table, limiting_name = None, run.limiting
-        notes.append(f"amounts could not be computed ({exc.message}); equiv lines are written without mmol")
-
-    # Inputs: one per step that adds something, in order; lines never added get their own input.
+def _add_inputs(rxn, run: Run, table, limiting_name: str | None, notes: list[str]) -> None:
+    """Inputs in addition order (one per step that adds something; lines never added get their own)."""
     added: set[str] = set()
     order = 0
     for i, step in enumerate(run.steps, 1):
@@ -254,7 +230,9 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
             notes.append(note)
         wk.input.components.append(comp)
 
-    # Conditions.
+
+def _add_conditions(rxn, run: Run) -> None:
+    """Main temperature, sealed vessel, atmosphere; every step in words, since ORD has one setpoint."""
     temps = [to_canonical(s.temperature, "temperature") for s in run.steps if s.temperature is not None]
     cond = rxn.conditions
     if temps:
@@ -276,14 +254,12 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
         cond.conditions_are_dynamic = True
         cond.details = "; ".join(_step_words(i, s) for i, s in enumerate(run.steps, 1))
 
-    # Notes, with the cautions that apply.
-    safety = _safety_notes(run)
-    if safety:
-        rxn.notes.safety_notes = " ".join(safety)
-    if run.notes:
-        rxn.notes.procedure_details = run.notes
 
-    # Outcome.
+def _add_outcome(rxn, run: Run, table, notes: list[str]) -> None:
+    """Products with isolated mass, isolated and NMR yields (with their integrals) and selectivities."""
+    from .. import amounts
+
+    r, _ = _pb()
     out = rxn.outcomes.add()
     hold = sum(to_canonical(s.hold, "duration") for s in run.steps if s.hold is not None)
     if hold > 0:
@@ -353,10 +329,7 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
             elif not run.lines_by_role("internal standard"):
                 notes.append(f"product '{line.name}': qNMR integrals kept, but without an internal standard line no NMR yield")
         for kind, text in (("DR", res.dr), ("ER", res.er)):
-            if text:
-                from ..records import parse_ratio
-
-                a, b = parse_ratio(text)
+            if text:  # written as recorded (major:minor); the record has checked it parses
                 m = prod.measurements.add()
                 m.type = m.SELECTIVITY
                 m.selectivity.type = m.selectivity.SelectivityType.Value(kind)
@@ -399,7 +372,9 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
         m.amount.mass.value = to_canonical(run.outcome.recovered_precursor, "mass")
         m.amount.mass.units = m.amount.mass.MILLIGRAM
 
-    # Provenance: ORD asks for a record time and an e-mail of whoever made the record.
+
+def _add_provenance(rxn, run: Run, email: str | None, record_time: str | None) -> None:
+    """Who and when (ORD asks for an e-mail); Trapbook fields ORD has no place for go in reaction_metadata."""
     prov = rxn.provenance
     mail = email or _DEFAULT_EMAIL
     if run.chemist:
@@ -426,6 +401,45 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
     }.items() if v}
     for k, v in meta.items():
         prov.reaction_metadata[k].CopyFrom(_data(v))
+
+
+def run_to_reaction(run: Run, email: str | None = None, record_time: str | None = None):
+    """One run as an ORD Reaction, plus notes on what could not be expressed."""
+    from .. import amounts
+
+    r, _ = _pb()
+    notes: list[str] = []
+    rxn = r.Reaction()
+    rxn.reaction_id = ord_reaction_id(run.id or run.title)
+    if run.id:
+        ident = rxn.identifiers.add()
+        ident.type = ident.CUSTOM
+        ident.details = _RUN_ID_DETAILS
+        ident.value = run.id
+    ident = rxn.identifiers.add()
+    ident.type = ident.CUSTOM
+    ident.details = _TITLE_DETAILS
+    ident.value = run.title
+
+    try:
+        table = amounts.compute(run)
+        limiting_name = table.limiting
+    except TrapbookError as exc:
+        table, limiting_name = None, run.limiting
+        notes.append(f"amounts could not be computed ({exc.message}); equiv lines are written without mmol")
+
+    _add_inputs(rxn, run, table, limiting_name, notes)
+    _add_conditions(rxn, run)
+
+    # Notes, with the cautions that apply.
+    safety = _safety_notes(run)
+    if safety:
+        rxn.notes.safety_notes = " ".join(safety)
+    if run.notes:
+        rxn.notes.procedure_details = run.notes
+
+    _add_outcome(rxn, run, table, notes)
+    _add_provenance(rxn, run, email, record_time)
     return rxn, notes
 
 
@@ -554,6 +568,10 @@ def parse_bytes(raw: bytes, name: str):
                 if not msg.reactions:
                     errors.append("Dataset: holds no reactions")
                     continue
+                if kind == "binary" and not any(rx.inputs or rx.outcomes for rx in msg.reactions):
+                    # binary carries no type: a lone Reaction can also parse as a (meaningless) Dataset
+                    errors.append("Dataset: its reactions have no inputs or outcomes")
+                    continue
                 return msg
             ds = d.Dataset()
             ds.reactions.append(msg)
@@ -623,7 +641,7 @@ def _trapbook_steps(meta: dict, lines: list[dict], where: str, notes: list[str])
         return None
     try:
         steps = json.loads(raw)
-    except ValueError:
+    except (ValueError, RecursionError):
         notes.append(f"{where}: the Trapbook step list is not readable JSON; steps rebuilt from the ORD fields")
         return None
     names = {ln["name"].casefold() for ln in lines}
@@ -642,7 +660,7 @@ def _in_order(lines: list[dict], meta: dict) -> list[dict]:
     raw = meta.get("trapbook_line_order")
     try:
         order = json.loads(raw) if isinstance(raw, str) else None
-    except ValueError:
+    except (ValueError, RecursionError):
         order = None
     if not isinstance(order, list):
         return lines
@@ -774,7 +792,7 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
         if isinstance(meta.get(key), str):
             try:
                 data[key] = json.loads(meta[key])
-            except ValueError:
+            except (ValueError, RecursionError):
                 notes.append(f"{where}: metadata '{key}' is not readable JSON; not kept")
     extra = [k for k in meta if k not in ("page", "screen", "status", "intermediate", "intermediate_name", "limiting",
                                           "tags", "factors", "attachments", "trapbook_steps", "trapbook_line_order")]
@@ -950,7 +968,7 @@ def runs_from_dataset(ds, source: str) -> tuple[list[Run], list[str]]:
             data, rnotes = reaction_to_run(rxn, where)
         except TrapbookError:
             raise
-        except (ValueError, TypeError, KeyError, IndexError, AttributeError) as exc:
+        except (ValueError, TypeError, KeyError, IndexError, AttributeError, RecursionError) as exc:
             raise ExchangeError(f"{source} {where} cannot be read ({exc})", "nothing was imported") from None
         if not data["lines"]:
             raise ExchangeError(f"{source} {where}: has no input components, so no run lines", "nothing was imported")

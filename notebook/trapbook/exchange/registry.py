@@ -119,9 +119,10 @@ def format_of(path: Path) -> str | None:
                 head = fh.read(4096).decode("utf-8", "replace")
         except OSError:
             return None
-        # An ORD message in JSON form starts with its own field names.
+        # An ORD message in JSON form carries its own field names; a run file has "lines".
         stripped = head.lstrip()
-        if stripped.startswith("{") and any(k in head[:400] for k in ('"reactions"', '"inputs"', '"datasetId"', '"dataset_id"')):
+        ord_keys = ('"reactions"', '"inputs"', '"outcomes"', '"reactionId"', '"datasetId"', '"dataset_id"')
+        if stripped.startswith("{") and any(k in head for k in ord_keys) and '"lines"' not in head:
             return "ord"
     for fmt, ep in plugin_formats().items():
         try:

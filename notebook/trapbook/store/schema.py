@@ -142,10 +142,16 @@ def _v2_search(conn: sqlite3.Connection) -> None:
     )
 
 
+def _v3_search_index(conn: sqlite3.Connection) -> None:
+    """A covering index, so condition searches scan small index rows, never the run records."""
+    conn.execute("CREATE INDEX IF NOT EXISTS idx_runs_search ON runs(withdrawn, id, title, chemist, date, screen)")
+
+
 #: (version, description, function). Append, never edit: a notebook records each one applied.
 MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
     (1, "runs, versions, screens, index, strain cache, settings", _v1),
     (2, "search: structures with fingerprints, run structures, full-text table", _v2_search),
+    (3, "search: covering index of runs for condition queries", _v3_search_index),
 ]
 
 

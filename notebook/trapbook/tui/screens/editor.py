@@ -24,6 +24,7 @@ from pydantic import ValidationError
 
 from ...errors import RecordError, StaleVersionError, TrapbookError
 from .. import forms
+from ..rundata import clean, form_data, plan_from
 from ..text import clip, qtext
 from ..widgets.field import Field
 from ..widgets.findings import ChecksPanel
@@ -78,60 +79,6 @@ QNMR_KEYS = ("standard_integral", "standard_protons", "integral", "protons")
 LINE_COLUMNS = (("#", 3), ("role", 10), ("name", 19), ("given", 7), ("equiv", 6), ("mmol", 7), ("mg", 7), ("µL", 6), ("g/mol", 7))
 STEP_COLUMNS = (("#", 3), ("adds", 27), ("T", 9), ("hold", 7), ("over", 7), ("seal", 5), ("enters", 12))
 ROLE_SHORT = {"fluoride source": "fluoride", "internal standard": "int. std"}
-
-
-# --- form data <-> stored data -------------------------------------------------------------
-
-
-def form_data(stored: dict) -> dict:
-    """A stored run dict with every quantity turned into the text a field shows."""
-    data = copy.deepcopy(stored)
-    for line in data.get("lines", []):
-        for k, v in list(line.items()):
-            if isinstance(v, dict):
-                line[k] = qtext(v)
-    for step in data.get("steps", []):
-        for k, v in list(step.items()):
-            if isinstance(v, dict):
-                step[k] = qtext(v)
-    out = data.get("outcome") or {}
-    if isinstance(out.get("recovered_precursor"), dict):
-        out["recovered_precursor"] = qtext(out["recovered_precursor"])
-    for p in out.get("products", []):
-        if isinstance(p.get("isolated_mass"), dict):
-            p["isolated_mass"] = qtext(p["isolated_mass"])
-        q = p.get("qnmr") or {}
-        if isinstance(q.get("standard_amount"), dict):
-            q["standard_amount"] = qtext(q["standard_amount"])
-    return data
-
-
-def clean(value):
-    """Drop empty text and empty optional containers, so load_run sees only what was given."""
-    if isinstance(value, dict):
-        out = {}
-        for k, v in value.items():
-            v = clean(v)
-            if v is None or v == "" or (v == [] and k != "lines") or (v == {} and k != "factors"):
-                continue
-            out[k] = v
-        return out
-    if isinstance(value, list):
-        return [clean(v) for v in value]
-    if isinstance(value, str):
-        return value.strip()
-    return value
-
-
-def plan_from(stored: dict) -> dict:
-    """An earlier run as the plan of a new one: same lines and steps, no id or outcome."""
-    data = copy.deepcopy(stored)
-    for key in ("id", "outcome", "attachments", "page"):
-        data.pop(key, None)
-    data["status"] = "planned"
-    data["date"] = _dt.date.today().isoformat()
-    data["title"] = f"Plan from {stored.get('id', 'earlier run')}: {stored.get('title', '')}"[:300]
-    return data
 
 
 def _pydantic_words(exc: ValidationError) -> str:
@@ -238,6 +185,16 @@ class WorkbenchScreen(Screen):
     def nb(self):
         return self.app.nb
 
+    def put(self, selector: str, content, key=None, layout: bool = True) -> None:
+        """Update a Static only when what it shows changed (each repaint costs a layout)."""
+        if key is None:
+            key = content.markup if isinstance(content, Text) else content
+        shown = self.__dict__.setdefault("_shown", {})
+        if shown.get(selector) == key:
+            return
+        shown[selector] = key
+        self.query_one(selector, Static).update(content, layout=layout)
+
     @property
     def draft_key(self) -> str:
         return f"draft:{self.run_id}" if self.run_id else NEW_DRAFT
@@ -336,14 +293,23 @@ class WorkbenchScreen(Screen):
         self.refresh_lines()
         self.refresh_steps()
         self.refresh_yields()
-        self.query_one("#track", AdditionTrack).show(self.run, self.findings if self.run else None)
-        checks = self.query_one("#checks", ChecksPanel)
-        if self.run is None:
-            checks.show([], "run not complete: " + (self.problem or ""))
+        from ..widgets.findings import findings_text
+        from ..widgets.strain_card import card
+        from ..widgets.timeline import track
+
+        findings = self.findings if self.run else None
+        if self.run is not None:
+            self.put("#track", track(self.run, findings))
         else:
-            checks.show(self.findings, table_problem)
+            self.put("#track", Text("the run is not complete yet", style="italic #8fa3b8"))
+        if self.run is None:
+            self.put("#checks", findings_text([], "run not complete: " + (self.problem or "")))
+        else:
+            self.put("#checks", findings_text(findings, table_problem))
         smiles = self.intermediate_smiles()
-        self.query_one("#strain", StrainCard).show(smiles, self.strain, self.alignment, self.strain_note)
+        self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note),
+                 key=(smiles, json.dumps(self.strain, sort_keys=True, default=str),
+                      json.dumps(self.alignment, sort_keys=True, default=str), self.strain_note))
         self.refresh_status()
 
     def _findings(self):
@@ -363,7 +329,7 @@ class WorkbenchScreen(Screen):
             text.append("cannot be saved yet: " + self.problem.replace("\n", " "), style="#ff6f59")
         else:
             text.append("complete: ctrl+s saves", style="#9be564")
-        self.query_one("#status", Static).update(text)
+        self.put("#status", text, layout=False)
 
     def keep_draft(self) -> None:
         self._draft_timer = None
@@ -474,12 +440,15 @@ class WorkbenchScreen(Screen):
         from ...units import fmt_mg, fmt_mmol, fmt_ul
 
         line, why = self.line_form()
-        msg = self.query_one("#line-msg", Static)
+
+        def say(text: Text) -> None:
+            self.put("#line-msg", text, layout=False)
+
         if line is None:
-            msg.update(Text(why or "", style="#ff6f59"))
+            say(Text(why or "", style="#ff6f59"))
             return
         if line["role"] == "product":
-            msg.update(Text("Enter keeps this line", style="#8fa3b8"))
+            say(Text("Enter keeps this line", style="#8fa3b8"))
             return
         try:
             table = amounts.compute(self.build(self.with_line(line)))
@@ -488,14 +457,14 @@ class WorkbenchScreen(Screen):
                     f"{row.equiv:.3g} equiv" if row.equiv is not None else None,
                     f"{fmt_mg(row.mass_mg)} mg" if row.mass_mg is not None else None,
                     f"{fmt_ul(row.volume_ul)} µL" if row.volume_ul is not None else None]
-            msg.update(Text("→ " + " · ".join(b for b in bits if b) + "   (Enter keeps this line)", style="#9be564"))
+            say(Text("→ " + " · ".join(b for b in bits if b) + "   (Enter keeps this line)", style="#9be564"))
         except TrapbookError as exc:
-            msg.update(Text(f"valid line; amounts not yet worked out: {exc.message}   (Enter keeps it)", style="#f2c14e"))
+            say(Text(f"valid line; amounts not yet worked out: {exc.message}   (Enter keeps it)", style="#f2c14e"))
 
     def commit_line(self) -> None:
         line, why = self.line_form()
         if line is None:
-            self.query_one("#line-msg", Static).update(Text(why or "the form is empty", style="#ff6f59"))
+            self.put("#line-msg", Text(why or "the form is empty", style="#ff6f59"), layout=False)
             return
         self.data = self.with_line(line)
         self.blank_line()
@@ -508,8 +477,8 @@ class WorkbenchScreen(Screen):
         for k, *_ in LINE_FIELDS:
             self.query_one(f"#line-{k}", Input).value = ""
         self._loading = False
-        self.query_one("#line-head", Static).update(Text("New line — Enter keeps it; pick a row above to change one", style="#8fa3b8"))
-        self.query_one("#line-msg", Static).update("")
+        self.put("#line-head", Text("New line — Enter keeps it; pick a row above to change one", style="#8fa3b8"), layout=False)
+        self.put("#line-msg", Text(""), layout=False)
         self.query_one("#line-role", Input).focus()
 
     def edit_line(self, index: int) -> None:
@@ -521,15 +490,14 @@ class WorkbenchScreen(Screen):
                   "purity": qtext(line.get("purity", "")), "water": qtext(line.get("water", ""))}
         for k, *_ in LINE_FIELDS:
             self.query_one(f"#line-{k}", Input).value = values[k] or ""
-        self.query_one("#line-head", Static).update(Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style="#f2c14e"))
+        self.put("#line-head", Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style="#f2c14e"), layout=False)
         self.query_one("#line-name", Input).focus()
 
     def refresh_lines(self) -> None:
         from ...units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
 
         t = self.query_one("#lines", DataTable)
-        keep = t.cursor_row
-        t.clear()
+        rows = []
         for i, line in enumerate(self.data.get("lines", [])):
             row = self.table.line(line.get("name", "")) if self.table else None
             given = next((k for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "—")
@@ -540,9 +508,21 @@ class WorkbenchScreen(Screen):
                           f"{row.mw_g_mol:.2f}" if row.mw_g_mol else "—"]
             else:
                 cells += ["", "", "", "", ""]
+            rows.append(cells)
+        self._fill_table(t, rows)
+
+    def _fill_table(self, t: DataTable, rows: list[list]) -> None:
+        """Refill a table only if its rows changed, keeping the cursor where it was."""
+        shown = self.__dict__.setdefault("_table_rows", {})
+        if shown.get(t.id) == rows:
+            return
+        shown[t.id] = rows
+        keep = t.cursor_row
+        t.clear()
+        for i, cells in enumerate(rows):
             t.add_row(*cells, key=str(i))
         if t.row_count:
-            t.move_cursor(row=min(keep, t.row_count - 1), animate=False)
+            t.move_cursor(row=min(max(keep, 0), t.row_count - 1), animate=False)
 
     @on(DataTable.RowSelected, "#lines")
     def _line_selected(self, event: DataTable.RowSelected) -> None:
@@ -575,17 +555,16 @@ class WorkbenchScreen(Screen):
 
     def preview_step(self) -> None:
         step, why = self.step_form()
-        msg = self.query_one("#step-msg", Static)
         if step is None:
-            msg.update(Text(why or "", style="#ff6f59"))
+            self.put("#step-msg", Text(why or "", style="#ff6f59"), layout=False)
         else:
             adds = ", ".join(step["add"]) or "nothing added (a hold or temperature change)"
-            msg.update(Text(f"→ adds {adds}   (Enter keeps this step)", style="#9be564"))
+            self.put("#step-msg", Text(f"→ adds {adds}   (Enter keeps this step)", style="#9be564"), layout=False)
 
     def commit_step(self) -> None:
         step, why = self.step_form()
         if step is None:
-            self.query_one("#step-msg", Static).update(Text(why or "the form is empty", style="#ff6f59"))
+            self.put("#step-msg", Text(why or "the form is empty", style="#ff6f59"), layout=False)
             return
         steps = self.data.setdefault("steps", [])
         if self.step_index is None:
@@ -593,6 +572,7 @@ class WorkbenchScreen(Screen):
         else:
             steps[self.step_index] = step
         self.blank_step()
+        self.query_one("#step-add", Input).focus()
         self.changed()
         self.recompute()
 
@@ -603,8 +583,8 @@ class WorkbenchScreen(Screen):
             self.query_one(f"#step-{k}", Input).value = ""
         self.query_one("#step-sealed", Checkbox).value = False
         self._loading = False
-        self.query_one("#step-head", Static).update(Text("New step — Enter keeps it; pick a row above to change one", style="#8fa3b8"))
-        self.query_one("#step-msg", Static).update("")
+        self.put("#step-head", Text("New step — Enter keeps it; pick a row above to change one", style="#8fa3b8"), layout=False)
+        self.put("#step-msg", Text(""), layout=False)
 
     def edit_step(self, index: int) -> None:
         step = self.data["steps"][index]
@@ -613,13 +593,12 @@ class WorkbenchScreen(Screen):
         for k in ("temperature", "hold", "over", "atmosphere", "note"):
             self.query_one(f"#step-{k}", Input).value = qtext(step.get(k, ""))
         self.query_one("#step-sealed", Checkbox).value = bool(step.get("sealed"))
-        self.query_one("#step-head", Static).update(Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style="#f2c14e"))
+        self.put("#step-head", Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style="#f2c14e"), layout=False)
         self.query_one("#step-add", Input).focus()
 
     def refresh_steps(self) -> None:
         t = self.query_one("#steps", DataTable)
-        keep = t.cursor_row
-        t.clear()
+        rows = []
         roles = {ln.get("name", "").casefold(): ln.get("role") for ln in self.data.get("lines", [])}
         for i, step in enumerate(self.data.get("steps", [])):
             adds = step.get("add", [])
@@ -628,11 +607,10 @@ class WorkbenchScreen(Screen):
                 marks.append("● trap")
             if any(roles.get(n.casefold()) == "fluoride source" for n in adds):
                 marks.append("● F⁻")
-            t.add_row(str(i + 1), clip("; ".join(adds) or "—", 26), qtext(step.get("temperature")) or "—",
-                      qtext(step.get("hold")) or "", qtext(step.get("over")) or "", "▣" if step.get("sealed") else "",
-                      " ".join(marks), key=str(i))
-        if t.row_count:
-            t.move_cursor(row=min(keep, t.row_count - 1), animate=False)
+            rows.append([str(i + 1), clip("; ".join(adds) or "—", 26), qtext(step.get("temperature")) or "—",
+                         qtext(step.get("hold")) or "", qtext(step.get("over")) or "", "▣" if step.get("sealed") else "",
+                         " ".join(marks)])
+        self._fill_table(t, rows)
 
     @on(DataTable.RowSelected, "#steps")
     def _step_selected(self, event: DataTable.RowSelected) -> None:
@@ -688,14 +666,13 @@ class WorkbenchScreen(Screen):
     def refresh_yields(self) -> None:
         from ... import amounts
 
-        box = self.query_one("#yields", Static)
         if self.run is None or self.table is None or self.run.outcome is None:
-            box.update(Text("Yields appear here once the run and its outcome are complete.", style="italic #8fa3b8"))
+            self.put("#yields", Text("Yields appear here once the run and its outcome are complete.", style="italic #8fa3b8"))
             return
         try:
             ys = amounts.product_yields(self.run, self.table)
         except TrapbookError as exc:
-            box.update(Text(exc.message, style="#f2c14e"))
+            self.put("#yields", Text(exc.message, style="#f2c14e"))
             return
         out = Text()
         for y in ys:
@@ -711,7 +688,7 @@ class WorkbenchScreen(Screen):
                 bits.append(f"ee {y.ee_pct:.1f} % ({y.ee_source})")
             out.append(", ".join(bits) or "no yield yet")
             out.append("\n")
-        box.update(out)
+        self.put("#yields", out)
 
     # --- strain -----------------------------------------------------------------
     def intermediate_smiles(self) -> str | None:

@@ -21,9 +21,14 @@ FORM_KEYS = [
 ]
 
 
+#: Where the footer's short label covers several keys, the help says which key does what.
+LONGER = {"Tabs": "Run tab (f2-f5: Run, Lines, Steps, Outcome tabs)", "Move row": "Move row up"}
+
+
 def _key_text(b: Binding) -> str:
-    return b.key_display or b.key.replace("ctrl+", "ctrl+").replace("left_square_bracket", "[").replace(
-        "right_square_bracket", "]").replace("slash", "/")
+    if b.key_display and "/" in b.key_display:
+        return b.key_display
+    return b.key.replace("left_square_bracket", "[").replace("right_square_bracket", "]").replace("slash", "/")
 
 
 def key_table() -> Table:
@@ -45,7 +50,7 @@ def key_table() -> Table:
         for b in cls.BINDINGS:
             if isinstance(b, tuple):
                 b = Binding(*b)
-            t.add_row(_key_text(b), b.description or b.action)
+            t.add_row(_key_text(b), LONGER.get(b.description, b.description or b.action))
         t.add_row("", "")
     t.add_row(Text("In forms and tables", style="bold #7fb7be underline"), "")
     for k, d in FORM_KEYS:

@@ -148,7 +148,9 @@ class BoardScreen(Screen):
             plt.scatter(xs, ys, marker="●", color="orange")
             for e in pts:
                 label = (e.get("name") or e["smiles"]).replace("bicyclo", "")
-                plt.text(label, e["olefin_strain_kcal_mol"], e["best_yield_pct"], color="cyan")
+                # the label sits just above its point, so the marker stays visible
+                plt.text(label, e["olefin_strain_kcal_mol"], min(e["best_yield_pct"] + 6, 98), color="cyan",
+                         alignment="center")
             plt.ylim(0, 100)
         plot.refresh()
         rk = self.map.get("ranking") or {}

@@ -23,7 +23,7 @@ from ..text import clip, minutes_text, temp_text, worst_text, yield_text
 #: (row key, header, width) of the run table.
 COLUMNS = (
     ("id", "Run", 8),
-    ("title", "Title", 23),
+    ("title", "Title", 21),
     ("date", "Date", 11),
     ("chemist", "Chemist", 10),
     ("intermediate", "Intermediate", 13),
@@ -32,9 +32,12 @@ COLUMNS = (
     ("temp_max_c", "T max", 7),
     ("time_min", "Time", 6),
     ("yield_pct", "Yield", 6),
-    ("worst", "Worst finding", 14),
+    ("worst", "Worst finding", 16),
 )
 WIDTH = {key: width - 1 for key, _, width in COLUMNS}
+#: Rows put into the table at a time: a terminal table pays for every row it holds, so a
+#: notebook of 10 000 runs shows the first page and adds the next as the cursor nears the end.
+PAGE = 300
 TEXT_KEYS = ("id", "title", "chemist", "intermediate", "trap", "fluoride", "solvent", "worst", "screen")
 PREFIXES = {"trap": ("trap",), "chemist": ("chemist",), "finding": ("worst",), "fluoride": ("fluoride",),
             "solvent": ("solvent",), "screen": ("screen",)}
@@ -98,6 +101,7 @@ class LogbookScreen(Screen):
         Binding("S", "reverse", "Reverse", show=False),
         Binding("h", "history", "History"),
         Binding("b", "board", "Screen board"),
+        Binding("m", "more", "More rows", show=False),
         Binding("escape", "leave_filter", "Back to table", show=False),
         Binding("q", "app.quit", "Quit", show=False),
     ]
@@ -111,6 +115,7 @@ class LogbookScreen(Screen):
         self.sub_ids: set[str] | None = None
         self.sub_query: str | None = None
         self.sub_error: str | None = None
+        self.limit = PAGE
 
     def compose(self) -> ComposeResult:
         yield Header()
@@ -162,17 +167,35 @@ class LogbookScreen(Screen):
         table = self.query_one("#runs", DataTable)
         current = self.current_id()
         table.clear()
-        for r in shown:
+        self.limit = PAGE
+        if current:
+            pos = next((i for i, r in enumerate(shown) if r["id"] == current), None)
+            if pos is not None:
+                self.limit = max(PAGE, (pos // PAGE + 1) * PAGE)
+        for r in shown[: self.limit]:
             table.add_row(*cells(r), key=r["id"])
-        if current and current in {r["id"] for r in shown}:
+        if current and table.row_count and current in table.rows:
             table.move_cursor(row=table.get_row_index(current), animate=False)
         self.show_status()
         self.schedule_preview()
+
+    def action_more(self) -> None:
+        """Add the next page of rows to the table (also done when the cursor reaches the end)."""
+        table = self.query_one("#runs", DataTable)
+        start = table.row_count
+        if start >= len(self.shown):
+            return
+        self.limit = start + PAGE
+        for r in self.shown[start: self.limit]:
+            table.add_row(*cells(r), key=r["id"])
+        self.show_status()
 
     def show_status(self) -> None:
         status = self.query_one("#filter-status", Static)
         arrow = "▼" if self.sort_reverse else "▲"
         msg = f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}"
+        if len(self.shown) > self.limit:
+            msg += f" · first {self.limit} listed, more as you scroll (m)"
         if self.sub_query:
             if self.sub_error:
                 msg += f" · structure query: {self.sub_error}"
@@ -219,6 +242,8 @@ class LogbookScreen(Screen):
 
     @on(DataTable.RowHighlighted, "#runs")
     def _highlighted(self, event: DataTable.RowHighlighted) -> None:
+        if event.cursor_row >= event.data_table.row_count - 1:
+            self.action_more()
         self.schedule_preview()
 
     def schedule_preview(self) -> None:

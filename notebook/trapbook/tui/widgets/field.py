@@ -44,18 +44,21 @@ class Field(Horizontal):
         return self.query_one(Input)
 
     def message(self, text: str, ok: bool = True) -> None:
+        if getattr(self, "_shown", None) == (text, ok):
+            return  # unchanged: skip the repaint (typing stays light)
+        self._shown = (text, ok)
         msg = self.query_one(f"#msg-{self.field_id}", Static)
-        msg.update(text)
+        msg.update(text, layout=False)
         msg.set_class(not ok, "bad")
 
     def run_check(self) -> bool:
         """Check the current text; empty text is always fine (the field is optional)."""
         text = self.input.value.strip()
         if not text or self.check is None:
-            self.message("")
-            self.input.set_class(False, "bad")
-            return True
-        ok, msg = self.check(text)
+            ok, msg = True, ""
+        else:
+            ok, msg = self.check(text)
         self.message(msg, ok)
-        self.input.set_class(not ok, "bad")
+        if self.input.has_class("bad") == ok:
+            self.input.set_class(not ok, "bad")
         return ok

@@ -29,9 +29,9 @@ def grid(matrix: dict | None, best_run: str | None = None) -> Table | Text:
     cols = matrix.get("column_levels") or [""]
     t = Table(show_lines=True, header_style="bold", border_style="#4a5866", pad_edge=False)
     corner = f"{matrix['rows']} ╲ {matrix['columns']}" if matrix.get("columns") else matrix["rows"]
-    t.add_column(corner, style="bold #7fb7be")
+    t.add_column(corner, style="bold #7fb7be", max_width=12)
     for c in cols:
-        t.add_column(str(c) or "yield", justify="center", min_width=13)
+        t.add_column(str(c) or "yield", justify="center", min_width=12, max_width=14)
     for level, line in zip(matrix["row_levels"], matrix["cells"]):
         row = [Text(str(level))]
         for cell in line:

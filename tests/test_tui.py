@@ -1,0 +1,306 @@
+"""Pilot tests of the terminal UI: real flows driven from the keyboard on a fresh demo notebook.
+
+Each test builds its own copy of the demo lab (demo_lab/, a fictional group) so saves do not
+leak between tests, and drives the app with Textual's `App.run_test` pilot at 120×40.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+pytest.importorskip("textual")
+
+from rdkit import Chem  # independent reference for the structure filter
+
+from trapbook.demo import build_demo
+from trapbook.store import Notebook
+from trapbook.tui.app import TrapbookApp
+from trapbook.tui.screens.editor import WorkbenchScreen
+from trapbook.tui.screens.runs import LogbookScreen
+
+SIZE = (120, 40)
+PRECURSOR = "C[Si](C)(C)[C@@]12CCC[C@@H](CC[C@H]1OS(=O)(=O)C(F)(F)F)C2"
+
+
+@pytest.fixture
+def demo_path(tmp_path):
+    path = tmp_path / "demo.sqlite"
+    build_demo(path)
+    return path
+
+
+async def type_text(pilot, text: str) -> None:
+    """Send the characters as terminal key events, the way a fast typist (or a paste) does.
+
+    `pilot.press` waits for the process to go idle after every key, which on a loaded
+    machine costs ~80 ms a key; here the events go through the same driver queue back to
+    back and the test waits once at the end.
+    """
+    from textual import events
+    from textual.keys import _character_to_key
+
+    driver = pilot.app._driver
+    for ch in text:
+        key = ch if ch.isalnum() else _character_to_key(ch)
+        event = events.Key(key, ch)
+        event.set_sender(pilot.app)
+        driver.send_message(event)
+    await pilot.pause()
+
+
+async def new_field(pilot, text: str) -> None:
+    """Type into the focused field, then Tab to the next."""
+    await type_text(pilot, text)
+    await pilot.press("tab")
+
+
+async def write_run(pilot, trap_late: bool = False) -> WorkbenchScreen:
+    """From the Logbook: a new run with precursor, furan, TBAF and THF, all by keyboard."""
+    await pilot.press("n")
+    await pilot.pause()
+    screen = pilot.app.screen
+    assert isinstance(screen, WorkbenchScreen)
+    await pilot.press("f2")
+    await type_text(pilot, "Furan trap of 331 by keyboard")
+    await pilot.press("f3")
+    # role, name, SMILES, amount, density/molarity; Enter keeps the line
+    for role, name, smiles, amount, form in (
+        ("precursor", "silyl triflate 331", PRECURSOR, "0.200 mmol", ""),
+        ("trap", "furan", "c1ccoc1", "10 equiv", "0.951 g/mL"),
+        ("fluoride source", "TBAF 1.0 M in THF", "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "1.5 equiv", "1.0 M"),
+        ("solvent", "THF", "C1CCOC1", "2.0 mL", ""),
+    ):
+        await new_field(pilot, role)
+        await new_field(pilot, name)
+        await new_field(pilot, smiles)
+        await new_field(pilot, amount)
+        await type_text(pilot, form)
+        await pilot.press("enter")
+        await pilot.pause()
+    await pilot.press("f4")
+    order = ["precursor + solvent", "fluoride source", "trap"] if trap_late else ["precursor + trap + solvent", "fluoride source"]
+    for adds in order:
+        await new_field(pilot, adds)
+        await type_text(pilot, "-78 °C")
+        await pilot.press("enter")
+        await pilot.pause()
+    await pilot.pause(0.2)
+    return screen
+
+
+def lines_cell(screen: WorkbenchScreen, name: str, column: str) -> str:
+    from trapbook.tui.screens.editor import LINE_COLUMNS
+
+    table = screen.query_one("#lines")
+    col = [c for c, _ in LINE_COLUMNS].index(column)
+    for r in range(table.row_count):
+        row = table.get_row_at(r)
+        if str(row[2]).startswith(name):
+            return str(row[col])
+    raise AssertionError(f"no line {name} in the table")
+
+
+def checks_text(screen: WorkbenchScreen) -> str:
+    return str(screen.query_one("#checks").render())
+
+
+async def test_new_run_by_keyboard_shows_furan_volume(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await write_run(pilot)
+        # Source: REFERENCE.md, furan M 68.07 g/mol and density 0.951 g/mL (CRC, from memory):
+        # 0.200 mmol × 10 × 68.07 g/mol / 0.951 g/mL = 143 µL
+        assert lines_cell(screen, "furan", "µL") == str(round(0.200 * 10 * 68.07 / 0.951))
+        # 0.200 mmol × 1.5 equiv / 1.0 M = 300 µL of TBAF solution (definition of molarity)
+        assert lines_cell(screen, "TBAF", "µL") == "300"
+        assert screen.problem is None
+
+
+async def test_trap_late_appears_and_clears_when_moved(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await write_run(pilot, trap_late=True)
+        # The rule of the trade (DESIGN.md, "Trap from the start"): the trap must be in the flask
+        # before the fluoride source, or it catches nothing.
+        assert "trap-late" in checks_text(screen)
+        assert "trap enters after the fluoride source" in str(screen.query_one("#track").render())
+        # keyboard: from the Adds field back to the steps table, down to step 3, move it up
+        await pilot.press("shift+tab", "down", "down", "ctrl+up")
+        await pilot.pause(0.2)
+        assert "trap-late" not in checks_text(screen)
+
+
+async def test_bad_amount_is_answered_beside_the_field_and_not_kept(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        screen = app.screen
+        await new_field(pilot, "trap")
+        await new_field(pilot, "furan")
+        await new_field(pilot, "c1ccoc1")
+        await type_text(pilot, "10 parsec")
+        await pilot.pause()
+        msg = str(screen.query_one("#msg-line-amount").render())
+        assert "not an amount" in msg
+        await pilot.press("enter")
+        await pilot.pause()
+        assert screen.data["lines"] == []
+        # a SMILES with an unclosed ring is refused beside its own field (RDKit cannot parse it)
+        await pilot.press("shift+tab")
+        await type_text(pilot, "(")
+        await pilot.pause()
+        assert "not a valid SMILES" in str(screen.query_one("#msg-line-smiles").render())
+
+
+async def test_save_edit_save_gives_two_versions(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        screen = await write_run(pilot)
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        run_id = screen.run_id
+        assert run_id is not None and screen.base_version == 1
+        await pilot.press("f2", "end")
+        await type_text(pilot, " (repeat)")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await type_text(pilot, "title says it is a repeat")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert screen.base_version == 2
+        await pilot.press("f6")
+        await pilot.pause()
+        trail = app.screen.query_one("#trail")
+        assert trail.row_count == 2
+    with Notebook.open(demo_path) as nb:
+        versions = nb.history(run_id)
+        assert [v.version for v in versions] == [1, 2]
+        assert versions[1].reason == "title says it is a repeat"
+        assert nb.get_run(run_id).title.endswith("(repeat)")
+        assert nb.get_setting(f"draft:{run_id}") is None
+
+
+async def test_stale_save_is_refused_and_the_draft_kept(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("e")  # TB-0001, the first row
+        await pilot.pause()
+        screen = app.screen
+        assert screen.run_id == "TB-0001"
+        with Notebook.open(demo_path) as other:  # someone else saves first
+            other.save_run(other.get_run("TB-0001"), 1, author="someone", reason="other edit")
+        await pilot.press("f2", "end")
+        await type_text(pilot, " x")
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        await type_text(pilot, "my edit")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert screen.base_version == 1  # not moved on
+        assert screen.dirty
+    with Notebook.open(demo_path) as nb:
+        assert nb.run_meta("TB-0001")["version"] == 2
+        assert nb.get_run("TB-0001").title.endswith(" x") is False
+        draft = nb.get_setting("draft:TB-0001")
+        assert draft and draft["data"]["title"].endswith(" x")
+
+
+async def test_leaving_asks_and_keeps_a_draft(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        await pilot.press("f2")
+        await type_text(pilot, "half-written plan")
+        await pilot.press("escape")
+        await pilot.pause()
+        assert type(app.screen).__name__ == "LeaveDialog"
+        await pilot.press("k")
+        await pilot.pause()
+        assert isinstance(app.screen, LogbookScreen)
+        assert app.nb.get_setting("draft:new")["data"]["title"] == "half-written plan"
+        await pilot.press("n")
+        await pilot.pause()
+        assert app.screen.data["title"] == "half-written plan"
+
+
+def brute_force_ids(path, smarts: str) -> set[str]:
+    """Runs with a precursor, intermediate, trap or product matching the query, by RDKit directly."""
+    q = Chem.MolFromSmarts(smarts)
+    out = set()
+    with Notebook.open(path) as nb:
+        for run in nb.iter_runs(include_withdrawn=False):
+            smiles = [run.intermediate] + [ln.smiles for ln in run.lines if ln.role in ("precursor", "trap", "product")]
+            if any(s and Chem.MolFromSmiles(s).HasSubstructMatch(q) for s in smiles):
+                out.add(run.id)
+    return out
+
+
+async def test_filter_runs_by_substructure(demo_path):
+    pytest.importorskip("trapbook.search")
+    core = "C12=CCCC(CC1)C2"  # bicyclo[3.2.1]oct-1-ene written as SMARTS
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await type_text(pilot, f"sub:{core}")
+        await pilot.press("enter")
+        screen = app.screen
+        for _ in range(100):  # the structure search runs in a worker; wait for its answer
+            await pilot.pause(0.1)
+            if screen.sub_ids is not None:
+                break
+        await pilot.pause(0.2)
+        assert screen.sub_error is None
+        shown = {r["id"] for r in screen.shown}
+        table = screen.query_one("#runs")
+        assert {table.get_row_at(i)[0] for i in range(table.row_count)} == shown
+    expected = brute_force_ids(demo_path, core)
+    assert expected, "the demo lab should hold runs of this core"
+    assert shown == expected
+
+
+async def test_filter_by_trap_name(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("slash")
+        await type_text(pilot, "trap:anthracene")
+        await pilot.press("enter")
+        await pilot.pause(0.3)
+        shown = {r["id"] for r in app.screen.shown}
+    with Notebook.open(demo_path) as nb:
+        # independent of the index: read each stored run's trap lines
+        expected = {r.id for r in nb.iter_runs(include_withdrawn=False)
+                    if any("anthracene" in ln.name.lower() for ln in r.lines_by_role("trap"))}
+    assert shown == expected and expected
+
+
+@pytest.mark.slow
+async def test_strain_card_computes_in_a_worker(demo_path):
+    """ctrl+g fills the strain card (both tiers, then the alignment) without blocking the UI."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press(*["down"] * 4, "e")  # TB-0005, the [3.2.1] bridgehead alkene
+        await pilot.pause()
+        screen = app.screen
+        await pilot.press("ctrl+g")
+        await pilot.pause(0.2)
+        assert screen.query_one("#strain-progress").display  # the progress bar is up while it works
+        await app.workers.wait_for_complete()
+        await pilot.pause(0.3)
+        from rich.console import Console
+
+        from trapbook.tui.widgets.strain_card import card as strain_card
+
+        console = Console(width=44, record=True, file=open("/dev/null", "w"))
+        console.print(strain_card(screen.intermediate_smiles(), screen.strain, screen.alignment))
+        card = console.export_text()
+    # Source: REFERENCE.md (literature): bicyclo[3.2.1]oct-1-ene has S = 6 and is known only by
+    # trapping, i.e. Maier–Schleyer class "unstable".
+    assert screen.strain["s_value"] == 6
+    assert screen.strain["stability_class"] == "unstable"
+    assert "unstable" in card
+    with Notebook.open(demo_path) as nb:  # and it was cached for next time
+        from trapbook.strain_link import strain_for_run
+
+        assert strain_for_run(nb, nb.get_run("TB-0005")) is not None

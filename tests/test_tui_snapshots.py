@@ -1,0 +1,153 @@
+"""Snapshot tests of every screen at 120×40 on the demo notebook (pytest-textual-snapshot).
+
+The snapshots under tests/__snapshots__/ were looked at and accepted by hand; a change in
+any screen's look fails here until it is looked at again (`--snapshot-update`). The demo
+notebook is built with a fixed clock so the version times and hashes in it do not move.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+
+import pytest
+
+pytest.importorskip("pytest_textual_snapshot")
+
+SIZE = (120, 40)
+
+
+@pytest.fixture(scope="module")
+def snap_db(tmp_path_factory):
+    """The demo lab with a fixed clock, plus a second version of TB-0001."""
+    from trapbook.demo import build_demo
+    from trapbook.store import Notebook
+    from trapbook.store import notebook as store_notebook
+
+    ticks = iter(range(10_000))
+    start = _dt.datetime(2026, 10, 7, 9, 0, tzinfo=_dt.timezone.utc)
+    real = store_notebook.now_utc
+    store_notebook.now_utc = lambda: (start + _dt.timedelta(seconds=next(ticks))).isoformat(timespec="microseconds")
+    try:
+        path = tmp_path_factory.mktemp("snap") / "demo.sqlite"
+        build_demo(path)
+        with Notebook.open(path) as nb:
+            run = nb.get_run("TB-0001")
+            run = run.model_copy(update={"notes": "Adduct is a single diastereomer by 1H NMR."})
+            nb.save_run(run, 1, author="L. Brandt", reason="added the NMR note")
+            fill_fast_strain(nb)
+    finally:
+        store_notebook.now_utc = real
+    return path
+
+
+def fill_fast_strain(nb) -> None:
+    """What pressing g on the Screen board does: fast-tier strain of every intermediate, cached."""
+    from trapbook import review
+    from trapbook.strain_link import get_strain
+
+    for smiles in review.strain_map(nb)["missing_strain"]:
+        get_strain(nb, smiles, "fast")
+
+
+def make_app(path):
+    from trapbook.tui.app import TrapbookApp
+
+    return TrapbookApp(path, author="snapshot", warm=False)
+
+
+async def settle(pilot) -> None:
+    """Let timers and workers finish; stop cursor blinking, which would make the picture depend on timing."""
+    from textual.widgets import Input
+
+    await pilot.pause(0.3)
+    await pilot.app.workers.wait_for_complete()
+    for box in pilot.app.screen.query(Input):
+        box.cursor_blink = False
+    await pilot.pause(0.2)
+
+
+def test_logbook(snap_compare, snap_db):
+    """The run table with the preview of TB-0001."""
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=settle)
+
+
+def test_logbook_filtered_by_trap(snap_compare, snap_db):
+    async def before(pilot):
+        await pilot.press("slash", *"trap:anthracene", "enter")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_workbench_lines(snap_compare, snap_db):
+    """Workbench on TB-0001: reagent table, addition track, strain card, checks."""
+    async def before(pilot):
+        await pilot.press("e")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_workbench_steps_trap_late(snap_compare, snap_db):
+    """TB-0010 added the furan after TBAF: the track and the checks say so."""
+    async def before(pilot):
+        await pilot.press(*["down"] * 9, "e")
+        await settle(pilot)
+        await pilot.press("f4")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_workbench_outcome_qnmr(snap_compare, snap_db):
+    """TB-0004's outcome: qNMR integrals and the NMR yield worked out from them."""
+    async def before(pilot):
+        await pilot.press(*["down"] * 3, "e")
+        await settle(pilot)
+        await pilot.press("f5")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_screen_board(snap_compare, snap_db):
+    """SC-0001: yield grid of trap × temperature, best conditions, strain plot."""
+    async def before(pilot):
+        await pilot.press(*["down"] * 12, "b")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_version_trail(snap_compare, snap_db):
+    async def before(pilot):
+        await pilot.press("h")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_keys(snap_compare, snap_db):
+    async def before(pilot):
+        await pilot.press("f1")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+
+
+def test_leave_question(snap_compare, snap_db, tmp_path):
+    """Leaving a changed run asks what to do with the changes (on a copy: a draft is written)."""
+    import shutil
+
+    copy = tmp_path / "demo.sqlite"
+    shutil.copy(snap_db, copy)
+
+    async def before(pilot):
+        await pilot.press("e")
+        await settle(pilot)
+        await pilot.press("f2", "end", *" draft")
+        await settle(pilot)
+        await pilot.press("escape")
+        await settle(pilot)
+
+    assert snap_compare(make_app(copy), terminal_size=SIZE, run_before=before)
