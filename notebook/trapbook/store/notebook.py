@@ -336,7 +336,8 @@ class Notebook:
             return row[0] + 1
 
     def _write_screen(self, screen: Screen, author: str, reason: str, version: int) -> None:
-        data = canonical_json(screen.model_dump(mode="json", exclude_none=True))
+        # not canonical: the order of the factors is the order the chemist gave them in
+        data = json.dumps(screen.model_dump(mode="json", exclude_none=True), ensure_ascii=False)
         t = now_utc()
         self.conn.execute(
             "INSERT INTO screen_versions (screen_id, version, author, time, reason, data) VALUES (?,?,?,?,?,?)",
