@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from trapbook.chemistry.derive import intermediate_from_precursor
-from trapbook.chemistry.molecules import canonical, parse
+from trapbook.chemistry.molecules import parse
 from trapbook.errors import ChemistryError
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -284,8 +284,13 @@ async def test_strain_card_computes_in_a_worker(demo_path):
         await pilot.pause()
         screen = app.screen
         await pilot.press("ctrl+g")
-        await pilot.pause(0.2)
-        assert screen.query_one("#strain-progress").display  # the progress bar is up while it works
+        seen = False  # the progress bar is up while it works (polled: a loaded machine starts threads late)
+        for _ in range(200):
+            if screen.query_one("#strain-progress").display:
+                seen = True
+                break
+            await pilot.pause(0.05)
+        assert seen
         await app.workers.wait_for_complete()
         await pilot.pause(0.3)
         from rich.console import Console

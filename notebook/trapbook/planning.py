@@ -574,7 +574,7 @@ def _total_text(t: dict) -> str:
 
 def bench_sheet_text(plan: PlannedScreen) -> str:
     lines = [f"BENCH SHEET — {plan.screen.name}" + (f" ({plan.screen_id})" if plan.screen_id else "")]
-    lines.append(f"varied: " + "; ".join(f"{k}: {', '.join(v)}" for k, v in plan.screen.factors.items()))
+    lines.append("varied: " + "; ".join(f"{k}: {', '.join(v)}" for k, v in plan.screen.factors.items()))
     if plan.screen.scale:
         lines.append(f"scale: {plan.screen.scale} of the limiting line")
     lines.append("")

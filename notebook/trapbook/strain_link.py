@@ -39,13 +39,11 @@ def strain_for_run(nb, run) -> dict | None:
     smiles = intermediate_of(run)
     if not smiles or nb is None:
         return None
-    try:
-        from .chemistry import strain
-    except ImportError:
-        return None
+    from .chemistry.strain_key import cache_key
+
     for tier in ("accurate", "fast"):
         try:
-            hit = nb.cache_get(strain.cache_key(smiles, tier))
+            hit = nb.cache_get(cache_key(smiles, tier))
         except TrapbookError:
             hit = None
         if hit:
@@ -59,7 +57,7 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
 
     from .chemistry import strain
 
-    key = strain.cache_key(smiles, tier)
+    key = strain.cache_key(smiles, tier)  # the engine's own name for it (chemistry/strain_key.py)
     if nb is not None and not refresh:
         t0 = time.perf_counter()
         hit = nb.cache_get(key)

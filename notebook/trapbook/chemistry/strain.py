@@ -23,8 +23,7 @@ from functools import lru_cache
 from typing import Callable
 
 import numpy as np
-import rdkit
-from rdkit import Chem, rdBase
+from rdkit import Chem
 
 from trapbook.errors import ChemistryError, TrapbookError
 
@@ -33,9 +32,8 @@ from . import conformers as cf
 from . import geometry as geo
 from . import xtb
 
-ENGINE_SCHEME = "trapbook-strain/1"
-ENGINE_VERSION = f"{ENGINE_SCHEME} rdkit-{rdkit.__version__} tblite-{xtb.tblite_version()}"
-TIERS = ("fast", "accurate")
+from .strain_key import ENGINE_SCHEME, ENGINE_VERSION, TIERS, cache_key  # noqa: E402,F401  (one definition of the key)
+
 METHODS = {
     "fast": "MMFF94 (RDKit ETKDG) — rough prescreen",
     "accurate": "GFN2-xTB (tblite) on MMFF conformers",
@@ -90,16 +88,6 @@ def stability_class(os_kcal: float | None) -> str | None:
 
 def canonical_smiles(smiles: str) -> str:
     return Chem.MolToSmiles(bh.parse(smiles))
-
-
-@_guarded
-def cache_key(smiles: str, tier: str = "accurate") -> str:
-    """Key under which a result may be stored: a changed structure, tier or engine misses."""
-    _check_tier(tier)
-    mol = bh.parse(smiles)
-    with rdBase.BlockLogs():
-        inchikey = Chem.MolToInchiKey(mol) or "no-inchikey"
-    return f"{inchikey}|{Chem.MolToSmiles(mol)}|{tier}|{ENGINE_VERSION}"
 
 
 def _check_tier(tier: str) -> None:

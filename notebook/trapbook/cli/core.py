@@ -378,7 +378,8 @@ def check(ctx: Ctx, ref: str, as_json: bool) -> None:
 
 
 @main.command("export")
-@click.option("--format", "fmt", default="jsonl", show_default=True, help="jsonl (one run per line).")
+@click.option("--format", "fmt", default="jsonl", show_default=True,
+              help="jsonl (one run per line), ord, rocrate, csv, xlsx, or a plugin's (see 'trapbook formats').")
 @click.option("--screen", help="Only the runs of this screen.")
 @click.option("-o", "--output", help="Write to this file instead of stdout.")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")

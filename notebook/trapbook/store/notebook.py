@@ -24,7 +24,7 @@ import sqlite_utils
 from ..errors import NotFoundError, RecordError, StaleVersionError, StoreError
 from ..records import Run, Screen, canonical_json, load_run, load_screen
 from . import index as run_index
-from .schema import SCHEMA_VERSION, migrate
+from .schema import migrate
 
 APP_NAME = "trapbook"
 

@@ -22,7 +22,7 @@ from textual.screen import Screen
 from textual.widgets import Checkbox, DataTable, Footer, Header, Input, ProgressBar, Static, TabbedContent, TabPane
 from pydantic import ValidationError
 
-from ...errors import RecordError, StaleVersionError, TrapbookError
+from ...errors import StaleVersionError, TrapbookError
 from .. import forms
 from ..rundata import clean, form_data, plan_from
 from ..text import clip, qtext
@@ -269,7 +269,6 @@ class WorkbenchScreen(Screen):
     def recompute(self) -> None:
         """Rebuild the run from the form and refresh every computed panel."""
         from ... import amounts
-        from ..preview import run_findings
 
         self._recompute_timer = None
         table_problem = None
