@@ -15,6 +15,13 @@ all in one transaction. The one shortcut: bench checks are not run per run (the
 `findings` column stays empty), which is what makes a normal save slow.
 
 Targets (issue 6): ≤ 0.5 s per structure query and ≤ 0.1 s per condition query.
+
+Each query is timed two ways, and the target is judged on the first:
+- cold: median of calls that each start with nothing kept in memory (`search.clear_caches()`),
+  as a one-shot CLI call or the first search after any save sees it;
+- repeat: median of the same query asked again while the notebook is unchanged (the TUI
+  re-running a search, or adding a condition to a structure query), when kept work is reused.
+The file itself stays in the OS page cache in both; a first read from disk adds to either.
 """
 
 from __future__ import annotations
@@ -174,17 +181,17 @@ def bulk_add(nb: Notebook, dicts, author: str = "benchmark") -> int:
     return n
 
 
-def timed(fn, repeat: int) -> tuple[float, float, object]:
-    """(first call, median of the following calls) in seconds, and the last result."""
-    t0 = time.perf_counter()
-    out = fn()
-    first = time.perf_counter() - t0
+def timed(fn, repeat: int, cold: bool = False) -> tuple[float, object]:
+    """Median seconds over `repeat` calls (each after clearing the kept work if cold), and the last result."""
     times = []
+    out = None
     for _ in range(repeat):
+        if cold:
+            S.clear_caches()
         t0 = time.perf_counter()
         out = fn()
         times.append(time.perf_counter() - t0)
-    return first, statistics.median(times), out
+    return statistics.median(times), out
 
 
 def main() -> None:
@@ -227,26 +234,31 @@ def main() -> None:
         "solvent toluene, time ≥ 6 h, sealed-hot T ≥ 100": dict(solvent="toluene", time_min="6 h", temp_min=100),
         "full text 'oligomers'": dict(text="oligomers"),
     }
-    print(f"\n{'query':52} {'hits':>7} {'first s':>8} {'median s':>9} target")
+    print(f"\n{'query':52} {'hits':>7} {'cold s':>8} {'repeat s':>9} target (judged cold)")
     worst = {"structure": 0.0, "condition": 0.0}
+    worst_repeat = {"structure": 0.0, "condition": 0.0}
     for kind, queries, target in (("structure", structure_queries, 0.5), ("condition", condition_queries, 0.1)):
         for name, kw in queries.items():
-            S._MATRICES.clear()
-            first, med, hits = timed(lambda: S.search(nb, **kw), args.repeat)
-            worst[kind] = max(worst[kind], med)
-            print(f"{name:52} {len(hits):7d} {first:8.3f} {med:9.3f} {'ok' if med <= target else 'MISSED'} (≤ {target} s)")
+            cold, hits = timed(lambda: S.search(nb, **kw), args.repeat, cold=True)
+            again, hits2 = timed(lambda: S.search(nb, **kw), args.repeat)
+            assert [h.to_dict() for h in hits] == [h.to_dict() for h in hits2], "a kept answer differs from a fresh one"
+            worst[kind] = max(worst[kind], cold)
+            worst_repeat[kind] = max(worst_repeat[kind], again)
+            print(f"{name:52} {len(hits):7d} {cold:8.3f} {again:9.3f} {'ok' if cold <= target else 'MISSED'} (≤ {target} s)")
 
-    print("\nfingerprint screen vs matching every stored molecule (substructure step only):")
+    print("\nfingerprint screen vs matching every stored molecule (substructure step only, nothing kept):")
     for name in ("substructure nitrile C#N", "substructure bicyclo[2.2.2]oct-1-ene", "substructure [3.3.1] core (generic bonds)"):
         q = structure_queries[name]["substructure"]
-        _, with_screen, (found, stats) = timed(lambda: S.substructure_ids(nb, q, screen=True), 3)
-        _, without, (found2, _) = timed(lambda: S.substructure_ids(nb, q, screen=False), 1)
+        with_screen, (found, stats) = timed(lambda: S.substructure_ids(nb, q, screen=True, reuse=False), 3)
+        without, (found2, _) = timed(lambda: S.substructure_ids(nb, q, screen=False, reuse=False), 1)
         assert set(found) == set(found2), "screen lost a match"
         print(f"  {name:46} screened in {stats['screened_in']:6d}/{stats['structures']} matched {stats['matched']:6d}  "
               f"{with_screen:6.3f} s vs {without:6.3f} s  → ×{without / with_screen:.1f}")
-    print(f"\nworst median: structure {worst['structure']:.3f} s (target 0.5), condition {worst['condition']:.3f} s (target 0.1)")
+    print(f"\nworst cold median: structure {worst['structure']:.3f} s (target 0.5), condition {worst['condition']:.3f} s (target 0.1)")
+    print(f"worst repeat median: structure {worst_repeat['structure']:.3f} s, condition {worst_repeat['condition']:.3f} s")
     print(json.dumps({"runs": nb.count_runs(), "structures": n_struct, "worst_structure_s": worst["structure"],
-                      "worst_condition_s": worst["condition"]}))
+                      "worst_condition_s": worst["condition"], "worst_structure_repeat_s": worst_repeat["structure"],
+                      "worst_condition_repeat_s": worst_repeat["condition"]}))
     nb.close()
 
 

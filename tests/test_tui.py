@@ -309,3 +309,157 @@ async def test_strain_card_computes_in_a_worker(demo_path):
         from trapbook.strain_link import strain_for_run
 
         assert strain_for_run(nb, nb.get_run("TB-0005")) is not None
+
+
+# --- the run editor's outcome rows, limiting mark, screen fields ----------------------------
+
+async def clear_and_type(pilot, text: str) -> None:
+    """Empty the focused field (Home, then delete to the end) and type `text`."""
+    await pilot.press("home", "ctrl+k")
+    await type_text(pilot, text)
+
+
+async def test_outcome_keeps_one_row_per_product(demo_path):
+    """TB-0013 (furan adduct, 7.2 mg): add the endo adduct as a second product with its own mass."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press(*["down"] * 12, "e")
+        await pilot.pause()
+        screen = app.screen
+        assert screen.run_id == "TB-0013"
+        await pilot.press("f3")
+        await new_field(pilot, "product")
+        await new_field(pilot, "endo adduct")
+        await type_text(pilot, "C1=CC2OC1C1CCC3CCCC21C3")
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("f5")
+        await new_field(pilot, "endo")  # a unique start of the product line's name
+        await type_text(pilot, "3.8 mg")
+        await pilot.pause()
+        # Source: IUPAC 2021 standard atomic weights (C 12.011, H 1.008, O 15.999):
+        # C13H18O = 190.286 g/mol; 3.8 mg / 190.286 g/mol = 0.01997 mmol on 0.100 mmol precursor = 20.0 %
+        assert "20.0 % isolated" in str(screen.query_one("#prod-msg").render())
+        await pilot.press("ctrl+s")  # no Enter: the result still in the form is kept, not lost
+        await pilot.pause()
+        await type_text(pilot, "endo adduct isolated too")
+        await pilot.press("enter")
+        await pilot.pause()
+        table = screen.query_one("#products")
+        assert table.row_count == 2
+        assert [str(table.get_row_at(i)[3]) for i in range(2)] == [f"{100 * 7.2 / 190.286 / 0.100:.0f} %",
+                                                                  f"{100 * 3.8 / 190.286 / 0.100:.0f} %"]
+        # a second row for the same product is refused beside the form
+        await pilot.press("f5")
+        await new_field(pilot, "furan adduct")
+        await type_text(pilot, "1 mg")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "already has a result" in str(screen.query_one("#prod-msg").render())
+    with Notebook.open(demo_path) as nb:
+        run = nb.get_run("TB-0013")
+        assert [(p.product, str(p.isolated_mass)) for p in run.outcome.products] == [
+            ("furan adduct", "7.2 milligram"), ("endo adduct", "3.8 milligram")]
+
+
+async def test_mark_limiting_line(demo_path):
+    """TB-0001 with furan given as 1.00 mmol and marked limiting: every equiv refers to furan."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("e")
+        await pilot.pause()
+        screen = app.screen
+        await pilot.press("f3", "shift+tab", "down")  # from the form up to the table, furan's row
+        await pilot.press("ctrl+l")  # furan is given in equiv: refused, nothing changes
+        await pilot.pause()
+        assert not any(ln.get("limiting") for ln in screen.data["lines"])
+        await pilot.press("enter", "tab", "tab")  # load furan into the form; to its Amount field
+        await clear_and_type(pilot, "1.00 mmol")
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("shift+tab", "ctrl+l")  # the cursor stayed on furan's row
+        await pilot.pause(0.2)
+        assert screen.table.limiting == "furan"
+        assert lines_cell(screen, "furan", "#").endswith("◆")
+        # Definition of equiv (REFERENCE.md: equiv_i = n_i / n_limiting) and of molarity:
+        # TBAF 1.5 equiv × 1.00 mmol furan = 1.50 mmol; at 1.0 M that is 1500 µL
+        assert lines_cell(screen, "TBAF", "µL") == "1500"
+        assert lines_cell(screen, "silyl", "equiv") == "0.1"  # 0.100 mmol / 1.00 mmol
+        await pilot.press("ctrl+l")  # again: unmarked, the precursor is limiting once more
+        await pilot.pause(0.2)
+        assert screen.table.limiting.startswith("silyl triflate")
+
+
+async def test_screen_and_factor_levels_on_the_run_tab(demo_path):
+    """A copy of TB-0013 moved to anthracene lands in SC-0001 with the screen's own spelling."""
+    from trapbook import review
+
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press(*["down"] * 12, "c")
+        await pilot.pause()
+        screen = app.screen
+        await pilot.press("f2")
+        assert screen.query_one("#run-screen").value == "SC-0001"
+        labels = [str(screen.query_one(f"#row-fac-{i}").query_one("Label").render()) for i in range(2)]
+        assert labels == ["trap", "temperature"]
+        await pilot.press(*["tab"] * 6)  # title, chemist, date, status, page, screen -> trap
+        await clear_and_type(pilot, "Anthracene")
+        await pilot.pause()
+        assert screen.data["factors"] == {"trap": "anthracene", "temperature": "80 °C"}
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        new_id = screen.run_id
+        assert new_id
+    with Notebook.open(demo_path) as nb:
+        run = nb.get_run(new_id)
+        assert run.screen == "SC-0001" and run.factors == {"trap": "anthracene", "temperature": "80 °C"}
+        assert new_id in review.review_screen(nb, "SC-0001")["not_done"]
+
+
+async def test_amounts_before_a_title_and_role_words(demo_path):
+    """Lines first, title later: amounts and checks show at once; 'fluoride' is the fluoride source."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        screen = app.screen
+        for role, name, smiles, amount, form in (
+            ("precursor", "silyl triflate 331", PRECURSOR, "0.200 mmol", ""),
+            ("trap", "furan", "c1ccoc1", "10 equiv", "0.951 g/mL"),
+            ("fluoride", "TBAF 1.0 M in THF", "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "1.5 equiv", "1.0 M"),
+        ):
+            await new_field(pilot, role)
+            await new_field(pilot, name)
+            await new_field(pilot, smiles)
+            await new_field(pilot, amount)
+            await type_text(pilot, form)
+            await pilot.press("enter")
+            await pilot.pause()
+        await pilot.pause(0.2)
+        # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL: 0.200 × 10 × 68.07 / 0.951 = 143 µL
+        assert lines_cell(screen, "furan", "µL") == "143"
+        assert screen.problem == "give the run a title (Run tab, f2)"
+        assert screen.data["lines"][2]["role"] == "fluoride source"
+        await pilot.press("f4")
+        for adds in ("precursor", "fluoride", "trap"):  # role words name their lines
+            await type_text(pilot, adds)
+            await pilot.press("enter")
+            await pilot.pause()
+        await pilot.pause(0.2)
+        assert screen.data["steps"][1]["add"] == ["TBAF 1.0 M in THF"]
+        assert "trap-late" in checks_text(screen)  # DESIGN.md: the trap must be in before the fluoride
+
+
+def test_alignment_is_cached_under_the_canonical_structure(tmp_path):
+    """The Workbench reads a precursor's alignment from the cache on every keystroke (compute=False)."""
+    from trapbook.strain_link import get_alignment
+
+    aryl = "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F"
+    same = "FC(F)(F)S(=O)(=O)Oc1ccccc1[Si](C)(C)C"  # the same molecule written from the other end
+    with Notebook.open(tmp_path / "a.sqlite", create=True) as nb:
+        assert get_alignment(nb, aryl, compute=False) is None
+        first = get_alignment(nb, aryl)
+        # common practice, no source: ortho substituents on a benzene ring are coplanar (0°)
+        assert first["dihedral_deg"] < 10
+        assert get_alignment(nb, same, compute=False) == first

@@ -151,3 +151,14 @@ def test_leave_question(snap_compare, snap_db, tmp_path):
         await settle(pilot)
 
     assert snap_compare(make_app(copy), terminal_size=SIZE, run_before=before)
+
+
+def test_workbench_run_tab_in_a_screen(snap_compare, snap_db):
+    """TB-0013's Run tab: its screen SC-0001 and one row per varied condition with its level."""
+    async def before(pilot):
+        await pilot.press(*["down"] * 12, "e")
+        await settle(pilot)
+        await pilot.press("f2")
+        await settle(pilot)
+
+    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)

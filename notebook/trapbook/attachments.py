@@ -183,11 +183,20 @@ def export_file(nb, run_id: str, sha_or_name: str, dest: str | os.PathLike) -> P
         raise NotFoundError(f"run {run_id} has no attachment '{sha_or_name}'", "list them with 'trapbook show RUN --json'")
     data = read_verified(store_dir(nb), att.sha256, att.size)
     out = Path(dest)
+    if str(dest).endswith(("/", os.sep)) and not out.exists():  # 'out/' names a folder to make, not a file
+        try:
+            out.mkdir(parents=True)
+        except OSError as exc:
+            raise RecordError(f"cannot create folder {out}: {exc.strerror}", "choose a writable folder") from None
     if out.is_dir():
         out = out / safe_name(att.name)
     if out.exists():
         raise RecordError(f"{out} already exists", "choose a new file name")
-    out.write_bytes(data)
+    try:
+        with open(out, "xb") as fh:  # never overwrite, even if the name appears meanwhile
+            fh.write(data)
+    except OSError as exc:
+        raise RecordError(f"cannot write {out}: {exc.strerror}", "choose a folder that exists and that you can write to") from None
     return out
 
 

@@ -191,6 +191,11 @@ def verify_path(path: str | Path, check_files: bool = True) -> Report:
         conn.execute("PRAGMA busy_timeout=30000")
         conn.execute("SELECT count(*) FROM sqlite_master").fetchone()
     except sqlite3.DatabaseError as exc:
+        from .store.notebook import _access_error
+
+        problem = _access_error(p, exc)  # a permission problem is not damage: say so, exit 2
+        if problem is not None:
+            raise problem from None
         rep = Report(str(p))
         rep.add("sqlite", "file", f"not a readable SQLite file: {exc}")
         return rep

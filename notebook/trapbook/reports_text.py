@@ -14,6 +14,8 @@ def _num(x: float | None, fmt) -> str:
 def _equiv(x: float | None) -> str:
     if x is None:
         return "—"
+    if x >= 1e5:  # a typo such as 1e300 equiv must still fit its column
+        return f"{x:.2g}"
     return f"{x:.2f}" if x < 10 else f"{x:.1f}"
 
 
@@ -79,7 +81,8 @@ def yields_text(yields: list[ProductYield]) -> list[str]:
 
 
 def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[ProductYield], problem: str | None) -> str:
-    head = [f"{meta['id']}  {run.title}  (version {meta['version']}{', WITHDRAWN' if meta.get('withdrawn') else ''})"]
+    current = f" of {meta['current_version']}: an earlier version, not the current one" if meta.get("current_version") else ""
+    head = [f"{meta['id']}  {run.title}  (version {meta['version']}{current}{', WITHDRAWN' if meta.get('withdrawn') else ''})"]
     info = [x for x in (run.chemist, run.date.isoformat() if run.date else None, f"page {run.page}" if run.page else None,
                         f"screen {run.screen}" if run.screen else None, run.status) if x]
     head.append("  " + " · ".join(info))

@@ -29,5 +29,9 @@ def update_check_settings(nb, assignments, reset: bool = False):
         except ValueError:
             raise TrapbookError(f"setting {name}: '{value}' is not a number", "give a plain number") from None
     settings = CheckSettings.from_dict(data)  # raises on unknown names or bad values
-    nb.set_setting(CHECKS_KEY, settings.to_dict())
+    from .store.index import refresh_summaries
+
+    with nb.transaction():  # the new thresholds and the findings judged by them, together
+        nb.set_setting(CHECKS_KEY, settings.to_dict())
+        refresh_summaries(nb)
     return settings

@@ -72,3 +72,44 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
     result = dict(result)
     result["cached"] = False
     return result
+
+
+ALIGNMENT_TIER = "alignment"
+
+
+def alignment_key(precursor_smiles: str) -> str | None:
+    """Cache key of a precursor's Si–C–C–X alignment: canonical structure plus engine version.
+
+    Built from the light key module, so a cache look-up never loads the conformer machinery.
+    """
+    from .chemistry.molecules import canonical
+    from .chemistry.strain_key import ENGINE_VERSION
+
+    try:
+        canon = canonical(precursor_smiles)
+    except TrapbookError:
+        return None
+    return f"{ALIGNMENT_TIER}|{canon}|{ENGINE_VERSION}"
+
+
+def get_alignment(nb, smiles: str, compute: bool = True) -> dict | None:
+    """The precursor's alignment from the notebook's cache; computed and cached when `compute`.
+
+    With compute=False it is a pure look-up (None when not cached), cheap enough for every
+    keystroke of an editor.
+    """
+    key = alignment_key(smiles)
+    if key is None:
+        return None
+    if nb is not None:
+        hit = nb.cache_get(key)
+        if hit is not None or not compute:
+            return hit
+    elif not compute:
+        return None
+    from .chemistry import strain
+
+    result = strain.precursor_alignment(smiles)
+    if nb is not None:
+        nb.cache_put(key, smiles, ALIGNMENT_TIER, strain.ENGINE_VERSION, result)
+    return result

@@ -293,15 +293,22 @@ def fmt_mmol(x: float | None) -> str:
         return "—"
     if x == 0:
         return "0"
+    if abs(x) >= 1e6:  # absurd amounts (a unit typo): short enough for a table column
+        text = f"{x:.3g}"
+        return text if len(text) <= 8 else f"{x:.0e}"
     text = f"{x:#.3g}" if abs(x) >= 1e-3 else f"{x:.2e}"
     return text.rstrip(".")
 
 
 def fmt_mg(x: float | None) -> str:
+    if x is not None and abs(x) >= 1e7:  # absurd amounts (a unit typo) still fit a table column
+        return f"{x:.3g}"
     return "—" if x is None else f"{x:.1f}"
 
 
 def fmt_ul(x: float | None) -> str:
+    if x is not None and abs(x) >= 1e7:
+        return f"{x:.3g}"
     return "—" if x is None else f"{x:.0f}"
 
 

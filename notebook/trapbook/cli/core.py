@@ -160,7 +160,7 @@ def _open_ui(path: Path) -> None:
 
 @main.command()
 @click.argument("path", required=False)
-@click.option("--json", "as_json", is_flag=True, help="Print {path, schema_version}.")
+@click.option("--json", "as_json", is_flag=True, help="Print {path, schema_version, existed}.")
 @pass_ctx
 @guarded
 def init(ctx: Ctx, path: str | None, as_json: bool) -> None:
@@ -264,7 +264,8 @@ def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> N
 @main.command()
 @click.argument("run_id")
 @click.option("--version", "version", type=int, help="Show an earlier version.")
-@click.option("--json", "as_json", is_flag=True, help="Print {meta, run, amounts, yields, findings}.")
+@click.option("--json", "as_json", is_flag=True,
+              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown} (meta describes the current version).")
 @pass_ctx
 @guarded
 def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
@@ -290,8 +291,11 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
             "amounts_problem": problem,
             "yields": [y.to_dict() for y in yields],
             "findings": [f.to_dict() for f in findings],
+            "version_shown": version if version is not None else meta["version"],
         })
         return
+    if version is not None and version != meta["version"]:
+        meta = {**meta, "version": version, "current_version": meta["version"]}
     click.echo(run_text(run, meta, table, yields, problem))
     _print_findings(findings)
 
@@ -399,7 +403,7 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
 
 @main.command("import")
 @click.argument("path")
-@click.option("--json", "as_json", is_flag=True, help="Print {imported: [run ids], screens: [...], skipped: [...]}.")
+@click.option("--json", "as_json", is_flag=True, help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}.")
 @pass_ctx
 @guarded
 def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:

@@ -58,7 +58,7 @@ def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> Non
 @pass_ctx
 @guarded
 def reindex_cmd(ctx: Ctx, as_json: bool) -> None:
-    """Rebuild the search tables (structures, fingerprints, full text) from the stored runs."""
+    """Rebuild the search tables (structures, fingerprints, full text, each run's findings) from the stored runs."""
     from ..search import reindex
 
     with ctx.notebook() as nb:

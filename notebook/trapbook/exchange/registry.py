@@ -33,8 +33,9 @@ BUILTIN: dict[str, dict[str, Any]] = {
         "import": "trapbook.exchange.crate:import_path",
         "suffixes": (".zip",),
     },
-    "csv": {"export": "trapbook.exchange.tables:export_csv"},
-    "xlsx": {"export": "trapbook.exchange.tables:export_xlsx"},
+    # Suffixes only so that an import of such a file says it is export-only.
+    "csv": {"export": "trapbook.exchange.tables:export_csv", "suffixes": (".csv",)},
+    "xlsx": {"export": "trapbook.exchange.tables:export_xlsx", "suffixes": (".xlsx",)},
 }
 
 

@@ -105,6 +105,19 @@ def index_run(nb: "Notebook", run: Run) -> None:
     index_search(nb.conn, run, row[0] if row else None)
 
 
+def refresh_summaries(nb: "Notebook") -> int:
+    """Rewrite every run's summary row, in one transaction.
+
+    Findings and the worst finding are judged at save time with the notebook's thresholds
+    and cached strain; when those change, the stored rows would go on judging by the old ones.
+    """
+    with nb.transaction():
+        ids = [r[0] for r in nb.conn.execute("SELECT id FROM runs ORDER BY id").fetchall()]
+        for rid in ids:
+            index_run(nb, nb.get_run(rid))
+    return len(ids)
+
+
 # --- structures and full text for search (written in the same transaction as the row above) ---
 
 #: Which lines of a run are searched by structure, and under what word a hit is reported.

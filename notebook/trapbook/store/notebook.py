@@ -123,7 +123,7 @@ class Notebook:
             conn.execute("PRAGMA busy_timeout=30000")
             migrate(conn)
         except sqlite3.DatabaseError as exc:
-            raise StoreError(f"{p} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup") from None
+            raise (_access_error(p, exc) or StoreError(f"{p} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup")) from None
         return cls(p, conn)
 
     def close(self) -> None:
@@ -142,9 +142,19 @@ class Notebook:
         if self.conn.in_transaction:
             yield self.conn
             return
-        self.conn.execute("BEGIN IMMEDIATE")
+        try:
+            self.conn.execute("BEGIN IMMEDIATE")
+        except sqlite3.OperationalError as exc:
+            raise (_access_error(self.path, exc) or exc) from None
         try:
             yield self.conn
+        except sqlite3.OperationalError as exc:
+            with contextlib.suppress(sqlite3.Error):
+                self.conn.execute("ROLLBACK")
+            problem = _access_error(self.path, exc)
+            if problem is None:
+                raise
+            raise problem from None
         except BaseException:
             self.conn.execute("ROLLBACK")
             raise
@@ -212,6 +222,11 @@ class Notebook:
             row = self.conn.execute("SELECT version, hash, data, withdrawn FROM runs WHERE id = ?", (run_id,)).fetchone()
             if row is None:
                 raise NotFoundError(f"no run {run_id} in this notebook", "list runs with 'trapbook list'")
+            if bool(row[3]) != restore:
+                # Saying it twice would only add a version that changes nothing.
+                if restore:
+                    raise RecordError(f"run {run_id} is not withdrawn", "nothing to bring back; see 'trapbook history RUN_ID'")
+                raise RecordError(f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'")
             run = Run.model_validate(json.loads(row[2]))
             action = "restore" if restore else "withdraw"
             return self._write_version(run, author or default_author(), reason.strip(), action, row[1], row[0] + 1)
@@ -245,8 +260,11 @@ class Notebook:
         else:
             row = self.conn.execute("SELECT data FROM versions WHERE run_id = ? AND version = ?", (run_id, version)).fetchone()
         if row is None:
-            what = f"run {run_id}" + (f" version {version}" if version else "")
-            raise NotFoundError(f"no {what} in this notebook", "list runs with 'trapbook list'")
+            what = f"run {run_id}" + (f" version {version}" if version is not None else "")
+            hint = "list runs with 'trapbook list'"
+            if version is not None and self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run_id,)).fetchone():
+                hint = f"see the versions of {run_id} with 'trapbook history {run_id}'"
+            raise NotFoundError(f"no {what} in this notebook", hint)
         return Run.model_validate(json.loads(row[0]))
 
     def run_meta(self, run_id: str) -> dict:
@@ -444,9 +462,10 @@ def _diff(old: Any, new: Any, path: str, out: list[str]) -> None:
             else:
                 _diff(old[k], new[k], p, out)
         return
-    if isinstance(old, list) and isinstance(new, list) and all(isinstance(x, dict) and "name" in x for x in old + new):
-        on = {x["name"]: x for x in old}
-        nn = {x["name"]: x for x in new}
+    key = _list_key(old, new)
+    if key is not None:
+        on = {x[key]: x for x in old}
+        nn = {x[key]: x for x in new}
         for name in list(on) + [n for n in nn if n not in on]:
             p = f"{path}[{name}]"
             if name not in nn:
@@ -456,4 +475,40 @@ def _diff(old: Any, new: Any, path: str, out: list[str]) -> None:
             else:
                 _diff(on[name], nn[name], p, out)
         return
+    if isinstance(old, list) and isinstance(new, list) and len(old) == len(new) and all(isinstance(x, dict) for x in old + new):
+        # Steps (and anything else without a name) are compared in order: "steps[2].hold: 1 h → 2 h".
+        for i, (a, b) in enumerate(zip(old, new), 1):
+            _diff(a, b, f"{path}[{i}]", out)
+        return
     out.append(f"{path}: {_show(old)} → {_show(new)}")
+
+
+def _list_key(old: Any, new: Any) -> str | None:
+    """The field that names each item of a list (lines by name, products by product), if every item has it once."""
+    if not (isinstance(old, list) and isinstance(new, list)):
+        return None
+    items = old + new
+    for key in ("name", "product"):
+        if items and all(isinstance(x, dict) and key in x for x in items) \
+                and len({x[key] for x in old}) == len(old) and len({x[key] for x in new}) == len(new):
+            return key
+    return None
+
+
+def _access_error(path: Path, exc: sqlite3.Error) -> StoreError | None:
+    """A plain-words StoreError when SQLite failed because the file or its folder is read-only for this user."""
+    text = str(exc).lower()
+    if "readonly" not in text and "read-only" not in text and "unable to open" not in text:
+        return None
+    path = Path(path)
+    folder = path.parent
+    if path.exists() and not os.access(path, os.W_OK):
+        what = f"{path} is read-only for you"
+    elif not os.access(folder, os.W_OK):
+        what = f"the folder {folder} is read-only for you (SQLite keeps its journal files beside the notebook)"
+    else:
+        what = f"{path} cannot be written ({exc})"
+    return StoreError(
+        f"cannot use the notebook: {what}; nothing was changed",
+        "ask for write access, or copy the notebook (with any -wal file beside it) to a folder of yours and point --db at the copy",
+    )

@@ -147,11 +147,37 @@ def _v3_search_index(conn: sqlite3.Connection) -> None:
     conn.execute("CREATE INDEX IF NOT EXISTS idx_runs_search ON runs(withdrawn, id, title, chemist, date, screen)")
 
 
+#: Tables whose rows a search reads; any change to them gives the notebook a new search token.
+SEARCH_SOURCES = ("runs", "run_structures", "structures", "search_state")
+
+
+def _v4_search_token(conn: sqlite3.Connection) -> None:
+    """A token that changes with every write a search depends on, so a search can keep what it
+    worked out (screened structures, structure→run links, text hits) for as long as the token
+    stands, across connections and processes; and a covering index so the structure→run links
+    are read from the index alone.
+
+    The token is random rather than a count: a notebook copied over another at the same path
+    can never present a token that an earlier, different file already had.
+    """
+    conn.execute("CREATE TABLE IF NOT EXISTS search_token (one INTEGER PRIMARY KEY CHECK (one = 1), token TEXT NOT NULL)")
+    conn.execute("INSERT OR IGNORE INTO search_token (one, token) VALUES (1, lower(hex(randomblob(8))))")
+    for table in SEARCH_SOURCES:
+        for event in ("INSERT", "UPDATE", "DELETE"):
+            conn.execute(
+                f"CREATE TRIGGER IF NOT EXISTS search_token_{table}_{event.lower()} AFTER {event} ON {table} "
+                "BEGIN UPDATE search_token SET token = lower(hex(randomblob(8))); END"
+            )
+    conn.execute("CREATE INDEX IF NOT EXISTS idx_run_structures_links ON run_structures(structure_id, run_id, part, name)")
+    conn.execute("DROP INDEX IF EXISTS idx_run_structures_structure")  # a prefix of the covering index above
+
+
 #: (version, description, function). Append, never edit: a notebook records each one applied.
 MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
     (1, "runs, versions, screens, index, strain cache, settings", _v1),
     (2, "search: structures with fingerprints, run structures, full-text table", _v2_search),
     (3, "search: covering index of runs for condition queries", _v3_search_index),
+    (4, "search: change token with triggers; covering index of structure links", _v4_search_token),
 ]
 
 

@@ -38,6 +38,8 @@ class TrapbookApp(App):
         self.nb = None
         self.started = time.perf_counter()
         self.ready_seconds: float | None = None
+        #: The run last saved or left in the Workbench: the Logbook's cursor goes back to it.
+        self.last_run: str | None = None
 
     def on_mount(self) -> None:
         from ..store import Notebook

@@ -2,7 +2,7 @@
 
 Runs in a worker thread on a notebook connection of its own (SQLite in WAL mode lets the
 UI keep reading meanwhile). The fast tier answers in about a second and is shown first;
-the accurate tier and the alignment follow. Results go into the notebook's cache, so the
+the alignment and the accurate tier follow. Results go into the notebook's cache, so the
 next look at any run with the same intermediate or precursor is instant.
 """
 
@@ -13,31 +13,18 @@ from typing import Callable
 
 from ..errors import TrapbookError
 
-ALIGNMENT_TIER = "alignment"
-
-
-def alignment_key(precursor_smiles: str) -> str | None:
-    """Cache key of a precursor's alignment: canonical structure plus engine version."""
-    try:
-        from ..chemistry import strain
-    except ImportError:
-        return None
-    try:
-        canon = strain.canonical_smiles(precursor_smiles)
-    except TrapbookError:
-        return None
-    return f"{ALIGNMENT_TIER}|{canon}|{strain.ENGINE_VERSION}"
-
 
 def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
                          progress: Callable[[str, float], None]) -> tuple[dict | None, dict | None, str | None]:
     """(strain, alignment, note): the best strain result reached and the alignment, if any."""
-    try:
-        from ..chemistry import strain as engine
+    import importlib
+
+    try:  # the engine's heavy parts: present, or say so plainly before opening anything
+        importlib.import_module("..chemistry.strain", __package__)
     except ImportError:
         raise TrapbookError("the strain engine is not available in this installation", "install Trapbook with its chemistry extras")
     from ..store import Notebook
-    from ..strain_link import get_strain
+    from ..strain_link import get_alignment, get_strain
 
     notes = []
     best = None
@@ -46,15 +33,10 @@ def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
         best = get_strain(nb, smiles, "fast", lambda s, f: progress(f"fast tier · {s}", 0.3 * f))
         progress("fast tier done; precursor alignment…", 0.3)
         if precursor:
-            key = alignment_key(precursor)
-            alignment = nb.cache_get(key) if key else None
-            if alignment is None:
-                try:
-                    alignment = engine.precursor_alignment(precursor)
-                    if key:
-                        nb.cache_put(key, precursor, ALIGNMENT_TIER, engine.ENGINE_VERSION, alignment)
-                except TrapbookError as exc:
-                    notes.append(f"alignment: {exc.message}")
+            try:
+                alignment = get_alignment(nb, precursor)
+            except TrapbookError as exc:
+                notes.append(f"alignment: {exc.message}")
         progress("accurate tier (GFN2-xTB)…", 0.45)
         try:
             best = get_strain(nb, smiles, "accurate", lambda s, f: progress(f"accurate tier · {s}", 0.45 + 0.55 * f))

@@ -13,16 +13,22 @@ from textual.widgets import Static
 # Keys of the forms that are not bindings (Textual's own widgets handle them).
 FORM_KEYS = [
     ("Tab / Shift+Tab", "next / previous field"),
-    ("Enter (in a line or step field)", "keep the line or step being written"),
-    ("Enter (on a table row)", "open the run, or load the line or step into the form"),
-    ("→ (at the end of a field)", "accept the suggested completion (roles, status)"),
+    ("Enter (in a line, step or product field)", "keep the row being written (ctrl+s keeps it too)"),
+    ("Enter (on a table row)", "open the run, or load the row into the form to change it"),
+    ("→ (at the end of a field)", "accept the suggested completion (roles, status, screen, levels, products)"),
     ("Space (on a checkbox)", "tick or untick"),
     ("mouse", "click a row, a tab, a header to sort, a button"),
 ]
 
 
 #: Where the footer's short label covers several keys, the help says which key does what.
-LONGER = {"Tabs": "Run tab (f2-f5: Run, Lines, Steps, Outcome tabs)", "Move row": "Move row up"}
+LONGER = {
+    "Tabs": "Run tab (f2-f5: Run, Lines, Steps, Outcome tabs)",
+    "Move": "Move the row under the cursor up (ctrl+↓: down)",
+    "Remove": "Remove the row under the cursor (line, step or product result)",
+    "New row": "Empty the form for a new line, step or product result",
+    "Limiting": "Mark the line under the cursor limiting: equiv and yields refer to it (again: unmark)",
+}
 
 
 def _key_text(b: Binding) -> str:

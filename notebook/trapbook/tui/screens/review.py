@@ -146,11 +146,15 @@ class BoardScreen(Screen):
             xs = [e["olefin_strain_kcal_mol"] for e in pts]
             ys = [e["best_yield_pct"] for e in pts]
             plt.scatter(xs, ys, marker="●", color="orange")
+            lo, hi = min(xs), max(xs)
+            span = (hi - lo) or 1.0
             for e in pts:
                 label = (e.get("name") or e["smiles"]).replace("bicyclo", "")
-                # the label sits just above its point, so the marker stays visible
-                plt.text(label, e["olefin_strain_kcal_mol"], min(e["best_yield_pct"] + 6, 98), color="cyan",
-                         alignment="center")
+                x = e["olefin_strain_kcal_mol"]
+                # the label sits just above its point, so the marker stays visible; near an edge
+                # it grows inwards so it is not cut off by the frame
+                side = "left" if x - lo < 0.25 * span else "right" if hi - x < 0.25 * span else "center"
+                plt.text(label, x, min(e["best_yield_pct"] + 6, 98), color="cyan", alignment=side)
             plt.ylim(0, 100)
         plot.refresh()
         rk = self.map.get("ranking") or {}

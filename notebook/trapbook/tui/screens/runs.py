@@ -135,19 +135,24 @@ class LogbookScreen(Screen):
         table.focus()
 
     def on_screen_resume(self) -> None:
-        self.reload()
+        """Back from another screen: fresh rows, and the cursor on the run just worked on."""
+        wanted = getattr(self.app, "last_run", None)
+        self.app.last_run = None
+        self.reload(select=wanted)
+        if wanted and wanted not in {r["id"] for r in self.shown}:
+            self.notify(f"{wanted} is hidden by the filter; / and clear it to see every run.", timeout=5)
 
     # --- data -------------------------------------------------------------------
     @property
     def nb(self):
         return self.app.nb
 
-    def reload(self) -> None:
+    def reload(self, select: str | None = None) -> None:
         self.rows = self.nb.list_runs()
-        self.apply()
+        self.apply(select=select)
 
-    def apply(self) -> None:
-        """Filter and sort `rows` into the table, keeping the cursor on the same run."""
+    def apply(self, select: str | None = None) -> None:
+        """Filter and sort `rows` into the table, keeping the cursor on the same run (or on `select`)."""
         text = self.query_one("#filter", Input).value
         terms, sub = parse_filter(text)
         shown = [r for r in self.rows if row_matches(r, terms)]
@@ -165,7 +170,7 @@ class LogbookScreen(Screen):
         shown.sort(key=lambda r: _sort_value(r, key), reverse=self.sort_reverse)
         self.shown = shown
         table = self.query_one("#runs", DataTable)
-        current = self.current_id()
+        current = select or self.current_id()
         table.clear()
         self.limit = PAGE
         if current:

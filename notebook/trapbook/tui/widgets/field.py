@@ -9,9 +9,11 @@ from __future__ import annotations
 from typing import Callable
 
 from textual.app import ComposeResult
+from textual.binding import Binding
 from textual.containers import Horizontal
+from textual.message import Message
 from textual.suggester import SuggestFromList
-from textual.widgets import Input, Label, Static
+from textual.widgets import Checkbox, Input, Label, Static
 
 #: A check takes the text and returns (ok, message).
 Check = Callable[[str], tuple[bool, str]]
@@ -62,3 +64,27 @@ class Field(Horizontal):
         if self.input.has_class("bad") == ok:
             self.input.set_class(not ok, "bad")
         return ok
+
+
+class FormCheck(Checkbox):
+    """A tick box inside a row form: Space ticks it, Enter keeps the row like the text fields do.
+
+    It shows ✔ when ticked and an empty box otherwise, so the state reads without colour.
+    """
+
+    BINDINGS = [
+        Binding("space", "toggle_button", "Tick", show=False),
+        Binding("enter", "keep_row", "Keep the row", show=False),
+    ]
+
+    class Submitted(Message):
+        def __init__(self, box: "FormCheck") -> None:
+            super().__init__()
+            self.box = box
+
+    @property
+    def BUTTON_INNER(self) -> str:  # noqa: N802 (the name Textual reads)
+        return "✔" if self.value else " "
+
+    def action_keep_row(self) -> None:
+        self.post_message(self.Submitted(self))
