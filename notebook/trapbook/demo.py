@@ -81,5 +81,4 @@ def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
                     "stability_class": res.get("stability_class"), "tier": tier})
     if progress:
         progress("done", 1.0)
-    nb.reindex()
     return out

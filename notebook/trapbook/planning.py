@@ -27,6 +27,7 @@ import itertools
 import re
 from dataclasses import dataclass, field
 
+from .phrases import step_phrases
 from .errors import RecordError, TrapbookError
 from .records import Run, Screen, load_run
 
@@ -512,18 +513,7 @@ def vial_instructions(pr: PlannedRun) -> list[dict]:
             if row.molarity_M:
                 extra.append(f"{row.molarity_M:g} M solution")
             out.append({"step": i, "action": verb, "line": name, "role": row.role, "quantity": qty, "detail": ", ".join(extra)})
-        cond = []
-        if s.temperature is not None:
-            cond.append(f"at {s.temperature.magnitude:g} °C" if "degC" in str(s.temperature.units) or "Celsius" in str(s.temperature.units)
-                        else f"at {s.temperature.magnitude:g} {s.temperature.units:~}")
-        if s.over is not None:
-            cond.append(f"over {s.over.magnitude:g} {s.over.units:~}")
-        if s.hold is not None:
-            cond.append(f"hold {s.hold.magnitude:g} {s.hold.units:~}")
-        if s.sealed:
-            cond.append("sealed vessel")
-        if s.atmosphere:
-            cond.append(f"under {s.atmosphere}")
+        cond = step_phrases(s.model_copy(update={"note": None}), with_additions=False)
         if cond or s.note:
             out.append({"step": i, "action": "conditions", "line": "", "quantity": "; ".join(cond), "detail": s.note or ""})
     if table is not None:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from .amounts import AmountTable, ProductYield
 from .records import Run
+from .phrases import step_phrases, yield_phrases
 from .units import fmt_mg, fmt_mmol, fmt_ul, unit_text
 
 
@@ -43,41 +44,11 @@ def _q(q) -> str:
 
 
 def steps_text(run: Run) -> list[str]:
-    out = []
-    for i, s in enumerate(run.steps, 1):
-        parts = []
-        if s.add:
-            parts.append("add " + ", ".join(s.add))
-        if s.over is not None:
-            parts.append(f"over {_q(s.over)}")
-        if s.temperature is not None:
-            parts.append(f"at {_q(s.temperature)}")
-        if s.hold is not None:
-            parts.append(f"hold {_q(s.hold)}")
-        if s.sealed:
-            parts.append("sealed")
-        if s.atmosphere:
-            parts.append(f"under {s.atmosphere}")
-        if s.note:
-            parts.append(f"({s.note})")
-        out.append(f"  {i}. " + "; ".join(parts))
-    return out
+    return [f"  {i}. " + "; ".join(step_phrases(s)) for i, s in enumerate(run.steps, 1)]
 
 
 def yields_text(yields: list[ProductYield]) -> list[str]:
-    out = []
-    for y in yields:
-        bits = []
-        if y.isolated_yield_pct is not None:
-            bits.append(f"isolated {y.isolated_yield_pct:.0f} %")
-        if y.nmr_yield_pct is not None:
-            bits.append(f"NMR {y.nmr_yield_pct:.0f} %")
-        if y.dr:
-            bits.append(f"dr {y.dr}")
-        if y.ee_pct is not None:
-            bits.append(f"ee {y.ee_pct:.0f} % ({y.ee_source})")
-        out.append(f"  {y.product}: " + (", ".join(bits) if bits else "no yield recorded"))
-    return out
+    return [f"  {y.product}: " + (", ".join(yield_phrases(y)) or "no yield recorded") for y in yields]
 
 
 def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[ProductYield], problem: str | None) -> str:

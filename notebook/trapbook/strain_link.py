@@ -7,6 +7,7 @@ bench checks of every run with that intermediate) is served from the cache.
 
 from __future__ import annotations
 
+import sqlite3
 from typing import Callable
 
 from .errors import TrapbookError
@@ -55,9 +56,9 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
     """The strain of an intermediate, from the notebook's cache or computed and then cached."""
     import time
 
-    from .chemistry import strain
+    from .chemistry.strain_key import cache_key
 
-    key = strain.cache_key(smiles, tier)  # the engine's own name for it (chemistry/strain_key.py)
+    key = cache_key(smiles, tier)  # a cache hit must not load the engine
     if nb is not None and not refresh:
         t0 = time.perf_counter()
         hit = nb.cache_get(key)
@@ -66,12 +67,34 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
             hit["cached"] = True
             hit["cache_seconds"] = time.perf_counter() - t0
             return hit
+    from .chemistry import strain
+
     result = strain.compute_strain(smiles, tier=tier, progress=progress)
     if nb is not None:
         nb.cache_put(key, result.get("smiles", smiles), tier, result.get("engine_version", ""), result)
+        rejudge_runs_with(nb, smiles)
     result = dict(result)
     result["cached"] = False
     return result
+
+
+def rejudge_runs_with(nb, smiles: str) -> list[str]:
+    """Re-run the stored checks of runs with this intermediate: a new strain result can change them."""
+    from .chemistry.molecules import canonical
+
+    try:
+        canon = canonical(smiles)
+        rows = nb.conn.execute(
+            "SELECT DISTINCT rs.run_id FROM run_structures rs JOIN structures s ON s.id = rs.structure_id "
+            "WHERE rs.part = 'intermediate' AND s.smiles = ?",
+            (canon,),
+        ).fetchall()
+    except sqlite3.OperationalError:  # a notebook without search tables: nothing to re-judge by structure
+        return []
+    ids = [r[0] for r in rows]
+    if ids:
+        nb.reindex(ids)
+    return ids
 
 
 ALIGNMENT_TIER = "alignment"

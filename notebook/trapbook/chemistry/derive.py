@@ -7,6 +7,8 @@ the intermediate's SMILES, so a run can be linked to its strain without extra ty
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 from rdkit import Chem
 
 from ..errors import ChemistryError
@@ -42,6 +44,7 @@ def _flip_ring(rw: Chem.RWMol, bond_idx: int) -> None:
             bd.SetBondType(Chem.BondType.SINGLE)
 
 
+@lru_cache(maxsize=4096)
 def intermediate_from_precursor(smiles: str) -> str:
     """SMILES of the intermediate formed by 1,2-elimination of silyl and leaving group."""
     mol = parse(smiles, "precursor SMILES")

@@ -26,6 +26,7 @@ import uuid
 from pathlib import Path
 from typing import Any
 
+from ..phrases import step_phrases
 from ..errors import ExchangeError, RecordError, TrapbookError
 from ..records import Run, load_run
 from ..units import to_canonical
@@ -141,21 +142,7 @@ def _temperature_msg(msg, celsius: float) -> None:
 
 
 def _step_words(i: int, step) -> str:
-    parts = []
-    if step.add:
-        parts.append("add " + ", ".join(step.add))
-    if step.over is not None:
-        parts.append(f"over {to_canonical(step.over, 'duration'):g} min")
-    if step.temperature is not None:
-        parts.append(f"at {to_canonical(step.temperature, 'temperature'):g} °C")
-    if step.hold is not None:
-        parts.append(f"hold {to_canonical(step.hold, 'duration'):g} min")
-    if step.sealed:
-        parts.append("sealed")
-    if step.atmosphere:
-        parts.append(f"under {step.atmosphere}")
-    if step.note:
-        parts.append(f"({step.note})")
+    parts = step_phrases(step)
     return f"step {i}: " + ("; ".join(parts) if parts else "(no detail)")
 
 

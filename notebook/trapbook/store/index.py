@@ -85,7 +85,7 @@ def index_run(nb: "Notebook", run: Run) -> None:
         (
             run.id,
             "; ".join(p.smiles or p.name for p in precursors) or None,
-            run.intermediate_name or run.intermediate,
+            run.intermediate_name or intermediate_smiles(run),
             _names(run, "trap"),
             "; ".join(t.smiles for t in traps if t.smiles) or None,
             _names(run, "fluoride source"),
@@ -132,9 +132,17 @@ def run_structures(run: Run) -> list[tuple[str, str, str]]:
     for line in run.lines:
         if line.role in STRUCTURE_PARTS and line.smiles:
             out.append((line.role, line.name, line.smiles))
-    if run.intermediate:
-        out.append(("intermediate", run.intermediate_name or "intermediate", run.intermediate))
+    smiles = intermediate_smiles(run)
+    if smiles:
+        out.append(("intermediate", run.intermediate_name or "intermediate", smiles))
     return out
+
+
+def intermediate_smiles(run: Run) -> str | None:
+    """The recorded intermediate, else the one the silyl precursor releases (so it is listed and found)."""
+    from ..strain_link import intermediate_of
+
+    return intermediate_of(run)
 
 
 def structure_id(conn, smiles: str) -> int:

@@ -65,16 +65,9 @@ def preview(nb, run_id: str):
     out = Text()
     for y in yields:
         out.append(f"{y.product}: ", style="bold")
-        bits = []
-        if y.isolated_yield_pct is not None:
-            bits.append(f"{y.isolated_yield_pct:.0f} % isolated")
-        if y.nmr_yield_pct is not None:
-            bits.append(f"{y.nmr_yield_pct:.0f} % NMR")
-        if y.dr:
-            bits.append(f"dr {y.dr}")
-        if y.ee_pct is not None:
-            bits.append(f"ee {y.ee_pct:.0f} %")
-        out.append(", ".join(bits) or "no yield recorded")
+        from ..phrases import yield_phrases
+
+        out.append(", ".join(yield_phrases(y)) or "no yield recorded")
         out.append("\n")
     if findings:
         from .text import SEVERITY_MARK, SEVERITY_STYLE

@@ -92,16 +92,9 @@ ROLE_SHORT = {"fluoride source": "fluoride", "internal standard": "int. std"}
 
 def yield_words(y) -> str:
     """One product's yields and selectivity, as a chemist would say them."""
-    bits = []
-    if y.isolated_yield_pct is not None:
-        bits.append(f"{y.isolated_yield_pct:.1f} % isolated ({y.isolated_mmol:.3g} mmol)")
-    if y.nmr_yield_pct is not None:
-        bits.append(f"{y.nmr_yield_pct:.1f} % by qNMR ({y.nmr_mmol:.3g} mmol)")
-    if y.dr:
-        bits.append(f"dr {y.dr}")
-    if y.ee_pct is not None:
-        bits.append(f"ee {y.ee_pct:.1f} % ({y.ee_source})")
-    return ", ".join(bits)
+    from ...phrases import yield_phrases
+
+    return ", ".join(yield_phrases(y, digits=1, with_mmol=True))
 
 
 def yields_each(run, table) -> list[tuple[str, object, str | None]]:
