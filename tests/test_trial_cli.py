@@ -120,3 +120,20 @@ def test_json_keys_are_named_in_help(cli, tmp_path, minimal_run):
         text = " ".join(_help_keys(cli, command).split())
         missing = [k for k in data if k not in text]
         assert not missing, f"{command} --json prints keys its --help does not name: {missing}"
+
+
+@pytest.mark.parametrize("bad", ["2026-13-01", "2026-02-30", "2026-00"])
+def test_search_refuses_dates_not_on_the_calendar(cli, bad):
+    # Source: the Gregorian calendar (ISO 8601): no month 13, no 30 February, no month 0
+    assert cli("init").exit_code == 0
+    res = cli("search", "--date-from", bad)
+    assert res.exit_code == 2 and "is not a date" in res.output
+
+
+def test_planned_runs_carry_no_date_of_their_own(cli, minimal_run, tmp_path):
+    base = dict(minimal_run, date="2026-09-01")
+    p = _write(tmp_path, "base.json", base)
+    res = cli("screen", "plan", str(p), "--vary", "temperature=23 °C,60 °C", "--dry-run", "--json")
+    assert res.exit_code == 0, res.output
+    runs = json.loads(res.output)["runs"]
+    assert len(runs) == 2 and all("date" not in r["run"] for r in runs)

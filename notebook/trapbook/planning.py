@@ -430,7 +430,7 @@ def plan_screen(base: Run, factors: dict[str, list[str]], scale=None, subset=Non
     plan = PlannedScreen(screen, base)
     for n, combo in enumerate(combos, 1):
         data = base.to_json_dict()
-        for k in ("id", "outcome", "attachments", "page"):
+        for k in ("id", "outcome", "attachments", "page", "date"):  # a planned run has not happened yet
             data.pop(k, None)
         if scale is not None:
             _scale_to(data, base, scale)

@@ -31,7 +31,7 @@ def amounts_text(table: AmountTable) -> str:
     rows.append("")
     rows.append(f"limiting: {table.limiting} ({fmt_mmol(table.limiting_mmol)} mmol)")
     if table.concentration_M is not None:
-        rows.append(f"concentration: {table.concentration_M:.3g} M — {table.concentration_basis}")
+        rows.append(f"concentration: {table.concentration_M:#.3g} M — {table.concentration_basis}")
     else:
         rows.append(f"concentration: not known ({table.concentration_basis})")
     return "\n".join(rows)

@@ -367,6 +367,21 @@ def _text_hits(nb, text: str) -> dict[str, tuple[float, list[str]]]:
     return {rid: (1.0, ["text: " + snip]) for rid, _, snip in rows}
 
 
+def _real_date(text: str) -> bool:
+    """A full date must exist on the calendar; a year or year-month bound needs a real month."""
+    import datetime as _dt
+
+    parts = text.split("-")
+    try:
+        if len(parts) == 3:
+            _dt.date.fromisoformat(text)
+        elif len(parts) == 2:
+            return 1 <= int(parts[1]) <= 12
+    except ValueError:
+        return False
+    return True
+
+
 def search(
     nb,
     *,
@@ -458,8 +473,8 @@ def _search(nb, *, substructure, similar, min_similarity, inchikey, trap, fluori
     for value, op, name in ((date_from, ">=", "from"), (date_to, "<=", "to")):
         if value:
             text_date = str(value).strip()
-            if not re.fullmatch(r"\d{4}(-\d{2}(-\d{2})?)?", text_date):
-                raise TrapbookError(f"date {name} '{text_date}' is not written YYYY-MM-DD", "e.g. --date-from 2026-09-01")
+            if not re.fullmatch(r"\d{4}(-\d{2}(-\d{2})?)?", text_date) or not _real_date(text_date):
+                raise TrapbookError(f"date {name} '{text_date}' is not a date written YYYY-MM-DD", "e.g. --date-from 2026-09-01")
             if op == "<=" and len(text_date) < 10:
                 text_date += "-99"  # a year or month bound includes the whole period
             where.append(f"r.date {op} ?")

@@ -64,6 +64,9 @@ def _fmt(v, spec: str, unit: str = "") -> str:
     return "—" if v is None else f"{v:{spec}}{unit}"
 
 
+_BOND_WORD = {"cycloalkyne": "C≡C", "cyclic allene": "C=C=C"}
+
+
 def _strain_text(r: dict) -> str:
     lines = [f"{r.get('smiles')}  ({r.get('kind')})"]
     if r.get("kind") in (None, "none"):
@@ -76,9 +79,10 @@ def _strain_text(r: dict) -> str:
         lines.append(f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in {article} {n}-membered ring (Wiseman)")
     elif r.get("ring_size"):
         lines.append(f"  in a {r['ring_size']}-membered ring")
-    lines.append(f"  olefin strain: {_fmt(r.get('olefin_strain_kcal_mol'), '.1f', ' kcal/mol')} -> {r.get('stability_class')}")
+    what = "olefin strain" if r.get("kind") == "bridgehead alkene" else "pi-bond strain"
+    lines.append(f"  {what}: {_fmt(r.get('olefin_strain_kcal_mol'), '.1f', ' kcal/mol')} -> {r.get('stability_class')}")
     lines.append(f"  twist {_fmt(r.get('twist_deg'), '.1f', '°')}, pyramidalization {_fmt(r.get('pyramidalization_deg'), '.1f', '°')}, "
-                 f"C=C {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
+                 f"{_BOND_WORD.get(r.get('kind'), 'C=C')} {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
                  + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else ""))
     ref = r.get("reference")
     if isinstance(ref, dict) and ref.get("unsaturated"):
