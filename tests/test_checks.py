@@ -12,21 +12,7 @@ from trapbook.chemistry import molecules
 from trapbook.errors import TrapbookError
 from trapbook.records import load_run
 
-# The sample run shipped to every engineer (/tmp/min.json), copied here as a fixture.
-MIN = {
-    "title": "Furan trap of an aryne, TBAF in THF",
-    "lines": [
-        {"role": "precursor", "name": "aryne precursor A", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.200 mmol"},
-        {"role": "fluoride source", "name": "TBAF 1.0 M in THF", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "equiv": 3.0, "molarity": "1.0 M"},
-        {"role": "trap", "name": "furan", "smiles": "c1ccoc1", "equiv": 10, "density": "0.951 g/mL"},
-        {"role": "solvent", "name": "THF", "volume": "2.0 mL"},
-    ],
-    "steps": [
-        {"add": ["aryne precursor A", "furan", "THF"], "temperature": "-78 °C"},
-        {"add": ["TBAF 1.0 M in THF"], "temperature": "-78 °C"},
-        {"hold": "2 h", "temperature": "23 °C"},
-    ],
-}
+from samples import MINIMAL_RUN as MIN  # the minimal run file
 
 PRECURSOR = "aryne precursor A"
 TBAF = "TBAF 1.0 M in THF"
