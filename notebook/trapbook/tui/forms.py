@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import datetime as _dt
 
+from pydantic import ValidationError
+
 from ..errors import TrapbookError
 from ..records import AMOUNT_FIELDS, ROLES, STATUSES  # noqa: F401  (re-exported for screens)
 
@@ -172,3 +174,24 @@ def _resolve_token(tok: str, lines: list[dict]) -> list[str]:
     if role in ROLES:
         return [ln.get("name", "") for ln in lines if ln.get("role") == role]
     return []
+
+
+def row_problem(model, row: dict) -> str | None:
+    """Why a row a form wrote is not a valid `model` (a records model), or None if it is."""
+    try:
+        model.model_validate(row)
+    except ValidationError as exc:
+        return pydantic_words(exc)
+    except TrapbookError as exc:
+        return exc.message
+    return None
+
+
+def pydantic_words(exc: ValidationError) -> str:
+    """A pydantic error as the words a form's message line shows: "field: what is wrong; ..."."""
+    msgs = []
+    for err in exc.errors():
+        where = ".".join(str(x) for x in err.get("loc", ()) if isinstance(x, str))
+        msg = str(err.get("msg", "invalid")).removeprefix("Value error, ")
+        msgs.append(f"{where}: {msg}" if where else msg)
+    return "; ".join(msgs)

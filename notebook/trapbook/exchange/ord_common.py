@@ -1,0 +1,129 @@
+"""What the ORD export and the ORD import must agree on, kept in one place.
+
+A Trapbook-to-Trapbook trip through ORD keeps a run as written only if the reader looks
+for exactly what the writer wrote: the same role map, the same identifier details, the
+same encoding of a feature value, the same units and the same ``reaction_metadata``
+keys. ``ord_export`` and ``ord_import`` take those from here. The feature and metadata
+keys the import accepts as Trapbook's own are listed here too: a key the export starts
+writing belongs in these lists, or the import reports it as not kept. Nothing here
+builds or reads a whole reaction.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from typing import Any
+
+from ..errors import ExchangeError
+
+#: Trapbook role -> ORD ReactionRole name. The trap is incorporated into the product, so
+#: it is a reactant beside the precursor; the feature "trapbook_role" tells them apart.
+ROLE_TO_ORD = {
+    "precursor": "REACTANT",
+    "trap": "REACTANT",
+    "fluoride source": "REAGENT",
+    "additive": "REAGENT",
+    "solvent": "SOLVENT",
+    "internal standard": "INTERNAL_STANDARD",
+}
+
+#: ORD ReactionRole name -> Trapbook role, for a component without a "trapbook_role" feature.
+_ROLE_FROM_ORD = {"REACTANT": "trap", "REAGENT": "additive", "SOLVENT": "solvent", "CATALYST": "additive",
+                  "INTERNAL_STANDARD": "internal standard", "WORKUP": "additive"}
+
+#: The ``details`` of the custom reaction identifiers that carry the run id and title.
+_RUN_ID_DETAILS = "trapbook run id"
+_TITLE_DETAILS = "trapbook title"
+
+#: Compound features a Trapbook export writes on an input component.
+COMPONENT_FEATURES = frozenset({"trapbook_role", "equiv", "molarity_M", "density_g_mL", "molar_mass_g_mol", "purity",
+                                "water_fraction", "marked_limiting", "note"})
+
+#: ``provenance.reaction_metadata`` keys: run fields kept as text, run fields kept as JSON,
+#: and the step sequence and line order (the ORD has one temperature and time per reaction).
+PLAIN_METADATA = ("page", "screen", "status", "intermediate", "intermediate_name", "limiting")
+JSON_METADATA = ("tags", "factors", "attachments")
+STEPS_METADATA = "trapbook_steps"
+LINE_ORDER_METADATA = "trapbook_line_order"
+METADATA_KEYS = PLAIN_METADATA + JSON_METADATA + (STEPS_METADATA, LINE_ORDER_METADATA)
+
+#: ORD unit name -> factor to Trapbook's canonical unit (mmol, mg, µL, min); the export
+#: writes the units whose factor is 1.
+_MOLES = {"MOLE": 1e3, "MILLIMOLE": 1.0, "MICROMOLE": 1e-3, "NANOMOLE": 1e-6}
+_MASS = {"KILOGRAM": 1e6, "GRAM": 1e3, "MILLIGRAM": 1.0, "MICROGRAM": 1e-3}
+_VOLUME = {"LITER": 1e6, "MILLILITER": 1e3, "MICROLITER": 1.0, "NANOLITER": 1e-3}
+_TIME = {"DAY": 1440.0, "HOUR": 60.0, "MINUTE": 1.0, "SECOND": 1 / 60}
+
+
+def _pb():
+    try:
+        from ord_schema.proto import dataset_pb2, reaction_pb2
+    except ImportError as exc:  # pragma: no cover - ord-schema is a dependency
+        raise ExchangeError(f"the ord-schema package is not available ({exc})", "pip install ord-schema") from None
+    return reaction_pb2, dataset_pb2
+
+
+def _data(value: Any):
+    """An ORD Data message: a bool as the string "true"/"false", a number as a float, else a string."""
+    r, _ = _pb()
+    d = r.Data()
+    if isinstance(value, bool):
+        d.string_value = "true" if value else "false"
+    elif isinstance(value, (int, float)):
+        d.float_value = float(value)
+    else:
+        d.string_value = str(value)
+    return d
+
+
+def _data_value(d):
+    kind = d.WhichOneof("kind")
+    if kind == "float_value":
+        return d.float_value
+    if kind == "integer_value":
+        return d.integer_value
+    if kind == "string_value":
+        return d.string_value
+    return None
+
+
+def _f32(v: float) -> float:
+    """ORD stores single-precision floats: 0.1 comes back as 0.10000000149; keep 7 digits."""
+    return float(f"{v:.7g}")
+
+
+def _num(v) -> float | None:
+    if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
+        return _f32(float(v))
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
+
+
+def _unit_value(msg, table: dict) -> float | None:
+    unit = type(msg).DESCRIPTOR.enum_types[0].values_by_number.get(msg.units)
+    factor = table.get(unit.name) if unit is not None else None
+    if factor is None or not math.isfinite(msg.value):
+        return None
+    return _f32(msg.value) * factor
+
+
+def _celsius(msg) -> float | None:
+    if not msg.units or not math.isfinite(msg.value):
+        return None
+    unit = type(msg).TemperatureUnit.Name(msg.units)
+    v = _f32(msg.value)
+    if unit == "CELSIUS":
+        return v
+    if unit == "KELVIN":
+        return v - 273.15
+    if unit == "FAHRENHEIT":
+        return (v - 32.0) * 5.0 / 9.0
+    return None
+
+
+def digest(message) -> str:
+    return hashlib.sha256(message.SerializeToString(deterministic=True)).hexdigest()

@@ -1,0 +1,127 @@
+"""The live run of the Workbench: the form rebuilt with `records.load_run` after every change.
+
+If what was typed loads, the amounts, the addition track, the bench checks and the strain
+card follow it; if it does not, the reason goes to the checks panel and the status line, and
+nothing can be saved. A run that lacks only its title is worked out with a stand-in title,
+so a chemist who starts with the lines sees the amounts at once.
+"""
+
+from __future__ import annotations
+
+import json
+
+from rich.text import Text
+from textual.widgets import Input
+
+from ....errors import TrapbookError
+from ...rundata import clean
+
+
+class LiveRunMixin:
+    """Rebuild the run from `self.data` and refresh every computed panel and the status line."""
+
+    def changed(self) -> None:
+        if self._recompute_timer is not None:
+            self._recompute_timer.stop()
+        self._recompute_timer = self.set_timer(0.05, self.recompute)
+        if self._draft_timer is not None:
+            self._draft_timer.stop()
+        self._draft_timer = self.set_timer(0.6, self.keep_draft)
+
+    @property
+    def dirty(self) -> bool:
+        return json.dumps(self.data, sort_keys=True) != self.original
+
+    def build(self, data: dict | None = None):
+        from ....records import load_run
+
+        return load_run(clean(data if data is not None else self.data))
+
+    def recompute(self) -> None:
+        """Rebuild the run from the form and refresh every computed panel."""
+        from .... import amounts
+
+        self._recompute_timer = None
+        table_problem = None
+        self.run, self.problem, self.provisional = self.provisional_run()
+        self.table = None
+        if self.run is not None:
+            try:
+                self.table = amounts.compute(self.run)
+            except TrapbookError as exc:
+                table_problem = exc.message
+            self.look_up_strain()
+            try:
+                self.findings = self._findings()
+            except TrapbookError as exc:
+                self.findings, table_problem = [], exc.message
+        self.refresh_lines()
+        self.refresh_steps()
+        self.refresh_products()
+        self.refresh_yields()
+        from ...widgets.findings import findings_text
+        from ...widgets.strain_card import card
+        from ...widgets.timeline import track
+
+        findings = self.findings if self.run else None
+        if self.run is not None:
+            self.put("#track", track(self.run, findings))
+        else:
+            self.put("#track", Text("the run is not complete yet", style="italic #8fa3b8"))
+        if self.run is None:
+            self.put("#checks", Text("Checks start once the run has its lines: " + (self.problem or ""), style="italic #f2c14e"))
+        else:
+            self.put("#checks", findings_text(findings, table_problem or (f"not saved yet: {self.problem}" if self.problem else None)))
+        smiles = self.intermediate_smiles()
+        derived = smiles if smiles and not (self.data.get("intermediate") or "").strip() else None
+        if getattr(self, "_derived_shown", None) != derived:
+            self._derived_shown = derived
+            self.query_one("#run-intermediate", Input).placeholder = (
+                f"from the precursor: {derived}" if derived else "SMILES of the strained intermediate")
+        self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note),
+                 key=(smiles, json.dumps(self.strain, sort_keys=True, default=str),
+                      json.dumps(self.alignment, sort_keys=True, default=str), self.strain_note))
+        self.refresh_status()
+
+    def provisional_run(self):
+        """(run, problem, provisional): the run as typed, or as it will be once it has a title.
+
+        A missing title should not keep the amounts and the checks from the chemist who
+        starts with the lines, so the run is tried again with a stand-in title; it still
+        cannot be saved until it has a real one.
+        """
+        try:
+            return self.build(), None, False
+        except TrapbookError as exc:
+            message = exc.message
+        titled = bool((self.data.get("title") or "").strip())
+        has_lines = bool(self.data.get("lines"))
+        missing = ([] if titled else ["a title (Run tab, f2)"]) + ([] if has_lines else ["its lines (Lines tab, f3)"])
+        if not missing:
+            return None, message, False
+        problem = "give the run " + " and ".join(missing)
+        if not has_lines:
+            return None, problem, False
+        try:
+            return self.build({**self.data, "title": "(untitled)"}), problem, True
+        except TrapbookError as exc:
+            return None, f"{problem}; also {exc.message}", False
+
+    def _findings(self):
+        try:
+            from .... import checks
+        except ImportError:
+            return None
+        from ....strain_link import settings_for
+
+        return checks.run_checks(self.run, strain=self.strain, alignment=self.alignment, settings=settings_for(self.nb))
+
+    def refresh_status(self) -> None:
+        where = f"{self.run_id} v{self.base_version}" if self.run_id else "new run (not yet in the notebook)"
+        state = "unsaved changes, kept as a draft" if self.dirty else "no unsaved changes"
+        text = Text(f"{where} · {state} · ")
+        if self.problem:
+            text.append("cannot be saved yet: " + self.problem.replace("\n", " "), style="#ff6f59")
+        else:
+            text.append("complete: ctrl+s saves", style="#9be564")
+        self.put("#status", text, layout=False)
