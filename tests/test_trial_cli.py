@@ -137,3 +137,16 @@ def test_planned_runs_carry_no_date_of_their_own(cli, minimal_run, tmp_path):
     assert res.exit_code == 0, res.output
     runs = json.loads(res.output)["runs"]
     assert len(runs) == 2 and all("date" not in r["run"] for r in runs)
+
+
+def test_import_reads_json_lines_from_stdin(cli, minimal_run):
+    lines = "\n".join(json.dumps(dict(minimal_run, title=f"piped {i}")) for i in range(2)) + "\n"
+    res = cli("import", "-", "--json", input=lines)
+    assert res.exit_code == 0, res.output
+    assert len(json.loads(res.output)["imported"]) == 2
+    titles = sorted(r["title"] for r in json.loads(cli("list", "--json").output))
+    assert titles == ["piped 0", "piped 1"]
+    # a bad record on stdin imports nothing and says where it came from
+    res = cli("import", "-", input=json.dumps({"title": "x"}) + "\n")
+    assert res.exit_code == 2 and "standard input" in res.output
+    assert len(json.loads(cli("list", "--json").output)) == 2

@@ -407,11 +407,12 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
 @pass_ctx
 @guarded
 def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:
-    """Import runs from a file (all or nothing; errors name the record and field)."""
-    from ..exchange import import_path
+    """Import runs from a file, or JSON lines on stdin with '-' (all or nothing; errors name the record and field)."""
+    from ..exchange.jsonl import import_path, import_text
 
+    text = sys.stdin.read() if path == "-" else None
     with ctx.notebook(create=True) as nb:
-        report = import_path(nb, Path(path), author=ctx.author)
+        report = import_text(nb, text, author=ctx.author) if text is not None else import_path(nb, Path(path), author=ctx.author)
     if as_json:
         emit_json(report)
         return

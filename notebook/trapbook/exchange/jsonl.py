@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from ..errors import ExchangeError, RecordError, TrapbookError
+from ..errors import ExchangeError, RecordError
 from ..records import Run, canonical_json, load_run
 
 
@@ -73,6 +73,11 @@ def read_runs(path: Path) -> list[Run]:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise ExchangeError(f"cannot read {path}: {exc}", "give a UTF-8 text file") from None
+    return read_runs_text(text, str(path))
+
+
+def read_runs_text(text: str, path: str) -> list[Run]:
+    """Runs from JSON lines, a JSON list of runs or one run file; `path` names the source in messages."""
     stripped = text.lstrip()
     if stripped.startswith("["):
         try:
@@ -107,15 +112,20 @@ def import_path(nb, path: Path, author: str | None = None) -> dict:
     path = Path(path)
     if path.is_dir() or registry.format_of(path) is not None:
         return registry.import_other(nb, path, author=author)
-    runs = read_runs(path)
+    return import_runs(nb, read_runs(path), str(path), path.name, author)
+
+
+def import_text(nb, text: str, source: str = "standard input", author: str | None = None) -> dict:
+    """Import JSON lines (or a run file, or a JSON list of runs) given as text, e.g. piped in."""
+    return import_runs(nb, read_runs_text(text, source), source, source, author)
+
+
+def import_runs(nb, runs: list[Run], source: str, name: str, author: str | None) -> dict:
     if not runs:
-        raise ExchangeError(f"{path} holds no runs", "check the file")
-    try:
-        results = nb.import_runs(runs, author=author, reason=f"imported from {path.name}")
-    except TrapbookError:
-        raise
+        raise ExchangeError(f"{source} holds no runs", "check the file")
+    results = nb.import_runs(runs, author=author, reason=f"imported from {name}")
     notes = [f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id]
     return {"format": "jsonl", "imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}
 
 
-__all__ = ["export_runs", "import_path", "to_jsonl", "read_runs", "canonical_json"]
+__all__ = ["export_runs", "import_path", "import_text", "to_jsonl", "read_runs", "read_runs_text", "canonical_json"]
