@@ -22,27 +22,29 @@ def test_minimal_run_amounts(minimal_run):
     furan = _line(table, "furan")
     assert furan.volume_ul == pytest.approx(0.200 * 10 * 68.07 / 0.951, rel=1e-3)
     assert round(furan.volume_ul) == 143
-    # 3.0 equiv of a 1.0 M solution on 0.200 mmol = 0.600 mmol = 600 µL (definition of molarity)
+    # Source: REFERENCE.md, equiv_i = n_i / n_limiting, and the definition of molarity (n = c V):
+    # 3.0 equiv of a 1.0 M solution on 0.200 mmol = 0.600 mmol = 600 µL
     tbaf = _line(table, "TBAF 1.0 M in THF")
     assert tbaf.volume_ul == pytest.approx(600.0)
     assert tbaf.mass_mg is None  # a solution is dispensed by volume, not weighed
-    # precursor mass from its formula C10H13F3O3SSi, mass by molmass (independent of RDKit)
+    # Source: molmass (IUPAC atomic weights, independent of RDKit), precursor formula C10H13F3O3SSi
     pre = _line(table, "aryne precursor A")
     assert pre.mass_mg == pytest.approx(0.200 * molmass.Formula("C10H13F3O3SSi").mass, rel=1e-4)
-    assert pre.equiv == pytest.approx(1.0)
-    # concentration refers to the total liquid volume: 2000 + 600 + 143 µL
+    assert pre.equiv == pytest.approx(1.0)  # Source: REFERENCE.md, equiv = n_i / n_limiting (1 for the limiting line)
+    # Source: definition of molar concentration, c = n / V, V the total liquid volume: 2000 + 600 + 143 µL
     assert table.concentration_M == pytest.approx(0.200 / (2.0 + 0.600 + furan.volume_ul / 1000), rel=1e-6)
     assert "total liquid" in table.concentration_basis
 
 
 def test_mass_given_with_purity_gives_mmol(minimal_run):
-    # 59.67 mg at 95 % purity of a 298.36 g/mol solid = 0.190 mmol (definition of purity as mass fraction)
+    # Source: purity as mass fraction, n = m x purity / M (REFERENCE.md qNMR relation); M by molmass:
+    # 59.67 mg at 95 % purity of a 298.36 g/mol solid = 0.190 mmol
     minimal_run["lines"][0] = {"role": "precursor", "name": "aryne precursor A",
                                "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "mass": "59.67 mg", "purity": "95 %"}
     table = amounts.compute(load_run(minimal_run))
     mw = molmass.Formula("C10H13F3O3SSi").mass
     assert table.limiting_mmol == pytest.approx(59.67 * 0.95 / mw, rel=1e-4)
-    # equiv lines scale with the limiting amount
+    # Source: REFERENCE.md, equiv_i = n_i / n_limiting: equiv lines scale with the limiting amount
     assert _line(table, "furan").mmol == pytest.approx(10 * 59.67 * 0.95 / mw, rel=1e-4)
 
 
@@ -54,7 +56,7 @@ def test_hydrate_weighed_by_its_own_molar_mass(minimal_run):
     table = amounts.compute(load_run(minimal_run))
     row = _line(table, "TBAF·3H2O")
     assert row.mass_mg == pytest.approx(0.600 * 315.51, abs=0.05)
-    # three waters per formula unit
+    # Source: formula C16H42FNO3 (REFERENCE.md), three waters per formula unit
     assert row.water_mmol == pytest.approx(3 * 0.600)
 
 
@@ -97,11 +99,12 @@ def test_isolated_yield_and_mass_balance():
                     "recovered_precursor": f"{0.040 * m_pre:.4f} mg"},
     })
     (y,) = amounts.product_yields(run)
-    assert y.isolated_yield_pct == pytest.approx(62.0, abs=0.01)
+    assert y.isolated_yield_pct == pytest.approx(62.0, abs=0.01)  # 0.124 / 0.200 mmol, by the definition above
     # Source: ee = (er - 1)/(er + 1); er 19:1 -> 90 % ee (IUPAC Gold Book E02070)
     assert y.ee_pct == pytest.approx(90.0)
-    # dr is normalised major first
+    # Source: dr as major:minor (DESIGN.md yields); 4:1 -> major fraction 4/5 = 0.8
     assert y.dr == "4:1" and y.dr_major_fraction == pytest.approx(0.8)
+    # Source: mass balance = product yield + recovered precursor; 0.040 / 0.200 mmol = 20 % (molmass M above)
     assert amounts.mass_balance_pct(run) == pytest.approx(62.0 + 20.0, abs=0.01)
 
 

@@ -202,7 +202,8 @@ def test_strain_not_a_dict_is_a_clear_error():
 
 @pytest.mark.parametrize("equiv, severity", [(0.5, "stop"), (1.5, "warn"), (2.0, None), (10, None)])
 def test_trap_low_thresholds(equiv, severity):
-    # 1 equiv: stoichiometry; 2 equiv working minimum: common practice, no source
+    # Source: stoichiometry, one trap per intermediate (below 1 equiv is a stop);
+    # 2 equiv working minimum: common practice, no source
     d = base()
     line(d, "furan")["equiv"] = equiv
     found = [f for f in check(d) if f.code == "trap-low"]
@@ -221,7 +222,7 @@ def test_trap_by_volume_uses_density_on_file():
     del fur["equiv"], fur["density"]
     fur["volume"] = "20 µL"  # 20 µL × 0.951 g/mL / 68.07 g/mol = 0.279 mmol = 1.4 equiv  # Source: REFERENCE.md (density, M)
     assert only(d, "trap-low").severity == "warn"
-    fur["volume"] = "1.0 mL"  # ~70 equiv
+    fur["volume"] = "1.0 mL"  # ~70 equiv  # Source: REFERENCE.md (density, M), as above
     assert "trap-low" not in codes(d)
 
 
@@ -235,7 +236,7 @@ def test_trap_amount_unknown_for_unrecognised_trap_by_volume():
 
 @pytest.mark.parametrize("equiv, fires", [(0.8, True), (1.0, False), (3.0, False)])
 def test_fluoride_low_one_silyl(equiv, fires):
-    # one fluoride per Si removed: stoichiometry of desilylation
+    # Source: stoichiometry of desilylation, one fluoride per Si–C bond cleaved (SETTING_SOURCES)
     d = base()
     line(d, TBAF)["equiv"] = equiv
     assert ("fluoride-low" in codes(d)) is fires
@@ -245,6 +246,7 @@ def test_fluoride_low_counts_every_silicon_on_the_precursor():
     d = base()
     line(d, PRECURSOR)["smiles"] = "C[Si](C)(C)c1ccc([Si](C)(C)C)cc1OS(=O)(=O)C(F)(F)F"
     line(d, TBAF)["equiv"] = 1.5
+    # Source: hand calculation, 1.5 equiv x 0.200 mmol = 0.300 mmol F; 2 Si x 0.200 mmol = 0.400 mmol; 0.300/0.400 = 0.75
     msg = only(d, "fluoride-low").message
     assert "0.300 mmol fluoride for 0.400 mmol of silyl groups" in msg and "0.75 per silyl" in msg
     line(d, TBAF)["equiv"] = 2.0
@@ -257,7 +259,7 @@ def test_tbat_delivers_one_fluoride_not_two():
     d["lines"][1] = {"role": "fluoride source", "name": "TBAT",
                      "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1", "equiv": 0.8}
     d["steps"][1]["add"] = ["TBAT"]
-    assert molecules.fluoride_count(d["lines"][1]["smiles"]) == 2
+    assert molecules.fluoride_count(d["lines"][1]["smiles"]) == 2  # Source: formula C34H51F2NSi (REFERENCE.md), two F
     assert "fluoride-low" in codes(d)
     d["lines"][1]["equiv"] = 1.2
     assert "fluoride-low" not in codes(d)
@@ -302,7 +304,9 @@ def test_commercial_tbaf_solution_water_warns_with_amount():
 
 def test_small_amount_of_tbaf_solution_is_only_a_note():
     d = base()
-    line(d, TBAF)["equiv"] = 0.3  # 0.75 mmol water per mmol precursor, under the default 1.0
+    # Source: REFERENCE.md, 2.5 mol water per mol fluoride (from memory): 0.3 x 2.5 = 0.75 mmol water
+    # per mmol precursor, under the default 1.0 (common practice, no source)
+    line(d, TBAF)["equiv"] = 0.3
     assert only(d, "water-brought").severity == "note"
 
 
@@ -323,14 +327,15 @@ def test_hydrate_water_from_smiles():
                      "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "equiv": 1.5}
     d["steps"][1]["add"] = ["TBAF trihydrate"]
     f = only(d, "water-brought")
-    assert "4.5 mmol per mmol" in f.message  # 3 H2O per formula × 1.5 equiv
+    assert "4.5 mmol per mmol" in f.message  # Source: formula C16H42FNO3 (REFERENCE.md): 3 H2O per formula × 1.5 equiv
 
 
 def test_solution_with_stated_water_uses_the_stated_figure():
     d = base()
     line(d, TBAF)["water"] = "0.5 wt%"  # a tenth of the supplier figure
     f = only(d, "water-brought")
-    # 0.5 wt% × 0.8876 g/mL (THF, CRC) × 0.600 mL / 18.015 g/mol (IUPAC) = 0.148 mmol; 0.74 per mmol
+    # Source: REFERENCE.md THF density 0.8876 g/mL (CRC); water 18.015 g/mol (IUPAC 2021 atomic weights):
+    # 0.5 wt% × 0.8876 g/mL × 0.600 mL / 18.015 g/mol = 0.148 mmol; 0.74 per mmol, under the 1.0 warning level
     expected = 0.005 * 0.8876 * 600 / 18.015 / 0.200
     assert f.severity == "note" and f"{expected:.2g} mmol per mmol" in f.message
 
@@ -401,12 +406,14 @@ def test_sample_run_at_minus_78_in_thf_does_not_freeze():
 
 def test_concentration_too_dilute():
     d = base()
-    line(d, "THF")["volume"] = "50 mL"  # 0.2 mmol in ~51 mL = 0.004 M  # common practice, no source
+    # Source: c = n / V: 0.2 mmol in ~51 mL = 0.004 M, below the 0.01 M default (common practice, no source)
+    line(d, "THF")["volume"] = "50 mL"
     assert only(d, "concentration-unusual").severity == "warn"
-    assert "concentration-unusual" not in codes(base())  # 0.073 M
+    assert "concentration-unusual" not in codes(base())  # 0.200 mmol / 2.743 mL = 0.073 M, inside 0.01-1.0 M
 
 
 def test_concentration_range_is_a_setting():
+    # the sample run's 0.073 M (c = n / V) lies below a 0.1 M lower bound set here
     found = codes(base(), settings=CheckSettings(concentration_low_M=0.1, concentration_high_M=1.0))
     assert "concentration-unusual" in found
 
@@ -462,6 +469,7 @@ def adduct_mg(fraction: float) -> str:
 
 
 def test_yield_over_100():
+    # Source: definition of yield (n_product / n_theoretical cannot exceed 100 %); 120 % fires, 80 % does not
     assert only(with_product(isolated_mass=adduct_mg(1.2)), "yield-over-100").lines == ["adduct"]
     assert "yield-over-100" not in codes(with_product(isolated_mass=adduct_mg(0.8)))
 
@@ -469,6 +477,7 @@ def test_yield_over_100():
 def test_mass_balance_over_105():
     d = with_product(isolated_mass=adduct_mg(0.6))
     prec_mg = 0.200 * molecules.molar_mass(MIN["lines"][0]["smiles"])
+    # 105 % limit: common practice, no source (SETTING_SOURCES); 60 % + 50 % = 110 % is over it
     d["outcome"]["recovered_precursor"] = f"{prec_mg * 0.5:.2f} mg"  # 60 % + 50 % = 110 %
     assert only(d, "mass-balance-high").severity == "warn"
     d["outcome"]["recovered_precursor"] = f"{prec_mg * 0.4:.2f} mg"  # 100 %
@@ -504,6 +513,7 @@ def test_yield_unknown_without_product_smiles():
 
 
 def test_ee_out_of_range():
+    # Source: ee = (er − 1)/(er + 1) (IUPAC Gold Book E02070) lies between 0 and 100 %; 120 cannot be
     assert only(with_product(ee=120), "ee-out-of-range").severity == "warn"
     assert "ee-out-of-range" not in codes(with_product(ee=90))
 
@@ -512,6 +522,7 @@ def test_ee_and_er_disagree():
     # Source: IUPAC Gold Book E02070 — ee = (er − 1)/(er + 1); er 19:1 → 90 % ee
     assert "ee-er-mismatch" not in codes(with_product(er="19:1", ee=90))
     assert "ee-er-mismatch" not in codes(with_product(er="95:5", ee=90))
+    # 95:5 → 90 % ee; a recorded 80 is 10 points off, beyond the 2-point tolerance (common practice, no source)
     assert only(with_product(er="95:5", ee=80), "ee-er-mismatch").lines == ["adduct"]
 
 

@@ -39,6 +39,8 @@ def test_amounts_json_has_stable_keys_and_numbers(cli, minimal_run_file):
 def test_amounts_text_uses_chemists_rounding(cli, minimal_run_file):
     res = cli("amounts", str(minimal_run_file))
     assert res.exit_code == 0
+    # Source: REFERENCE.md furan constants -> 143 µL; 1.0 M TBAF, 0.600 mmol -> 600 µL (n = c V);
+    # 0.200 mmol is the run file's own limiting amount
     assert "143" in res.output and "600" in res.output and "0.200" in res.output
 
 

@@ -49,7 +49,7 @@ def test_every_demo_run_exports_without_validation_errors(demo_notebook):
     # Source: ord_schema.validations.validate_message
     out = validations.validate_message(ds, raise_on_error=False)
     assert out.errors == []
-    assert report["reactions"] == len(runs) == 18
+    assert report["reactions"] == len(runs) == 18  # the demo lab's 18 run files
 
 
 def test_roles_amounts_and_order(minimal_run):
@@ -67,12 +67,13 @@ def test_roles_amounts_and_order(minimal_run):
     # Source: REFERENCE.md, equiv_i = n_i / n_limiting: 10 equiv of furan on 0.200 mmol is 2.00 mmol
     assert furan.amount.moles.value == pytest.approx(2.0, rel=1e-6)
     assert furan.amount.moles.units == reaction_pb2.Moles.MILLIMOLE
-    assert tbaf.amount.moles.value == pytest.approx(0.6, rel=1e-6)
+    assert tbaf.amount.moles.value == pytest.approx(0.6, rel=1e-6)  # Source: as above, 3.0 equiv on 0.200 mmol
     assert thf.amount.volume.value == pytest.approx(2000.0) and thf.amount.volume.units == reaction_pb2.Volume.MICROLITER
     # The trap is in the flask before the fluoride (addition_order), as the run file says.
     assert inp_pre is inp_furan and inp_furan.addition_order < inp_tbaf.addition_order
     # Source: ORD schema, ReactionInput.addition_temperature is the temperature of the addition
     assert inp_tbaf.addition_temperature.value == pytest.approx(-78.0)
+    # Source: the run's 2 h hold; 1 h = 60 min (SI Brochure, 9th ed., Table 8)
     assert rxn.outcomes[0].reaction_time.value == pytest.approx(120.0)
     # common practice, no source: a fluoride source calls for the HF / calcium gluconate caution
     assert "calcium gluconate" in rxn.notes.safety_notes and "SDS" in rxn.notes.safety_notes
@@ -176,10 +177,10 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     assert run.line("MeCN").volume.to("mL").magnitude == pytest.approx(5.0)
     # Source: 353.15 K = 80 °C (definition of the Celsius scale)
     assert run.steps[-1].temperature.to("degC").magnitude == pytest.approx(80.0, abs=1e-3)
-    assert run.steps[-1].hold.to("min").magnitude == pytest.approx(120.0)
+    assert run.steps[-1].hold.to("min").magnitude == pytest.approx(120.0)  # Source: 2 h; 1 h = 60 min (SI Brochure, Table 8)
     # what did not map is reported, not dropped silently
     assert any("64 % yield" in n for n in report["notes"])
-    # equiv from the ORD amounts: 5 mmol furan on 0.5 mmol limiting is 10 equiv
+    # Source: REFERENCE.md equiv_i = n_i / n_limiting: 5 mmol furan on 0.5 mmol limiting is 10 equiv
     assert amounts.compute(run).line("furan").equiv == pytest.approx(10.0)
 
 

@@ -95,6 +95,8 @@ def test_mutated_run_file_gives_a_run_or_a_named_record_error(path, value):
                       st.binary(max_size=100).map(lambda b: b.decode("latin-1"))))
 def test_any_text_gives_a_run_or_a_record_error(text):
     try:
-        load_run_text(text, "fuzz.json")
+        run = load_run_text(text, "fuzz.json")
     except RecordError as exc:
         assert exc.message
+        return
+    assert isinstance(run, Run)

@@ -25,7 +25,7 @@ def _base():
 def test_full_grid_and_levels():
     plan = planning.plan_screen(_base(), {"trap": ["furan", "anthracene"], "temperature": ["23 °C", "60 °C"],
                                           "fluoride": ["TBAF", "CsF/TBAB"]})
-    assert len(plan.runs) == 2 * 2 * 2
+    assert len(plan.runs) == 2 * 2 * 2  # a full factorial grid: the product of the level counts
     combos = {tuple(sorted(pr.run.factors.items())) for pr in plan.runs}
     assert len(combos) == 8
     assert all(pr.run.status == "planned" and pr.run.outcome is None for pr in plan.runs)
@@ -58,18 +58,19 @@ def test_amounts_at_scale_by_hand():
         t = pr.amounts
         assert t.limiting_mmol == pytest.approx(0.250)
         assert t.line(pr.run.lines_by_role("precursor")[0].name).mass_mg == pytest.approx(0.250 * mw_prec, rel=1e-4)
-        # THF volume scales with the amount: 1.0 mL at 0.100 mmol → 2.5 mL at 0.250 mmol (same concentration).
+        # Source: c = n / V kept constant: 1.0 mL at 0.100 mmol (the base run) → 2.5 mL at 0.250 mmol.
         assert t.line("THF").volume_ul == pytest.approx(2500.0)
         trap = t.line(pr.run.factors["trap"])
         assert trap.equiv == pytest.approx(10.0)  # the base's 10 equiv is kept
         if pr.run.factors["trap"] == "furan":
-            # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL (CRC): 2.50 mmol → 178.9 µL
+            # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL (CRC, from memory): 2.50 mmol → 178.9 µL
             assert trap.volume_ul == pytest.approx(2.50 * 68.07 / 0.951, rel=1e-3)
         else:
             # Source: REFERENCE.md anthracene M 178.23 g/mol: 2.50 mmol → 445.6 mg, weighed
             assert trap.mass_mg == pytest.approx(2.50 * 178.23, rel=1e-3)
         tbaf = t.line("TBAF 1.0 M in THF")
-        assert tbaf.volume_ul == pytest.approx(1.5 * 0.250 / 1.0 * 1000)  # 1.5 equiv of a 1.0 M solution
+        # Source: REFERENCE.md equiv_i = n_i / n_limiting and n = c V: 1.5 equiv (the base run's) of a 1.0 M solution
+        assert tbaf.volume_ul == pytest.approx(1.5 * 0.250 / 1.0 * 1000)
 
 
 def test_bench_sheet_lists_every_amount_in_order():

@@ -71,11 +71,13 @@ def test_screen_report_has_heat_map_structures_and_plot(demo_notebook):
     page = reports.screen_report_html(demo_notebook, "SC-0001")
     p = _parse(page)
     _self_contained(p)
-    assert p.tags.get("svg", 0) >= 1 + 1 + 3 + 1  # precursor, intermediate, three traps, the plot
+    assert p.tags.get("svg", 0) >= 1 + 1 + 3 + 1  # precursor, intermediate, three traps, the plot (demo SC-0001 files)
     assert "figure_1" in p.ids  # matplotlib's SVG root group: the strain-vs-outcome plot is inline
     cells = [v for tag, k, v in p.attrs if tag == "td" and k == "style" and v.startswith("background:")]
-    assert len(cells) == 6  # 3 traps × 2 temperatures
+    assert len(cells) == 6  # 3 traps × 2 temperatures  # Source: the demo lab's SC-0001 run files
     text = " ".join(p.text)
+    # Source: the demo lab's run files: TB-0018 (anthracene, 120 °C) has the highest isolated yield of
+    # SC-0001, mass / M (molmass) / 0.100 mmol, as test_review.test_demo_review_names_the_best_conditions derives
     assert "Best run:" in text and "TB-0018" in text
 
 
@@ -138,6 +140,7 @@ def test_csv_export_has_units_in_headers_and_reads_back(demo_notebook):
     r13 = next(r for r in rows if r["run id"] == "TB-0013")
     # Source: molmass M(C13H18O); demo TB-0013: 7.2 mg furan adduct at 0.100 mmol.
     assert float(r13["isolated yield (%)"]) == pytest.approx(7.2 / Formula("C13H18O").mass / 0.100 * 100, rel=1e-3)
+    # Source: demo TB-0013's own steps (80 °C, 16 h); 1 h = 60 min (SI Brochure, Table 8)
     assert float(r13["T max (°C)"]) == 80.0 and float(r13["time (min)"]) == 16 * 60
     assert r13["level: trap"] == "furan"
 

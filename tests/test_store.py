@@ -1,5 +1,6 @@
 """The notebook: immutable versions with a hash chain, stale saves refused, nothing deleted."""
 
+import hashlib
 import json
 
 import pytest
@@ -44,8 +45,13 @@ def test_version_hashes_chain(notebook, minimal_run):
     prev = None
     for version, author, time, reason, action, prev_hash, h, data in rows:
         # Source: SHA-256 (FIPS 180-4) via hashlib, recomputed here from the stored fields
+        # (sorted-key, no-space JSON of the metadata and the data's own SHA-256), not via Trapbook
         assert prev_hash == prev
         assert h == version_hash(res.run_id, version, author, time, reason, action, prev, data)
+        link = {"run": res.run_id, "version": version, "author": author, "time": time, "reason": reason,
+                "action": action, "prev": prev, "data_sha256": hashlib.sha256(data.encode()).hexdigest()}
+        payload = json.dumps(link, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+        assert h == hashlib.sha256(payload.encode()).hexdigest()
         assert json.loads(data) == json.loads(canonical_json(json.loads(data)))
         prev = h
     assert notebook.run_meta(res.run_id)["hash"] == prev

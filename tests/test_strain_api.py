@@ -19,8 +19,9 @@ STABLE_KEYS = {
 
 @pytest.mark.parametrize(
     "os_kcal,expected",
-    # Source: Maier & Schleyer, JACS 1981, 103, 1891 (via REFERENCE.md): <0 hyperstable,
-    # <=17 isolable, 17-21 observable, >21 unstable.
+    # Source: Maier & Schleyer, JACS 1981, 103, 1891 (via REFERENCE.md): <=17 isolable,
+    # 17-21 observable, >21 unstable; <0 hyperstable is not in REFERENCE.md, from DESIGN.md
+    # (same paper, not looked up: from memory).
     [(-3.0, "hyperstable"), (0.0, "isolable"), (17.0, "isolable"), (17.5, "observable"),
      (21.0, "observable"), (21.1, "unstable"), (None, None)],
 )
@@ -79,4 +80,5 @@ def test_hard_to_embed_bridgehead_alkene_still_gives_a_number():
     # return quickly with a structure.
     r = strain.compute_strain("C12=CCC(CC1)CC2", tier="fast")
     assert r["olefin_strain_kcal_mol"] is not None
+    # 20 s: common practice, no source (DESIGN.md saw ~70 s, then no conformer, from plain ETKDG)
     assert r["seconds"] < 20

@@ -111,7 +111,8 @@ async def test_new_run_by_keyboard_shows_furan_volume(demo_path):
         # Source: REFERENCE.md, furan M 68.07 g/mol and density 0.951 g/mL (CRC, from memory):
         # 0.200 mmol × 10 × 68.07 g/mol / 0.951 g/mL = 143 µL
         assert lines_cell(screen, "furan", "µL") == str(round(0.200 * 10 * 68.07 / 0.951))
-        # 0.200 mmol × 1.5 equiv / 1.0 M = 300 µL of TBAF solution (definition of molarity)
+        # Source: REFERENCE.md equiv_i = n_i / n_limiting and the definition of molarity (n = c V):
+        # 0.200 mmol × 1.5 equiv / 1.0 M = 300 µL of TBAF solution
         assert lines_cell(screen, "TBAF", "µL") == "300"
         assert screen.problem is None
 
@@ -384,7 +385,7 @@ async def test_mark_limiting_line(demo_path):
         # Definition of equiv (REFERENCE.md: equiv_i = n_i / n_limiting) and of molarity:
         # TBAF 1.5 equiv × 1.00 mmol furan = 1.50 mmol; at 1.0 M that is 1500 µL
         assert lines_cell(screen, "TBAF", "µL") == "1500"
-        assert lines_cell(screen, "silyl", "equiv") == "0.1"  # 0.100 mmol / 1.00 mmol
+        assert lines_cell(screen, "silyl", "equiv") == "0.1"  # 0.100 mmol / 1.00 mmol, by the same definition
         await pilot.press("ctrl+l")  # again: unmarked, the precursor is limiting once more
         await pilot.pause(0.2)
         assert screen.table.limiting.startswith("silyl triflate")
@@ -437,7 +438,7 @@ async def test_amounts_before_a_title_and_role_words(demo_path):
             await pilot.press("enter")
             await pilot.pause()
         await pilot.pause(0.2)
-        # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL: 0.200 × 10 × 68.07 / 0.951 = 143 µL
+        # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL (CRC, from memory): 0.200 × 10 × 68.07 / 0.951 = 143 µL
         assert lines_cell(screen, "furan", "µL") == "143"
         assert screen.problem == "give the run a title (Run tab, f2)"
         assert screen.data["lines"][2]["role"] == "fluoride source"

@@ -21,12 +21,16 @@ from trapbook.units import dump_quantity, parse_quantity, to_canonical
         ("59.7 mg", "mass", 59.7),
         ("1.0 M", "molarity", 1.0),
         ("250 mM", "molarity", 0.25),
+        # Source: SI Brochure, 9th ed., Table 8 (non-SI units accepted for use): 1 h = 60 min
         ("2 h", "duration", 120.0),
         ("30 min", "duration", 30.0),
+        # Source: REFERENCE.md, equiv_i = n_i / n_limiting (a plain number)
         ("3 equiv", "equiv", 3.0),
         ("3 eq", "equiv", 3.0),
+        # Source: ISO 80000-1, percent = 0.01
         ("98 %", "fraction", 0.98),
         ("5 wt%", "fraction", 0.05),
+        # Source: identity, g/mL is the stored unit of density
         ("0.951 g/mL", "density", 0.951),
     ],
 )
