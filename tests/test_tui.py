@@ -464,3 +464,121 @@ def test_alignment_is_cached_under_the_canonical_structure(tmp_path):
         # common practice, no source: ortho substituents on a benzene ring are coplanar (0°)
         assert first["dihedral_deg"] < 10
         assert get_alignment(nb, same, compute=False) == first
+
+
+async def test_a_refused_field_is_said_in_full_below_its_form(demo_path):
+    """The column beside a field is short; what it refuses is said in full under the form."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        screen = app.screen
+        await type_text(pilot, "pre")  # not yet a role: the whole list of roles, not "give a name"
+        await pilot.pause()
+        said = str(screen.query_one("#line-msg").render())
+        assert "role is one of" in said and "solvent" in said and "internal standard" in said
+        assert screen.query_one("#status").size.height == 2  # "cannot be saved yet: ..." is not cut off
+        await pilot.press("f4", "tab")
+        await type_text(pilot, "-78 C")  # a bare C is the coulomb: the answer says to write °C
+        await pilot.pause()
+        assert "not a temperature" in str(screen.query_one("#msg-step-temperature").render())
+        assert "'-78 °C'" in str(screen.query_one("#step-msg").render())
+        await pilot.press(*["backspace"] * 5)
+        await type_text(pilot, "23 °C")
+        await pilot.pause()
+        assert str(screen.query_one("#step-msg").render()).startswith("→ nothing added (a hold")
+
+
+async def test_copy_as_plan_is_written_by_whoever_copies_it(demo_path):
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("c")  # TB-0001, by L. Brandt in the demo lab
+        await pilot.pause()
+        screen = app.screen
+        assert screen.data["title"].startswith("Plan from TB-0001")
+        assert screen.data["chemist"] == "pilot"
+        await pilot.press("f2")
+        assert screen.query_one("#run-chemist").value == "pilot"
+
+
+async def test_narrow_terminal_keeps_f1_and_the_addition_track_in_sight(demo_path):
+    """At 100 columns the side panel gives room, the footer still ends in f1, the track does not wrap."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=(100, 30)) as pilot:
+        await pilot.press("e")  # TB-0001: four steps
+        await pilot.pause(0.3)
+        screen = app.screen
+        assert screen.has_class("-narrow")
+        keys = [k for k in screen.query("FooterKey") if k.key == "f1"]
+        assert keys and keys[0].region.right <= 100
+        await pilot.press("f4", "tab")  # a fifth step, a hold at room temperature
+        await type_text(pilot, "23 °C")
+        await pilot.press("enter")
+        await pilot.pause(0.3)
+        track = screen.query_one("#track")
+        lines = str(track.render()).splitlines()
+        assert lines[0].split() == ["1", "2", "3", "4", "5"]
+        lanes = lines[:5]  # step numbers, temperatures, precursor, trap, fluoride (the verdict may wrap)
+        assert all(len(line.rstrip()) <= track.content_size.width for line in lanes), lanes
+
+
+def test_preview_names_each_finding_once(demo_path):
+    """TB-0001 has three material cautions (furan, TBAF, THF): one mark with a count, not three."""
+    from rich.console import Console
+    from trapbook.tui.preview import preview
+
+    with Notebook.open(demo_path) as nb:
+        console = Console(width=120, record=True)
+        console.print(preview(nb, "TB-0001"))
+        text = console.export_text()
+    assert text.count("material-caution") == 1
+    assert "material-caution ×" in text
+
+
+def test_a_lane_never_added_is_said_in_words_that_fit(demo_path):
+    """A trap no step adds reads 'never added' within the panel, however many steps the run has."""
+    from trapbook.tui.widgets.timeline import LABEL_W, track
+
+    with Notebook.open(demo_path) as nb:
+        run = nb.get_run("TB-0001")
+    steps = [st.model_copy(update={"add": [n for n in st.add if n != "furan"]}) for st in run.steps]
+    run = run.model_copy(update={"steps": steps + [steps[-1].model_copy(update={"add": []})]})
+    lane = next(line for line in str(track(run, [], width=37)).splitlines() if line.startswith("trap"))
+    assert lane.rstrip() == "trap".ljust(LABEL_W) + "never added in any step"
+
+
+async def test_leaving_with_a_line_typed_but_not_kept_asks_first(demo_path):
+    """A whole line typed without Enter is unsaved work: Esc asks, and 'keep' keeps it in the draft."""
+    from trapbook.tui.screens.dialogs import LeaveDialog
+
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("n")
+        await pilot.pause()
+        await new_field(pilot, "trap")
+        await new_field(pilot, "furan")
+        await new_field(pilot, "c1ccoc1")
+        await type_text(pilot, "10 equiv")
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, LeaveDialog)
+        await pilot.press("k")
+        await pilot.pause()
+        assert isinstance(app.screen, LogbookScreen)
+    with Notebook.open(demo_path) as nb:
+        draft = nb.get_setting("draft:new")
+    assert [ln["name"] for ln in draft["data"]["lines"]] == ["furan"]
+
+
+async def test_looking_at_a_kept_row_is_not_unsaved_work(demo_path):
+    """Loading a kept line into its form (Enter on the row) and leaving asks nothing."""
+    app = TrapbookApp(demo_path, author="pilot", warm=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("e")  # TB-0001
+        await pilot.pause()
+        await pilot.press("shift+tab", "down", "enter")  # the furan line into the form
+        await pilot.pause()
+        assert app.screen.query_one("#line-name").value == "furan"
+        await pilot.press("escape")
+        await pilot.pause()
+        assert isinstance(app.screen, LogbookScreen)

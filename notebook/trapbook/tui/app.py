@@ -23,6 +23,8 @@ class TrapbookApp(App):
     CSS_PATH = "app.tcss"
     TITLE = "Trapbook"
     ENABLE_COMMAND_PALETTE = False
+    #: Under 120 columns the side panels give the forms room (`.-narrow` in app.tcss).
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
     BINDINGS = [
         Binding("f1", "keys", "Keys"),
         Binding("ctrl+q", "quit", "Quit", priority=True),

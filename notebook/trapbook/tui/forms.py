@@ -9,6 +9,7 @@ molarity (stock solution). Every check returns (ok, message) for the field's mes
 from __future__ import annotations
 
 import datetime as _dt
+import re
 
 from pydantic import ValidationError
 
@@ -50,6 +51,14 @@ def which_form(text: str) -> tuple[str, object]:
     raise TrapbookError(f"'{text}' is neither a molarity nor a density", "write e.g. '1.0 M' (solution) or '0.951 g/mL' (neat liquid)")
 
 
+def _words(exc: TrapbookError) -> str:
+    """A refusal as a field says it: what is wrong, then what to write instead."""
+    return exc.message + (f"; {exc.hint}" if exc.hint else "")
+
+
+_BARE_C = re.compile(r"^\s*[-+−]?\d+(?:[.,]\d+)?\s*C\s*$")
+
+
 def check_smiles(text: str) -> tuple[bool, str]:
     from ..chemistry import molecules
 
@@ -57,7 +66,7 @@ def check_smiles(text: str) -> tuple[bool, str]:
         mw = molecules.molar_mass(text)
         return True, f"{molecules.formula(text)} · {mw:.2f} g/mol"
     except TrapbookError as exc:
-        return False, exc.message
+        return False, _words(exc)
 
 
 def check_amount(text: str) -> tuple[bool, str]:
@@ -65,7 +74,7 @@ def check_amount(text: str) -> tuple[bool, str]:
         kind, _ = which_amount(text)
         return True, f"given as {kind}"
     except TrapbookError as exc:
-        return False, exc.message
+        return False, _words(exc)
 
 
 def check_form(text: str) -> tuple[bool, str]:
@@ -73,18 +82,20 @@ def check_form(text: str) -> tuple[bool, str]:
         kind, _ = which_form(text)
         return True, "stock solution" if kind == "molarity" else "neat liquid"
     except TrapbookError as exc:
-        return False, exc.message
+        return False, _words(exc)
 
 
 def check_kind(kind: str, words: str):
     def check(text: str) -> tuple[bool, str]:
         from ..units import parse_quantity
 
+        if kind == "temperature" and _BARE_C.match(text):  # a bare C is the coulomb to the unit parser
+            return False, f"'{text}': a bare C is not a temperature; write '{text.strip()[:-1].strip()} °C' (or degC)"
         try:
             parse_quantity(text, kind)
             return True, ""
         except TrapbookError as exc:
-            return False, exc.message
+            return False, _words(exc)
 
     check.__doc__ = f"Accepts {words}."
     return check

@@ -72,10 +72,14 @@ def preview(nb, run_id: str):
     if findings:
         from .text import SEVERITY_MARK, SEVERITY_STYLE
 
-        for f in findings[:3]:
-            out.append(f"{SEVERITY_MARK[f.severity]} {f.code} ", style=SEVERITY_STYLE[f.severity])
-        if len(findings) > 3:
-            out.append(f"+{len(findings) - 3} more", style="#8fa3b8")
+        codes: dict[str, list] = {}  # one mark per code, most severe first, with how often it came
+        for f in findings:
+            codes.setdefault(f.code, []).append(f)
+        for code, same in list(codes.items())[:3]:
+            times = f" ×{len(same)}" if len(same) > 1 else ""
+            out.append(f"{SEVERITY_MARK[same[0].severity]} {code}{times} ", style=SEVERITY_STYLE[same[0].severity])
+        if len(codes) > 3:
+            out.append(f"+{len(codes) - 3} more", style="#8fa3b8")
     grid.add_row(track(run, findings), out)
     parts.append(grid)
     return Group(*parts)

@@ -48,7 +48,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
 
     BINDINGS = [
         Binding("ctrl+s", "save", "Save"),
-        Binding("f2", "tab('tab-run')", "Tabs", key_display="f2-f5"),
+        Binding("f2", "tab('tab-run')", "Run tab", show=False),  # the tab titles show f2-f5
         Binding("f3", "tab('tab-lines')", "Lines tab", show=False),
         Binding("f4", "tab('tab-steps')", "Steps tab", show=False),
         Binding("f5", "tab('tab-outcome')", "Outcome tab", show=False),
@@ -158,6 +158,10 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         self.load()
         self.query_one("#line-role", Input).focus()
 
+    def on_resize(self) -> None:
+        if self.run is not None:  # the addition track is drawn to the width the side panel has
+            self.call_after_refresh(self.recompute)
+
     @property
     def nb(self):
         return self.app.nb
@@ -174,6 +178,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             self.data = form_data(self.nb.get_run(self.run_id).to_json_dict())
         elif self.copy_of:
             self.data = form_data(plan_from(self.nb.get_run(self.copy_of).to_json_dict()))
+            self.data["chemist"] = self.app.author  # the plan is the new run of whoever copies it
         else:
             self.data = {"title": "", "chemist": self.app.author, "date": _dt.date.today().isoformat(),
                          "status": "planned", "lines": [], "steps": []}
@@ -388,10 +393,35 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         else:
             self.notify("A new run has no history until it is saved (ctrl+s).")
 
+    def rows_in_forms(self) -> bool:
+        """Whether a line, step or product result is typed into its form but not kept yet.
+
+        A kept row only loaded into its form (to look at or change) counts once it differs.
+        """
+        def with_step(step: dict) -> dict:
+            steps = list(self.data.get("steps", []))
+            steps[self.step_index] = step
+            return {**self.data, "steps": steps}
+
+        def plain(value):  # an unticked box reads the same as one never set
+            if isinstance(value, dict):
+                return {k: plain(v) for k, v in value.items() if v not in (False, None, "")}
+            return [plain(v) for v in value] if isinstance(value, list) else value
+
+        same = plain(self.data)
+        for (row, why), index, apply in ((self.line_form(), self.line_index, self.with_line),
+                                         (self.step_form(), self.step_index, with_step),
+                                         (self.product_form(), self.product_index, self.with_product)):
+            if index is None and (row is not None or why):
+                return True
+            if index is not None and (why or (row is not None and plain(apply(row)) != same)):
+                return True
+        return False
+
     def action_leave(self) -> None:
         if self.run_id:
             self.app.last_run = self.run_id
-        if not self.dirty:
+        if not self.dirty and not self.rows_in_forms():  # a row typed but not kept is unsaved work too
             self.drop_draft()
             self.app.pop_screen()
             return
@@ -401,6 +431,10 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
 
     def _leave_answer(self, answer: str | None) -> None:
         if answer == "keep":
+            for form, commit in ((self.line_form, self.commit_line), (self.step_form, self.commit_step),
+                                 (self.product_form, self.commit_product)):
+                if form()[0] is not None:  # a complete row still in its form goes into the draft
+                    commit(focus=False)
             self.keep_draft()
             self.app.pop_screen()
         elif answer == "discard":

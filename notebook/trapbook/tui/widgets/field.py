@@ -53,6 +53,14 @@ class Field(Horizontal):
         msg.update(text, layout=False)
         msg.set_class(not ok, "bad")
 
+    @property
+    def problem(self) -> str | None:
+        """What the check refused, in full (the column beside the field may cut it short)."""
+        text, ok = getattr(self, "_shown", ("", True))
+        if ok or not text:
+            return None
+        return text if text.startswith(self.label) else f"{self.label}: {text}"
+
     def run_check(self) -> bool:
         """Check the current text; empty text is always fine (the field is optional)."""
         text = self.input.value.strip()

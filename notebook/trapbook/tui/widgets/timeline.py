@@ -38,14 +38,19 @@ def _temp(step) -> str:
     return f"{to_canonical(step.temperature, 'temperature'):.0f}°"
 
 
-def track(run, findings: list | None) -> Text:
-    """The track as Rich text; `findings` are the bench checks of the same run."""
+def track(run, findings: list | None, width: int | None = None) -> Text:
+    """The track as Rich text; `findings` are the bench checks of the same run.
+
+    Given the `width` it has, the steps are drawn narrower rather than wrapped.
+    """
     out = Text()
     n = len(run.steps)
     if n == 0:
         out.append("No steps yet: say what goes in when (Steps tab).", style="italic #8fa3b8")
         return out
     cell = 6 if n <= 5 else 4 if n <= 8 else 3
+    while width and cell > 3 and LABEL_W + n * cell > width:
+        cell -= 1
     first = _entry_steps(run)
     out.append(" " * LABEL_W)
     for i in range(n):
@@ -64,15 +69,16 @@ def track(run, findings: list | None) -> Text:
         for line in lines:
             at = first.get(line.name.casefold())
             out.append(f"{label[:LABEL_W - 1]:<{LABEL_W}}", style=colour)
+            if at is None:  # said in words, which fit the panel however many steps there are
+                out.append("never added in any step\n", style="#f2c14e")
+                continue
             for i in range(n):
-                if at is None or i < at:
+                if i < at:
                     out.append("·".ljust(cell), style="#4a5866")
                 elif i == at:
                     out.append("●" + "━" * (cell - 1), style=f"bold {colour}")
                 else:
                     out.append("━" * cell, style=colour)
-            if at is None:
-                out.append(" never added", style="#f2c14e")
             out.append("\n")
     out.append(verdict(run, findings))
     return out

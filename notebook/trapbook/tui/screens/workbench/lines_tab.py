@@ -17,11 +17,11 @@ from ... import forms
 from ...text import clip, qtext
 
 LINE_FIELDS = (
-    ("role", "Role", "precursor, trap, fluoride source, solvent…", forms.check_role, forms.ROLE_WORDS),
+    ("role", "Role", "precursor, trap, fluoride source…", forms.check_role, forms.ROLE_WORDS),
     ("name", "Name", "compound name as on the bottle", None, None),
-    ("smiles", "SMILES", "of the form weighed, salts and water in", forms.check_smiles, None),
-    ("amount", "Amount", "10 equiv · 0.200 mmol · 25 mg · 143 µL", forms.check_amount, None),
-    ("form", "Density / M", "0.951 g/mL (liquid) or 1.0 M (solution)", forms.check_form, None),
+    ("smiles", "SMILES", "as weighed (salt, hydrate)", forms.check_smiles, None),
+    ("amount", "Amount", "10 equiv, 0.2 mmol, 25 mg, 143 µL", forms.check_amount, None),
+    ("form", "Density / M", "0.951 g/mL neat, or 1.0 M stock", forms.check_form, None),
     ("purity", "Purity", "e.g. 98 %", forms.check_kind("fraction", "a fraction"), None),
     ("water", "Water", "e.g. 5 wt%", forms.check_kind("fraction", "a fraction"), None),
 )
@@ -109,6 +109,10 @@ class LinesTabMixin:
         def say(text: Text) -> None:
             self.put("#line-msg", text, layout=False)
 
+        bad = self.field_problem("line", LINE_FIELDS)
+        if bad:  # the field's own words in full, not only what fits beside it
+            say(Text(bad, style="#ff6f59"))
+            return
         if line is None:
             say(Text(why or "", style="#ff6f59"))
             return

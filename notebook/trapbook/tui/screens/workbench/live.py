@@ -65,7 +65,7 @@ class LiveRunMixin:
 
         findings = self.findings if self.run else None
         if self.run is not None:
-            self.put("#track", track(self.run, findings))
+            self.put("#track", track(self.run, findings, self.query_one("#track").content_size.width or None))
         else:
             self.put("#track", Text("the run is not complete yet", style="italic #8fa3b8"))
         if self.run is None:
@@ -77,7 +77,7 @@ class LiveRunMixin:
         if getattr(self, "_derived_shown", None) != derived:
             self._derived_shown = derived
             self.query_one("#run-intermediate", Input).placeholder = (
-                f"from the precursor: {derived}" if derived else "SMILES of the strained intermediate")
+                f"from precursor: {derived}" if derived else "SMILES of the strained intermediate")
         self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note),
                  key=(smiles, json.dumps(self.strain, sort_keys=True, default=str),
                       json.dumps(self.alignment, sort_keys=True, default=str), self.strain_note))

@@ -99,8 +99,9 @@ class OutcomeTabMixin:
         from .... import amounts
 
         entry, why = self.product_form()
-        if entry is None:
-            self.put("#prod-msg", Text(why or "", style="#ff6f59"), layout=False)
+        bad = self.field_problem("prod", PRODUCT_FIELDS)
+        if entry is None or bad:
+            self.put("#prod-msg", Text(bad or why or "", style="#ff6f59"), layout=False)
             return
         data = self.with_product(entry)
         if not (data.get("title") or "").strip():

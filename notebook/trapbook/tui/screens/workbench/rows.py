@@ -23,6 +23,16 @@ class TabRowsMixin:
             self.query_one(box, Checkbox).value = False
         self._loading = False
 
+    def field_problem(self, prefix: str, fields) -> str | None:
+        """The first field of a row form whose check refuses its text, in full ("Amount: ...")."""
+        from ...widgets.field import Field
+
+        for key, *_ in fields:
+            problem = self.query_one(f"#row-{prefix}-{key}", Field).problem
+            if problem:
+                return problem
+        return None
+
     def keep_row(self, form, msg: str, with_row, blank, focus: bool = True) -> bool:
         """Enter on a row form: the run takes its row and the form starts afresh, or `msg` says why not."""
         row, why = form()

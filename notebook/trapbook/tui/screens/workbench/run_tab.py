@@ -21,7 +21,7 @@ RUN_FIELDS = (
     ("date", "Date", "YYYY-MM-DD", forms.check_date, None),
     ("status", "Status", "planned · running · done · failed", forms.check_status, list(forms.STATUSES)),
     ("page", "Page", "paper notebook page", None, None),
-    ("screen", "Screen", "id of its condition screen, e.g. SC-0001", None, None),
+    ("screen", "Screen", "condition screen id, e.g. SC-0001", None, None),
     ("intermediate", "Intermediate", "SMILES of the strained intermediate", forms.check_smiles, None),
     ("intermediate_name", "Its name", "e.g. bicyclo[3.3.1]non-1-ene", None, None),
     ("tags", "Tags", "comma separated", None, None),

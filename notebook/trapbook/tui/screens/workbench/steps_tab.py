@@ -15,7 +15,7 @@ from ...text import clip, qtext
 STEP_FIELDS = (
     ("add", "Adds", "1 + 3 · precursor; trap · names", None, None),
     ("temperature", "Temperature", "e.g. -78 °C", forms.check_kind("temperature", "a temperature"), None),
-    ("hold", "Hold", "time kept after the additions, e.g. 2 h", forms.check_kind("duration", "a time"), None),
+    ("hold", "Hold", "stirred after adding, e.g. 2 h", forms.check_kind("duration", "a time"), None),
     ("over", "Added over", "e.g. 10 min (dropwise)", forms.check_kind("duration", "a time"), None),
     ("atmosphere", "Atmosphere", "e.g. N2", None, None),
     ("note", "Note", "", None, None),
@@ -49,11 +49,14 @@ class StepsTabMixin:
 
     def preview_step(self) -> None:
         step, why = self.step_form()
-        if step is None:
+        bad = self.field_problem("step", STEP_FIELDS)
+        if bad:  # the field's own words in full, not only what fits beside it
+            self.put("#step-msg", Text(bad, style="#ff6f59"), layout=False)
+        elif step is None:
             self.put("#step-msg", Text(why or "", style="#ff6f59"), layout=False)
         else:
-            adds = ", ".join(step["add"]) or "nothing added (a hold or temperature change)"
-            self.put("#step-msg", Text(f"→ adds {adds}   (Enter keeps this step)", style="#9be564"), layout=False)
+            adds = f"adds {', '.join(step['add'])}" if step["add"] else "nothing added (a hold or temperature change)"
+            self.put("#step-msg", Text(f"→ {adds}   (Enter keeps this step)", style="#9be564"), layout=False)
 
     def commit_step(self, focus: bool = True) -> bool:
         step, why = self.step_form()
