@@ -449,6 +449,23 @@ def _show(v: Any) -> str:
     return s if len(s) <= 60 else s[:57] + "..."
 
 
+def _is_quantity(v: Any) -> bool:
+    return isinstance(v, dict) and set(v) <= {"value", "unit"} and "value" in v
+
+
+def _added(v: Any, path: str, out: list[str]) -> None:
+    """A new field said leaf by leaf ("outcome.products[adduct].isolated_mass: added 21 mg"), not as JSON."""
+    if isinstance(v, dict) and v and not _is_quantity(v):
+        for k in v:
+            _added(v[k], f"{path}.{k}", out)
+    elif isinstance(v, list) and v and all(isinstance(x, dict) for x in v):
+        for i, x in enumerate(v, 1):
+            label = x.get("product") or x.get("name") or i
+            _added(x, f"{path}[{label}]", out)
+    else:
+        out.append(f"{path}: added {_show(v)}")
+
+
 def _diff(old: Any, new: Any, path: str, out: list[str]) -> None:
     if old == new:
         return
@@ -456,7 +473,7 @@ def _diff(old: Any, new: Any, path: str, out: list[str]) -> None:
         for k in sorted(set(old) | set(new), key=str):
             p = f"{path}.{k}" if path else str(k)
             if k not in old:
-                out.append(f"{p}: added {_show(new[k])}")
+                _added(new[k], p, out)
             elif k not in new:
                 out.append(f"{p}: removed (was {_show(old[k])})")
             else:
