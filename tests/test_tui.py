@@ -54,6 +54,15 @@ async def new_field(pilot, text: str) -> None:
     await pilot.press("tab")
 
 
+async def enter_line(pilot, role: str, name: str, smiles: str, amount: str, form: str) -> None:
+    """Fill the line form (role, name, SMILES, amount, density/molarity) and keep it with Enter."""
+    for text in (role, name, smiles, amount):
+        await new_field(pilot, text)
+    await type_text(pilot, form)
+    await pilot.press("enter")
+    await pilot.pause()
+
+
 async def write_run(pilot, trap_late: bool = False) -> WorkbenchScreen:
     """From the Logbook: a new run with precursor, furan, TBAF and THF, all by keyboard."""
     await pilot.press("n")
@@ -70,13 +79,7 @@ async def write_run(pilot, trap_late: bool = False) -> WorkbenchScreen:
         ("fluoride source", "TBAF 1.0 M in THF", "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "1.5 equiv", "1.0 M"),
         ("solvent", "THF", "C1CCOC1", "2.0 mL", ""),
     ):
-        await new_field(pilot, role)
-        await new_field(pilot, name)
-        await new_field(pilot, smiles)
-        await new_field(pilot, amount)
-        await type_text(pilot, form)
-        await pilot.press("enter")
-        await pilot.pause()
+        await enter_line(pilot, role, name, smiles, amount, form)
     await pilot.press("f4")
     order = ["precursor + solvent", "fluoride source", "trap"] if trap_late else ["precursor + trap + solvent", "fluoride source"]
     for adds in order:
@@ -430,13 +433,7 @@ async def test_amounts_before_a_title_and_role_words(demo_path):
             ("trap", "furan", "c1ccoc1", "10 equiv", "0.951 g/mL"),
             ("fluoride", "TBAF 1.0 M in THF", "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "1.5 equiv", "1.0 M"),
         ):
-            await new_field(pilot, role)
-            await new_field(pilot, name)
-            await new_field(pilot, smiles)
-            await new_field(pilot, amount)
-            await type_text(pilot, form)
-            await pilot.press("enter")
-            await pilot.pause()
+            await enter_line(pilot, role, name, smiles, amount, form)
         await pilot.pause(0.2)
         # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL (CRC, from memory): 0.200 × 10 × 68.07 / 0.951 = 143 µL
         assert lines_cell(screen, "furan", "µL") == "143"
