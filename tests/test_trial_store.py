@@ -156,3 +156,22 @@ def test_history_says_an_added_outcome_field_by_field():
     assert "outcome.products[adduct].isolated_mass: added 21 mg" in changes
     assert "outcome.products[adduct].dr: added \"3:1\"" in changes
     assert not any("{" in c for c in changes)  # no raw JSON objects
+
+
+def test_demo_never_replaces_a_notebook_with_real_runs(tmp_path, minimal_run):
+    from trapbook.demo import build_demo
+    from trapbook.errors import TrapbookError
+    from trapbook.records import load_run
+    from trapbook.store import Notebook
+
+    real = tmp_path / "lab.sqlite"
+    with Notebook.create(real) as nb:
+        nb.add_run(load_run(minimal_run))
+    with pytest.raises(TrapbookError, match="not a demo notebook"):
+        build_demo(real)
+    with Notebook.open(real) as nb:
+        assert nb.count_runs() == 1  # the lab's run is still there
+    demo = tmp_path / "demo.sqlite"
+    first = build_demo(demo)
+    again = build_demo(demo)  # a demo notebook may be rebuilt in place
+    assert first["runs"] == again["runs"] >= 16

@@ -41,6 +41,28 @@ def load_demo_files(src: Path | None = None):
     return runs, screens
 
 
+DEMO_MARK = "demo_notebook"
+
+
+def _refuse_to_replace_real_notebook(path: Path) -> None:
+    """The demo is rebuilt by deleting the old one: never do that to a notebook holding real runs."""
+    if not path.exists() or path.stat().st_size == 0 or path == default_demo_path():
+        return  # the per-user demo file is Trapbook's own
+    from .store import Notebook
+
+    try:
+        with Notebook.open(path) as nb:
+            is_demo = bool(nb.get_setting(DEMO_MARK, False))
+            empty = nb.count_runs() == 0
+    except TrapbookError:
+        is_demo, empty = False, False
+    if not (is_demo or empty):
+        raise TrapbookError(
+            f"{path} is a notebook with runs of its own, not a demo notebook; the demo was not built",
+            "give the demo another place with --db PATH (or unset TRAPBOOK_DB to use the per-user demo file)",
+        )
+
+
 def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: str | None = None, progress=None) -> dict:
     """A fresh demo notebook at `path` (the per-user demo file by default); replaces an older demo.
 
@@ -53,6 +75,7 @@ def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: s
     path = path or default_demo_path()
     runs, screens = load_demo_files(src)
     path.parent.mkdir(parents=True, exist_ok=True)
+    _refuse_to_replace_real_notebook(path)
     for suffix in ("", "-wal", "-shm"):
         p = Path(str(path) + suffix)
         if p.exists():
@@ -63,6 +86,7 @@ def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: s
                 nb.add_run(run, author=run.chemist or "demo", reason="demo lab", keep_id=True)
             for sc in screens:
                 nb.add_screen(sc, author=sc.chemist or "demo", reason="demo lab")
+            nb.conn.execute("INSERT OR REPLACE INTO settings (key, value) VALUES (?, ?)", (DEMO_MARK, json.dumps(True)))
         n_runs, n_screens = nb.count_runs(), len(nb.list_screens())
         computed = _compute_strain(nb, runs, strain_tier, progress) if strain_tier else []
     return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src), "strain": computed}
