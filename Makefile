@@ -1,12 +1,12 @@
 # Two commands for a fresh machine with Python 3.11+ (see README):
 #   make demo   — install into .venv, build the demo lab's notebook and open it
-#   make test   — install into .venv (with test extras) and run the test suite
+#   make test   — install into .venv (with test extras), lint (ruff), run the test suite
 PY ?= python3
 VENV ?= .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.trapbook-installed
 
-.PHONY: demo test test-slow test-all bench schemas
+.PHONY: demo lint test test-slow test-all bench schemas
 
 $(STAMP): pyproject.toml
 	$(PY) -m venv $(VENV)
@@ -17,7 +17,11 @@ $(STAMP): pyproject.toml
 demo: $(STAMP)
 	$(BIN)/trapbook demo
 
-test: $(STAMP)
+lint: $(STAMP)
+	$(BIN)/ruff check .
+	$(BIN)/ruff format --check .
+
+test: $(STAMP) lint
 	$(BIN)/python -m pytest -n 2 -q
 
 test-slow: $(STAMP)

@@ -34,6 +34,7 @@ def build(path: Path, n: int) -> float:
     from trapbook.demo import load_demo_files
     from trapbook.records import canonical_json
     from trapbook.store import Notebook
+    from trapbook.store import chain
     from trapbook.store.notebook import now_utc, version_hash
 
     t0 = time.perf_counter()
@@ -57,6 +58,7 @@ def build(path: Path, n: int) -> float:
                 nb.conn.execute(
                     "INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) "
                     "VALUES (?,?,?,?,?,?,?,?,?)", (rid, 1, "bench", t, "benchmark", "create", None, h, text))
+                chain.append_save(nb.conn, "run", rid, 1, h)  # the notebook's log of saves, as a save keeps it
                 nb.conn.execute(
                     "INSERT INTO runs (id, title, chemist, date, status, screen, withdrawn, version, hash, created, updated, data) "
                     "VALUES (?,?,?,?,?,?,?,?,?,?,?,?)",

@@ -153,7 +153,10 @@ def test_no_trap_line_warns_and_trap_line_does_not():
 
 # --- strain and alignment -------------------------------------------------------------------
 
-UNSTABLE = {"stability_class": "unstable", "olefin_strain_kcal_mol": 27.4, "kind": "bridgehead alkene", "tier": "fast"}
+# Source: Maier & Schleyer, J. Am. Chem. Soc. 1981, 103, 1891: bridgehead alkenes above about 21 kcal/mol
+# olefin strain are known only by trapping, below about 17 kcal/mol isolable (docs/sources.md, "Strain").
+UNSTABLE = {"stability_class": "unstable", "olefin_strain_kcal_mol": 27.4, "kind": "bridgehead alkene", "tier": "accurate"}
+ISOLABLE = dict(UNSTABLE, stability_class="isolable", olefin_strain_kcal_mol=12.0)
 
 
 def test_unstable_without_trap_is_stop():
@@ -175,13 +178,29 @@ def test_unstable_with_trap_in_time_is_clean():
 
 
 def test_isolable_gets_note_and_unstable_does_not():
-    iso = dict(UNSTABLE, stability_class="isolable", olefin_strain_kcal_mol=12.0)
-    assert only(base(), "strain-isolable", strain=iso).severity == "note"
+    assert only(base(), "strain-isolable", strain=ISOLABLE).severity == "note"
     assert "strain-isolable" not in codes(base(), strain=UNSTABLE)
 
 
-def test_strain_dict_without_numbers_still_works():
-    assert "strain-untrapped" in codes(late_trap(), strain={"stability_class": "unstable"})
+def test_the_class_comes_from_the_number_not_the_label():
+    # 27.4 kcal/mol is unstable by the Maier-Schleyer limits whatever the stored label says.
+    mislabelled = dict(UNSTABLE, stability_class="isolable")
+    assert "strain-isolable" not in codes(base(), strain=mislabelled)
+
+
+def test_a_fast_tier_prescreen_never_says_no_trap_is_needed():
+    fast = dict(ISOLABLE, tier="fast")
+    assert "strain-isolable" not in codes(base(), strain=fast)
+    d = base()
+    d["lines"] = [ln for ln in d["lines"] if ln["role"] != "trap"]
+    d["steps"][0]["add"] = [PRECURSOR, "THF"]
+    assert "no-trap" in codes(d, strain=fast)  # nothing judged, so the plain warning stays
+
+
+def test_strain_dict_without_numbers_concludes_nothing():
+    found = codes(late_trap(), strain={"stability_class": "isolable"})
+    assert "strain-isolable" not in found and "strain-untrapped" not in found
+    assert "trap-late" in found  # the other checks still run
 
 
 def test_poor_alignment_warns_and_good_does_not():
@@ -220,9 +239,9 @@ def test_trap_by_volume_uses_density_on_file():
     d = base()
     fur = line(d, "furan")
     del fur["equiv"], fur["density"]
-    fur["volume"] = "20 µL"  # 20 µL × 0.951 g/mL / 68.07 g/mol = 0.279 mmol = 1.4 equiv  # Source: REFERENCE.md (density, M)
+    fur["volume"] = "20 µL"  # 20 µL × 0.951 g/mL / 68.07 g/mol = 0.279 mmol = 1.4 equiv  # Source: docs/sources.md (density, M)
     assert only(d, "trap-low").severity == "warn"
-    fur["volume"] = "1.0 mL"  # ~70 equiv  # Source: REFERENCE.md (density, M), as above
+    fur["volume"] = "1.0 mL"  # ~70 equiv  # Source: docs/sources.md (density, M), as above
     assert "trap-low" not in codes(d)
 
 
@@ -259,7 +278,7 @@ def test_tbat_delivers_one_fluoride_not_two():
     d["lines"][1] = {"role": "fluoride source", "name": "TBAT",
                      "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1", "equiv": 0.8}
     d["steps"][1]["add"] = ["TBAT"]
-    assert molecules.fluoride_count(d["lines"][1]["smiles"]) == 2  # Source: formula C34H51F2NSi (REFERENCE.md), two F
+    assert molecules.fluoride_count(d["lines"][1]["smiles"]) == 2  # Source: formula C34H51F2NSi (docs/sources.md), two F
     assert "fluoride-low" in codes(d)
     d["lines"][1]["equiv"] = 1.2
     assert "fluoride-low" not in codes(d)
@@ -294,7 +313,7 @@ def test_amounts_unknown_is_a_finding_not_an_exception():
 
 
 def test_commercial_tbaf_solution_water_warns_with_amount():
-    # Source: REFERENCE.md — 1.0 M TBAF in THF ~5 wt% water, about 2.5 mol water per mol fluoride
+    # Source: docs/sources.md — 1.0 M TBAF in THF ~5 wt% water, about 2.5 mol water per mol fluoride
     f = only(base(), "water-brought")
     expected = 2.5 * 3.0  # mmol water per mmol precursor at 3 equiv TBAF
     assert f.severity == "warn"
@@ -304,7 +323,7 @@ def test_commercial_tbaf_solution_water_warns_with_amount():
 
 def test_small_amount_of_tbaf_solution_is_only_a_note():
     d = base()
-    # Source: REFERENCE.md, 2.5 mol water per mol fluoride (from memory): 0.3 x 2.5 = 0.75 mmol water
+    # Source: docs/sources.md, 2.5 mol water per mol fluoride (from memory): 0.3 x 2.5 = 0.75 mmol water
     # per mmol precursor, under the default 1.0 (common practice, no source)
     line(d, TBAF)["equiv"] = 0.3
     assert only(d, "water-brought").severity == "note"
@@ -327,14 +346,14 @@ def test_hydrate_water_from_smiles():
                      "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "equiv": 1.5}
     d["steps"][1]["add"] = ["TBAF trihydrate"]
     f = only(d, "water-brought")
-    assert "4.5 mmol per mmol" in f.message  # Source: formula C16H42FNO3 (REFERENCE.md): 3 H2O per formula × 1.5 equiv
+    assert "4.5 mmol per mmol" in f.message  # Source: formula C16H42FNO3 (docs/sources.md): 3 H2O per formula × 1.5 equiv
 
 
 def test_solution_with_stated_water_uses_the_stated_figure():
     d = base()
     line(d, TBAF)["water"] = "0.5 wt%"  # a tenth of the supplier figure
     f = only(d, "water-brought")
-    # Source: REFERENCE.md THF density 0.8876 g/mL (CRC); water 18.015 g/mol (IUPAC 2021 atomic weights):
+    # Source: docs/sources.md THF density 0.8876 g/mL (CRC); water 18.015 g/mol (IUPAC 2021 atomic weights):
     # 0.5 wt% × 0.8876 g/mL × 0.600 mL / 18.015 g/mol = 0.148 mmol; 0.74 per mmol, under the 1.0 warning level
     expected = 0.005 * 0.8876 * 600 / 18.015 / 0.200
     assert f.severity == "note" and f"{expected:.2g} mmol per mmol" in f.message
@@ -359,7 +378,7 @@ def test_above_bp_sealed_at_120_gives_pressure_caution():
     assert "Me3SiF" in f.message  # trimethylsilyl precursor releases a gas
     # ideal gas, 0.200 mmol in 10 mL at 393.15 K; R = 8.314462618 J/(mol K)  # Source: CODATA 2018
     bar = 0.200e-3 * 8.314462618 * 393.15 / 10e-6 / 1e5
-    assert f"{bar:.1f} bar more in a 10 mL headspace" in f.message
+    assert f"{bar:.1f} bar more in an assumed 10 mL headspace" in f.message
 
 
 def test_sealed_thf_at_120_is_extrapolated_and_says_so():
@@ -493,7 +512,7 @@ def test_qnmr_without_internal_standard():
 
 
 def test_qnmr_with_internal_standard_is_clean_and_gives_62_percent():
-    # Source: REFERENCE.md worked check (qNMR practice; Pauli et al. 2014, from memory):
+    # Source: docs/sources.md worked check (qNMR practice; Pauli et al. 2014, from memory):
     # 0.100 mmol standard, 3H at 3.00, product 1H at 0.62 -> 0.0620 mmol = 62 % at 0.100 mmol scale
     d = with_product(qnmr=QNMR)
     d["lines"].append({"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"})
@@ -514,8 +533,11 @@ def test_yield_unknown_without_product_smiles():
 
 def test_ee_out_of_range():
     # Source: ee = (er − 1)/(er + 1) (IUPAC Gold Book E02070) lies between 0 and 100 %; 120 cannot be
-    assert only(with_product(ee=120), "ee-out-of-range").severity == "warn"
+    # A negative ee loads (some write the minor enantiomer's sign) and is flagged; above 100 is refused on load.
+    assert only(with_product(ee=-20), "ee-out-of-range").severity == "warn"
     assert "ee-out-of-range" not in codes(with_product(ee=90))
+    with pytest.raises(TrapbookError):
+        load_run(with_product(ee=120))
 
 
 def test_ee_and_er_disagree():

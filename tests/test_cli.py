@@ -15,6 +15,7 @@ from trapbook.cli import main
 def cli(tmp_path):
     runner = CliRunner()
     db = str(tmp_path / "cli.sqlite")
+    assert runner.invoke(main, ["--db", db, "init"]).exit_code == 0  # only init creates a notebook
 
     def invoke(*args, input=None):
         return runner.invoke(main, ["--db", db, "--author", "tester", *args], input=input, catch_exceptions=False)
@@ -30,7 +31,7 @@ def test_amounts_json_has_stable_keys_and_numbers(cli, minimal_run_file):
     for line in data["lines"]:
         assert {"name", "role", "mw_g_mol", "equiv", "mmol", "mass_mg", "volume_ul"} <= set(line)
     by = {x["name"]: x for x in data["lines"]}
-    # Source: REFERENCE.md furan constants -> 143 µL; 1.0 M TBAF, 0.600 mmol -> 600 µL
+    # Source: docs/sources.md furan constants -> 143 µL; 1.0 M TBAF, 0.600 mmol -> 600 µL
     assert round(by["furan"]["volume_ul"]) == 143
     assert round(by["TBAF 1.0 M in THF"]["volume_ul"]) == 600
     assert by["THF"]["mmol"] is None
@@ -39,7 +40,7 @@ def test_amounts_json_has_stable_keys_and_numbers(cli, minimal_run_file):
 def test_amounts_text_uses_chemists_rounding(cli, minimal_run_file):
     res = cli("amounts", str(minimal_run_file))
     assert res.exit_code == 0
-    # Source: REFERENCE.md furan constants -> 143 µL; 1.0 M TBAF, 0.600 mmol -> 600 µL (n = c V);
+    # Source: docs/sources.md furan constants -> 143 µL; 1.0 M TBAF, 0.600 mmol -> 600 µL (n = c V);
     # 0.200 mmol is the run file's own limiting amount
     assert "143" in res.output and "600" in res.output and "0.200" in res.output
 
@@ -82,7 +83,7 @@ def test_export_import_round_trip(cli, minimal_run_file, tmp_path):
     dump.write_text(out)
     runner = CliRunner()
     other = str(tmp_path / "other.sqlite")
-    res = runner.invoke(main, ["--db", other, "import", str(dump), "--json"])
+    res = runner.invoke(main, ["--db", other, "import", str(dump), "--create", "--json"])
     assert res.exit_code == 0, res.output
     assert json.loads(res.output)["imported"] == ["TB-0001", "TB-0002"]
 

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from trapbook.chemistry.derive import intermediate_from_precursor
+from trapbook.chemistry.derive import intermediate_from_precursor, is_precursor
 from trapbook.chemistry.molecules import parse
 from trapbook.errors import ChemistryError
 
@@ -55,3 +55,28 @@ def test_demo_precursors_give_the_recorded_intermediates():
 def test_no_silyl_leaving_group_pair_is_a_clear_error():
     with pytest.raises(ChemistryError, match="no silyl group beside a leaving group"):
         intermediate_from_precursor("c1ccoc1")
+
+
+@pytest.mark.parametrize(
+    "precursor,kind",
+    [
+        # Source: docs/sources.md, "Strain" — aryl silyl triflates release arynes and hetarynes,
+        # which are their own kind (trapped only); a vinyl silyl triflate releases a cycloalkyne,
+        # an allylic silyl vinyl triflate a cyclic allene (from memory).
+        ("C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "aryne"),
+        ("COc1cccc(OS(=O)(=O)C(F)(F)F)c1[Si](C)(C)C", "aryne"),  # 3-methoxybenzyne precursor
+        ("C[Si](C)(C)c1cnccc1OS(=O)(=O)C(F)(F)F", "aryne"),  # 3,4-pyridyne precursor
+        ("C[Si](C)(C)C1=C(OS(=O)(=O)C(F)(F)F)CCCC1", "cycloalkyne"),
+        ("C[Si](C)(C)C1CCCC=C1OS(=O)(=O)C(F)(F)F", "cyclic allene"),
+    ],
+)
+def test_derived_intermediates_have_the_right_kind(precursor, kind):
+    from trapbook.chemistry.bridgehead import perceive
+
+    assert is_precursor(precursor)
+    assert perceive(intermediate_from_precursor(precursor)).kind == kind
+
+
+def test_an_intermediate_is_not_a_precursor():
+    assert not is_precursor("C1#CCCCCCC1")
+    assert not is_precursor("C1=CC=CC#C1")

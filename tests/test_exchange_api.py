@@ -21,7 +21,7 @@ def test_top_level_api(tmp_path, minimal_run):
     res = trapbook.add_run(nb, minimal_run, author="ada")
     run = trapbook.get_run(nb, res.run_id)
     table = trapbook.compute_amounts(run)
-    # Source: REFERENCE.md, equiv_i = n_i / n_limiting: 3.0 equiv TBAF on 0.200 mmol is 0.600 mmol,
+    # Source: docs/sources.md, equiv_i = n_i / n_limiting: 3.0 equiv TBAF on 0.200 mmol is 0.600 mmol,
     # dispensed from a 1.0 M solution as 600 µL (n = c V)
     assert table.line("TBAF 1.0 M in THF").mmol == pytest.approx(0.6)
     assert table.line("TBAF 1.0 M in THF").volume_ul == pytest.approx(600.0)
@@ -108,6 +108,7 @@ def test_cli_export_import_formats(tmp_path, demo_notebook_path):
         out = tmp_path / name
         r = runner.invoke(main, ["--db", str(demo_notebook_path), "export", "--format", fmt, "--screen", "SC-0001", "-o", str(out)])
         assert r.exit_code == 0, r.output
+        assert runner.invoke(main, ["init", str(tmp_path / f"in-{fmt}.sqlite")]).exit_code == 0  # only init creates
         r = runner.invoke(main, ["--db", str(tmp_path / f"in-{fmt}.sqlite"), "import", str(out), "--json"])
         assert r.exit_code == 0, r.output
         assert json.loads(r.output)["imported"] == [f"TB-00{n}" for n in range(13, 19)]

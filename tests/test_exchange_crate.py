@@ -149,3 +149,152 @@ def test_a_changed_attachment_in_a_crate_is_refused(demo_copy, tmp_path):
     assert "SHA-256" in exc.value.message
     assert target.count_runs() == 0
     target.close()
+
+
+# --- version history ---------------------------------------------------------------------
+
+
+def _history_rows(nb, run_id):
+    return [(v.version, v.author, v.time, v.reason, v.action, v.hash, v.prev_hash) for v in nb.history(run_id)]
+
+
+@pytest.fixture
+def edited_copy(demo_copy):
+    """The demo copy with a run edited twice by named chemists (TB-0003 has its attachment as v2)."""
+    run = demo_copy.get_run("TB-0005")
+    demo_copy.save_run(run.model_copy(update={"page": "p. 41"}), 1, author="A. Trial", reason="paper page added")
+    demo_copy.save_run(run.model_copy(update={"page": "p. 42"}), 2, author="B. Other", reason="page number corrected")
+    return demo_copy
+
+
+def test_every_version_comes_back_with_author_time_reason_and_hash(edited_copy, tmp_path):
+    out = tmp_path / "crate.zip"
+    export_runs(edited_copy, "rocrate", output=str(out))
+    target = Notebook.create(tmp_path / "t.sqlite")
+    report = import_path(target, out)
+    for rid in ("TB-0003", "TB-0005", "TB-0013"):
+        assert _history_rows(target, rid) == _history_rows(edited_copy, rid)
+    assert [v.reason for v in target.history("TB-0005")] == ["demo lab", "paper page added", "page number corrected"]
+    # Source: the chain is re-checked by verify, which recomputes every SHA-256 with hashlib
+    from trapbook.integrity import verify
+
+    assert verify(target).ok
+    assert report["versions"] == sum(len(edited_copy.history(r)) for r in report["imported"])
+    target.close()
+
+
+def _rewrite_zip(src, dest, member, change):
+    with zipfile.ZipFile(src) as zin, zipfile.ZipFile(dest, "w") as zout:
+        for info in zin.infolist():
+            data = zin.read(info)
+            zout.writestr(info, change(data) if info.filename == member else data)
+
+
+def test_a_changed_reason_in_the_history_is_refused_whole(edited_copy, tmp_path):
+    out = tmp_path / "crate.zip"
+    export_runs(edited_copy, "rocrate", output=str(out))
+    forged = tmp_path / "forged.zip"
+    _rewrite_zip(out, forged, "runs/TB-0005.history.jsonl",
+                 lambda b: b.replace(b"page number corrected", b"nothing changed, honest"))
+    target = Notebook.create(tmp_path / "t.sqlite")
+    with pytest.raises(ExchangeError) as exc:
+        import_path(target, forged)
+    assert "TB-0005" in exc.value.message and "SHA-256" in exc.value.message
+    assert target.count_runs() == 0
+    target.close()
+
+
+def test_a_dropped_newest_version_is_refused(edited_copy, tmp_path):
+    out = tmp_path / "crate.zip"
+    export_runs(edited_copy, "rocrate", output=str(out))
+    forged = tmp_path / "forged.zip"
+    _rewrite_zip(out, forged, "runs/TB-0005.history.jsonl", lambda b: b"".join(b.splitlines(keepends=True)[:-1]))
+    target = Notebook.create(tmp_path / "t.sqlite")
+    with pytest.raises(ExchangeError) as exc:
+        import_path(target, forged)
+    assert "disagree" in exc.value.message
+    assert target.count_runs() == 0
+    target.close()
+
+
+def test_a_taken_id_gets_a_new_one_with_its_whole_history(edited_copy, tmp_path):
+    out = tmp_path / "crate.zip"
+    export_runs(edited_copy, "rocrate", screen="SC-0001", output=str(out))
+    target = Notebook.create(tmp_path / "t.sqlite")
+    import_path(target, out)
+    again = import_path(target, out)  # every id is taken now
+    assert len(again["imported"]) == len(set(again["imported"]))
+    first_new = again["imported"][0]
+    assert first_new not in {f"TB-00{n}" for n in range(13, 19)}
+    old = [(v.author, v.time, v.reason, v.action) for v in target.history("TB-0013")]
+    assert [(v.author, v.time, v.reason, v.action) for v in target.history(first_new)] == old
+    assert target.get_run(first_new).id == first_new
+    from trapbook.integrity import verify
+
+    assert verify(target).ok
+    target.close()
+
+
+def test_a_record_whose_file_is_not_in_the_crate_is_refused(demo_copy, tmp_path):
+    out = tmp_path / "crate.zip"
+    export_runs(demo_copy, "rocrate", output=str(out))
+    stripped = tmp_path / "stripped.zip"
+    with zipfile.ZipFile(out) as zin, zipfile.ZipFile(stripped, "w") as zout:
+        for info in zin.infolist():
+            if not info.filename.startswith("attachments/"):
+                zout.writestr(info, zin.read(info))
+    target = Notebook.create(tmp_path / "t.sqlite")
+    with pytest.raises(ExchangeError) as exc:
+        import_path(target, stripped)
+    assert "not in the crate" in exc.value.message
+    assert target.count_runs() == 0
+    target.close()
+
+
+def _forge(run_id, versions):
+    """A history whose hashes are recomputed after the change: only the content rules can refuse it."""
+    from trapbook.store.chain import version_hash
+
+    prev = None
+    for v in versions:
+        v["prev_hash"] = prev
+        v["hash"] = version_hash(run_id, v["version"], v["author"], v["time"], v["reason"], v["action"], prev, v["data"])
+        prev = v["hash"]
+    return versions
+
+
+@pytest.mark.parametrize("case", ["gap", "escape-in-author", "newline-in-reason", "path-id", "unknown-action",
+                                  "not-a-time", "not-canonical", "other-run", "empty"])
+def test_crafted_histories_are_refused_with_words(demo_copy, tmp_path, case):
+    from trapbook.errors import RecordError
+
+    rows = [dict(zip(["version", "author", "time", "reason", "action", "prev_hash", "hash", "data"], r)) for r in
+            demo_copy.conn.execute("SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions "
+                                   "WHERE run_id = 'TB-0003' ORDER BY version")]
+    run_id = "TB-0003"
+    if case == "gap":
+        rows[1]["version"] = 3
+    elif case == "escape-in-author":
+        rows[1]["author"] = "A. Trial\x1b]52;c;b3duZWQ=\x07"
+    elif case == "newline-in-reason":
+        rows[1]["reason"] = "fine\nv9  2020-01-01  admin  edit: forged row"
+    elif case == "path-id":
+        run_id = "../../x"
+    elif case == "unknown-action":
+        rows[1]["action"] = "purge"
+    elif case == "not-a-time":
+        rows[1]["time"] = "yesterday"
+    elif case == "not-canonical":
+        rows[1]["data"] = rows[1]["data"].replace('{"', '{ "', 1)
+    elif case == "other-run":
+        run_id = "TB-0004"
+    elif case == "empty":
+        rows = []
+    rows = _forge(run_id, rows)
+    target = Notebook.create(tmp_path / "t.sqlite")
+    with pytest.raises(RecordError) as exc:
+        target.import_history(run_id, rows)
+    assert exc.value.message and "nothing was imported" in (exc.value.hint or "")
+    assert target.count_runs() == 0
+    assert target.conn.execute("SELECT count(*) FROM versions").fetchone()[0] == 0
+    target.close()

@@ -64,7 +64,7 @@ def test_roles_amounts_and_order(minimal_run):
     assert furan.reaction_role == R.REACTANT  # the trap ends up in the product
     assert tbaf.reaction_role == R.REAGENT
     assert thf.reaction_role == R.SOLVENT
-    # Source: REFERENCE.md, equiv_i = n_i / n_limiting: 10 equiv of furan on 0.200 mmol is 2.00 mmol
+    # Source: docs/sources.md, equiv_i = n_i / n_limiting: 10 equiv of furan on 0.200 mmol is 2.00 mmol
     assert furan.amount.moles.value == pytest.approx(2.0, rel=1e-6)
     assert furan.amount.moles.units == reaction_pb2.Moles.MILLIMOLE
     assert tbaf.amount.moles.value == pytest.approx(0.6, rel=1e-6)  # Source: as above, 3.0 equiv on 0.200 mmol
@@ -87,7 +87,7 @@ def test_qnmr_yield_against_the_reference_formula(demo_notebook):
     prod = rxn.outcomes[0].products[0]
     y = [m for m in prod.measurements if m.type == m.YIELD]
     assert len(y) == 1 and y[0].uses_internal_standard
-    # Source: REFERENCE.md qNMR relation n_P = n_IS (I_P/N_P)/(I_IS/N_IS) (Pauli et al. 2014, from memory);
+    # Source: docs/sources.md qNMR relation n_P = n_IS (I_P/N_P)/(I_IS/N_IS) (Pauli et al. 2014, from memory);
     # 16.8 mg 1,3,5-trimethoxybenzene C9H12O3 (M by molmass), I_IS 3.00 for 3 H, product 0.771 for 1 H, 0.100 mmol scale
     n_is = 16.8 / molmass.Formula("C9H12O3").mass
     expected = 100.0 * n_is * (0.771 / 1) / (3.00 / 3) / 0.100
@@ -180,7 +180,7 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     assert run.steps[-1].hold.to("min").magnitude == pytest.approx(120.0)  # Source: 2 h; 1 h = 60 min (SI Brochure, Table 8)
     # what did not map is reported, not dropped silently
     assert any("64 % yield" in n for n in report["notes"])
-    # Source: REFERENCE.md equiv_i = n_i / n_limiting: 5 mmol furan on 0.5 mmol limiting is 10 equiv
+    # Source: docs/sources.md equiv_i = n_i / n_limiting: 5 mmol furan on 0.5 mmol limiting is 10 equiv
     assert amounts.compute(run).line("furan").equiv == pytest.approx(10.0)
 
 

@@ -258,11 +258,13 @@ def crate_template(tmp_path_factory, demo_notebook_path):
     return out
 
 
-CRATE_TARGETS = st.sampled_from(["ro-crate-metadata.json", "runs/TB-0013.json", "screens/SC-0001.json"])
+CRATE_TARGETS = st.sampled_from(["ro-crate-metadata.json", "runs/TB-0013.json", "screens/SC-0001.json",
+                                  "runs/TB-0013.history.jsonl"])  # one version: one JSON object on one line
 
 
 CRATE_CASE = dict(target=CRATE_TARGETS, how=st.sampled_from(["json", "field", "bytes"]), value=JSON,
-                  key=st.sampled_from(["@graph", "@context", "lines", "title", "runs", "name", "id", "factors"]),
+                  key=st.sampled_from(["@graph", "@context", "lines", "title", "runs", "name", "id", "factors",
+                                       "author", "reason", "time", "version", "hash", "prev_hash", "data"]),
                   junk=st.binary(max_size=60))
 
 
@@ -298,3 +300,49 @@ def test_rocrate_import_of_damaged_crate(fuzz_nb, tmp_path_factory, crate_templa
 @given(**CRATE_CASE)
 def test_rocrate_import_of_damaged_crate_1000(fuzz_nb, tmp_path_factory, crate_template, **case):
     _damaged_crate(fuzz_nb, tmp_path_factory, crate_template, **case)
+
+
+# --- one id rule for every format ----------------------------------------------------------
+
+BAD_IDS = ["../../x", "TB\x1b]52;c;aGk=\x07", "TB-1\nTB-2", "T" * 5000, ".hidden", "a..b"]
+
+
+def _refused_naming_the_id(nb, path):
+    before = nb.count_runs()
+    with pytest.raises(TrapbookError) as err:
+        import_path(nb, path)
+    assert "id" in err.value.message and err.value.hint
+    assert "\x1b" not in err.value.message and "\n" not in err.value.message.split(":", 1)[0]
+    assert len(err.value.message) < 1000  # 5,000 characters are cut when quoted
+    assert nb.count_runs() == before
+
+
+@pytest.mark.parametrize("bad", BAD_IDS)
+def test_jsonl_import_refuses_ids_outside_the_rule(fuzz_nb, tmp_path, bad):
+    path = tmp_path / "runs.jsonl"
+    path.write_text(json.dumps(dict(BASE, id="TB-0500")) + "\n" + json.dumps(dict(BASE, id=bad)) + "\n", encoding="utf-8")
+    _refused_naming_the_id(fuzz_nb, path)
+
+
+@pytest.mark.parametrize("bad", BAD_IDS)
+def test_ord_import_refuses_ids_outside_the_rule(fuzz_nb, tmp_path, bad):
+    from trapbook.exchange.ord_common import _RUN_ID_DETAILS
+
+    ds, _ = ordx.build_dataset([load_run(dict(BASE, id="TB-0500"))])
+    for ident in ds.reactions[0].identifiers:
+        if ident.details == _RUN_ID_DETAILS:
+            ident.value = bad
+    path = tmp_path / "runs.pb"
+    path.write_bytes(ds.SerializeToString(deterministic=True))
+    _refused_naming_the_id(fuzz_nb, path)
+
+
+@pytest.mark.parametrize("bad", BAD_IDS)
+def test_rocrate_import_refuses_ids_outside_the_rule(fuzz_nb, tmp_path, crate_template, bad):
+    crate = tmp_path / "crate"
+    shutil.copytree(crate_template, crate)
+    f = crate / "runs" / "TB-0013.json"
+    data = json.loads(f.read_text(encoding="utf-8"))
+    data["id"] = bad
+    f.write_text(json.dumps(data), encoding="utf-8")
+    _refused_naming_the_id(fuzz_nb, crate)

@@ -1,4 +1,4 @@
-"""Molar masses from SMILES against REFERENCE.md and two independent formula-mass libraries."""
+"""Molar masses from SMILES against docs/sources.md and two independent formula-mass libraries."""
 
 import molmass
 import periodictable
@@ -6,7 +6,7 @@ import pytest
 
 from trapbook.chemistry import molecules
 
-# Source: REFERENCE.md table (IUPAC 2021 standard atomic weights)
+# Source: docs/sources.md table (IUPAC 2021 standard atomic weights)
 REFERENCE = [
     ("tetrabutylammonium fluoride, anhydrous", "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "C16H36FN", 261.47),
     ("tetrabutylammonium fluoride trihydrate", "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "C16H42FNO3", 315.51),
@@ -29,7 +29,7 @@ def _flat(formula: str) -> str:
 
 @pytest.mark.parametrize("name,smiles,formula,mw", REFERENCE, ids=[r[0] for r in REFERENCE])
 def test_molar_mass_matches_reference_table(name, smiles, formula, mw):
-    # Source: REFERENCE.md (IUPAC 2021); 0.02 g/mol covers rounding of the table to 2 decimals
+    # Source: docs/sources.md (IUPAC 2021); 0.02 g/mol covers rounding of the table to 2 decimals
     assert molecules.molar_mass(smiles) == pytest.approx(mw, abs=0.02)
     # element counts, not string order (RDKit writes KF as FK)
     assert periodictable.formula(_flat(molecules.formula(smiles))).atoms == periodictable.formula(formula).atoms

@@ -63,13 +63,13 @@ def test_amounts_at_scale_by_hand():
         trap = t.line(pr.run.factors["trap"])
         assert trap.equiv == pytest.approx(10.0)  # the base's 10 equiv is kept
         if pr.run.factors["trap"] == "furan":
-            # Source: REFERENCE.md furan M 68.07 g/mol, density 0.951 g/mL (CRC, from memory): 2.50 mmol → 178.9 µL
+            # Source: docs/sources.md furan M 68.07 g/mol, density 0.951 g/mL (CRC, from memory): 2.50 mmol → 178.9 µL
             assert trap.volume_ul == pytest.approx(2.50 * 68.07 / 0.951, rel=1e-3)
         else:
-            # Source: REFERENCE.md anthracene M 178.23 g/mol: 2.50 mmol → 445.6 mg, weighed
+            # Source: docs/sources.md anthracene M 178.23 g/mol: 2.50 mmol → 445.6 mg, weighed
             assert trap.mass_mg == pytest.approx(2.50 * 178.23, rel=1e-3)
         tbaf = t.line("TBAF 1.0 M in THF")
-        # Source: REFERENCE.md equiv_i = n_i / n_limiting and n = c V: 1.5 equiv (the base run's) of a 1.0 M solution
+        # Source: docs/sources.md equiv_i = n_i / n_limiting and n = c V: 1.5 equiv (the base run's) of a 1.0 M solution
         assert tbaf.volume_ul == pytest.approx(1.5 * 0.250 / 1.0 * 1000)
 
 
@@ -142,7 +142,7 @@ def test_split_levels_keeps_locant_commas():
 
 
 def test_known_traps_match_reference_masses():
-    # Source: REFERENCE.md molar masses (IUPAC 2021), via molmass from the table's SMILES formulas.
+    # Source: docs/sources.md molar masses (IUPAC 2021), via molmass from the table's SMILES formulas.
     from rdkit import Chem
     from rdkit.Chem import rdMolDescriptors
 
@@ -165,6 +165,8 @@ def test_cli_plan_dry_run_and_store(tmp_path):
     data = json.loads(r.output)
     assert data["screen_id"] is None and len(data["runs"]) == 4
     assert {"vial", "factors", "title", "run", "amounts", "amounts_problem", "findings"} <= set(data["runs"][0])
+    assert not db.exists()  # a dry run stores nothing, not even an empty notebook
+    assert CliRunner().invoke(main, ["--db", str(db), "init"]).exit_code == 0
     sheet = tmp_path / "sheet.html"
     r = CliRunner().invoke(main, ["--db", str(db), "screen", "plan", str(base), "--vary", "trap=furan,anthracene",
                                   "--sheet", str(sheet)])

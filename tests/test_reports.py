@@ -160,6 +160,6 @@ def test_xlsx_export_reads_back_with_openpyxl(demo_notebook, tmp_path):
     lines = wb["lines"]
     lhead = [c.value for c in lines[1]]
     assert {"mass (mg)", "volume (µL)", "amount (mmol)", "MW (g/mol)"} <= set(lhead)
-    # Source: REFERENCE.md caesium fluoride 151.90 g/mol; 5 equiv at 0.100 mmol → 75.95 mg weighed.
+    # Source: docs/sources.md caesium fluoride 151.90 g/mol; 5 equiv at 0.100 mmol → 75.95 mg weighed.
     cs = [dict(zip(lhead, [c.value for c in row])) for row in lines.iter_rows(min_row=2) if row[1].value == "CsF"]
     assert cs and all(r["mass (mg)"] == pytest.approx(0.5 * 151.90, rel=1e-3) for r in cs)

@@ -54,7 +54,7 @@ def hand_screen(notebook):
     sid = notebook.add_screen(Screen(name="hand 2x2", factors={"trap": ["furan", "anthracene"], "temperature": ["80 °C", "120 °C"]}))
     runs = [
         _run("furan", "80 °C", FURAN_ADDUCT, {"products": [{"product": "furan adduct", "isolated_mass": "9.51 mg"}]}),
-        # qNMR worked check of REFERENCE.md: 0.100 mmol standard (3H, I = 3.00), product 1H, I = 0.62 → 62 %.
+        # qNMR worked check of docs/sources.md: 0.100 mmol standard (3H, I = 3.00), product 1H, I = 0.62 → 62 %.
         _run("furan", "120 °C", FURAN_ADDUCT, {"products": [{"product": "furan adduct", "qnmr": {
             "standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1}}]}),
         _run("anthracene", "80 °C", ANTH_ADDUCT, {"products": [{"product": "anthracene adduct", "isolated_mass": "14.4 mg",
@@ -81,7 +81,7 @@ def test_rows_keep_isolated_and_nmr_apart(notebook, hand_screen):
     assert rows[ids[0]]["isolated_yield_pct"] == pytest.approx(_iso(9.51, "C13H18O"), rel=1e-3)
     assert rows[ids[0]]["nmr_yield_pct"] is None
     assert rows[ids[1]]["isolated_yield_pct"] is None
-    assert rows[ids[1]]["nmr_yield_pct"] == pytest.approx(62.0, abs=0.01)  # Source: REFERENCE.md qNMR worked check
+    assert rows[ids[1]]["nmr_yield_pct"] == pytest.approx(62.0, abs=0.01)  # Source: docs/sources.md qNMR worked check
     assert rows[ids[1]]["yield_kind"] == "NMR"
     assert rows[ids[2]]["dr"] == "5:1"
     assert rows[ids[2]]["ee_pct"] == pytest.approx(90.0)  # Source: IUPAC Gold Book E02070, er 19:1 → 90 % ee
@@ -122,7 +122,6 @@ def test_matrix_cells_by_hand(notebook, hand_screen):
 
 
 def test_failed_run_is_explained_by_its_findings(notebook, hand_screen):
-    pytest.importorskip("trapbook.checks", reason="explanations come from the bench checks (checks.py)")
     sid, ids = hand_screen
     failed = review.review_screen(notebook, sid)["failed"]
     assert [f["run_id"] for f in failed] == [ids[3]]

@@ -122,3 +122,212 @@ def test_default_path_from_environment(monkeypatch, tmp_path):
 
     monkeypatch.setenv("TRAPBOOK_DB", str(tmp_path / "x.sqlite"))
     assert default_path() == tmp_path / "x.sqlite"
+
+
+# --- only an explicit create makes a notebook ---------------------------------------------
+
+
+def test_opening_a_missing_path_names_init_and_makes_nothing(tmp_path):
+    target = tmp_path / "no" / "such" / "folder" / "nb.sqlite"
+    with pytest.raises(NotFoundError) as exc:
+        Notebook.open(target)
+    assert f"no notebook at {target}" in exc.value.message and "trapbook init" in exc.value.message
+    assert not (tmp_path / "no").exists()  # no folder made on the way
+
+
+def test_an_empty_file_is_refused_and_left_as_it_is(tmp_path):
+    empty = tmp_path / "empty.sqlite"
+    empty.touch()
+    with pytest.raises(StoreError, match="empty file, not a notebook"):
+        Notebook.open(empty)
+    assert empty.stat().st_size == 0
+    with Notebook.open(empty, create=True) as nb:  # what `init` does: an explicit create
+        assert nb.schema_version == MIGRATIONS[-1][0]
+
+
+def test_another_programs_sqlite_file_gets_no_notebook_tables(tmp_path):
+    import sqlite3
+
+    other = tmp_path / "other.db"
+    with sqlite3.connect(other) as conn:
+        conn.execute("CREATE TABLE photos (id INTEGER PRIMARY KEY)")
+    for create in (False, True):
+        with pytest.raises(StoreError, match="another program's tables"):
+            Notebook.open(other, create=create)
+    with sqlite3.connect(other) as conn:
+        assert [r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")] == ["photos"]
+
+
+# --- faults: full disk, a lock held too long ----------------------------------------------
+
+
+def test_a_full_disk_says_so_and_changes_nothing(notebook, minimal_run):
+    from trapbook import integrity
+
+    notebook.add_run(minimal_run, author="a")
+    pages = notebook.conn.execute("PRAGMA page_count").fetchone()[0]
+    notebook.conn.execute(f"PRAGMA max_page_count = {pages}")  # SQLite's own SQLITE_FULL, as on a full disk
+    big = dict(minimal_run, notes="x" * 19_000)
+    with pytest.raises(StoreError) as exc:
+        notebook.add_run(big, author="a")
+    assert exc.value.message == "the disk is full; nothing was changed"
+    assert "free some space" in exc.value.hint
+    assert notebook.run_ids() == ["TB-0001"]
+    notebook.conn.execute("PRAGMA max_page_count = 1073741823")
+    assert integrity.verify(notebook).ok
+
+
+def test_a_lock_held_too_long_is_waited_for_then_refused_plainly(tmp_path, minimal_run, monkeypatch, caplog):
+    import sqlite3
+
+    from trapbook.store import connect
+
+    path = tmp_path / "locked.sqlite"
+    Notebook.create(path).close()
+    monkeypatch.setattr(connect, "LOCK_WAIT_SECONDS", 1.0)
+    monkeypatch.setattr(connect, "LOCK_SLICE_MS", 100)
+    holder = sqlite3.connect(path, isolation_level=None)
+    holder.execute("BEGIN IMMEDIATE")
+    try:
+        with Notebook.open(path) as nb, caplog.at_level("WARNING", logger="trapbook.store"):
+            with pytest.raises(StoreError) as exc:
+                nb.add_run(minimal_run, author="a")
+            assert "locked" in exc.value.message and "nothing was changed" in exc.value.message
+            assert "waiting" in caplog.text and str(path) in caplog.text  # who waits, for what
+    finally:
+        holder.execute("ROLLBACK")
+        holder.close()
+
+
+def test_a_lock_released_while_waiting_lets_the_save_through(tmp_path, minimal_run, monkeypatch):
+    import sqlite3
+    import threading
+
+    from trapbook.store import connect
+
+    path = tmp_path / "locked.sqlite"
+    Notebook.create(path).close()
+    monkeypatch.setattr(connect, "LOCK_WAIT_SECONDS", 20.0)
+    monkeypatch.setattr(connect, "LOCK_SLICE_MS", 100)
+    holder = sqlite3.connect(path, isolation_level=None, check_same_thread=False)
+    holder.execute("BEGIN IMMEDIATE")
+    release = threading.Timer(0.8, lambda: holder.execute("ROLLBACK"))
+    release.start()
+    try:
+        with Notebook.open(path) as nb:
+            assert nb.add_run(minimal_run, author="a").run_id == "TB-0001"
+    finally:
+        release.join()
+        holder.close()
+
+
+# --- a notebook written by a newer Trapbook ------------------------------------------------
+
+
+def _from_the_future(path, minimal_run):
+    with Notebook.create(path) as nb:
+        nb.add_run(minimal_run, author="a")
+        nb.conn.execute("INSERT INTO migrations (version, applied, description, app_version) "
+                        "VALUES (99, '2099-01-01T00:00:00+00:00', 'a later layout', '9.9.0')")
+
+
+def test_a_newer_notebook_is_read_but_not_written(tmp_path, minimal_run):
+    path = tmp_path / "future.sqlite"
+    _from_the_future(path, minimal_run)
+    with Notebook.open(path) as nb:
+        assert nb.get_run("TB-0001").title == minimal_run["title"]  # reading is fine
+        for write in (lambda: nb.add_run(minimal_run, author="a"), lambda: nb.set_setting("email", "x@example.org")):
+            with pytest.raises(StoreError) as exc:
+                write()
+            assert "newer Trapbook" in exc.value.message and "9.9.0" in exc.value.hint
+        assert nb.run_ids() == ["TB-0001"]
+        assert nb.conn.execute("SELECT max(version) FROM migrations").fetchone()[0] == 99  # nothing migrated
+
+
+def test_restore_of_a_newer_backup_is_refused_naming_the_version(tmp_path, minimal_run):
+    from trapbook.backup import restore
+
+    src = tmp_path / "future.sqlite"
+    _from_the_future(src, minimal_run)
+    target = tmp_path / "mine.sqlite"
+    with Notebook.create(target) as nb:
+        nb.add_run(minimal_run, author="me")
+    before = target.read_bytes()
+    with pytest.raises(StoreError) as exc:
+        restore(src, target)
+    assert "newer Trapbook" in exc.value.message and "9.9.0" in exc.value.hint
+    assert target.read_bytes() == before
+
+
+# --- a place that cannot be written: read through SQLite's read-only URI --------------------
+
+
+def test_an_unwritable_place_opens_read_only(tmp_path, minimal_run, monkeypatch):
+    """Tests run as root, for whom chmod changes nothing: the choice of URI is tested directly."""
+    from trapbook.store import connect
+
+    path = tmp_path / "share.sqlite"
+    with Notebook.create(path) as nb:
+        nb.add_run(minimal_run, author="a")
+    monkeypatch.setattr(connect, "writable_here", lambda p: False)
+    opened = []
+    real = connect.open_read_only
+    monkeypatch.setattr(connect, "open_read_only", lambda p: opened.append(p) or real(p))
+    with Notebook.open(path) as nb:
+        assert opened == [path] and nb.read_only
+        assert nb.list_runs()[0]["id"] == "TB-0001"
+        with pytest.raises(StoreError, match="cannot use the notebook"):
+            nb.add_run(minimal_run, author="a")
+        assert nb.run_ids() == ["TB-0001"]  # nothing half-written
+    with Notebook.open(tmp_path / "share.sqlite", create=False) as nb:
+        assert nb.run_ids() == ["TB-0001"]
+
+
+# --- upgrading a notebook made before the save log ------------------------------------------
+
+
+def _as_schema_4(path):
+    """Take away what migration 5 added, leaving the layout earlier Trapbook versions wrote."""
+    import sqlite3
+
+    with sqlite3.connect(path) as conn:
+        for table in ("saves", "head", "setting_versions"):
+            conn.execute(f"DROP TABLE {table}")
+        for table, column in (("screen_versions", "prev_hash"), ("screen_versions", "hash"),
+                              ("strain_cache", "content_sha256"), ("migrations", "app_version")):
+            conn.execute(f"ALTER TABLE {table} DROP COLUMN {column}")
+        conn.execute("DELETE FROM migrations WHERE version = 5")
+
+
+def test_an_older_notebook_is_upgraded_and_then_verifies(tmp_path, minimal_run):
+    from trapbook import integrity
+
+    path = tmp_path / "old.sqlite"
+    with Notebook.create(path) as nb:
+        nb.add_run(minimal_run, author="a")
+        nb.save_run(nb.get_run("TB-0001").model_copy(update={"notes": "n"}), 1, author="a", reason="note")
+        nb.add_screen({"name": "s", "factors": {"trap": ["furan"]}}, author="a")
+        nb.set_setting("email", "a@example.org", author="a")
+        nb.cache_put("k", "C", "fast", "e", {"v": 1})
+    _as_schema_4(path)
+    assert "old-schema" in {p.code for p in integrity.verify_path(path).problems}
+    with Notebook.open(path) as nb:
+        assert nb.schema_version == MIGRATIONS[-1][0]
+        assert nb.cache_get("k") == {"v": 1}
+        assert nb.setting_history("email")[0]["value"] == "a@example.org"
+    rep = integrity.verify_path(path)
+    assert rep.ok, rep.to_dict()
+    assert rep.checked["saves"] == 4  # two run versions, the screen, the setting
+
+
+def test_settings_do_not_import_the_store():
+    """The store reads settings (who saves, thresholds); settings must not import the store back."""
+    import ast
+    import inspect
+
+    import trapbook.settings
+
+    tree = ast.parse(inspect.getsource(trapbook.settings))
+    imported = [n.module or "" for n in ast.walk(tree) if isinstance(n, ast.ImportFrom)]
+    imported += [a.name for n in ast.walk(tree) if isinstance(n, ast.Import) for a in n.names]
+    assert not [m for m in imported if "store" in m.split(".")], imported

@@ -13,20 +13,25 @@ STABLE_KEYS = {
     "smiles", "kind", "bridges", "s_value", "trans_ring_size", "olefin_strain_kcal_mol",
     "stability_class", "twist_deg", "pyramidalization_deg", "bond_length_angstrom",
     "wiberg_bond_order", "tier", "method", "conformers", "seconds", "engine_version",
-    "reference", "rough",
+    "reference", "rough", "prescreen", "strain_quantity", "strain_kcal_mol", "needs_trap", "judgement",
 }
 
 
 @pytest.mark.parametrize(
     "os_kcal,expected",
-    # Source: Maier & Schleyer, JACS 1981, 103, 1891 (via REFERENCE.md): <=17 isolable,
-    # 17-21 observable, >21 unstable; <0 hyperstable is not in REFERENCE.md, from DESIGN.md
+    # Source: Maier & Schleyer, JACS 1981, 103, 1891 (docs/sources.md, "Strain"): <=17 isolable,
+    # 17-21 observable, >21 unstable; <0 hyperstable, same paper
     # (same paper, not looked up: from memory).
     [(-3.0, "hyperstable"), (0.0, "isolable"), (17.0, "isolable"), (17.5, "observable"),
      (21.0, "observable"), (21.1, "unstable"), (None, None)],
 )
 def test_stability_class_boundaries(os_kcal, expected):
+    # the old entry point delegates to trapbook.stability (one rule, one place)
     assert strain.stability_class(os_kcal) == expected
+
+
+def test_precursor_alignment_still_importable_from_strain():
+    assert callable(strain.precursor_alignment) and callable(strain.compute_strain)
 
 
 def test_result_has_stable_keys_and_is_json():
@@ -76,9 +81,9 @@ def test_unknown_tier():
 
 
 def test_hard_to_embed_bridgehead_alkene_still_gives_a_number():
-    # Bicyclo[2.2.2]oct-1-ene defeats plain ETKDG (DESIGN.md pitfalls); the fallback must
+    # Bicyclo[2.2.2]oct-1-ene defeats plain ETKDG; the fallback must
     # return quickly with a structure.
     r = strain.compute_strain("C12=CCC(CC1)CC2", tier="fast")
     assert r["olefin_strain_kcal_mol"] is not None
-    # 20 s: common practice, no source (DESIGN.md saw ~70 s, then no conformer, from plain ETKDG)
+    # 20 s: common practice, no source
     assert r["seconds"] < 20

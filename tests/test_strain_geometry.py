@@ -12,7 +12,7 @@ from rdkit.Chem import AllChem, rdMolTransforms
 from trapbook.chemistry import geometry as geo
 
 # Source: Winkler & Dunitz, J. Mol. Biol. 1971, 59, 169 (from memory), definitions as
-# written in REFERENCE.md: tau = (w1 + w2)/2, chi1 = w1 - w3 + pi, chi2 = w2 - w3 + pi.
+# written in docs/sources.md "Strain": tau = (w1 + w2)/2, chi1 = w1 - w3 + pi, chi2 = w2 - w3 + pi.
 
 
 def _alkene(twist_deg: float, bend1_deg: float = 0.0, bend2_deg: float = 0.0):
@@ -43,7 +43,7 @@ def _wd(xyz):
 
 
 def test_planar_alkene_gives_zero():
-    # Source: REFERENCE.md, "A planar alkene gives tau = chi = 0".
+    # Source: docs/sources.md "Strain", "A planar alkene gives tau = chi = 0".
     wd = _wd(_alkene(0.0))
     assert wd.twist_deg == pytest.approx(0.0, abs=1e-6)
     assert wd.chi1_deg == pytest.approx(0.0, abs=1e-6)
@@ -52,7 +52,7 @@ def test_planar_alkene_gives_zero():
 
 @pytest.mark.parametrize("twist", [10.0, 35.0, -25.0, 60.0])
 def test_pure_twist(twist):
-    # Source: the construction in _alkene (tau = twist, chi = 0), by the REFERENCE.md definitions
+    # Source: the construction in _alkene (tau = twist, chi = 0), by the docs/sources.md "Strain" definitions
     wd = _wd(_alkene(twist))
     assert abs(wd.twist_deg) == pytest.approx(abs(twist), abs=1e-6)
     assert wd.pyramidalization_deg == pytest.approx(0.0, abs=1e-6)
@@ -61,7 +61,7 @@ def test_pure_twist(twist):
 @pytest.mark.parametrize("twist,bend1,bend2", [(0, 10, 0), (20, 15, 5), (30, -12, 20), (45, 25, 25)])
 def test_twist_with_pyramidalization(twist, bend1, bend2):
     # Source: the construction in _alkene (tau = twist, chi1 = 2*bend1, chi2 = 2*bend2), by the
-    # REFERENCE.md definitions; pyramidalization taken as the larger |chi|
+    # docs/sources.md "Strain" definitions; pyramidalization taken as the larger |chi|
     wd = _wd(_alkene(twist, bend1, bend2))
     assert abs(wd.twist_deg) == pytest.approx(abs(twist), abs=1e-6)
     assert abs(wd.chi1_deg) == pytest.approx(abs(2 * bend1), abs=1e-6)
@@ -70,7 +70,7 @@ def test_twist_with_pyramidalization(twist, bend1, bend2):
 
 
 def test_substituent_order_does_not_matter():
-    # Source: REFERENCE.md definitions: swapping a/b together with c/d keeps the cis pairing,
+    # Source: docs/sources.md "Strain" definitions: swapping a/b together with c/d keeps the cis pairing,
     # so |tau| and the pyramidalization are unchanged
     xyz = _alkene(30, 10, 5)
     one = geo.winkler_dunitz(xyz, 0, 1, [2, 3], [4, 5])
@@ -107,7 +107,7 @@ def test_torsion_matches_rdkit():
 
 
 def test_wrap_folds_into_half_open_interval():
-    # Source: REFERENCE.md, angles wrapped to (−π, π]: 3π → π, −π → π, 2π + 0.1 → 0.1
+    # Source: docs/sources.md "Strain", angles wrapped to (−π, π]: 3π → π, −π → π, 2π + 0.1 → 0.1
     assert geo.wrap(3 * math.pi) == pytest.approx(math.pi)
     assert geo.wrap(-math.pi) == pytest.approx(math.pi)
     assert geo.wrap(2 * math.pi + 0.1) == pytest.approx(0.1)

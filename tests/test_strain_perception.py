@@ -8,10 +8,10 @@ from rdkit import Chem
 from trapbook.chemistry.bridgehead import perceive
 from trapbook.errors import ChemistryError
 
-# Source: REFERENCE.md, "S values: 5, 6, 6, 7" (Fawcett's S = a + b + c) for the
+# Source: docs/sources.md "Strain", "S values: 5, 6, 6, 7" (Fawcett's S = a + b + c) for the
 # four classic bridgehead alkenes; trans-ring sizes follow Wiseman's rule that the
 # bridgehead double bond is trans in the ring made of its own bridge and the longer
-# of the other two (bicyclo[3.3.1]non-1-ene ~ trans-cyclooctene, REFERENCE.md/DESIGN.md).
+# of the other two (bicyclo[3.3.1]non-1-ene ~ trans-cyclooctene, docs/sources.md, "Strain").
 CLASSIC = [
     ("C12=CCC(CC1)C2", [2, 2, 1], 5, 6),  # bicyclo[2.2.1]hept-1-ene
     ("C12=CCC(CC1)CC2", [2, 2, 2], 6, 6),  # bicyclo[2.2.2]oct-1-ene

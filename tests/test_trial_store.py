@@ -14,6 +14,7 @@ import tempfile
 from pathlib import Path
 
 import pytest
+
 from trapbook.errors import NotFoundError, RecordError, StoreError
 from trapbook.store import Notebook
 
@@ -82,16 +83,23 @@ def _readonly_notebook(folder: Path, minimal_run: dict) -> Path:
     return path
 
 
-def test_read_only_folder_gives_a_plain_message_not_damage(shared_folder, minimal_run):
+def test_read_only_folder_is_read_and_saves_are_refused_plainly(shared_folder, minimal_run):
+    """A notebook on a read-only share: reading, listing and verifying work; a save is refused."""
     path = _readonly_notebook(shared_folder, minimal_run)
     shared_folder.chmod(0o555)
     res = _as_reader(["--db", str(path), "list"])
-    assert res.returncode == 2, res.stderr
-    assert "read-only for you" in res.stderr
-    assert "not a Trapbook notebook" not in res.stderr and "Traceback" not in res.stderr
+    assert res.returncode == 0, res.stderr
+    assert "TB-0001" in res.stdout and minimal_run["title"] in res.stdout
     res = _as_reader(["--db", str(path), "verify"])
-    assert res.returncode == 2, res.stdout + res.stderr  # --help: 2 when it cannot be opened at all
-    assert "read-only for you" in res.stderr and "restore" not in res.stdout
+    assert res.returncode == 0, res.stdout + res.stderr
+    run_file = Path(tempfile.mkdtemp(prefix="trapbook-run-", dir="/tmp")) / "run.json"
+    run_file.write_text(json.dumps(minimal_run), encoding="utf-8")
+    run_file.parent.chmod(0o755)
+    run_file.chmod(0o644)
+    res = _as_reader(["--db", str(path), "add", str(run_file)])
+    assert res.returncode == 2, res.stderr
+    assert "read-only for you" in res.stderr and "not a Trapbook notebook" not in res.stderr and "Traceback" not in res.stderr
+    assert not list(shared_folder.glob("nb.sqlite-*"))  # nothing written beside it either
 
 
 def test_read_only_file_reads_but_refuses_saves_plainly(shared_folder, minimal_run, tmp_path):

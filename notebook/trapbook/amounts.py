@@ -8,12 +8,14 @@ kept here; rounding is for display only.
 
 from __future__ import annotations
 
+import re
 from dataclasses import asdict, dataclass, field
 
+from . import materials
 from .chemistry import molecules
 from .errors import ChemistryError, RecordError
 from .records import Line, Run, parse_ratio
-from .units import to_canonical
+from .units import to_canonical, unit_text
 
 WATER_MW = 18.015  # g/mol, H2O from IUPAC standard atomic weights
 
@@ -90,6 +92,45 @@ def _form(line: Line) -> str:
     if line.volume is not None:
         return "solvent"
     return "solid"
+
+
+_CATION = re.compile(r"\[[^\]]*\+\d*\]")
+_ANION = re.compile(r"\[[^\]]*-\d*\]")
+#: Above this melting point a material is a solid on the bench. Common practice, no source.
+SOLID_ABOVE_MP_C = 25.0
+
+
+def _is_salt(smiles: str) -> bool:
+    """A SMILES of separate cation and anion fragments ('[Cs+].[F-]'): a salt, solid unless stated."""
+    charges = [len(_CATION.findall(f)) - len(_ANION.findall(f)) for f in smiles.split(".")]
+    return any(c > 0 for c in charges) and any(c < 0 for c in charges)
+
+
+def _solid_reason(line: Line) -> str | None:
+    """Why Trapbook knows this line is a solid (known melting point, or a salt), or None."""
+    mat = materials.recognise(line)
+    if mat is not None and mat.mp_c is not None and mat.mp_c.value > SOLID_ABOVE_MP_C:
+        return f"{mat.name} melts at {mat.mp_c.value:g} °C ({mat.mp_c.source}), so it is a solid"
+    smiles = line.smiles or (mat.smiles if mat is not None else None)
+    if smiles and _is_salt(smiles):
+        return f"its structure ({smiles}) is a salt, a solid"
+    return None
+
+
+def refuse_solid_by_volume(line: Line) -> None:
+    """A solid has no volume to dispense; counted as a liquid it would dilute the run's concentration."""
+    if line.volume is None or line.density is not None or line.molarity is not None or line.role == "solvent":
+        return
+    why = _solid_reason(line)
+    if why:
+        vol = f"{line.volume.magnitude:g} {unit_text(line.volume)}"
+        raise RecordError(
+            f"line '{line.name}' is given by volume ({vol}) with no density or molarity, but {why}: "
+            "a volume of solid cannot be turned into an amount, and would be counted as liquid",
+            "give its mass or amount; if it went in as a stock solution, give the solution's molarity "
+            "(e.g. \"molarity\": \"1.0 M\"); if it really is a liquid, give its density",
+            field="volume",
+        )
 
 
 def limiting_line(run: Run) -> Line:
@@ -170,6 +211,8 @@ def _water_mmol(line: Line, mmol: float | None, mass_mg: float | None) -> float 
 
 def compute(run: Run) -> AmountTable:
     """The reagent table of a run: mmol, equiv, mg and µL of every line."""
+    for line in run.lines:
+        refuse_solid_by_volume(line)
     lim = limiting_line(run)
     try:
         lim_mw = molar_mass(lim)
@@ -319,6 +362,31 @@ def product_yields(run: Run, table: AmountTable | None = None) -> list[ProductYi
             py.ee_source = "as recorded"
         out.append(py)
     return out
+
+
+def headline_product(yields: list[ProductYield]) -> ProductYield | None:
+    """The product that stands for the run: the highest headline (isolated, else NMR) yield."""
+    best: ProductYield | None = None
+    for y in yields:
+        if best is None or (y.best_yield_pct is not None and (best.best_yield_pct is None or y.best_yield_pct > best.best_yield_pct)):
+            best = y
+    return best
+
+
+def headline_yield(run: Run, table: AmountTable | None = None) -> tuple[float | None, str | None]:
+    """(yield %, kind) that stands for the run in every list, map and plot.
+
+    Isolated if recorded, else NMR: the isolated yield is what the chemist has in hand, so a
+    higher NMR figure of the same product never replaces it. Across products the best one
+    stands for the run. A finished run that found no product reads (0.0, 'none found').
+    Raises when the yields cannot be worked out (the caller shows why).
+    """
+    best = headline_product(product_yields(run, table))
+    if best is not None and best.best_yield_pct is not None:
+        return best.best_yield_pct, ("isolated" if best.isolated_yield_pct is not None else "NMR")
+    if run.outcome is not None and run.status in ("done", "failed") and run.outcome.products == []:
+        return 0.0, "none found"
+    return None, None
 
 
 def standard_mmol(run: Run, table: AmountTable, q) -> float:

@@ -94,16 +94,9 @@ def yields(run: Any) -> list:
 
 def checks(run: Any, nb=None) -> list:
     """Bench checks of a run (`Finding` list); with `nb`, the lab's settings and cached strain apply."""
-    _checks = _core("checks")
+    from .findings import findings_for
 
-    run = load_run(run)
-    settings = strain_result = None
-    if nb is not None:
-        from .strain_link import settings_for, strain_for_run
-
-        settings = settings_for(nb)
-        strain_result = strain_for_run(nb, run)
-    return _checks.run_checks(run, strain=strain_result, settings=settings)
+    return findings_for(nb, load_run(run))
 
 
 def strain(smiles: str, tier: str = "fast", nb=None, progress: Callable[[str, float], None] | None = None) -> dict:

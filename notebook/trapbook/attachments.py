@@ -142,6 +142,33 @@ def attach(nb, run_id: str, file: str | os.PathLike, author: str | None = None, 
             "media_type": media_type, "stored_new": stored.new}
 
 
+def require_stored(nb, run, previous=None) -> None:
+    """Refuse a run whose attachment records name files this notebook does not hold.
+
+    A record without its file would fail 'verify' for good and could never be backed up
+    whole, so it is refused when it arrives (a run file, an import, an edit), before
+    anything is written. Records the run already had are not asked again: a file damaged
+    later is verify's to report, and must not block an unrelated edit.
+    """
+    known = {a.sha256 for a in previous.attachments} if previous is not None else set()
+    root = store_dir(nb)
+    for att in run.attachments:
+        if att.sha256 in known:
+            continue
+        path = blob_path(root, att.sha256)
+        try:
+            size = path.stat().st_size if path.is_file() else None
+        except OSError:
+            size = None
+        if size is None or size != att.size:
+            what = "is not in this notebook's attachment store" if size is None else f"is {size} bytes in the store, the record says {att.size}"
+            raise RecordError(
+                f"run {run.id or run.title!r}: attachment {att.name} (sha256 {att.sha256[:12]}…) {what}; "
+                "a record cannot name a file the notebook does not hold",
+                "attach the file itself with 'trapbook attach RUN FILE' (or import an RO-Crate, which carries the files), "
+                "or drop the attachment record; nothing was saved")
+
+
 def read_verified(root: Path, sha256: str, expected_size: int | None = None) -> bytes:
     """The bytes of a stored file, or a StoreError if they no longer match their hash."""
     path = blob_path(root, sha256)
@@ -175,29 +202,63 @@ def check_blob(root: Path, sha256: str, size: int | None = None) -> str | None:
 
 
 def export_file(nb, run_id: str, sha_or_name: str, dest: str | os.PathLike) -> Path:
-    """Write a verified copy of one attachment of a run to `dest` (a file or folder)."""
+    """Write a verified copy of one attachment of a run to `dest` (a file or folder).
+
+    The bytes are streamed in chunks and hashed on the way, so a raw data set of any
+    size needs no more memory than one chunk; a copy whose hash or size does not come
+    out as recorded is deleted again and reported, never left behind as if good.
+    """
     run = nb.get_run(run_id)
     att = next((a for a in run.attachments if a.sha256 == sha_or_name or a.sha256.startswith(sha_or_name) and len(sha_or_name) >= 8
                 or a.name == sha_or_name), None)
     if att is None:
         raise NotFoundError(f"run {run_id} has no attachment '{sha_or_name}'", "list them with 'trapbook show RUN --json'")
-    data = read_verified(store_dir(nb), att.sha256, att.size)
-    out = Path(dest)
-    if str(dest).endswith(("/", os.sep)) and not out.exists():  # 'out/' names a folder to make, not a file
+    root = store_dir(nb)
+    src = blob_path(root, att.sha256)
+    if not src.exists():
+        raise NotFoundError(f"attachment {att.sha256[:12]}… is missing from {root}", "restore the store folder from a backup")
+    out = _export_target(Path(dest), str(dest), att.name)
+    try:
+        fh = open(out, "xb")  # never overwrite, even if the name appears meanwhile
+    except OSError as exc:
+        raise RecordError(f"cannot write {out}: {exc.strerror}", "choose a folder that exists and that you can write to") from None
+    try:
+        with fh, src.open("rb") as inp:
+            digest, size = _stream_hashed(inp, fh)
+    except OSError as exc:
+        out.unlink(missing_ok=True)
+        raise RecordError(f"cannot write {out}: {exc.strerror}", "check free space, then try again") from None
+    if digest != att.sha256 or size != att.size:
+        out.unlink(missing_ok=True)
+        raise StoreError(f"attachment {att.sha256[:12]}… has changed on disk (its bytes no longer match their SHA-256); "
+                         "no copy was written", "restore it from a backup; 'trapbook verify' lists every damaged file")
+    return out
+
+
+def _export_target(out: Path, given: str, name: str) -> Path:
+    """The file an export writes: `out` itself, or the attachment's own name inside folder `out`."""
+    if given.endswith(("/", os.sep)) and not out.exists():  # 'out/' names a folder to make, not a file
         try:
             out.mkdir(parents=True)
         except OSError as exc:
             raise RecordError(f"cannot create folder {out}: {exc.strerror}", "choose a writable folder") from None
     if out.is_dir():
-        out = out / safe_name(att.name)
+        out = out / safe_name(name)
     if out.exists():
         raise RecordError(f"{out} already exists", "choose a new file name")
-    try:
-        with open(out, "xb") as fh:  # never overwrite, even if the name appears meanwhile
-            fh.write(data)
-    except OSError as exc:
-        raise RecordError(f"cannot write {out}: {exc.strerror}", "choose a folder that exists and that you can write to") from None
     return out
 
 
-__all__ = ["attach", "store_dir", "blob_path", "put_file", "read_verified", "check_blob", "export_file", "sha256_of", "safe_name"]
+def _stream_hashed(inp, out) -> tuple[str, int]:
+    """Copy one open file to another chunk by chunk; the SHA-256 and size of what was copied."""
+    h = hashlib.sha256()
+    n = 0
+    while chunk := inp.read(CHUNK):
+        h.update(chunk)
+        out.write(chunk)
+        n += len(chunk)
+    out.flush()
+    return h.hexdigest(), n
+
+
+__all__ = ["attach", "store_dir", "blob_path", "put_file", "read_verified", "check_blob", "export_file", "sha256_of", "safe_name", "require_stored"]

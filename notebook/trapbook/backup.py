@@ -19,39 +19,30 @@ import sqlite3
 from pathlib import Path
 
 from .errors import StoreError
+from .files import atomic_target
 
 
 def _stamp() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%S%fZ")
+    return _dt.datetime.now(_dt.UTC).strftime("%Y%m%dT%H%M%S%fZ")
 
 
 def _copy_db(src: Path, dest: Path) -> None:
     """Consistent snapshot of `src` into a new file `dest` (written beside it, then renamed)."""
-    part = dest.with_name(dest.name + ".part")
-    for p in (part, Path(str(part) + "-journal")):
-        if p.exists():
-            p.unlink()
     try:
-        s = sqlite3.connect(f"file:{src}?mode=ro", uri=True, timeout=30.0)
-        s.execute("PRAGMA busy_timeout=30000")
-        d = sqlite3.connect(str(part))
-        try:
-            s.backup(d, pages=1024)
-            d.execute("PRAGMA journal_mode=DELETE")  # a backup is one self-contained file
-            d.commit()
-        finally:
-            d.close()
-            s.close()
-        with open(part, "rb+") as fh:
-            os.fsync(fh.fileno())
-        os.replace(part, dest)
+        with atomic_target(dest) as part:
+            s = sqlite3.connect(f"file:{src}?mode=ro", uri=True, timeout=30.0)
+            s.execute("PRAGMA busy_timeout=30000")
+            d = sqlite3.connect(str(part))
+            try:
+                s.backup(d, pages=1024)
+                d.execute("PRAGMA journal_mode=DELETE")  # a backup is one self-contained file
+                d.commit()
+            finally:
+                d.close()
+                s.close()
     except sqlite3.DatabaseError as exc:
-        if part.exists():
-            part.unlink()
         raise StoreError(f"cannot copy {src}: {exc}", "check the file is a Trapbook notebook") from None
     except OSError as exc:
-        if part.exists():
-            part.unlink()
         raise StoreError(f"cannot write {dest}: {exc.strerror}", "choose a writable place with enough space") from None
 
 
@@ -73,12 +64,9 @@ def _copy_files(src_root: Path, dest_root: Path) -> int:
             if target.exists() and attachments.check_blob(dest_root, sub.name + f.name) is None:
                 continue
             target.parent.mkdir(parents=True, exist_ok=True)
-            tmp = target.with_name(target.name + ".part")
-            if tmp.exists():
-                tmp.unlink()
-            shutil.copyfile(f, tmp)
-            os.chmod(tmp, 0o444)
-            os.replace(tmp, target)
+            with atomic_target(target) as tmp:
+                shutil.copyfile(f, tmp)
+                os.chmod(tmp, 0o444)
             n += 1
     return n
 
@@ -103,9 +91,27 @@ def backup(nb_path: str | os.PathLike, dest: str | os.PathLike) -> dict:
         raise StoreError(f"cannot create {out.parent}: {exc.strerror}", "choose a writable place") from None
     _copy_db(src, out)
     files = _copy_files(attachments.store_dir(src), attachments.store_dir(out))
-    report = integrity.verify_path(out)
-    return {"path": str(out), "files_copied": files, "verified": report.ok,
-            "problems": [p.to_dict() for p in report.problems]}
+    problems = _damage(integrity.verify_path(out))
+    return {"path": str(out), "files_copied": files, "verified": not problems,
+            "problems": [p.to_dict() for p in problems]}
+
+
+def _refuse_newer(path: Path, what: str) -> None:
+    """A file written by a newer Trapbook is neither restored nor replaced by this one."""
+    from .store.connect import newer_schema_problem, open_read_only
+
+    try:
+        conn = open_read_only(path)
+    except sqlite3.DatabaseError:
+        return  # not readable as SQLite: verify says so in its own words
+    try:
+        problem = newer_schema_problem(conn, path)
+    except sqlite3.DatabaseError:
+        problem = None
+    finally:
+        conn.close()
+    if problem is not None:
+        raise StoreError(f"cannot {what}: {problem.message}; nothing was changed", problem.hint)
 
 
 def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = False) -> dict:
@@ -118,10 +124,13 @@ def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = Fal
         raise StoreError(f"no backup file {src_p}", "give the path of a backup made with 'trapbook backup'")
     if tgt.exists() and src_p.resolve() == tgt.resolve():
         raise StoreError("the backup and the target are the same file", "give another --db")
-    check = integrity.verify_path(src_p)
-    if not check.ok and not force:
-        first = check.problems[0]
-        raise StoreError(f"the backup {src_p.name} does not pass verify ({len(check.problems)} problem(s), first: "
+    _refuse_newer(src_p, "restore this backup")
+    if tgt.exists():
+        _refuse_newer(tgt, "replace this notebook")
+    damage = _damage(integrity.verify_path(src_p))
+    if damage and not force:
+        first = damage[0]
+        raise StoreError(f"the backup {src_p.name} does not pass verify ({len(damage)} problem(s), first: "
                          f"{first.record}: {first.message})", "run 'trapbook verify --db BACKUP' to see them; nothing was changed")
     kept = None
     if tgt.exists():
@@ -143,9 +152,29 @@ def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = Fal
     except sqlite3.DatabaseError as exc:
         raise StoreError(f"cannot restore into {tgt}: {exc}", f"the earlier notebook is kept at {kept}" if kept else "check the path") from None
     files = _copy_files(attachments.store_dir(src_p), attachments.store_dir(tgt))
+    _bring_up_to_date(tgt)
     after = integrity.verify_path(tgt)
     return {"path": str(tgt), "from": str(src_p), "previous_kept_at": str(kept) if kept else None,
             "files_copied": files, "verified": after.ok, "problems": [p.to_dict() for p in after.problems]}
+
+
+def _bring_up_to_date(path: Path) -> None:
+    """A backup made by an earlier Trapbook gets this Trapbook's layout once it is in place."""
+    from .store import Notebook, schema
+    from .store.connect import open_read_only
+
+    conn = open_read_only(path)
+    try:
+        needs = schema.applied_versions(conn) is not None and bool(schema.pending(conn))
+    finally:
+        conn.close()
+    if needs:
+        Notebook.open(path).close()
+
+
+def _damage(report) -> list:
+    """Problems that mean damage; a notebook not yet upgraded to this Trapbook's layout is not damaged."""
+    return [p for p in report.problems if p.code != "old-schema"]
 
 
 __all__ = ["backup", "restore"]

@@ -9,18 +9,29 @@ from __future__ import annotations
 
 
 class TrapbookError(Exception):
-    """A problem the user can fix: `message` says what is wrong, `hint` what to do."""
+    """A problem the user can fix: `message` says what is wrong, `hint` what to do.
 
-    def __init__(self, message: str, hint: str | None = None, *, field: str | None = None):
+    The words are for people; the data fields are for code. `field` names the input that
+    was refused (a record field, a CLI option, a form box), `got` what was given and
+    `expected` what would have been accepted. A caller that needs to react to one kind of
+    refusal branches on these fields (or on the subclass), never on the message text,
+    so rewording a message cannot change behaviour.
+    """
+
+    def __init__(self, message: str, hint: str | None = None, *, field: str | None = None,
+                 got: object = None, expected: object = None):
         super().__init__(message)
         self.message = message
         self.hint = hint
         self.field = field
+        self.got = got
+        self.expected = expected
 
     def __str__(self) -> str:  # pragma: no cover - trivial
         return self.message if not self.hint else f"{self.message}\n  hint: {self.hint}"
 
     def to_dict(self) -> dict:
+        """The error as the CLI prints it under --json (stable keys: error, hint, field)."""
         return {"error": self.message, "hint": self.hint, "field": self.field}
 
 

@@ -41,7 +41,7 @@ class Sourced:
 class Antoine:
     """Vapour pressure constants kept in the form they were published in, to avoid retyping errors."""
 
-    form: str  # "log10_bar_K", "ln_kPa_degC" or "ln_mmHg_K"
+    form: str  # "log10_bar_K", "ln_kPa_degC", "ln_mmHg_K" or "log10_mmHg_degC"
     a: float
     b: float
     c: float
@@ -57,7 +57,10 @@ class Antoine:
             return math.exp(self.a - self.b / (t_c + self.c)) * _BAR_PER_KPA
         if self.form == "ln_mmHg_K":
             return math.exp(self.a - self.b / (t_c + 273.15 + self.c)) * _BAR_PER_MMHG
-        raise TrapbookError(f"Antoine form '{self.form}' is not known", "use log10_bar_K, ln_kPa_degC or ln_mmHg_K")
+        if self.form == "log10_mmHg_degC":
+            return 10 ** (self.a - self.b / (t_c + self.c)) * _BAR_PER_MMHG
+        raise TrapbookError(f"Antoine form '{self.form}' is not known",
+                            "use log10_bar_K, ln_kPa_degC, ln_mmHg_K or log10_mmHg_degC")
 
     def covers(self, t_c: float) -> bool:
         return self.t_min_c <= t_c <= self.t_max_c
@@ -146,6 +149,33 @@ def all_materials() -> tuple[Material, ...]:
     solvents = [_material(r, "solvent") for r in _read("solvents.json")["solvents"]]
     reagents = [_material(r, r.get("kind", "reagent")) for r in _read("reagents.json")["reagents"]]
     return tuple(solvents + reagents)
+
+
+#: Closing sentence of every safety caution: a reminder, not an assessment.
+DEFER = ("Follow the SDS, your local rules and your lab's safety officer; "
+         "this reminder does not replace a risk assessment.")
+
+#: The hazards every trapping run shares, for pages that speak of the work in general
+#: (bench sheets, reports): fluoride, pressure in sealed vessels, peroxide-forming traps.
+GENERAL_HAZARDS = ("fluoride", "sealed_pressure", "peroxide_former")
+
+
+def caution_text(keys) -> str:
+    """The caution for these hazard keys (each once, in the data file's words) closed by `DEFER`.
+
+    The one place a caution is worded: the checks, bench sheets, reports and exports call it.
+    """
+    table = hazards()
+    keys = list(dict.fromkeys(keys))
+    unknown = [k for k in keys if k not in table]
+    if unknown:
+        raise TrapbookError(f"materials data: no caution for hazard(s) {', '.join(unknown)}", "fix trapbook/data/hazards.json")
+    return " ".join([table[k].caution for k in keys] + [DEFER])
+
+
+def material_caution(mat: Material) -> str:
+    """The caution of one material: those of all its hazards."""
+    return caution_text(mat.hazards)
 
 
 @lru_cache(maxsize=1)

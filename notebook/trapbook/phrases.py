@@ -3,6 +3,7 @@
 
 from __future__ import annotations
 
+from .bench_words import hold_words, temperature_words
 from .units import unit_text
 
 
@@ -21,9 +22,9 @@ def step_phrases(step, with_additions: bool = True) -> list[str]:
     if step.over is not None:
         parts.append(f"over {quantity_words(step.over)}")
     if step.temperature is not None:
-        parts.append(f"at {quantity_words(step.temperature)}")
+        parts.append(f"at {temperature_words(step)}")  # as written ('rt (23 °C)', '0 °C → 23 °C')
     if step.hold is not None:
-        parts.append(f"hold {quantity_words(step.hold)}")
+        parts.append(f"hold {hold_words(step)}")
     if step.sealed:
         parts.append("sealed vessel")
     if step.atmosphere:

@@ -11,12 +11,17 @@ from __future__ import annotations
 
 import datetime as _dt
 import json
+import math
 import re
 from typing import Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, ValidationInfo, field_validator, model_validator
 
+from . import bench_words
+from .bench_words import BenchWords
 from .errors import ChemistryError, RecordError, UnitError
+from .record_errors import explain
+from .text_rules import Note, RunId, SingleLine, SmilesText, Title, validate_run_id
 from .units import (
     Amount,
     Density,
@@ -28,8 +33,23 @@ from .units import (
     MolarMass,
     Temperature,
     Volume,
+    shown_input,
     to_canonical,
 )
+
+__all__ = ["Line", "Step", "Run", "Screen", "load_run", "load_run_text", "load_screen", "validate_run_id", "BenchWords",
+           "with_bench_words"]
+
+#: Most lines, steps, tags, products and attachments a record holds; far above any real run,
+#: low enough that a crafted file cannot make every view crawl. Common practice, no source.
+MAX_LINES = 200
+MAX_STEPS = 200
+MAX_TAGS = 50
+MAX_PRODUCTS = 50
+MAX_ATTACHMENTS = 1000
+#: Largest and smallest non-zero NMR integral accepted (any processing scale fits). Common practice, no source.
+INTEGRAL_MAX = 1e15
+INTEGRAL_MIN = 1e-12
 
 ROLES = ("precursor", "fluoride source", "additive", "trap", "solvent", "internal standard", "product")
 Role = Literal["precursor", "fluoride source", "additive", "trap", "solvent", "internal standard", "product"]
@@ -77,10 +97,12 @@ def parse_ratio(text: str) -> tuple[float, float]:
     """'5:1' or '95:5' -> (5.0, 1.0); ValueError with a plain message otherwise."""
     m = _RATIO.match(str(text))
     if not m:
-        raise ValueError(f"ratio '{text}' is not written as major:minor (e.g. '5:1')")
+        raise ValueError(f"ratio '{shown_input(str(text))}' is not written as major:minor (e.g. '5:1')")
     a, b = float(m.group(1)), float(m.group(2))
     if a == 0 and b == 0:
-        raise ValueError(f"ratio '{text}' has both parts zero")
+        raise ValueError(f"ratio '{shown_input(str(text))}' has both parts zero")
+    if not (math.isfinite(a) and math.isfinite(b)) or max(a, b) > 1e9:
+        raise ValueError(f"ratio '{shown_input(str(text))}' is too large to be a measured ratio; write it reduced, e.g. '20:1'")
     return a, b
 
 
@@ -93,8 +115,8 @@ class Line(_Model):
     """
 
     role: Role
-    name: str = Field(min_length=1, max_length=200)
-    smiles: str | None = Field(default=None, description="SMILES of the form weighed, hydrate water and counter-ions included")
+    name: SingleLine = Field(min_length=1)
+    smiles: SmilesText | None = Field(default=None, description="SMILES of the form weighed, hydrate water and counter-ions included")
     equiv: Equiv | None = None
     amount: Amount | None = None
     mass: Mass | None = None
@@ -105,8 +127,8 @@ class Line(_Model):
     water: Fraction | None = Field(default=None, description="water content of the form used, e.g. '5 wt%'")
     molar_mass: MolarMass | None = Field(default=None, description="explicit molar mass; overrides the one computed from SMILES")
     limiting: bool = False
-    lot: str | None = None
-    note: str | None = None
+    lot: SingleLine | None = None
+    note: Note | None = None
 
     @field_validator("role", mode="before")
     @classmethod
@@ -160,13 +182,33 @@ class Line(_Model):
 class Step(_Model):
     """One thing done to the flask, in order: what went in, at what temperature, for how long."""
 
-    add: list[str] = Field(default_factory=list, description="names of the lines added in this step")
-    temperature: Temperature | None = None
-    hold: Duration | None = Field(default=None, description="how long the flask is kept at this temperature after the additions")
+    add: list[SingleLine] = Field(default_factory=list, max_length=MAX_LINES, description="names of the lines added in this step")
+    temperature: Temperature | None = Field(default=None, description=(
+        "the step's temperature, or the start of a ramp; also written as the bench says it: "
+        "'rt', 'reflux', '0 °C to rt' (the words are kept in temperature_written)"))
+    temperature_end: Temperature | None = Field(default=None, description="where a ramp ends ('0 °C to rt' ends at room temperature)")
+    temperature_written: SingleLine | None = Field(default=None, description=(
+        "the temperature as the chemist wrote it, when not one plain value (rt, reflux, 0 °C to rt); "
+        "temperature (and temperature_end) then hold the numbers it stands for"))
+    temperature_basis: SingleLine | None = Field(default=None, description=(
+        "how written words became numbers: the lab's room temperature, or the solvent's boiling point and its source"))
+    hold: Duration | None = Field(default=None, description=(
+        "how long the flask is kept at this temperature after the additions; 'overnight' or 'o/n' is the lab's overnight"))
+    hold_written: SingleLine | None = Field(default=None, description="the hold as written when in words (overnight, o/n)")
     over: Duration | None = Field(default=None, description="addition time (e.g. dropwise over 10 min)")
     sealed: bool = Field(default=False, description="vessel closed (pressure builds on heating)")
-    atmosphere: str | None = None
-    note: str | None = None
+    atmosphere: SingleLine | None = None
+    note: Note | None = None
+
+    @model_validator(mode="before")
+    @classmethod
+    def _bench_words(cls, data: Any, info: ValidationInfo) -> Any:
+        """'rt', 'reflux', 'overnight', '0 °C to rt': keep the words, fill in the numbers they stand for."""
+        if not isinstance(data, dict):
+            return data
+        data = dict(data)
+        reflux = data.pop("_reflux") if isinstance(data.get("_reflux"), bench_words.Reflux) else None
+        return bench_words.expand_step(data, BenchWords.from_context(info.context), reflux)
 
     @field_validator("add", mode="before")
     @classmethod
@@ -175,28 +217,61 @@ class Step(_Model):
             return [v]
         return v
 
+    @model_validator(mode="after")
+    def _times_and_words(self) -> "Step":
+        for what, q in (("hold", self.hold), ("addition time (over)", self.over)):
+            if q is not None and q.magnitude <= 0:
+                raise ValueError(f"{what} must be longer than zero (got {q.magnitude:g} {q.units:~}); "
+                                 "leave it out if there was none")
+        if self.temperature is None and (self.temperature_end is not None or self.temperature_written is not None):
+            raise ValueError("temperature_end and temperature_written need the temperature itself")
+        if self.hold is None and self.hold_written is not None:
+            raise ValueError("hold_written needs the hold itself")
+        return self
+
+    def temperatures_c(self) -> list[float]:
+        """Every temperature the step goes through (both ends of a ramp), in °C."""
+        return bench_words.step_temperatures_c(self)
+
+    def max_temp_c(self) -> float | None:
+        """The highest temperature of the step: what pressure and boiling-point checks must use."""
+        return max(self.temperatures_c(), default=None)
+
+    def min_temp_c(self) -> float | None:
+        """The lowest temperature of the step: what freezing checks must use."""
+        return min(self.temperatures_c(), default=None)
+
 
 class QNMR(_Model):
     """Integrals for an NMR yield against an internal standard."""
 
-    standard: str | None = Field(default=None, description="name of the internal standard line (default: the run's only one)")
+    standard: SingleLine | None = Field(default=None, description="name of the internal standard line (default: the run's only one)")
     standard_amount: Amount | None = Field(default=None, description="amount of standard in the sample, if not from the line")
-    standard_integral: float = Field(gt=0)
+    standard_integral: float = Field(gt=0, le=INTEGRAL_MAX, allow_inf_nan=False)
     standard_protons: int = Field(gt=0, le=100)
-    integral: float = Field(ge=0)
+    integral: float = Field(ge=0, le=INTEGRAL_MAX, allow_inf_nan=False)
     protons: int = Field(gt=0, le=100)
+
+    @field_validator("standard_integral")
+    @classmethod
+    def _not_vanishing(cls, v: float) -> float:
+        """The standard's integral divides: a vanishing one would turn any product into an infinite yield."""
+        if v != 0 and abs(v) < INTEGRAL_MIN:
+            raise ValueError(f"integral {v:g} is too small to be a measured integral (below {INTEGRAL_MIN:g}); "
+                             "check the number, or rescale both integrals")
+        return v
 
 
 class ProductResult(_Model):
     """What one product came to: isolated mass and/or an NMR yield, and its selectivity."""
 
-    product: str = Field(min_length=1, description="name of the product line")
+    product: SingleLine = Field(min_length=1, description="name of the product line")
     isolated_mass: Mass | None = None
     qnmr: QNMR | None = None
-    dr: str | None = Field(default=None, description="diastereomer ratio, major:minor, e.g. '5:1'")
-    er: str | None = Field(default=None, description="enantiomer ratio, major:minor, e.g. '95:5'")
-    ee: float | None = Field(default=None, description="enantiomeric excess in percent")
-    note: str | None = None
+    dr: SingleLine | None = Field(default=None, description="diastereomer ratio, major:minor, e.g. '5:1'")
+    er: SingleLine | None = Field(default=None, description="enantiomer ratio, major:minor, e.g. '95:5'")
+    ee: float | None = Field(default=None, ge=-100, le=100, allow_inf_nan=False, description="enantiomeric excess in percent")
+    note: Note | None = None
 
     @field_validator("dr", "er", mode="before")
     @classmethod
@@ -204,6 +279,8 @@ class ProductResult(_Model):
         if v is None or v == "":
             return None
         if isinstance(v, (int, float)) and not isinstance(v, bool):
+            if not math.isfinite(v):
+                raise ValueError(f"ratio {v!r} is not a finite number; write it as major:minor, e.g. '5:1'")
             v = f"{v}:1"
         parse_ratio(v)
         return str(v).replace(" ", "")
@@ -216,41 +293,62 @@ class ProductResult(_Model):
 
 
 class Outcome(_Model):
-    products: list[ProductResult] = Field(default_factory=list)
+    products: list[ProductResult] = Field(default_factory=list, max_length=MAX_PRODUCTS)
     recovered_precursor: Mass | None = Field(default=None, description="mass of precursor recovered")
-    observations: str | None = None
+    observations: Note | None = None
 
 
 class Attachment(_Model):
     """A file kept beside the run (spectrum, photo, raw NMR data), known by its SHA-256."""
 
-    name: str
+    name: SingleLine
     sha256: str = Field(pattern=r"^[0-9a-f]{64}$")
     size: int = Field(ge=0)
-    media_type: str | None = None
-    added: str | None = None
+    media_type: SingleLine | None = None
+    added: SingleLine | None = None
 
 
 class Run(_Model):
     """One experiment: the lines, the order of additions, and what came of it."""
 
-    id: str | None = Field(default=None, description="notebook id; assigned when first saved")
-    title: str = Field(min_length=1, max_length=300)
-    chemist: str | None = None
+    id: RunId | None = Field(default=None, description="notebook id; assigned when first saved")
+    title: Title = Field(min_length=1)
+    chemist: SingleLine | None = None
     date: _dt.date | None = None
-    page: str | None = Field(default=None, description="paper notebook page reference")
-    screen: str | None = Field(default=None, description="id of the screen this run belongs to")
-    factors: dict[str, str] = Field(default_factory=dict, description="levels of the screen's varied conditions in this run")
+    page: SingleLine | None = Field(default=None, description="paper notebook page reference")
+    screen: RunId | None = Field(default=None, description="id of the screen this run belongs to")
+    factors: dict[SingleLine, SingleLine] = Field(default_factory=dict, max_length=MAX_TAGS,
+                                                  description="levels of the screen's varied conditions in this run")
     status: Literal["planned", "running", "done", "failed"] = "done"
-    tags: list[str] = Field(default_factory=list)
-    intermediate: str | None = Field(default=None, description="SMILES of the strained intermediate the run releases")
-    intermediate_name: str | None = None
-    limiting: str | None = Field(default=None, description="name of the limiting line (default: the precursor)")
-    lines: list[Line] = Field(min_length=1)
-    steps: list[Step] = Field(default_factory=list)
+    tags: list[SingleLine] = Field(default_factory=list, max_length=MAX_TAGS)
+    intermediate: SmilesText | None = Field(default=None, description="SMILES of the strained intermediate the run releases")
+    intermediate_name: SingleLine | None = None
+    limiting: SingleLine | None = Field(default=None, description="name of the limiting line (default: the precursor)")
+    lines: list[Line] = Field(min_length=1, max_length=MAX_LINES)
+    steps: list[Step] = Field(default_factory=list, max_length=MAX_STEPS)
+    vessel: Volume | None = Field(default=None, description="inner volume of the reaction vessel (e.g. '15 mL'); "
+                                  "used for the sealed-vessel pressure and fill checks")
     outcome: Outcome | None = None
-    notes: str | None = None
-    attachments: list[Attachment] = Field(default_factory=list)
+    notes: Note | None = None
+    attachments: list[Attachment] = Field(default_factory=list, max_length=MAX_ATTACHMENTS)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _reflux(cls, data: Any) -> Any:
+        """Tell each step what 'reflux' means in this run (its solvent's boiling point), if any step says it."""
+        if not isinstance(data, dict) or not isinstance(data.get("steps"), list):
+            return data
+        if not any(isinstance(st, dict) and isinstance(st.get("temperature"), str) and "reflux" in st["temperature"].lower()
+                   for st in data["steps"]):
+            return data
+        reflux = bench_words.run_reflux(data.get("lines"))
+        steps = [{**st, "_reflux": reflux} if isinstance(st, dict) else st for st in data["steps"]]
+        return {**data, "steps": steps}
+
+    @field_validator("vessel")
+    @classmethod
+    def _vessel(cls, v):
+        return _positive(v, "vessel volume")
 
     @field_validator("intermediate")
     @classmethod
@@ -300,116 +398,65 @@ class Run(_Model):
 class Screen(_Model):
     """A named set of runs that vary stated conditions around one base."""
 
-    id: str | None = None
-    name: str = Field(min_length=1, max_length=200)
-    description: str | None = None
-    factors: dict[str, list[str]] = Field(default_factory=dict, description="varied condition -> levels")
-    runs: list[str] = Field(default_factory=list, description="ids of the runs in the screen")
-    base_run: str | None = None
-    chemist: str | None = None
-    scale: str | None = None
+    id: RunId | None = None
+    name: SingleLine = Field(min_length=1)
+    description: Note | None = None
+    factors: dict[SingleLine, list[SingleLine]] = Field(default_factory=dict, max_length=MAX_TAGS,
+                                                        description="varied condition -> levels")
+    runs: list[RunId] = Field(default_factory=list, max_length=10_000, description="ids of the runs in the screen")
+    base_run: RunId | None = None
+    chemist: SingleLine | None = None
+    scale: SingleLine | None = None
 
 
-def _locate(data: Any, loc: tuple) -> str:
-    """Turn a pydantic error location into words a chemist recognises ("line 'furan': volume")."""
-    parts: list[str] = []
-    node = data
-    i = 0
-    while i < len(loc):
-        key = loc[i]
-        if key == "lines" and i + 1 < len(loc) and isinstance(loc[i + 1], int):
-            idx = loc[i + 1]
-            name = None
-            try:
-                name = node["lines"][idx].get("name")
-            except Exception:
-                pass
-            parts.append(f"line '{name}'" if name else f"line {idx + 1}")
-            try:
-                node = node["lines"][idx]
-            except Exception:
-                node = None
-            i += 2
-            continue
-        if key == "steps" and i + 1 < len(loc) and isinstance(loc[i + 1], int):
-            parts.append(f"step {loc[i + 1] + 1}")
-            try:
-                node = node["steps"][loc[i + 1]]
-            except Exception:
-                node = None
-            i += 2
-            continue
-        if key == "products" and i + 1 < len(loc) and isinstance(loc[i + 1], int):
-            name = None
-            try:
-                name = node["products"][loc[i + 1]].get("product")
-            except Exception:
-                pass
-            parts.append(f"product '{name}'" if name else f"product {loc[i + 1] + 1}")
-            try:
-                node = node["products"][loc[i + 1]]
-            except Exception:
-                node = None
-            i += 2
-            continue
-        if isinstance(key, str) and not key.startswith("function-"):
-            parts.append(key)
-        try:
-            node = node[key] if node is not None else None
-        except Exception:
-            node = None
-        i += 1
-    return ": ".join(parts[:1] + [" ".join(parts[1:])]) if len(parts) > 1 else (parts[0] if parts else "record")
+def load_run(data: Any, words: BenchWords | None = None) -> Run:
+    """A Run from a parsed run file (dict), or a RecordError naming record and field.
 
-
-def explain(exc: ValidationError, data: Any, what: str = "run") -> RecordError:
-    """One RecordError listing every problem, each named by record and field."""
-    problems = []
-    for err in exc.errors():
-        where = _locate(data, tuple(err.get("loc", ())))
-        ctx = err.get("ctx") or {}
-        cause = ctx.get("error")
-        if isinstance(cause, UnitError):
-            problems.append(f"{where} {cause.message}")
-            continue
-        msg = err.get("msg", "invalid")
-        msg = msg.removeprefix("Value error, ")
-        if err.get("type") == "extra_forbidden":
-            msg = "is not a field Trapbook knows (check the spelling)"
-        elif err.get("type") == "missing":
-            msg = "is required"
-        elif err.get("type") == "literal_error" and where.endswith("role"):
-            msg = f"{err.get('input')!r} is not one of: {', '.join(ROLES)}"
-        problems.append(f"{where}: {msg}" if where else msg)
-    title = data.get("title") if isinstance(data, dict) else None
-    head = f"{what} '{title}'" if title else what
-    if len(problems) == 1:
-        return RecordError(f"{head}: {problems[0]}", "correct the field and try again")
-    return RecordError(f"{head} has {len(problems)} problems:\n  - " + "\n  - ".join(problems), "correct the fields and try again")
-
-
-def load_run(data: Any) -> Run:
-    """A Run from a parsed run file (dict), or a RecordError naming record and field."""
+    `words` are the notebook's meaning of 'rt' and 'overnight' (`settings.bench_words`);
+    without them the documented defaults apply.
+    """
     if isinstance(data, Run):
         return data
     if not isinstance(data, dict):
         raise RecordError("a run must be a JSON object with at least 'title' and 'lines'", "see schemas/run.schema.json")
     try:
-        return Run.model_validate(data)
+        return Run.model_validate(data, context={bench_words.CONTEXT_KEY: words or BenchWords()})
     except ValidationError as exc:
         raise explain(exc, data) from None
     except UnitError as exc:  # a quantity outside a pydantic field context
         raise RecordError(exc.message, exc.hint) from None
 
 
-def load_run_text(text: str, source: str = "run file") -> Run:
+def with_bench_words(run: Run, words: BenchWords | None) -> Run:
+    """The run with its written words ('rt', 'overnight') read again with this notebook's meaning.
+
+    A run file is read before the notebook it goes to is known; the words it kept
+    (``temperature_written``, ``hold_written``) are what let the numbers follow the lab.
+    """
+    if words is None or words == BenchWords() or not any(s.temperature_written or s.hold_written for s in run.steps):
+        return run
+    data = run.to_json_dict()
+    for st in data.get("steps", []):
+        if st.get("temperature_written"):
+            st["temperature"] = st.pop("temperature_written")
+            st.pop("temperature_end", None)
+            st.pop("temperature_basis", None)
+        if st.get("hold_written"):
+            st["hold"] = st.pop("hold_written")
+    return load_run(data, words)
+
+
+def load_run_text(text: str, source: str = "run file", words: BenchWords | None = None) -> Run:
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
         raise RecordError(f"{source} is not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", "fix the JSON syntax") from None
     except RecursionError:
         raise RecordError(f"{source} is nested too deeply to be a run file", "check the file is a Trapbook run (JSON)") from None
-    return load_run(data)
+    except ValueError as exc:  # e.g. an integer of more digits than Python converts
+        raise RecordError(f"{source} holds a value that cannot be read ({shown_input(str(exc), 80)})",
+                          "check the numbers in the file") from None
+    return load_run(data, words)
 
 
 def load_screen(data: Any) -> Screen:

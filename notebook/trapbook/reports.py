@@ -16,6 +16,8 @@ import io
 from pathlib import Path
 
 from .errors import ExchangeError, NotFoundError, TrapbookError
+from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
+from .files import write_atomic
 
 e = html.escape
 
@@ -33,11 +35,11 @@ th{background:#f1ece3}td.n{text-align:right;font-variant-numeric:tabular-nums}
 @media print{body{margin:.6cm;max-width:none}.struct,table,.card{break-inside:avoid}}
 """
 
-_SAFETY = (
-    "Cautions: fluoride sources are toxic and give HF with acid (gloves; calcium gluconate at hand); sealed vessels "
-    "heated above the solvent's boiling point build pressure (rated vials, blast shield); furans and ethers are volatile "
-    "and form peroxides. This report does not replace the SDS, your local rules or the advice of the lab's safety officer."
-)
+def _safety() -> str:
+    """The cautions every trapping run shares, worded once in `materials.caution_text`."""
+    from .materials import GENERAL_HAZARDS, caution_text
+
+    return "Cautions: " + caution_text(GENERAL_HAZARDS)
 
 #: Yield colour stops (fraction of 100 %, RGB): our own scale.
 _STOPS = ((0.0, (244, 239, 230)), (0.5, (224, 170, 80)), (1.0, (92, 45, 110)))
@@ -62,7 +64,7 @@ def _page(title: str, body: list[str]) -> str:
     return ("<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
             f"<title>{e(title)}</title><style>{_CSS}</style></head><body>\n"
             + "\n".join(body)
-            + f"\n<p class='safety'>{e(_SAFETY)}</p><p class='meta'>Trapbook report, generated {stamp}.</p></body></html>\n")
+            + f"\n<p class='safety'>{e(_safety())}</p><p class='meta'>Trapbook report, generated {stamp}.</p></body></html>\n")
 
 
 def _svg(smiles: str) -> str:
@@ -93,13 +95,8 @@ def _run_structures(run) -> list[tuple[str, str, str]]:
     return items
 
 
-def _num(x, fmt) -> str:
-    return "—" if x is None else fmt(x)
-
-
 def _amounts_table(run) -> str:
     from . import amounts
-    from .units import fmt_mg, fmt_mmol, fmt_ul
 
     try:
         t = amounts.compute(run)
@@ -109,12 +106,12 @@ def _amounts_table(run) -> str:
             "<th>mass (mg)</th><th>volume (µL)</th></tr>"]
     for x in t.lines:
         rows.append(
-            f"<tr><td>{e(x.name)}</td><td>{e(x.role)}</td><td class='n'>{_num(x.mw_g_mol, lambda v: f'{v:.2f}')}</td>"
-            f"<td class='n'>{_num(x.equiv, lambda v: f'{v:.3g}')}</td><td class='n'>{_num(x.mmol, fmt_mmol)}</td>"
-            f"<td class='n'>{_num(x.mass_mg, fmt_mg)}</td><td class='n'>{_num(x.volume_ul, fmt_ul)}</td></tr>"
+            f"<tr><td>{e(x.name)}</td><td>{e(x.role)}</td><td class='n'>{fmt_fixed(x.mw_g_mol, 2)}</td>"
+            f"<td class='n'>{fmt_equiv(x.equiv)}</td><td class='n'>{fmt_mmol(x.mmol)}</td>"
+            f"<td class='n'>{fmt_mg(x.mass_mg)}</td><td class='n'>{fmt_ul(x.volume_ul)}</td></tr>"
         )
     rows.append("</table>")
-    conc = f"{t.concentration_M:.3g} M" if t.concentration_M is not None else "not known"
+    conc = f"{fmt_molarity(t.concentration_M)} M" if t.concentration_M is not None else "not known"
     rows.append(f"<p class='meta'>Limiting: {e(t.limiting)} ({fmt_mmol(t.limiting_mmol)} mmol); concentration {e(conc)} — {e(t.concentration_basis)}.</p>")
     return "\n".join(rows)
 
@@ -128,7 +125,9 @@ def _steps(run) -> str:
     return "<ol>" + "".join(f"<li>{e(s.split('. ', 1)[1] if '. ' in s else s.strip())}</li>" for s in items) + "</ol>"
 
 
-def _findings_html(findings: list) -> str:
+def _findings_html(findings: list, problem: str | None = None) -> str:
+    if problem is not None:  # a check that could not run is never shown as a clean run
+        return f"<p class='stop'>The bench checks could not run: {e(problem)}</p>"
     if not findings:
         return "<p>Nothing to flag.</p>"
     out = ["<table><tr><th>severity</th><th>check</th><th>what</th></tr>"]
@@ -150,9 +149,9 @@ def _outcome(run) -> str:
         return f"<p class='warn'>Yields cannot be worked out: {e(exc.message)}</p>"
     out = ["<table><tr><th>product</th><th>isolated yield (%)</th><th>NMR yield (%)</th><th>dr</th><th>ee (%)</th></tr>"]
     for y in ys:
-        out.append(f"<tr><td>{e(y.product)}</td><td class='n'>{_num(y.isolated_yield_pct, lambda v: f'{v:.0f}')}</td>"
-                   f"<td class='n'>{_num(y.nmr_yield_pct, lambda v: f'{v:.0f}')}</td><td>{e(y.dr or '—')}</td>"
-                   f"<td class='n'>{_num(y.ee_pct, lambda v: f'{v:.0f}')}</td></tr>")
+        out.append(f"<tr><td>{e(y.product)}</td><td class='n'>{fmt_pct(y.isolated_yield_pct, '')}</td>"
+                   f"<td class='n'>{fmt_pct(y.nmr_yield_pct, '')}</td><td>{e(y.dr or '—')}</td>"
+                   f"<td class='n'>{fmt_pct(y.ee_pct, '')}</td></tr>")
     out.append("</table>")
     if run.outcome.observations:
         out.append(f"<p><b>Observations:</b> {e(run.outcome.observations)}</p>")
@@ -162,9 +161,12 @@ def _outcome(run) -> str:
 def _strain_card(strain: dict | None) -> str:
     if not strain:
         return "<p class='meta'>Strain not computed for this intermediate (run <code>trapbook strain</code> to add it).</p>"
+    from .stability import judge
+
     os_val = strain.get("olefin_strain_kcal_mol")
+    verdict = judge(strain)
     bits = [f"OS {os_val:.1f} kcal/mol" if os_val is not None else "OS not available",
-            f"class: {strain.get('stability_class') or '—'}"]
+            f"class: {verdict.stability}" if verdict else "class: not judged (fast-tier prescreen or no class for this kind)"]
     if strain.get("s_value") is not None:
         bits.append(f"S value {strain['s_value']}")
     if strain.get("twist_deg") is not None:
@@ -175,19 +177,17 @@ def _strain_card(strain: dict | None) -> str:
 
 def run_report_html(nb, run_id: str) -> str:
     """The whole run on one page: structures, amounts, steps, checks, outcome, strain."""
-    from .strain_link import settings_for, strain_for_run
+    from .findings import findings_for
+    from .review import shown_strain
 
     run = nb.get_run(run_id)
     meta = nb.run_meta(run_id)
-    strain = strain_for_run(nb, run)
+    strain = shown_strain(nb, run)
+    findings, problem = [], None
     try:
-        from . import checks
-
-        findings = checks.run_checks(run, strain=strain, settings=settings_for(nb))
-    except ImportError:
-        findings = []
-    except TrapbookError:
-        findings = []
+        findings = findings_for(nb, run)
+    except TrapbookError as exc:
+        problem = exc.message
     info = " · ".join(x for x in (run.chemist, run.date.isoformat() if run.date else None, f"page {run.page}" if run.page else None,
                                   f"screen {run.screen}" if run.screen else None, run.status, f"version {meta['version']}",
                                   "WITHDRAWN" if meta.get("withdrawn") else None) if x)
@@ -195,7 +195,7 @@ def run_report_html(nb, run_id: str) -> str:
             "<h2>Structures</h2>", _structures(_run_structures(run)),
             "<h2>Amounts</h2>", _amounts_table(run),
             "<h2>Steps</h2>", _steps(run),
-            "<h2>Bench checks</h2>", _findings_html(findings),
+            "<h2>Bench checks</h2>", _findings_html(findings, problem),
             "<h2>Outcome</h2>", _outcome(run),
             "<h2>Strain</h2>", _strain_card(strain)]
     if run.notes:
@@ -231,6 +231,23 @@ def heat_map_html(mx: dict | None) -> str:
     return "\n".join(out)
 
 
+#: Shades of the stability classes, from no trap needed (green) to trapping only (red).
+_CLASS_SHADES = ("#dfeedd", "#e8f0e0", "#f6ebcf", "#f3dede")
+
+
+def _shade_classes(ax, lo: float, hi: float) -> None:
+    """The olefin-strain classes of bridgehead alkenes as bands, with limits from `stability.class_limits`."""
+    from .stability import BRIDGEHEAD, class_limits
+
+    bands = class_limits(BRIDGEHEAD)
+    for k, (low, high, name) in enumerate(bands):
+        x0, x1 = max(lo, low if low is not None else lo), min(hi, high if high is not None else hi)
+        if x1 <= x0:
+            continue
+        ax.axvspan(x0, x1, color=_CLASS_SHADES[min(k + len(_CLASS_SHADES) - len(bands), len(_CLASS_SHADES) - 1)], zorder=0)
+        ax.text(x0 + 0.3, 102, name, fontsize=7, color="#555", va="bottom")
+
+
 def strain_plot_svg(smap: dict, highlight: str | None = None) -> str:
     """Best yield against olefin strain per intermediate and trap, with the stability classes shaded."""
     import matplotlib
@@ -246,11 +263,7 @@ def strain_plot_svg(smap: dict, highlight: str | None = None) -> str:
     if have:
         xs = [x["olefin_strain_kcal_mol"] for x in have]
         lo, hi = min(xs + [10.0]) - 3, max(xs + [25.0]) + 3
-        ax.axvspan(lo, 17, color="#e8f0e0", zorder=0)
-        ax.axvspan(17, 21, color="#f6ebcf", zorder=0)
-        ax.axvspan(21, hi, color="#f3dede", zorder=0)
-        for x0, label in ((lo, "isolable"), (17, "observable"), (21, "unstable")):
-            ax.text(x0 + 0.3, 102, label, fontsize=7, color="#555", va="bottom")
+        _shade_classes(ax, lo, hi)
         traps = sorted({t["trap"] for x in have for t in x["traps"]})
         for k, trap in enumerate(traps):
             pts = [(x["olefin_strain_kcal_mol"], t["yield_pct"]) for x in have for t in x["traps"]
@@ -314,10 +327,10 @@ def screen_report_html(nb, screen_id: str) -> str:
     for f, lv in rv["levels"].items():
         for level, s in lv.items():
             body.append(f"<tr><td>{e(f)}</td><td>{e(level)}</td><td>{e(', '.join(s['runs']))}</td>"
-                        f"<td class='n'>{_num(s['isolated']['mean_pct'], lambda v: f'{v:.0f}')}</td>"
-                        f"<td class='n'>{_num(s['isolated']['best_pct'], lambda v: f'{v:.0f}')}</td>"
-                        f"<td class='n'>{_num(s['nmr']['mean_pct'], lambda v: f'{v:.0f}')}</td>"
-                        f"<td class='n'>{_num(s['nmr']['best_pct'], lambda v: f'{v:.0f}')}</td></tr>")
+                        f"<td class='n'>{fmt_pct(s['isolated']['mean_pct'], '')}</td>"
+                        f"<td class='n'>{fmt_pct(s['isolated']['best_pct'], '')}</td>"
+                        f"<td class='n'>{fmt_pct(s['nmr']['mean_pct'], '')}</td>"
+                        f"<td class='n'>{fmt_pct(s['nmr']['best_pct'], '')}</td></tr>")
     body.append("</table>")
     body.append("<h2>Runs that failed</h2>")
     if rv["failed"]:
@@ -341,9 +354,9 @@ def screen_report_html(nb, screen_id: str) -> str:
     body.append("<h2>Runs</h2><table><tr><th>run</th><th>conditions</th><th>status</th><th>isolated (%)</th><th>NMR (%)</th><th>dr</th><th>ee (%)</th></tr>")
     for r in rv["rows"]:
         body.append(f"<tr><td>{e(r['run_id'])}</td><td>{e(', '.join(f'{k} {v}' for k, v in r['factors'].items() if v))}</td>"
-                    f"<td>{e(r['status'])}</td><td class='n'>{_num(r['isolated_yield_pct'], lambda v: f'{v:.0f}')}</td>"
-                    f"<td class='n'>{_num(r['nmr_yield_pct'], lambda v: f'{v:.0f}')}</td><td>{e(r['dr'] or '—')}</td>"
-                    f"<td class='n'>{_num(r['ee_pct'], lambda v: f'{v:.0f}')}</td></tr>")
+                    f"<td>{e(r['status'])}</td><td class='n'>{fmt_pct(r['isolated_yield_pct'], '')}</td>"
+                    f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
+                    f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>")
     body.append("</table>")
     return _page(f"{rv['screen_id']} {rv['name']}", body)
 
@@ -363,10 +376,5 @@ def write_report(nb, ref: str, output: str | Path) -> dict:
         except NotFoundError:
             raise NotFoundError(f"no run or screen '{ref}' in this notebook", "list them with 'trapbook list' and 'trapbook screens'") from None
         kind, text, ref = "screen", screen_report_html(nb, sid), sid
-    tmp = path.with_name(path.name + ".part")
-    try:
-        tmp.write_text(text, encoding="utf-8")
-        tmp.replace(path)
-    except OSError as exc:
-        raise ExchangeError(f"cannot write {path}: {exc.strerror}", "choose a writable path") from None
+    write_atomic(path, text)
     return {"path": str(path), "kind": kind, "id": ref, "bytes": len(text.encode())}

@@ -1,23 +1,23 @@
-"""Plain-text views of runs and reagent tables, with chemists' rounding, for the CLI."""
+"""Plain-text views of runs and reagent tables, with chemists' rounding, for the CLI.
+
+Numbers are written by display.py (the same rule as the terminal UI and the reports);
+every piece of stored text goes through text_safety.printable before it is padded into
+a column, so a control character shows as an escape and a newline cannot fake a row.
+"""
 
 from __future__ import annotations
 
 from .amounts import AmountTable, ProductYield
-from .records import Run
+from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
 from .phrases import step_phrases, yield_phrases
-from .units import fmt_mg, fmt_mmol, fmt_ul, unit_text
+from .records import Run
+from .text_safety import printable
 
 
-def _num(x: float | None, fmt) -> str:
-    return "—" if x is None else fmt(x)
-
-
-def _equiv(x: float | None) -> str:
-    if x is None:
-        return "—"
-    if x >= 1e5:  # a typo such as 1e300 equiv must still fit its column
-        return f"{x:.2g}"
-    return f"{x:.2f}" if x < 10 else f"{x:.1f}"
+def cell(value, width: int) -> str:
+    """Stored text cut to a column `width` and padded, escaped first so the width holds."""
+    text = printable(value)
+    return f"{text[:width]:{width}}"
 
 
 def amounts_text(table: AmountTable) -> str:
@@ -25,42 +25,36 @@ def amounts_text(table: AmountTable) -> str:
     rows = [head, "-" * len(head)]
     for x in table.lines:
         rows.append(
-            f"{x.name[:28]:28} {x.role[:17]:17} {_num(x.mw_g_mol, lambda v: f'{v:.2f}'):>9} {_equiv(x.equiv):>7} "
-            f"{fmt_mmol(x.mmol) if x.mmol is not None else '—':>8} {fmt_mg(x.mass_mg):>9} {fmt_ul(x.volume_ul):>10}"
+            f"{cell(x.name, 28)} {cell(x.role, 17)} {fmt_fixed(x.mw_g_mol, 2):>9} {fmt_equiv(x.equiv):>7} "
+            f"{fmt_mmol(x.mmol):>8} {fmt_mg(x.mass_mg):>9} {fmt_ul(x.volume_ul):>10}"
         )
     rows.append("")
-    rows.append(f"limiting: {table.limiting} ({fmt_mmol(table.limiting_mmol)} mmol)")
+    rows.append(f"limiting: {printable(table.limiting)} ({fmt_mmol(table.limiting_mmol)} mmol)")
     if table.concentration_M is not None:
-        rows.append(f"concentration: {table.concentration_M:#.3g} M — {table.concentration_basis}")
+        rows.append(f"concentration: {fmt_molarity(table.concentration_M)} M — {printable(table.concentration_basis)}")
     else:
-        rows.append(f"concentration: not known ({table.concentration_basis})")
+        rows.append(f"concentration: not known ({printable(table.concentration_basis)})")
     return "\n".join(rows)
 
 
-def _q(q) -> str:
-    if q is None:
-        return ""
-    return f"{q.magnitude:g} {unit_text(q)}".strip()
-
-
 def steps_text(run: Run) -> list[str]:
-    return [f"  {i}. " + "; ".join(step_phrases(s)) for i, s in enumerate(run.steps, 1)]
+    return [f"  {i}. " + printable("; ".join(step_phrases(s))) for i, s in enumerate(run.steps, 1)]
 
 
 def yields_text(yields: list[ProductYield]) -> list[str]:
-    return [f"  {y.product}: " + (", ".join(yield_phrases(y)) or "no yield recorded") for y in yields]
+    return [f"  {printable(y.product)}: " + (printable(", ".join(yield_phrases(y))) or "no yield recorded") for y in yields]
 
 
 def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[ProductYield], problem: str | None) -> str:
     current = f" of {meta['current_version']}: an earlier version, not the current one" if meta.get("current_version") else ""
-    head = [f"{meta['id']}  {run.title}  (version {meta['version']}{current}{', WITHDRAWN' if meta.get('withdrawn') else ''})"]
+    head = [f"{printable(meta['id'])}  {printable(run.title)}  (version {meta['version']}{current}{', WITHDRAWN' if meta.get('withdrawn') else ''})"]
     info = [x for x in (run.chemist, run.date.isoformat() if run.date else None, f"page {run.page}" if run.page else None,
                         f"screen {run.screen}" if run.screen else None, run.status) if x]
-    head.append("  " + " · ".join(info))
+    head.append("  " + printable(" · ".join(info)))
     if run.intermediate:
-        head.append(f"  intermediate: {run.intermediate_name or ''} {run.intermediate}".rstrip())
+        head.append(printable(f"  intermediate: {run.intermediate_name or ''} {run.intermediate}".rstrip()))
     body = [""]
-    body.append(amounts_text(table) if table else f"amounts: {problem}")
+    body.append(amounts_text(table) if table else f"amounts: {printable(problem)}")
     body.append("")
     body.append("steps:")
     body.extend(steps_text(run) or ["  (no steps recorded)"])
@@ -68,9 +62,9 @@ def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[Produ
         body.append("outcome:")
         body.extend(yields_text(yields))
         if run.outcome.observations:
-            body.append(f"  observations: {run.outcome.observations}")
+            body.append(f"  observations: {printable(run.outcome.observations, multiline=True)}")
     if run.notes:
-        body.append(f"notes: {run.notes}")
+        body.append(f"notes: {printable(run.notes, multiline=True)}")
     return "\n".join(head + body)
 
 
@@ -78,13 +72,12 @@ def run_rows_text(rows: list[dict]) -> str:
     head = f"{'id':8} {'date':10} {'chemist':10} {'title':38} {'trap':18} {'T max':>6} {'yield':>6} {'worst':16}"
     out = [head, "-" * len(head)]
     for r in rows:
-        y = "—" if r.get("yield_pct") is None else f"{r['yield_pct']:.0f}%"
-        t = "—" if r.get("temp_max_c") is None else f"{r['temp_max_c']:.0f}°C"
-        title = (r["title"] or "")[:38]
+        title = printable(r["title"])
         if r.get("withdrawn"):
-            title = ("[withdrawn] " + title)[:38]
+            title = "[withdrawn] " + title
         out.append(
-            f"{r['id']:8} {(r.get('date') or ''):10} {(r.get('chemist') or '')[:10]:10} {title:38} "
-            f"{(r.get('trap') or '—')[:18]:18} {t:>6} {y:>6} {(r.get('worst') or '')[:16]:16}"
+            f"{printable(r['id']):8} {cell(r.get('date'), 10)} {cell(r.get('chemist'), 10)} {cell(title, 38)} "
+            f"{cell(r.get('trap') or '—', 18)} {fmt_fixed(r.get('temp_max_c'), 0, '°C'):>6} "
+            f"{fmt_pct(r.get('yield_pct')):>6} {cell(r.get('worst'), 16)}"
         )
     return "\n".join(out)

@@ -14,7 +14,9 @@ from __future__ import annotations
 
 from statistics import mean
 
+from . import amounts
 from .errors import TrapbookError
+from .findings import findings_for
 
 #: How the strain-vs-outcome ranking is computed; returned with every strain map.
 RANKING_METHOD = (
@@ -25,9 +27,7 @@ RANKING_METHOD = (
 
 
 def _yields(run) -> dict:
-    """Isolated and NMR yield of the run's best product, its dr and ee; empty when not worked out."""
-    from . import amounts
-
+    """Isolated and NMR yield of the run's headline product, its dr and ee; empty when not worked out."""
     out = {"isolated_yield_pct": None, "nmr_yield_pct": None, "dr": None, "ee_pct": None, "product": None, "yield_problem": None}
     try:
         ys = amounts.product_yields(run)
@@ -36,31 +36,10 @@ def _yields(run) -> dict:
         return out
     if not ys:
         return out
-    best = max(ys, key=lambda y: (y.best_yield_pct if y.best_yield_pct is not None else -1.0))
+    best = amounts.headline_product(ys)
     out.update({"isolated_yield_pct": best.isolated_yield_pct, "nmr_yield_pct": best.nmr_yield_pct,
                 "dr": best.dr, "ee_pct": best.ee_pct, "product": best.product})
     return out
-
-
-def headline(row: dict) -> tuple[float | None, str | None]:
-    """(yield %, 'isolated' | 'NMR') that stands for the run; isolated first."""
-    if row.get("isolated_yield_pct") is not None:
-        return row["isolated_yield_pct"], "isolated"
-    if row.get("nmr_yield_pct") is not None:
-        return row["nmr_yield_pct"], "NMR"
-    return None, None
-
-
-def _findings(nb, run) -> list:
-    try:
-        from . import checks
-        from .strain_link import settings_for, strain_for_run
-    except ImportError:
-        return []
-    try:
-        return checks.run_checks(run, strain=strain_for_run(nb, run), settings=settings_for(nb))
-    except TrapbookError:
-        return []
 
 
 def _summary(values: list[tuple[float, str]]) -> dict:
@@ -72,7 +51,7 @@ def _summary(values: list[tuple[float, str]]) -> dict:
 
 
 def _failed(row: dict) -> bool:
-    y, _ = headline(row)
+    y = row["yield_pct"]
     return row["status"] == "failed" or (row["status"] == "done" and (y is None or y == 0.0))
 
 
@@ -90,11 +69,11 @@ def review_screen(nb, screen_id: str) -> dict:
     rows = []
     for run in runs:
         y = _yields(run)
-        found = _findings(nb, run)
+        found = findings_for(nb, run)
         row = {"run_id": run.id, "title": run.title, "status": run.status,
                "factors": {k: run.factors.get(k) for k in factors}, **y,
                "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")]}
-        row["yield_pct"], row["yield_kind"] = headline(row)
+        row["yield_pct"], row["yield_kind"] = (None, None) if y["yield_problem"] else amounts.headline_yield(run)
         rows.append(row)
 
     levels: dict[str, dict[str, dict]] = {}
@@ -112,7 +91,7 @@ def review_screen(nb, screen_id: str) -> dict:
     best = max(done, key=lambda r: (r["yield_pct"], r["run_id"])) if done else None
     best_out = None
     if best is not None:
-        kinds = {r["yield_kind"] for r in done}
+        kinds = {r["yield_kind"] for r in done if r["yield_kind"] in ("isolated", "NMR")}
         best_out = {"run_id": best["run_id"], "title": best["title"], "factors": best["factors"], "yield_pct": best["yield_pct"],
                     "yield_kind": best["yield_kind"],
                     "note": None if len(kinds) == 1 else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield"}
@@ -198,10 +177,25 @@ def _canonical(smiles: str) -> str:
         return smiles
 
 
+def shown_strain(nb, run) -> dict | None:
+    """The cached strain to place a run's intermediate on the map: accurate tier, else the
+    fast-tier prescreen (drawn, but never classed: `stability.judge` classes accurate results only)."""
+    from .chemistry.strain_key import cache_key
+    from .strain_link import intermediate_of, strain_for_run
+
+    smiles = intermediate_of(run)
+    if smiles is None:
+        return None
+    found = strain_for_run(nb, run)
+    if found is None:
+        found = nb.cache_get(cache_key(smiles, "fast"))
+    return found
+
+
 def strain_map(nb) -> dict:
     """For each intermediate of the notebook: its cached strain and class, and the best yield per trap."""
-    from .strain_link import intermediate_of, strain_for_run
-    from .store.index import best_yield
+    from .stability import judge
+    from .strain_link import intermediate_of
 
     groups: dict[str, dict] = {}
     for run in nb.iter_runs(include_withdrawn=False):
@@ -213,10 +207,13 @@ def strain_map(nb) -> dict:
         g["name"] = g["name"] or run.intermediate_name
         g["runs"].append(run.id)
         if g["strain"] is None:
-            g["strain"] = strain_for_run(nb, run)
+            g["strain"] = shown_strain(nb, run)
         if run.status not in ("done", "failed"):
             continue
-        y, kind = best_yield(run)
+        try:
+            y, kind = amounts.headline_yield(run)
+        except TrapbookError:  # a yield that cannot be worked out has no point on the map ('yield-unknown' says why)
+            y, kind = None, None
         for trap in run.lines_by_role("trap") or [None]:
             tname = trap.name if trap is not None else "(no trap)"
             cur = g["traps"].get(tname)
@@ -234,7 +231,7 @@ def strain_map(nb) -> dict:
             "name": g["name"],
             "runs": g["runs"],
             "olefin_strain_kcal_mol": os_val,
-            "stability_class": st.get("stability_class"),
+            "stability_class": verdict.stability if (verdict := judge(g["strain"])) else None,
             "strain_method": st.get("method") or st.get("tier"),
             "strain_status": "cached" if g["strain"] else "not computed",
             "best_yield_pct": max(ys) if ys else None,

@@ -15,8 +15,9 @@ def notebook_check_settings(nb):
     return CheckSettings.from_dict(data) if data else CheckSettings()
 
 
-def update_check_settings(nb, assignments, reset: bool = False):
-    """Apply NAME=VALUE changes (validated as a whole) and store them; return what is in force."""
+def update_check_settings(nb, assignments, reset: bool = False, author: str | None = None, reason: str = "settings changed"):
+    """Apply NAME=VALUE changes (validated as a whole) and store them as a new version of the
+    notebook's settings (who, when, why); return what is in force."""
     from .checks import CheckSettings
 
     data = {} if reset else notebook_check_settings(nb).to_dict()
@@ -29,9 +30,90 @@ def update_check_settings(nb, assignments, reset: bool = False):
         except ValueError:
             raise TrapbookError(f"setting {name}: '{value}' is not a number", "give a plain number") from None
     settings = CheckSettings.from_dict(data)  # raises on unknown names or bad values
-    from .store.index import refresh_summaries
-
-    with nb.transaction():  # the new thresholds and the findings judged by them, together
-        nb.set_setting(CHECKS_KEY, settings.to_dict())
-        refresh_summaries(nb)
+    nb.set_check_settings(settings.to_dict(), author=author, reason=reason)  # with the findings judged by them
     return settings
+
+
+# --- who saves --------------------------------------------------------------------------
+
+AUTHOR_KEY = "you_are"
+MAX_AUTHOR = 200  # the single-line limit of text_rules
+
+
+def clean_author(name) -> str:
+    """A name to record on versions: one line of plain text (the single-line rule of text_rules)."""
+    from .errors import RecordError
+    from .text_rules import check_line
+
+    text = name.strip() if isinstance(name, str) else ""
+    if not text:
+        raise RecordError("the name is empty", "give the name to record on your saves, e.g. 'A. Trial'")
+    try:
+        return check_line(text, MAX_AUTHOR)
+    except ValueError as exc:
+        raise RecordError(f"the name {exc}", "type the name as plain text, e.g. 'A. Trial'") from None
+
+
+def notebook_author(nb) -> str | None:
+    """The notebook's "you are" name, if someone has set it."""
+    value = nb.get_setting(AUTHOR_KEY, None) if nb is not None else None
+    return value if isinstance(value, str) and value.strip() else None
+
+
+def set_notebook_author(nb, name: str | None, author: str | None = None) -> str | None:
+    """Set (or, with None, clear) the name this notebook records on every save.
+
+    The change is itself a versioned setting; it is recorded as made by `author` (--author),
+    else by the new name (a chemist saying who they are), else by whoever saved before.
+    """
+    value = clean_author(name) if name is not None else None
+    reason = f"name on saves set to {value}" if value else "name on saves cleared"
+    nb.set_setting(AUTHOR_KEY, value, author=author or value, reason=reason)
+    return value
+
+
+def author_for(nb, given: str | None = None) -> tuple[str, str]:
+    """(name, where it comes from) for a save: --author, else the notebook's name, else the login.
+
+    The one place every save (command line, terminal UI, imports) asks who is saving.
+    """
+    if given is not None and str(given).strip():
+        return clean_author(given), "given"
+    name = notebook_author(nb)
+    if name:
+        return name, "notebook"
+    return login_name(), "login"
+
+
+def login_name() -> str:
+    """The operating-system login, the name of last resort on a save."""
+    import getpass
+    import os
+
+    try:
+        return getpass.getuser() or "unknown"
+    except Exception:  # no login name in this environment (some containers): fall back, said as such
+        return os.environ.get("USER") or "unknown"
+
+
+# --- the bench's words ------------------------------------------------------------------
+
+BENCH_WORDS_KEY = "bench_words"
+
+
+def notebook_bench_words(nb):
+    """What this notebook means by 'rt' and 'overnight' (the `bench_words` defaults where none is set).
+
+    Pass the result to `records.load_run(data, words)` so a run file's words get this lab's numbers.
+    """
+    from .bench_words import OVERNIGHT_H, ROOM_TEMPERATURE_C, BenchWords
+
+    data = nb.get_setting(BENCH_WORDS_KEY, None) if nb is not None else None
+    if not data:
+        return BenchWords()
+    try:
+        return BenchWords(room_temperature_c=float(data.get("room_temperature_c", ROOM_TEMPERATURE_C)),
+                          overnight_h=float(data.get("overnight_h", OVERNIGHT_H)), source="this notebook's setting")
+    except (AttributeError, TypeError, ValueError):
+        raise TrapbookError("the notebook's setting for 'rt' and 'overnight' cannot be read",
+                            "set it again (room_temperature_c, overnight_h)") from None

@@ -8,7 +8,7 @@ bench checks of every run with that intermediate) is served from the cache.
 from __future__ import annotations
 
 import sqlite3
-from typing import Callable
+from collections.abc import Callable
 
 from .errors import TrapbookError
 
@@ -20,36 +20,78 @@ def settings_for(nb):
     return notebook_check_settings(nb)
 
 
-def intermediate_of(run) -> str | None:
-    """SMILES of the run's intermediate: as recorded, else derived from a silyl precursor, else None."""
+def intermediate_of_run(run) -> tuple[str, str] | None:
+    """The run's intermediate and, in words, where it came from; None when nothing gives one.
+
+    The one place that decides which intermediate a run releases: `show`, the checks, the
+    Workbench and reports all read it here, so they always name the same structure.
+    """
     if run.intermediate:
-        return run.intermediate
+        return run.intermediate, "as recorded on the run"
     from .chemistry.derive import intermediate_from_precursor as derive
 
     for line in run.lines_by_role("precursor"):
         if line.smiles:
             try:
-                return derive(line.smiles)
+                smiles = derive(line.smiles)
             except TrapbookError:
                 continue
+            return smiles, (f"derived from the precursor {line.name} ({line.smiles}): fluoride removes the silyl "
+                            "group and the leaving group leaves from the next carbon")
     return None
 
 
+def intermediate_of(run) -> str | None:
+    """SMILES of the run's intermediate: as recorded, else derived from a silyl precursor, else None."""
+    found = intermediate_of_run(run)
+    return found[0] if found else None
+
+
 def strain_for_run(nb, run) -> dict | None:
-    """A cached strain result for the run's intermediate (accurate preferred), never computed here."""
+    """The cached accurate-tier strain result of the run's intermediate, never computed here.
+
+    Only the accurate tier is returned: a fast-tier number is a prescreen that nothing may
+    act on, so a run whose intermediate has only a fast result gets None (no class).
+    """
     smiles = intermediate_of(run)
     if not smiles or nb is None:
         return None
     from .chemistry.strain_key import cache_key
 
-    for tier in ("accurate", "fast"):
-        try:
-            hit = nb.cache_get(cache_key(smiles, tier))
-        except TrapbookError:
-            hit = None
-        if hit:
-            return hit
+    try:
+        hit = nb.cache_get(cache_key(smiles, "accurate"))
+    except TrapbookError:
+        return None
+    if hit and hit.get("tier") == "accurate":
+        return hit
     return None
+
+
+def run_temperature_c(run) -> float:
+    """The temperature the intermediate is released at: that of the step adding the fluoride
+    source, else of the first step that gives one, else 25 °C (room temperature)."""
+    from .units import to_canonical
+
+    fluoride = {ln.name for ln in run.lines_by_role("fluoride source")}
+    steps = [st for st in run.steps if st.temperature is not None]
+    chosen = next((st for st in steps if fluoride & set(st.add)), steps[0] if steps else None)
+    return to_canonical(chosen.temperature, "temperature") if chosen is not None else 25.0
+
+
+def precursor_release(smiles: str) -> dict | None:
+    """When a SMILES is a silyl precursor, the intermediate it releases and the command that
+    computes its strain; None when it is not a precursor (then it is taken as the intermediate)."""
+    from .chemistry.derive import intermediate_from_precursor, is_precursor
+
+    if not is_precursor(smiles):
+        return None
+    inter = intermediate_from_precursor(smiles)
+    return {
+        "precursor": smiles,
+        "intermediate": inter,
+        "how": "fluoride removes the silyl group and the leaving group leaves from the next carbon",
+        "command": f"trapbook strain '{inter}'",
+    }
 
 
 def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str, float], None] | None = None, refresh: bool = False) -> dict:
@@ -100,8 +142,9 @@ def rejudge_runs_with(nb, smiles: str) -> list[str]:
 ALIGNMENT_TIER = "alignment"
 
 
-def alignment_key(precursor_smiles: str) -> str | None:
-    """Cache key of a precursor's Si–C–C–X alignment: canonical structure plus engine version.
+def alignment_key(precursor_smiles: str, temperature_c: float = 25.0) -> str | None:
+    """Cache key of a precursor's Si–C–C–X alignment: canonical structure, temperature and
+    engine version.
 
     Built from the light key module, so a cache look-up never loads the conformer machinery.
     """
@@ -112,16 +155,16 @@ def alignment_key(precursor_smiles: str) -> str | None:
         canon = canonical(precursor_smiles)
     except TrapbookError:
         return None
-    return f"{ALIGNMENT_TIER}|{canon}|{ENGINE_VERSION}"
+    return f"{ALIGNMENT_TIER}|{canon}|{float(temperature_c):g}C|{ENGINE_VERSION}"
 
 
-def get_alignment(nb, smiles: str, compute: bool = True) -> dict | None:
+def get_alignment(nb, smiles: str, compute: bool = True, temperature_c: float = 25.0) -> dict | None:
     """The precursor's alignment from the notebook's cache; computed and cached when `compute`.
 
     With compute=False it is a pure look-up (None when not cached), cheap enough for every
     keystroke of an editor.
     """
-    key = alignment_key(smiles)
+    key = alignment_key(smiles, temperature_c)
     if key is None:
         return None
     if nb is not None:
@@ -130,9 +173,10 @@ def get_alignment(nb, smiles: str, compute: bool = True) -> dict | None:
             return hit
     elif not compute:
         return None
-    from .chemistry import strain
+    from .chemistry import alignment
+    from .chemistry.strain_key import ENGINE_VERSION
 
-    result = strain.precursor_alignment(smiles)
+    result = alignment.precursor_alignment(smiles, temperature_c=temperature_c)
     if nb is not None:
-        nb.cache_put(key, smiles, ALIGNMENT_TIER, strain.ENGINE_VERSION, result)
+        nb.cache_put(key, smiles, ALIGNMENT_TIER, ENGINE_VERSION, result)
     return result

@@ -17,6 +17,7 @@ import pint
 from pydantic import BeforeValidator, PlainSerializer, WithJsonSchema
 
 from .errors import UnitError
+from .text_safety import printable
 
 def _registry() -> pint.UnitRegistry:
     """The registry, from pint's on-disk definition cache when it can be used (start-up speed)."""
@@ -29,14 +30,20 @@ def _registry() -> pint.UnitRegistry:
 ureg = _registry()
 ureg.define("equiv = [] = eq = equivalent = equivalents = equiv.")
 ureg.define("weight_percent = 0.01")
+# mol% of a catalytic line: hundredths of an equivalent of the limiting line (IUPAC Green Book, 1 % = 0.01).
+ureg.define("mol_percent = 0.01 * equiv = mol%")
 Q_ = ureg.Quantity
 
-#: Lab spellings pint does not read as such, rewritten before parsing.
+#: Lab spellings pint does not read as such, rewritten before parsing. The degree sign is
+#: also typed as the masculine ordinal (º, U+00BA) or the ring above (˚, U+02DA).
 _SPELLINGS = [
     (re.compile(r"µ|μ"), "u"),
-    (re.compile(r"°\s*C\b"), "degC"),
-    (re.compile(r"°\s*F\b"), "degF"),
+    (re.compile(r"[°º˚]\s*C\b"), "degC"),
+    (re.compile(r"\bdeg\s+C\b"), "degC"),
+    (re.compile(r"[°º˚]\s*F\b"), "degF"),
+    (re.compile(r"[°º˚]\s*K\b"), "K"),
     (re.compile(r"(?<![A-Za-z])℃"), "degC"),
+    (re.compile(r"\bmol\s*%"), "mol_percent"),
     (re.compile(r"\bwt\s*%"), "weight_percent"),
     (re.compile(r"\bw/w\b"), ""),
     (re.compile(r"\bhrs?\b"), "h"),
@@ -99,8 +106,73 @@ def _label(field: str | None) -> str:
     return f"{field} " if field else ""
 
 
+
+
+def shown_input(value: Any, limit: int = 60) -> str:
+    """What the user gave, safe to quote in an error: control characters spelled out, long text cut.
+
+    Refusals quote the input so the user can find it; hostile input (an escape sequence, a
+    newline faking a second message, 5,000 characters) must not act or flood when quoted.
+    """
+    text = value if isinstance(value, str) else repr(value)
+    cut = len(text) > limit
+    text = printable(text[:limit])  # the one rule for showing hostile text (text_safety)
+    return text + (f"… ({len(value if isinstance(value, str) else repr(value)):,} characters)" if cut else "")
+
+
+#: The smallest non-zero and the largest magnitude accepted for each kind, in its canonical
+#: unit. They lie far beyond any bench (a typo of many orders of magnitude, a subnormal
+#: float, 1e308), so only absurd values are refused, and every product of two accepted
+#: values stays a finite float. Common practice, no source.
+LIMITS: dict[str, tuple[float, float]] = {
+    "amount": (1e-9, 1e7),  # mmol: 1 pmol to 10 kmol
+    "mass": (1e-6, 1e9),  # mg: 1 ng to 1 t
+    "volume": (1e-6, 1e9),  # µL: 1 pL to 1 m³
+    "molarity": (1e-12, 100.0),  # M: 1 pM to 100 M (water is 55 M)
+    "density": (1e-6, 30.0),  # g/mL: a thin gas to beyond osmium (22.6)
+    "temperature": (-273.15, 2000.0),  # °C: absolute zero to a furnace
+    "duration": (1e-3, 5.3e6),  # min: 0.06 s to about ten years
+    "molar_mass": (1.0, 1e7),  # g/mol: a hydrogen atom to a large polymer
+    "equiv": (1e-9, 1e6),
+    "fraction": (1e-12, 1e3),  # 0.1 ppt to 100 000 %
+    "pressure": (1e-12, 1e5),  # bar
+}
+
+
+def _check_limits(q: pint.Quantity, kind: str, field: str | None, shown: str) -> None:
+    """Refuse a value outside LIMITS with the bound in the stored unit."""
+    low, high = LIMITS[kind]
+    unit = CANONICAL_UNITS[kind]
+    try:
+        value = to_canonical(q, kind)
+    except (OverflowError, ValueError, ArithmeticError):
+        value = math.inf
+    words = KINDS[kind][1]
+    shown_unit = "" if unit == "dimensionless" else f" {_UNIT_TEXT.get(str(ureg.Unit(unit)), unit)}"
+    if kind == "temperature":
+        typed = abs(float(q.magnitude))  # as given: a conversion may leave 1e-14 where 32 °F means 0 °C
+        if 0 < typed < 1e-9:  # a subnormal or 1e-200 is a typo too
+            raise UnitError(f"{_label(field)}'{shown}' is too close to zero to be a temperature that was meant",
+                            "check the exponent, or give 0", field=field)
+        if math.isfinite(value) and low <= value <= high:
+            return
+        raise UnitError(f"{_label(field)}'{shown}' is outside {low:g} to {high:g} °C, not a temperature a run can have",
+                        "check the sign, the number and the unit", field=field)
+    if not math.isfinite(value) or abs(value) > high:
+        raise UnitError(f"{_label(field)}'{shown}' is far too large for {words} (at most {high:g}{shown_unit})",
+                        "check the number and the unit: this looks like a typo of many orders of magnitude", field=field)
+    if value != 0 and abs(value) < low:
+        raise UnitError(f"{_label(field)}'{shown}' is too small to be {words} that was meant (below {low:g}{shown_unit})",
+                        "check the number and the unit, or give 0 if nothing was used", field=field)
+
+
+#: The minus sign as typeset (U+2212) and the en dash typed for it; only a leading dash is a
+#: minus (inside "0–25 °C" the en dash is a range, which is not a quantity).
+_LEADING_MINUS = re.compile(r"^[-\u2212\u2013\u2012\ufe63\uff0d]\s*(?=[\d.])")
+
+
 def _normalise_text(text: str) -> str:
-    t = text.strip()
+    t = _LEADING_MINUS.sub("-", text.strip().replace("\u2212", "-"))
     for pattern, repl in _SPELLINGS:
         t = pattern.sub(repl, t)
     t = re.sub(r"(?<=\d)\s*%$", " percent", t)
@@ -116,27 +188,37 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
     if kind not in KINDS:
         raise ValueError(f"unknown quantity kind {kind!r}")
     dim, words, examples = KINDS[kind]
-    shown = value
+    shown = shown_input(value)
     if isinstance(value, pint.Quantity):
         q = value
     elif isinstance(value, dict):
         if set(value) - {"value", "unit"} or "value" not in value:
             raise UnitError(
-                f"{_label(field)}{value!r} is not a quantity",
+                f"{_label(field)}{shown} is not a quantity",
                 'write it as {"value": 1.5, "unit": "mmol"} or as text such as "1.5 mmol"',
                 field=field,
             )
         v = value["value"]
         unit = value.get("unit") or ""
         if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise UnitError(f"{_label(field)}value {v!r} is not a number", "give a number", field=field)
-        shown = f"{v} {unit}".strip()
-        q = _build(float(v), str(unit), field, shown, examples)
+            raise UnitError(f"{_label(field)}value {shown_input(v)} is not a number", "give a number", field=field)
+        if not isinstance(unit, str):
+            raise UnitError(f"{_label(field)}unit {shown_input(unit)} is not text", f"give a unit such as {examples}", field=field)
+        shown = shown_input(f"{v} {unit}".strip())
+        try:
+            number = float(v)
+        except OverflowError:  # an integer of hundreds of digits
+            raise UnitError(f"{_label(field)}value {shown_input(str(v))} is not a finite number",
+                            f"give {words} ({examples})", field=field) from None
+        q = _build(number, unit, field, shown, examples)
     elif isinstance(value, bool):
-        raise UnitError(f"{_label(field)}{value!r} is not a quantity", f"give {words} ({examples})", field=field)
+        raise UnitError(f"{_label(field)}{shown} is not a quantity", f"give {words} ({examples})", field=field)
     elif isinstance(value, (int, float)):
         if not dim:
-            q = Q_(float(value), "equiv" if kind == "equiv" else "dimensionless")
+            try:
+                q = Q_(float(value), "equiv" if kind == "equiv" else "dimensionless")
+            except OverflowError:
+                raise UnitError(f"{_label(field)}{shown} is not a finite number", f"give {words} ({examples})", field=field) from None
         else:
             raise UnitError(
                 f"{_label(field)}'{value}' has no unit; expected {words}",
@@ -146,7 +228,7 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
     elif isinstance(value, str):
         q = _parse_text(value, field, examples, words, dim)
     else:
-        raise UnitError(f"{_label(field)}{value!r} is not a quantity", f"give {words} ({examples})", field=field)
+        raise UnitError(f"{_label(field)}{shown} is not a quantity", f"give {words} ({examples})", field=field)
 
     mag = q.magnitude
     if isinstance(mag, complex) or not isinstance(mag, (int, float)) or not math.isfinite(float(mag)):
@@ -170,7 +252,7 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
         kelvin = q.to("K").magnitude
         if kelvin < 0:
             raise UnitError(f"{_label(field)}'{shown}' is below absolute zero", "check the sign and unit", field=field)
-        return q
+    _check_limits(q, kind, field, shown)
     return q
 
 
@@ -183,7 +265,7 @@ def _build(v: float, unit: str, field: str | None, shown: str, examples: str) ->
             return Q_(v, "percent")
         return Q_(v, unit)
     except Exception as exc:  # pint raises many kinds (even AssertionError) on odd text
-        raise UnitError(f"{_label(field)}unit '{unit}' in '{shown}' is not known", f"use one of {examples}", field=field) from exc
+        raise UnitError(f"{_label(field)}unit '{shown_input(unit)}' in '{shown}' is not known", f"use one of {examples}", field=field) from exc
 
 
 def _parse_text(text: str, field: str | None, examples: str, words: str, dim: str) -> pint.Quantity:
@@ -191,18 +273,24 @@ def _parse_text(text: str, field: str | None, examples: str, words: str, dim: st
     m = re.fullmatch(r"([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*)", t)
     if not m:
         raise UnitError(
-            f"{_label(field)}'{text}' is not a number with a unit",
+            f"{_label(field)}'{shown_input(text)}' is not a number with a unit",
             f"write a number then a unit, e.g. '1.5 {examples.split(',')[0].strip()}'",
             field=field,
         )
     number, unit = float(m.group(1)), m.group(2).strip()
+    if number == 0 and re.search(r"[1-9]", m.group(1).split("e")[0].split("E")[0]):
+        raise UnitError(f"{_label(field)}'{shown_input(text)}' is too small to be {words} that was meant",
+                        "check the exponent, or give 0 if nothing was used", field=field)
+    if re.match(r"[-\u2013\u2014]\s*\d", unit):
+        raise UnitError(f"{_label(field)}'{shown_input(text)}' reads as a range of two numbers",
+                        "give one value; a temperature that changes is written as a ramp, e.g. '0 °C to 25 °C'", field=field)
     if not unit and dim:
         raise UnitError(
-            f"{_label(field)}'{text}' has no unit; expected {words}",
+            f"{_label(field)}'{shown_input(text)}' has no unit; expected {words}",
             f"add a unit, e.g. '{m.group(1)} {examples.split(',')[0].strip()}'",
             field=field,
         )
-    return _build(number, unit, field, text, examples)
+    return _build(number, unit, field, shown_input(text), examples)
 
 
 def to_canonical(q: pint.Quantity, kind: str) -> float:
@@ -287,30 +375,5 @@ Fraction = quantity_type("fraction")
 Equiv = quantity_type("equiv")
 
 
-def fmt_mmol(x: float | None) -> str:
-    """mmol to 3 significant figures, as chemists write them."""
-    if x is None:
-        return "—"
-    if x == 0:
-        return "0"
-    if abs(x) >= 1e6:  # absurd amounts (a unit typo): short enough for a table column
-        text = f"{x:.3g}"
-        return text if len(text) <= 8 else f"{x:.0e}"
-    text = f"{x:#.3g}" if abs(x) >= 1e-3 else f"{x:.2e}"
-    return text.rstrip(".")
-
-
-def fmt_mg(x: float | None) -> str:
-    if x is not None and abs(x) >= 1e7:  # absurd amounts (a unit typo) still fit a table column
-        return f"{x:.3g}"
-    return "—" if x is None else f"{x:.1f}"
-
-
-def fmt_ul(x: float | None) -> str:
-    if x is not None and abs(x) >= 1e7:
-        return f"{x:.3g}"
-    return "—" if x is None else f"{x:.0f}"
-
-
-def fmt_equiv(x: float | None) -> str:
-    return "—" if x is None else f"{x:.2f}".rstrip("0").rstrip(".") if x != int(x) else f"{x:.1f}"
+# Number display lives in display.py (one rule for every view); these names stay importable here.
+from .display import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul  # noqa: E402,F401

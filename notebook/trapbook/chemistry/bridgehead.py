@@ -1,4 +1,4 @@
-"""Ring perception for strained unsaturation: bridgehead alkenes, cyclic allenes, cycloalkynes.
+"""Ring perception for strained unsaturation: bridgehead alkenes, cyclic allenes, cycloalkynes, arynes.
 
 A chemist judges a bridgehead double bond by the bridged bicycle bicyclo[a.b.c]
 that holds it: S = a + b + c and the size of the ring in which the bond is
@@ -19,6 +19,7 @@ from trapbook.errors import ChemistryError
 BRIDGEHEAD = "bridgehead alkene"
 ALLENE = "cyclic allene"
 ALKYNE = "cycloalkyne"
+ARYNE = "aryne"
 NONE = "none"
 
 # Longest bridge considered; bicycles beyond S ~ 24 carry no Bredt strain worth reporting.
@@ -102,7 +103,7 @@ def _none_message(mol: Chem.Mol) -> str:
         base = "The double bonds are not at a bridgehead"
     else:
         base = "No double or triple bond in a ring"
-    return f"{base}: no bridgehead alkene, cyclic allene or cycloalkyne found."
+    return f"{base}: no bridgehead alkene, cyclic allene, cycloalkyne or aryne found."
 
 
 def _is_cumulated(atom: Chem.Atom) -> bool:
@@ -241,6 +242,25 @@ def _cycloalkynes(mol: Chem.Mol) -> list[Candidate]:
             continue
         size = _smallest_ring_with(mol, [bond.GetIdx()])
         if size:
-            found.append(Candidate(kind=ALKYNE, atoms=[i, j], ring_size=size))
+            kind = ARYNE if is_aryne_bond(mol, bond.GetIdx()) else ALKYNE
+            found.append(Candidate(kind=kind, atoms=[i, j], ring_size=size))
     found.sort(key=lambda c: (c.ring_size, c.atoms))
     return found
+
+
+def is_aryne_bond(mol: Chem.Mol, bond_idx: int) -> bool:
+    """A ring triple bond whose ring becomes aromatic when the bond is made double
+    (benzyne, naphthalynes, hetarynes): the formal triple bond of an arene."""
+    rw = Chem.RWMol(mol)
+    bond = rw.GetBondWithIdx(bond_idx)
+    bond.SetBondType(Chem.BondType.DOUBLE)
+    for atom in (bond.GetBeginAtom(), bond.GetEndAtom()):
+        atom.SetNoImplicit(False)
+        atom.SetNumExplicitHs(0)
+    probe = rw.GetMol()
+    try:
+        with rdBase.BlockLogs():
+            Chem.SanitizeMol(probe)
+    except Exception:  # noqa: BLE001 - a ring that cannot take the double bond is simply not an aryne
+        return False
+    return probe.GetBondWithIdx(bond_idx).GetIsAromatic()

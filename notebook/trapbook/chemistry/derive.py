@@ -86,3 +86,8 @@ def intermediate_from_precursor(smiles: str) -> str:
         raise ChemistryError("the derived intermediate is not a valid structure", "write the intermediate's SMILES on the run") from None
     Chem.AssignStereochemistry(out, cleanIt=True, force=True)
     return Chem.MolToSmiles(out)
+
+
+def is_precursor(smiles: str) -> bool:
+    """True when the structure carries a silyl group beside a leaving group (Si–C–C–X)."""
+    return parse(smiles, "SMILES").HasSubstructMatch(_SI_C_C_X)

@@ -9,12 +9,13 @@ RDKit to read them back:
   contains the query, so a molecule missing one of those bits cannot match and is
   never handed to the (much slower) atom-by-atom matcher.
 
-The molecule itself is kept as RDKit's binary form, which loads several times faster
-than re-parsing SMILES when a screened candidate has to be confirmed.
+The molecule itself is also kept, as RDKit's binary form. Confirming a screened candidate
+is done by RDKit's substructure library in a worker process with a deadline.
 """
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -93,33 +94,7 @@ def query_morgan(smiles: str) -> bytes:
     return morgan_bytes(molecules.parse(smiles, "similarity query"))
 
 
-def mol_from_binary(data: bytes) -> Chem.Mol:
-    return Chem.Mol(data)
-
-
-def popcount(data: bytes) -> int:
-    return int.from_bytes(data, "little").bit_count()
-
-
-def tanimoto(a: bytes, b: bytes) -> float:
-    """|a ∧ b| / |a ∨ b|; 0 for two empty fingerprints."""
-    x = int.from_bytes(a, "little")
-    y = int.from_bytes(b, "little")
-    union = (x | y).bit_count()
-    return (x & y).bit_count() / union if union else 0.0
-
-
-def screen_passes(query_bits: bytes, mol_bits: bytes) -> bool:
-    """True unless the molecule lacks a bit the query needs (then it cannot contain the query)."""
-    q = int.from_bytes(query_bits, "little")
-    return (q & int.from_bytes(mol_bits, "little")) == q
-
-
-def matches(mol: Chem.Mol, query: Chem.Mol) -> bool:
-    return mol.HasSubstructMatch(query, useChirality=False)
-
-
-def matching_indices(smiles: list[str], query: Chem.Mol, threads: int = 0) -> list[int]:
+def _library_matches(smiles: list[str], query: Chem.Mol, threads: int = 0) -> list[int]:
     """Positions of the molecules (canonical SMILES written by RDKit) that contain the query.
 
     RDKit's substructure library does the parsing and matching in C++ on several threads
@@ -128,8 +103,6 @@ def matching_indices(smiles: list[str], query: Chem.Mol, threads: int = 0) -> li
     """
     from rdkit.Chem import rdSubstructLibrary
 
-    if not smiles:
-        return []
     holder = rdSubstructLibrary.CachedTrustedSmilesMolHolder()
     for s in smiles:
         holder.AddSmiles(s)
@@ -140,3 +113,112 @@ def matching_indices(smiles: list[str], query: Chem.Mol, threads: int = 0) -> li
     except Exception as exc:  # RDKit raises assorted types on exotic queries
         raise ChemistryError(f"the substructure match failed ({exc})", "simplify the SMARTS") from None
     return sorted(hits)
+
+
+def _serve(conn) -> None:
+    """The worker process: answer (SMILES, query) requests until the pipe closes.
+
+    Each answer is ("ok", positions) or ("error", (message, hint)), never a silent empty list.
+    """
+    while True:
+        try:
+            smiles, query_text = conn.recv()
+        except EOFError:
+            return
+        try:
+            conn.send(("ok", _library_matches(smiles, molecules.substructure_query(query_text))))
+        except ChemistryError as exc:
+            conn.send(("error", (exc.message, exc.hint)))
+
+
+def _context():
+    """fork where the platform has it (RDKit is already loaded: the worker starts in milliseconds), else spawn.
+
+    The worker only runs RDKit's matcher on the data it is handed. Forking a process that
+    runs other threads (the terminal UI) could copy a lock another thread holds; the worker
+    would then stall, and the deadline stops it and says so. (A fork server or spawn is no
+    way out inside the terminal UI: both start a helper that needs a real stderr, which
+    Textual replaces while it runs.)
+    """
+    import multiprocessing
+
+    return multiprocessing.get_context("fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn")
+
+
+class _Matcher:
+    """One worker process kept between queries (starting one per query costs more than most
+    matches); a worker stopped at a deadline is killed, and the next query starts a new one."""
+
+    def __init__(self) -> None:
+        import threading
+
+        self.lock = threading.Lock()
+        self.worker = None
+        self.conn = None
+        self.owner = os.getpid()  # a process forked from this one starts its own worker
+
+    def _start(self) -> None:
+        self.owner = os.getpid()
+        ctx = _context()
+        self.conn, theirs = ctx.Pipe()
+        self.worker = ctx.Process(target=_serve, args=(theirs,), daemon=True, name="trapbook-substructure")
+        self.worker.start()
+        theirs.close()
+
+    def _stop(self) -> None:
+        if self.worker is not None and self.worker.is_alive():
+            self.worker.kill()
+        if self.worker is not None:
+            self.worker.join()
+        if self.conn is not None:
+            self.conn.close()
+        self.worker = self.conn = None
+
+    def match(self, smiles: list[str], query_text: str, time_limit_s: float) -> tuple[str, object]:
+        with self.lock:
+            if self.owner != os.getpid():
+                self.worker = self.conn = None
+            if self.worker is None or not self.worker.is_alive():
+                self._stop()
+                self._start()
+            try:
+                self.conn.send((smiles, query_text))
+                if not self.conn.poll(time_limit_s):
+                    self._stop()
+                    return "timeout", None
+                return self.conn.recv()
+            except (EOFError, OSError):
+                code = self.worker.exitcode if self.worker is not None else None
+                self._stop()
+                return "crashed", code
+
+
+_MATCHER = _Matcher()
+
+
+def matching_indices(smiles: list[str], query_text: str, time_limit_s: float) -> list[int]:
+    """Positions of the molecules that contain the query, found within time_limit_s seconds.
+
+    RDKit's matcher cannot be interrupted, and a crafted pattern (many wildcard atoms that
+    nearly fit a large, symmetric molecule) makes it backtrack for minutes. So the match
+    runs in a worker process that is killed at the deadline, and the caller gets a
+    ChemistryError saying the query was stopped — never a partial or empty answer.
+    """
+    if not smiles:
+        return []
+    if not 0 < time_limit_s <= 3600:
+        raise ChemistryError(f"time limit {time_limit_s} s is not between 0 and 3600 seconds", "give e.g. 5")
+    status, payload = _MATCHER.match(smiles, query_text, time_limit_s)
+    if status == "ok":
+        return payload
+    if status == "timeout":
+        shown = query_text if len(query_text) <= 60 else query_text[:57] + "..."
+        raise ChemistryError(
+            f"query stopped after {time_limit_s:g} s: matching '{shown}' against {len(smiles)} stored structures "
+            "took too long",
+            "narrow the pattern (fewer wildcard atoms * and bonds ~, more specific atoms), add a condition, "
+            "or allow more time (search --time-limit)", field="substructure", got=query_text)
+    if status == "crashed":
+        raise ChemistryError(f"the substructure matcher stopped without an answer (exit code {payload})",
+                             "try the query again; if it keeps failing, simplify the SMARTS")
+    raise ChemistryError(*payload)

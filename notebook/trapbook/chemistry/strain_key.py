@@ -16,7 +16,7 @@ from ..errors import ChemistryError
 from .molecules import parse
 
 #: Bump when the method changes, so old cached numbers are not served as new ones.
-ENGINE_SCHEME = "trapbook-strain/1"
+ENGINE_SCHEME = "trapbook-strain/2"
 TIERS = ("fast", "accurate")
 
 

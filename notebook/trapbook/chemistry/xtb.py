@@ -51,13 +51,12 @@ def tblite_version() -> str:
 
 
 def _calculator(numbers, positions_bohr):
-    try:
-        from tblite.interface import Calculator
-    except ImportError as exc:  # pragma: no cover - tblite is a hard dependency
-        raise ChemistryError(
-            "The GFN2-xTB engine (tblite) is not installed.",
-            "Install tblite or use the fast tier.",
-        ) from exc
+    import importlib.util
+
+    if importlib.util.find_spec("tblite") is None:  # a hard dependency: say so plainly rather than a bare ImportError
+        raise ChemistryError("The GFN2-xTB engine (tblite) is not installed.", "Install tblite or use the fast tier.")
+    from tblite.interface import Calculator
+
     calc = Calculator(METHOD, np.asarray(numbers, dtype=int), positions_bohr)
     calc.set("verbosity", 0)
     return calc

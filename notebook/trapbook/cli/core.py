@@ -1,59 +1,125 @@
 """The command line: parse arguments, make one core call, print text or --json.
 
 Every data command takes --json and prints stable keys (documented in its --help).
-A TrapbookError becomes a message on stderr and exit code 2 — never a traceback.
+A TrapbookError becomes a message on stderr and exit code 2 (under --json, a JSON object
+{error, hint, field} on stdout) — never a traceback; TrapbookGroup is the one place that
+does it. Stored text is printed through `say` / text_safety.printable.
 """
 
 from __future__ import annotations
 
 import functools
 import json
+import os
 import sys
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import click
 
 from .. import __version__
 from ..errors import TrapbookError
-
+from ..findings import findings_for
+from ..text_safety import json_safe, printable
 
 # --- plumbing ----------------------------------------------------------------------------
 
 
 def emit_json(data: Any) -> None:
-    click.echo(json.dumps(data, indent=2, ensure_ascii=False, default=str))
+    """Print `data` as JSON; stored text cannot reach the terminal raw (see text_safety)."""
+    click.echo(json_safe(json.dumps(data, indent=2, ensure_ascii=False, default=str)))
 
 
-def fail(exc: TrapbookError) -> None:
-    click.echo(f"error: {exc.message}", err=True)
+def say(text: Any, multiline: bool = False, err: bool = False) -> None:
+    """Print stored text (titles, names, reasons, ids) with control characters made visible."""
+    click.echo(printable(text, multiline=multiline), err=err)
+
+
+_JSON_META = "trapbook.json"
+
+
+def _remember_json(cctx: click.Context, _param: click.Parameter, value: bool) -> bool:
+    if value:
+        cctx.meta[_JSON_META] = True  # meta is shared by the whole context tree
+    return value
+
+
+def json_option(help: str) -> Callable:
+    """The --json flag of a data command; `help` names the keys it prints.
+
+    Under --json an error is printed as JSON too (see TrapbookGroup), so a script reads
+    stdout either way.
+    """
+    return click.option("--json", "as_json", is_flag=True, callback=_remember_json, help=help)
+
+
+def render_error(exc: TrapbookError, as_json: bool) -> None:
+    """A TrapbookError in words on stderr, or as {"error", "hint", "field"} on stdout."""
+    if as_json:
+        emit_json(exc.to_dict())
+        return
+    say(f"error: {exc.message}", multiline=True, err=True)
     if exc.hint:
-        click.echo(f"  what to do: {exc.hint}", err=True)
-    sys.exit(2)
+        say(f"  what to do: {exc.hint}", multiline=True, err=True)
 
 
-def guarded(fn: Callable) -> Callable:
-    """Turn TrapbookError (and stray bugs) into a message and an exit code, never a traceback."""
+class TrapbookGroup(click.Group):
+    """The one place where a command's failure becomes a message and an exit code.
 
-    @functools.wraps(fn)
-    def wrapper(*args, **kwargs):
+    TrapbookError: the message and hint, exit 2. A usage mistake (unknown option): exit 2,
+    as JSON under --json. Ctrl-C: exit 130. A closed pipe (`| head`): exit 0, quietly.
+    Anything else is a bug: said plainly, exit 1, never a traceback.
+    """
+
+    def parse_args(self, cctx: click.Context, args: list[str]) -> list[str]:
+        cctx.meta["trapbook.argv"] = list(args)
+        return super().parse_args(cctx, args)
+
+    @staticmethod
+    def _wants_json(cctx: click.Context) -> bool:
+        if cctx.meta.get(_JSON_META):
+            return True
+        argv = cctx.meta.get("trapbook.argv", [])
+        return "--json" in argv[: argv.index("--")] if "--" in argv else "--json" in argv
+
+    def invoke(self, cctx: click.Context) -> Any:
         try:
-            return fn(*args, **kwargs)
+            return super().invoke(cctx)
         except TrapbookError as exc:
-            fail(exc)
-        except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException, SystemExit):
+            render_error(exc, self._wants_json(cctx))
+            cctx.exit(2)
+        except click.UsageError as exc:
+            if not self._wants_json(cctx):
+                raise
+            emit_json({"error": exc.format_message(), "hint": "see the command's --help", "field": None})
+            cctx.exit(exc.exit_code)
+        except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
             raise
         except KeyboardInterrupt:
             click.echo("interrupted", err=True)
-            sys.exit(130)
+            cctx.exit(130)
         except BrokenPipeError:
-            sys.exit(0)
-        except Exception as exc:  # a bug: say so plainly, keep the record safe (nothing half-written)
-            click.echo(f"error: unexpected {type(exc).__name__}: {exc}", err=True)
-            click.echo("  what to do: nothing was saved by this command; please report it with the command you ran", err=True)
-            sys.exit(1)
+            _quiet_stdout()
+            cctx.exit(0)
+        except Exception as exc:  # a bug: say so plainly (nothing is half-written: saves are transactions)
+            message = f"unexpected {type(exc).__name__}: {exc}"
+            hint = "nothing was saved by this command; please report it with the command you ran"
+            if self._wants_json(cctx):
+                emit_json({"error": message, "hint": hint, "field": None})
+            else:
+                say(f"error: {message}", multiline=True, err=True)
+                click.echo(f"  what to do: {hint}", err=True)
+            cctx.exit(1)
 
-    return wrapper
+
+def _quiet_stdout() -> None:
+    """After the reader of a pipe went away, send what is left to /dev/null (no second error at exit)."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # stdout is not a real file (e.g. under a test runner)
+        pass
 
 
 class Ctx:
@@ -68,10 +134,27 @@ class Ctx:
 
         return Path(self.db).expanduser() if self.db else default_path()
 
-    def notebook(self, create: bool = False):
+    def notebook(self, create: bool = False, offer_create: bool = False):
+        """The notebook at --db. Only `create=True` (init, --create) makes a new one: a
+        mistyped path is an error naming it, never a new empty notebook (or folders)."""
+        from ..errors import StoreError
         from ..store import Notebook
 
-        return Notebook.open(self.db_path(), create=create)
+        path = self.db_path()
+        if create:
+            return Notebook.create(path)
+        if not path.exists():
+            hint = f"create it with 'trapbook init {path}'" + (", or add --create to this command" if offer_create else "")
+            raise StoreError(f"no notebook at {path}", hint + "; or check --db / TRAPBOOK_DB", field="db", got=str(path))
+        return Notebook.open(path)
+
+    def optional_notebook(self):
+        """The notebook for settings and caches when a command also works without one:
+        None only when no --db / TRAPBOOK_DB was given and the default notebook does not
+        exist yet. A path that was given must exist."""
+        if self.db is None and not self.db_path().exists():
+            return None
+        return self.notebook()
 
 
 _pass_obj = click.make_pass_decorator(Ctx)
@@ -113,9 +196,25 @@ def read_run_file(path: str):
     return load_run_text(text, source)
 
 
+def _in_lab_words(nb, run):
+    """The run with 'rt' and 'overnight' meaning what this notebook says they mean."""
+    from ..records import with_bench_words
+    from ..settings import notebook_bench_words
+
+    return with_bench_words(run, notebook_bench_words(nb))
+
+
+def _names_a_file(ref: str) -> bool:
+    """Whether REF is an existing path; a name the system cannot hold as a path (too long, a NUL) is not one."""
+    try:
+        return Path(ref).exists()
+    except (OSError, ValueError):
+        return False
+
+
 def load_run_arg(ctx: Ctx, ref: str):
     """A run from a file path or a notebook id (TB-0001), with its id if stored."""
-    if ref == "-" or Path(ref).exists() or ref.endswith(".json"):
+    if ref == "-" or _names_a_file(ref) or ref.endswith(".json"):
         return read_run_file(ref)
     with ctx.notebook() as nb:
         return nb.get_run(ref)
@@ -124,7 +223,7 @@ def load_run_arg(ctx: Ctx, ref: str):
 # --- the group ---------------------------------------------------------------------------
 
 
-@click.group(invoke_without_command=True, context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(cls=TrapbookGroup, invoke_without_command=True, context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--db", envvar="TRAPBOOK_DB", help="Notebook file (default: $TRAPBOOK_DB, then the per-user data directory).")
 @click.option("--author", help="Name recorded on saved versions (default: your OS user name).")
 @click.version_option(__version__, prog_name="trapbook")
@@ -142,27 +241,29 @@ def main(cctx: click.Context, db: str | None, author: str | None) -> None:
 @main.command("open")
 @click.argument("path", required=False)
 @pass_ctx
-@guarded
 def open_cmd(ctx: Ctx, path: str | None = None) -> None:
     """Open a notebook (PATH or the default) in the terminal UI."""
     if path:
         ctx.db = path
-    _open_ui(ctx.db_path())
+    with ctx.notebook():
+        pass
+    _open_ui(ctx.db_path(), ctx.author)
 
 
-def _open_ui(path: Path) -> None:
-    try:
-        from ..tui.app import run_app
-    except ImportError:
+def _open_ui(path: Path, author: str | None = None) -> None:
+    import importlib.util
+
+    if importlib.util.find_spec("textual") is None:
         raise TrapbookError("the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'")
-    run_app(path)
+    from ..tui.app import run_app
+
+    run_app(path, author=author)  # --author, for this session, over the notebook's "you are" name
 
 
 @main.command()
 @click.argument("path", required=False)
-@click.option("--json", "as_json", is_flag=True, help="Print {path, schema_version, existed}.")
+@json_option(help="Print {path, schema_version, existed}.")
 @pass_ctx
-@guarded
 def init(ctx: Ctx, path: str | None, as_json: bool) -> None:
     """Create a notebook at PATH (or the default place)."""
     from ..store import Notebook
@@ -177,21 +278,6 @@ def init(ctx: Ctx, path: str | None, as_json: bool) -> None:
         click.echo(f"{'opened existing' if existed else 'created'} notebook {p} (schema {version})")
 
 
-def _findings_for(run, nb=None) -> list:
-    try:
-        from .. import checks
-    except ImportError:
-        return []
-    settings = None
-    strain = None
-    if nb is not None:
-        from ..strain_link import settings_for, strain_for_run
-
-        settings = settings_for(nb)
-        strain = strain_for_run(nb, run)
-    return checks.run_checks(run, strain=strain, settings=settings)
-
-
 def _print_findings(findings: list) -> None:
     if not findings:
         click.echo("checks: nothing to flag")
@@ -200,27 +286,27 @@ def _print_findings(findings: list) -> None:
     for f in findings:
         lines = f" [{', '.join(f.lines)}]" if f.lines else ""
         steps = f" (step {', '.join(map(str, f.steps))})" if f.steps else ""
-        click.echo(f"  {f.severity.upper():5} {f.code}{lines}{steps}: {f.message}")
+        say(f"  {f.severity.upper():5} {f.code}{lines}{steps}: {f.message}")
         if f.caution:
-            click.echo(f"        caution: {f.caution}")
+            say(f"        caution: {f.caution}")
 
 
 @main.command()
 @click.argument("runfile")
 @click.option("--reason", default="created", show_default=True, help="Reason recorded on the first version.")
-@click.option("--json", "as_json", is_flag=True, help="Print {run_id, version, hash, findings}.")
+@click.option("--create", is_flag=True, help="Create the notebook first if there is none at --db.")
+@json_option(help="Print {run_id, version, hash, findings}.")
 @pass_ctx
-@guarded
-def add(ctx: Ctx, runfile: str, reason: str, as_json: bool) -> None:
+def add(ctx: Ctx, runfile: str, reason: str, create: bool, as_json: bool) -> None:
     """Validate RUNFILE (JSON, '-' for stdin), store it as a new run and print its id."""
     run = read_run_file(runfile)
-    with ctx.notebook(create=True) as nb:
-        res = nb.add_run(run, author=ctx.author, reason=reason)
-        findings = _findings_for(nb.get_run(res.run_id), nb)
+    with ctx.notebook(create=create, offer_create=True) as nb:
+        res = nb.add_run(_in_lab_words(nb, run), author=ctx.author, reason=reason)
+        findings = findings_for(nb, nb.get_run(res.run_id))
     if as_json:
         emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash, "findings": [f.to_dict() for f in findings]})
         return
-    click.echo(res.run_id)
+    say(res.run_id)
     _print_findings(findings)
 
 
@@ -228,29 +314,27 @@ def add(ctx: Ctx, runfile: str, reason: str, as_json: bool) -> None:
 @click.argument("run_id")
 @click.argument("runfile")
 @click.option("--reason", required=True, help="Why the run changes (recorded in its history).")
-@click.option("--from-version", type=int, help="Version the edit was made from (default: the current one).")
-@click.option("--json", "as_json", is_flag=True, help="Print {run_id, version, hash}.")
+@click.option("--from-version", type=click.IntRange(min=1, max=2**63 - 1), help="Version the edit was made from (default: the current one).")
+@json_option(help="Print {run_id, version, hash}.")
 @pass_ctx
-@guarded
 def update(ctx: Ctx, run_id: str, runfile: str, reason: str, from_version: int | None, as_json: bool) -> None:
     """Save RUNFILE as a new version of RUN_ID; earlier versions stay readable."""
     run = read_run_file(runfile).model_copy(update={"id": run_id})
     with ctx.notebook() as nb:
-        base = from_version if from_version is not None else nb.run_meta(run_id)["version"]
-        res = nb.save_run(run, base, author=ctx.author, reason=reason)
+        # without --from-version the current version is read under the write lock (never falsely stale)
+        res = nb.save_run(_in_lab_words(nb, run), from_version, author=ctx.author, reason=reason)
     if as_json:
         emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash})
     else:
-        click.echo(f"{res.run_id} version {res.version}")
+        say(f"{res.run_id} version {res.version}")
 
 
 @main.command()
 @click.argument("run_id")
 @click.option("--reason", required=True, help="Why the run is withdrawn.")
 @click.option("--undo", is_flag=True, help="Bring a withdrawn run back.")
-@click.option("--json", "as_json", is_flag=True, help="Print {run_id, version, hash, withdrawn}.")
+@json_option(help="Print {run_id, version, hash, withdrawn}.")
 @pass_ctx
-@guarded
 def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> None:
     """Withdraw a run (it is kept and stays readable; nothing is deleted)."""
     with ctx.notebook() as nb:
@@ -258,25 +342,32 @@ def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> N
     if as_json:
         emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash, "withdrawn": not undo})
         return
-    click.echo(f"{res.run_id} {'restored' if undo else 'withdrawn'} (version {res.version})")
+    say(f"{res.run_id} {'restored' if undo else 'withdrawn'} (version {res.version})")
 
 
 @main.command()
 @click.argument("run_id")
-@click.option("--version", "version", type=int, help="Show an earlier version.")
-@click.option("--json", "as_json", is_flag=True,
-              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown} (meta describes the current version).")
+@click.option("--version", "version", type=click.IntRange(min=1), help="Show an earlier version.")
+@json_option(
+              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown, intermediate} (meta describes the current version; intermediate: {smiles, how} when derived from the precursor, else null).")
 @pass_ctx
-@guarded
 def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
     """Show one run: lines with amounts, steps, outcome and checks."""
     from .. import amounts
     from ..reports_text import run_text
 
     with ctx.notebook() as nb:
-        run = nb.get_run(run_id, version)
         meta = nb.run_meta(run_id)
-        findings = _findings_for(run, nb)
+        if version is not None and version > meta["version"]:  # also keeps a 20-digit number out of SQLite
+            from ..errors import NotFoundError
+
+            raise NotFoundError(f"no version {version} of {run_id} (it has {meta['version']})",
+                                f"see its versions with 'trapbook history {run_id}'")
+        run = nb.get_run(run_id, version)
+        findings = findings_for(nb, run)
+    from ..strain_link import intermediate_of_run
+
+    derived = intermediate_of_run(run)
     table, yields, problem = None, [], None
     try:
         table = amounts.compute(run)
@@ -292,20 +383,22 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
             "yields": [y.to_dict() for y in yields],
             "findings": [f.to_dict() for f in findings],
             "version_shown": version if version is not None else meta["version"],
+            "intermediate": {"smiles": derived[0], "how": derived[1]} if derived else None,
         })
         return
     if version is not None and version != meta["version"]:
         meta = {**meta, "version": version, "current_version": meta["version"]}
     click.echo(run_text(run, meta, table, yields, problem))
+    if derived and not run.intermediate:
+        say(f"  intermediate: {derived[0]} ({derived[1]})")
     _print_findings(findings)
 
 
 @main.command("list")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
 @click.option("--screen", help="Only runs of this screen.")
-@click.option("--json", "as_json", is_flag=True, help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...}.")
+@json_option(help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...}.")
 @pass_ctx
-@guarded
 def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: bool) -> None:
     """List the runs in the notebook."""
     with ctx.notebook() as nb:
@@ -323,9 +416,8 @@ def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: boo
 
 @main.command("amounts")
 @click.argument("runfile")
-@click.option("--json", "as_json", is_flag=True, help="Print {limiting, lines: [{name, role, mw_g_mol, equiv, mmol, mass_mg, volume_ul}], ...}.")
+@json_option(help="Print {limiting, lines: [{name, role, mw_g_mol, equiv, mmol, mass_mg, volume_ul}], ...}.")
 @pass_ctx
-@guarded
 def amounts_cmd(ctx: Ctx, runfile: str, as_json: bool) -> None:
     """Print the reagent table of RUNFILE (or a stored run id): mmol, equiv, mg, µL."""
     from .. import amounts
@@ -341,9 +433,8 @@ def amounts_cmd(ctx: Ctx, runfile: str, as_json: bool) -> None:
 
 @main.command()
 @click.argument("run_id")
-@click.option("--json", "as_json", is_flag=True, help="Print a list of {version, author, time, reason, action, hash, prev_hash, changes}.")
+@json_option(help="Print a list of {version, author, time, reason, action, hash, prev_hash, changes}.")
 @pass_ctx
-@guarded
 def history(ctx: Ctx, run_id: str, as_json: bool) -> None:
     """Every version of a run: who, when, why and what changed."""
     with ctx.notebook() as nb:
@@ -352,26 +443,21 @@ def history(ctx: Ctx, run_id: str, as_json: bool) -> None:
         emit_json([v.to_dict() for v in versions])
         return
     for v in versions:
-        click.echo(f"v{v.version}  {v.time[:19].replace('T', ' ')} UTC  {v.author}  {v.action}: {v.reason}")
+        say(f"v{v.version}  {v.time[:19].replace('T', ' ')} UTC  {v.author}  {v.action}: {v.reason}")
         for c in v.changes:
-            click.echo(f"      {c}")
+            say(f"      {c}")
 
 
 @main.command()
 @click.argument("ref")
-@click.option("--json", "as_json", is_flag=True, help="Print a list of {code, severity, message, lines, steps, caution}.")
+@json_option(help="Print a list of {code, severity, message, lines, steps, caution}.")
 @pass_ctx
-@guarded
 def check(ctx: Ctx, ref: str, as_json: bool) -> None:
     """Bench checks of a run file or stored run: most severe first (exit 0 even with findings)."""
     run = load_run_arg(ctx, ref)
-    nb = None
+    nb = ctx.optional_notebook()
     try:
-        nb = ctx.notebook() if ctx.db_path().exists() else None
-    except TrapbookError:
-        nb = None
-    try:
-        findings = _findings_for(run, nb)
+        findings = findings_for(nb, run)
     finally:
         if nb is not None:
             nb.close()
@@ -388,7 +474,6 @@ def check(ctx: Ctx, ref: str, as_json: bool) -> None:
 @click.option("-o", "--output", help="Write to this file instead of stdout.")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
 @pass_ctx
-@guarded
 def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, include_withdrawn: bool) -> None:
     """Export runs (JSON lines by default)."""
     from ..exchange import export_runs
@@ -396,40 +481,48 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
     with ctx.notebook() as nb:
         text_or_path = export_runs(nb, fmt, screen=screen, output=output, include_withdrawn=include_withdrawn)
     if output is None and isinstance(text_or_path, str):
-        click.echo(text_or_path, nl=False)
+        # Piped, the export is the data itself, byte for byte; on a terminal it is escaped.
+        click.echo(printable(text_or_path, multiline=True) if sys.stdout.isatty() else text_or_path, nl=False)
     elif output:
         click.echo(f"wrote {output}", err=True)
 
 
 @main.command("import")
 @click.argument("path")
-@click.option("--json", "as_json", is_flag=True, help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}.")
+@json_option(help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}; "
+                  "an RO-Crate also gives attachments and versions (every version of each run comes back).")
+@click.option("--create", is_flag=True, help="Create the notebook first if there is none at --db.")
 @pass_ctx
-@guarded
-def import_cmd(ctx: Ctx, path: str, as_json: bool) -> None:
+def import_cmd(ctx: Ctx, path: str, create: bool, as_json: bool) -> None:
     """Import runs from a file, or JSON lines on stdin with '-' (all or nothing; errors name the record and field)."""
     from ..exchange.jsonl import import_path, import_text
 
     text = sys.stdin.read() if path == "-" else None
-    with ctx.notebook(create=True) as nb:
+    with ctx.notebook(create=create, offer_create=True) as nb:
         report = import_text(nb, text, author=ctx.author) if text is not None else import_path(nb, Path(path), author=ctx.author)
     if as_json:
         emit_json(report)
         return
-    click.echo(f"imported {len(report['imported'])} run(s): {', '.join(report['imported'])}")
+    say(f"imported {len(report['imported'])} run(s): {', '.join(report['imported'])}")
     for note in report.get("notes", []):
-        click.echo(f"  note: {note}")
+        say(f"  note: {note}")
 
 
 @main.command()
 @click.option("--no-ui", is_flag=True, help="Only build the demo notebook and print a summary.")
 @click.option("--strain", "strain_tier", type=click.Choice(["none", "fast", "accurate"]), default="accurate", show_default=True,
               help="Compute the strain of the demo intermediates (accurate: GFN2-xTB, about 15 s).")
-@click.option("--json", "as_json", is_flag=True, help="Print {path, runs, screens, source, strain: [...]} (implies --no-ui).")
+@click.option("--fresh", is_flag=True,
+              help="Rebuild even when the demo notebook holds runs you added: it is kept first as demo-YYYYmmdd-HHMMSS.sqlite beside it.")
+@json_option(
+              help="Print {path, runs, screens, source, strain: [...], rebuilt, user_work, backup, notice} (implies --no-ui).")
 @pass_ctx
-@guarded
-def demo(ctx: Ctx, no_ui: bool, strain_tier: str, as_json: bool) -> None:
-    """Build the demo lab's notebook (in the per-user data directory) and open it."""
+def demo(ctx: Ctx, no_ui: bool, strain_tier: str, fresh: bool, as_json: bool) -> None:
+    """Build the demo lab's notebook (in the per-user data directory) and open it.
+
+    A demo notebook that holds runs you added (or changed) is not rebuilt: it is opened
+    as it is. With --fresh it is kept as a dated backup beside it, and a new demo built.
+    """
     from ..demo import build_demo
 
     def progress(stage: str, fraction: float) -> None:
@@ -437,20 +530,22 @@ def demo(ctx: Ctx, no_ui: bool, strain_tier: str, as_json: bool) -> None:
             click.echo(f"  {fraction * 100:3.0f}%  {stage}", err=True)
 
     summary = build_demo(Path(ctx.db).expanduser() if ctx.db else None,
-                         strain_tier=None if strain_tier == "none" else strain_tier, progress=progress)
+                         strain_tier=None if strain_tier == "none" else strain_tier, progress=progress, fresh=fresh)
     if as_json:
         emit_json(summary)
         return
-    click.echo(f"demo notebook: {summary['path']}")
+    if summary.get("notice"):
+        say(f"note: {summary['notice']}", err=True)
+    say(f"demo notebook: {summary['path']}{'' if summary.get('rebuilt', True) else ' (kept as it is)'}")
     click.echo(f"  {summary['runs']} runs, {summary['screens']} screen(s) from {summary['source']}")
     if no_ui or not sys.stdout.isatty():
-        from ..store import Notebook
         from ..reports_text import run_rows_text
+        from ..store import Notebook
 
         with Notebook.open(summary["path"]) as nb:
             click.echo(run_rows_text(nb.list_runs()))
         return
-    _open_ui(Path(summary["path"]))
+    _open_ui(Path(summary["path"]), ctx.author)
 
 
 # Commands of other areas live in sibling modules of this package (cli/strain.py, ...)
@@ -460,16 +555,20 @@ def demo(ctx: Ctx, no_ui: bool, strain_tier: str, as_json: bool) -> None:
 @main.command()
 @click.option("--set", "assignments", multiple=True, metavar="NAME=VALUE", help="Change a check threshold for this notebook.")
 @click.option("--reset", is_flag=True, help="Go back to the documented defaults.")
-@click.option("--json", "as_json", is_flag=True, help="Print {name: value} of every check threshold in force.")
+@click.option("--reason", default="settings changed", show_default=True,
+              help="Why the thresholds change (recorded with your name in the notebook's history).")
+@json_option(help="Print {name: value} of every check threshold in force.")
 @pass_ctx
-@guarded
-def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, as_json: bool) -> None:
-    """Check thresholds of this notebook (trap minimum, water, concentration, ...)."""
+def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, reason: str, as_json: bool) -> None:
+    """Check thresholds of this notebook (trap minimum, water, concentration, ...).
+
+    Every change is kept as a version (who, when, why) that `verify` checks.
+    """
     from ..settings import notebook_check_settings, update_check_settings
 
-    with ctx.notebook(create=True) as nb:
+    with ctx.notebook() as nb:
         if reset or assignments:
-            current = update_check_settings(nb, assignments, reset=reset)
+            current = update_check_settings(nb, assignments, reset=reset, author=ctx.author, reason=reason)
         else:
             current = notebook_check_settings(nb)
     data = current.to_dict()

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import click
 
-from .core import Ctx, emit_json, guarded, main, pass_ctx
+from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
 
 @main.command()
@@ -16,10 +16,9 @@ from .core import Ctx, emit_json, guarded, main, pass_ctx
 @click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--reason", help="Reason recorded on the new version (default: 'attached NAME').")
 @click.option("--name", help="Name to record (default: the file's own name).")
-@click.option("--json", "as_json", is_flag=True,
+@json_option(
               help='Print {"run_id", "version", "name", "sha256", "size", "media_type", "stored_new"}.')
 @pass_ctx
-@guarded
 def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | None, as_json: bool) -> None:
     """Attach FILE (spectrum, photo, raw NMR data) to RUN_ID.
 
@@ -34,7 +33,7 @@ def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | Non
     if as_json:
         emit_json(res)
     else:
-        click.echo(f"{res['run_id']} version {res['version']}: attached {res['name']} "
+        say(f"{res['run_id']} version {res['version']}: attached {res['name']} "
                    f"({res['size']} bytes, sha256 {res['sha256'][:12]}…)")
 
 
@@ -42,9 +41,8 @@ def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | Non
 @click.argument("run_id")
 @click.argument("which")
 @click.option("-o", "--output", required=True, help="File or folder to write the verified copy to (never overwritten).")
-@click.option("--json", "as_json", is_flag=True, help='Print {"path"}.')
+@json_option(help='Print {"path"}.')
 @pass_ctx
-@guarded
 def attachment_cmd(ctx: Ctx, run_id: str, which: str, output: str, as_json: bool) -> None:
     """Write a verified copy of one attachment of RUN_ID (WHICH: its name or SHA-256)."""
     from ..attachments import export_file
@@ -54,12 +52,11 @@ def attachment_cmd(ctx: Ctx, run_id: str, which: str, output: str, as_json: bool
     if as_json:
         emit_json({"path": str(path)})
     else:
-        click.echo(f"wrote {path}")
+        say(f"wrote {path}")
 
 
 @main.command("formats")
-@click.option("--json", "as_json", is_flag=True, help='Print a list of {"name", "import"}.')
-@guarded
+@json_option(help='Print a list of {"name", "import"}.')
 def formats_cmd(as_json: bool) -> None:
     """List the export formats (built in, and added by installed plugins)."""
     from ..exchange import registry
@@ -77,4 +74,4 @@ def formats_cmd(as_json: bool) -> None:
         emit_json(rows)
     else:
         for r in rows:
-            click.echo(f"{r['name']:10} export{' + import' if r['import'] else ''}")
+            say(f"{r['name']:10} export{' + import' if r['import'] else ''}")

@@ -6,12 +6,11 @@ from pathlib import Path
 
 import click
 
+from ..display import fmt_pct
 from ..errors import TrapbookError
-from .core import Ctx, emit_json, guarded, load_run_arg, main, pass_ctx
+from .core import Ctx, emit_json, json_option, load_run_arg, main, pass_ctx, say
 
-
-def _pct(x) -> str:
-    return "—" if x is None else f"{x:.0f}%"
+_pct = fmt_pct  # yields and ee in whole percent, as everywhere
 
 
 @main.group("screen")
@@ -29,11 +28,10 @@ def screen_group() -> None:
 @click.option("--vials", help="Only these vials of the full grid, numbered from 1 in grid order, e.g. '1,4,6'.")
 @click.option("--sheet", "sheet", help="Write the bench sheet to this file (.html for a printable page, else plain text).")
 @click.option("--dry-run", is_flag=True, help="Plan and print; store nothing.")
-@click.option("--json", "as_json", is_flag=True,
+@json_option(
               help="Print {screen_id, name, factors, scale, base_run, run_ids, runs: [{vial, factors, title, run, amounts, "
                    "amounts_problem, findings}], totals: [{line, role, vials, mass_mg, volume_ul, mmol}]}.")
 @pass_ctx
-@guarded
 def screen_plan(ctx: Ctx, base: str, vary: tuple[str, ...], scale: str | None, name: str | None, vials: str | None,
                 sheet: str | None, dry_run: bool, as_json: bool) -> None:
     """Plan a screen around BASE (a run file or a stored run id): one planned run per vial, with a bench sheet."""
@@ -47,10 +45,13 @@ def screen_plan(ctx: Ctx, base: str, vary: tuple[str, ...], scale: str | None, n
         except ValueError:
             raise TrapbookError(f"--vials '{vials}' is not a list of vial numbers", "e.g. --vials 1,3,5") from None
     run = load_run_arg(ctx, base)
-    if dry_run:
+    if dry_run and not ctx.db_path().exists():  # nothing to store in, and no settings: the documented defaults
         plan = planning.make_screen(None, run, factors, scale=scale, subset=subset, name=name, store=False)
+    elif dry_run:  # the notebook's own settings judge the vials, but nothing is stored
+        with ctx.notebook() as nb:
+            plan = planning.make_screen(nb, run, factors, scale=scale, subset=subset, name=name, store=False)
     else:
-        with ctx.notebook(create=True) as nb:
+        with ctx.notebook() as nb:
             plan = planning.make_screen(nb, run, factors, scale=scale, subset=subset, name=name, author=ctx.author)
     if sheet:
         text = planning.bench_sheet_html(plan) if sheet.lower().endswith((".html", ".htm")) else planning.bench_sheet_text(plan)
@@ -61,19 +62,18 @@ def screen_plan(ctx: Ctx, base: str, vary: tuple[str, ...], scale: str | None, n
     if as_json:
         emit_json(plan.to_dict())
         return
-    click.echo(planning.bench_sheet_text(plan))
+    say(planning.bench_sheet_text(plan), multiline=True)
     if plan.screen_id:
-        click.echo(f"stored screen {plan.screen_id} with {len(plan.run_ids)} planned run(s): {', '.join(plan.run_ids)}")
+        say(f"stored screen {plan.screen_id} with {len(plan.run_ids)} planned run(s): {', '.join(plan.run_ids)}")
     else:
-        click.echo("dry run: nothing stored")
+        say("dry run: nothing stored")
     if sheet:
-        click.echo(f"bench sheet written to {sheet}")
+        say(f"bench sheet written to {sheet}")
 
 
 @main.command("screens")
-@click.option("--json", "as_json", is_flag=True, help="Print a list of {id, name, factors, runs, base_run, chemist, scale, description}.")
+@json_option(help="Print a list of {id, name, factors, runs, base_run, chemist, scale, description}.")
 @pass_ctx
-@guarded
 def screens_cmd(ctx: Ctx, as_json: bool) -> None:
     """List the screens of the notebook."""
     with ctx.notebook() as nb:
@@ -82,21 +82,20 @@ def screens_cmd(ctx: Ctx, as_json: bool) -> None:
         emit_json([s.model_dump(mode="json") for s in screens])
         return
     if not screens:
-        click.echo("no screens yet: plan one with 'trapbook screen plan BASE.json --vary trap=furan,anthracene'")
+        say("no screens yet: plan one with 'trapbook screen plan BASE.json --vary trap=furan,anthracene'")
         return
     for s in screens:
         varied = "; ".join(f"{k}: {', '.join(v)}" for k, v in s.factors.items())
-        click.echo(f"{s.id:8} {s.name}\n         {len(s.runs)} run(s) · {varied}")
+        say(f"{s.id:8} {s.name}\n         {len(s.runs)} run(s) · {varied}")
 
 
 @main.command("review")
 @click.argument("screen")
-@click.option("--json", "as_json", is_flag=True,
+@json_option(
               help="Print {screen_id, name, factors, rows: [{run_id, title, status, factors, isolated_yield_pct, nmr_yield_pct, "
                    "dr, ee_pct, yield_pct, yield_kind, findings}], levels: {condition: {level: {runs, isolated, nmr, headline: "
                    "{n, mean_pct, best_pct, best_run}}}}, best, failed, not_done, matrix, yield_rule}.")
 @pass_ctx
-@guarded
 def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     """Review a screen: yields by condition, per-level mean and best, the best run, failures and why."""
     from ..review import review_screen
@@ -106,42 +105,41 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     if as_json:
         emit_json(rv)
         return
-    click.echo(f"{rv['screen_id']}  {rv['name']}")
+    say(f"{rv['screen_id']}  {rv['name']}")
     names = list(rv["factors"])
     head = "  ".join(f"{n[:16]:16}" for n in names)
-    click.echo(f"\n{'run':8} {head}  {'status':8} {'isolated':>8} {'NMR':>6} {'dr':>7} {'ee':>5}")
+    say(f"\n{'run':8} {head}  {'status':8} {'isolated':>8} {'NMR':>6} {'dr':>7} {'ee':>5}")
     for r in rv["rows"]:
         cells = "  ".join(f"{(r['factors'].get(n) or '—')[:16]:16}" for n in names)
-        click.echo(f"{r['run_id']:8} {cells}  {r['status']:8} {_pct(r['isolated_yield_pct']):>8} {_pct(r['nmr_yield_pct']):>6} "
+        say(f"{r['run_id']:8} {cells}  {r['status']:8} {_pct(r['isolated_yield_pct']):>8} {_pct(r['nmr_yield_pct']):>6} "
                    f"{(r['dr'] or '—'):>7} {_pct(r['ee_pct']):>5}")
-    click.echo("\nper level (headline yield: isolated, else NMR):")
+    say("\nper level (headline yield: isolated, else NMR):")
     for n, lv in rv["levels"].items():
         for level, s in lv.items():
             h = s["headline"]
-            click.echo(f"  {n:12} {level:22} n={h['n']}  mean {_pct(h['mean_pct']):>5}  best {_pct(h['best_pct']):>5}"
+            say(f"  {n:12} {level:22} n={h['n']}  mean {_pct(h['mean_pct']):>5}  best {_pct(h['best_pct']):>5}"
                        + (f" ({h['best_run']})" if h["best_run"] else ""))
     b = rv["best"]
     if b:
-        click.echo(f"\nbest: {b['run_id']} — " + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
+        say(f"\nbest: {b['run_id']} — " + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
                    + f": {_pct(b['yield_pct'])} ({b['yield_kind']})")
         if b.get("note"):
-            click.echo(f"  note: {b['note']}")
+            say(f"  note: {b['note']}")
     if rv["failed"]:
-        click.echo("\nfailed:")
+        say("\nfailed:")
         for f in rv["failed"]:
             why = "; ".join(f"{x['severity']} {x['code']}" for x in f["findings"]) or "no bench check explains it"
-            click.echo(f"  {f['run_id']} {f['title']}: {why}")
+            say(f"  {f['run_id']} {f['title']}: {why}")
     if rv["not_done"]:
-        click.echo(f"\nnot done yet: {', '.join(rv['not_done'])}")
+        say(f"\nnot done yet: {', '.join(rv['not_done'])}")
 
 
 @main.command("strain-map")
-@click.option("--json", "as_json", is_flag=True,
+@json_option(
               help="Print {intermediates: [{smiles, name, runs, olefin_strain_kcal_mol, stability_class, strain_method, "
                    "strain_status, best_yield_pct, traps: [{trap, yield_pct, yield_kind, run_id}]}], ranking: {method, n, "
                    "spearman_rho, note}, missing_strain}.")
 @pass_ctx
-@guarded
 def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
     """Strain against outcome: each intermediate's cached OS and class beside its best yield per trap."""
     from ..review import strain_map
@@ -153,22 +151,21 @@ def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
         return
     for x in sm["intermediates"]:
         os_txt = f"OS {x['olefin_strain_kcal_mol']:.1f} kcal/mol ({x['stability_class']})" if x["olefin_strain_kcal_mol"] is not None else "strain not computed"
-        click.echo(f"{(x['name'] or x['smiles'])[:34]:34} {os_txt:40} best {_pct(x['best_yield_pct'])}")
+        say(f"{(x['name'] or x['smiles'])[:34]:34} {os_txt:40} best {_pct(x['best_yield_pct'])}")
         for t in x["traps"]:
-            click.echo(f"    {t['trap'][:32]:32} {_pct(t['yield_pct']):>5} {t['yield_kind'] or '':10} {t['run_id']}")
+            say(f"    {t['trap'][:32]:32} {_pct(t['yield_pct']):>5} {t['yield_kind'] or '':10} {t['run_id']}")
     rk = sm["ranking"]
-    click.echo(f"\nranking: {rk['method']}")
-    click.echo(f"  rho = {rk['spearman_rho']:.2f} over {rk['n']} intermediates" if rk["spearman_rho"] is not None else f"  {rk['note']}")
+    say(f"\nranking: {rk['method']}")
+    say(f"  rho = {rk['spearman_rho']:.2f} over {rk['n']} intermediates" if rk["spearman_rho"] is not None else f"  {rk['note']}")
     if sm["missing_strain"]:
-        click.echo(f"  strain not computed for {len(sm['missing_strain'])}: run 'trapbook strain SMILES' for each")
+        say(f"  strain not computed for {len(sm['missing_strain'])}: run 'trapbook strain SMILES' for each")
 
 
 @main.command("report")
 @click.argument("ref")
 @click.option("-o", "--output", required=True, help="HTML file to write (one self-contained page).")
-@click.option("--json", "as_json", is_flag=True, help="Print {path, kind, id, bytes}.")
+@json_option(help="Print {path, kind, id, bytes}.")
 @pass_ctx
-@guarded
 def report_cmd(ctx: Ctx, ref: str, output: str, as_json: bool) -> None:
     """Write a printable HTML report of a run (TB-…) or a screen (SC-… or its name)."""
     from ..reports import write_report
@@ -178,4 +175,4 @@ def report_cmd(ctx: Ctx, ref: str, output: str, as_json: bool) -> None:
     if as_json:
         emit_json(info)
     else:
-        click.echo(f"wrote {info['kind']} report of {info['id']} to {info['path']}")
+        say(f"wrote {info['kind']} report of {info['id']} to {info['path']}")

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from .core import Ctx, emit_json, guarded, main, pass_ctx
+from ..search_query import DEFAULT_TIME_LIMIT_S
+from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
 
 @main.command("search")
@@ -28,18 +29,25 @@ from .core import Ctx, emit_json, guarded, main, pass_ctx
 @click.option("--screen", help="Runs of this screen (id or name).")
 @click.option("--tag", "tags", multiple=True, help="Runs carrying this tag (repeat for several).")
 @click.option("--finding", help="Runs with this bench-check finding code, e.g. trap-late.")
-@click.option("--text", help="Full-text query over titles, notes and observations.")
+@click.option("--text", help="Full-text query over titles, notes, observations and tags (the Logbook filter's plain words).")
 @click.option("--limit", type=int, help="At most this many results.")
+@click.option("--time-limit", "time_limit_s", type=float, default=DEFAULT_TIME_LIMIT_S, show_default=True,
+              help="Seconds a substructure match may take before the search stops and says so.")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
-@click.option("--json", "as_json", is_flag=True, help="Print a list of {run_id, title, score, matched}.")
+@json_option(help="Print a list of {run_id, title, score, matched}.")
 @pass_ctx
-@guarded
 def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> None:
-    """Find runs; all filters given must hold (AND). Results name what matched."""
-    from ..search import search
+    """Find runs; all filters given must hold (AND). Results name what matched.
 
+    The Logbook's filter box reads the same query typed (trap:furan temp:>100 glovebox);
+    both run the same search, so they give the same runs.
+    """
+    from ..search import search
+    from ..search_query import query_from_options
+
+    query = query_from_options(tags=tags, **filters)
     with ctx.notebook() as nb:
-        hits = search(nb, tags=list(tags) or None, **filters)
+        hits = search(nb, query)
     if as_json:
         emit_json([h.to_dict() for h in hits])
         return
@@ -47,16 +55,15 @@ def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> Non
         click.echo("no run matches")
         return
     for h in hits:
-        click.echo(f"{h.run_id:8} {h.score:5.2f}  {h.title}")
+        say(f"{h.run_id:8} {h.score:5.2f}  {h.title}")
         for m in h.matched:
-            click.echo(f"             {m}")
+            say(f"             {m}")
     click.echo(f"{len(hits)} run(s)")
 
 
 @main.command("reindex")
-@click.option("--json", "as_json", is_flag=True, help="Print {runs}.")
+@json_option(help="Print {runs}.")
 @pass_ctx
-@guarded
 def reindex_cmd(ctx: Ctx, as_json: bool) -> None:
     """Rebuild the search tables (structures, fingerprints, full text, each run's findings) from the stored runs."""
     from ..search import reindex

@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
+import re
 import sys
 
 import click
 
 from ..errors import TrapbookError
-from .core import Ctx, emit_json, guarded, main, pass_ctx
+from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
 
 def _progress(quiet: bool):
@@ -26,49 +27,96 @@ def _progress(quiet: bool):
 
 
 def _open_optional(ctx: Ctx):
-    """The notebook for caching, if there is one; strain works without it."""
+    """The notebook for caching, if there is one; strain works without it (and never creates one)."""
+    return ctx.optional_notebook()
+
+
+_RUN_ID = re.compile(r"^[A-Za-z]{1,8}-\d+$")  # e.g. TB-0002: letters cannot make such a SMILES
+
+
+def _stored_run(nb, ref: str):
+    """The stored run with this id, or None when the notebook has no such run."""
+    if nb is None or not ref or any(ch in ref for ch in "=#()[]@"):
+        return None
     try:
-        return ctx.notebook(create=True)
+        return nb.get_run(ref)
     except TrapbookError:
         return None
 
 
 @main.command()
-@click.argument("smiles")
+@click.argument("target", metavar="SMILES_OR_RUN")
 @click.option("--tier", type=click.Choice(["fast", "accurate"]), default="accurate", show_default=True,
-              help="fast = MMFF94 prescreen (rough); accurate = GFN2-xTB on MMFF conformers.")
+              help="accurate = GFN2-xTB on MMFF94 conformers (classed); fast = MMFF94 prescreen, never classed.")
 @click.option("--refresh", is_flag=True, help="Recompute even if the notebook has a cached result.")
 @click.option("--quiet", is_flag=True, help="No progress on stderr.")
-@click.option("--json", "as_json", is_flag=True,
-              help="Print {smiles, kind, bridges, s_value, trans_ring_size, olefin_strain_kcal_mol, stability_class, "
-                   "twist_deg, pyramidalization_deg, bond_length_angstrom, tier, method, conformers, seconds, reference, ...}.")
+@json_option(
+              help="Print {smiles, kind, strain_quantity, strain_kcal_mol, olefin_strain_kcal_mol, ring_strain_kcal_mol, "
+                   "excess_strain_kcal_mol, aryne_strain_kcal_mol, stability_class, needs_trap, judgement, schemes, "
+                   "twist_deg, tier, method, species, ...}; for a precursor {precursor, intermediate, how, command}.")
 @pass_ctx
-@guarded
-def strain(ctx: Ctx, smiles: str, tier: str, refresh: bool, quiet: bool, as_json: bool) -> None:
-    """Strain of a strained intermediate (bridgehead alkene, cyclic allene, cycloalkyne)."""
-    from ..strain_link import get_strain
+def strain(ctx: Ctx, target: str, tier: str, refresh: bool, quiet: bool, as_json: bool) -> None:
+    """Strain of a strained intermediate: bridgehead alkene, cyclic allene, cycloalkyne or aryne.
+
+    SMILES_OR_RUN is the intermediate's SMILES or a stored run id (TB-0002), whose
+    intermediate (as recorded, or derived from its silyl precursor) is computed. Given a
+    silyl precursor's SMILES, it names the intermediate the precursor releases and prints
+    the command that computes it.
+    """
+    from ..strain_link import get_strain, intermediate_of_run, precursor_release
 
     nb = _open_optional(ctx)
     try:
+        run = _stored_run(nb, target)
+        origin = None
+        if run is not None:
+            found = intermediate_of_run(run)
+            if found is None:
+                raise TrapbookError(f"run {target} names no intermediate and has no silyl precursor to derive it from",
+                                    f"record the intermediate's SMILES on the run (field 'intermediate'), then run 'trapbook strain {target}'")
+            smiles, origin = found
+        else:
+            if _RUN_ID.match(target):
+                raise TrapbookError(f"no run {target} in this notebook, and {target!r} is not a SMILES either",
+                                    "list the runs with 'trapbook list', or give the intermediate's SMILES")
+            release = precursor_release(target)
+            if release is not None:
+                _print_release(release, as_json)
+                return
+            smiles = target
         result = get_strain(nb, smiles, tier=tier, progress=_progress(quiet), refresh=refresh)
     finally:
         if nb is not None:
             nb.close()
+    if origin is not None:
+        result = {**result, "run_id": target, "intermediate_origin": origin}
     if as_json:
         emit_json(result)
         return
-    click.echo(_strain_text(result))
+    say(_strain_text(result), multiline=True)
+
+
+def _print_release(release: dict, as_json: bool) -> None:
+    if as_json:
+        emit_json(release)
+        return
+    say(f"{release['precursor']} is a silyl precursor, not the intermediate.")
+    say(f"  it releases {release['intermediate']} ({release['how']})")
+    say(f"  compute that intermediate's strain with:  {release['command']}")
+    say(f"  and the precursor's Si–C–C–X alignment with:  trapbook alignment '{release['precursor']}'")
 
 
 def _fmt(v, spec: str, unit: str = "") -> str:
     return "—" if v is None else f"{v:{spec}}{unit}"
 
 
-_BOND_WORD = {"cycloalkyne": "C≡C", "cyclic allene": "C=C=C"}
+_BOND_WORD = {"cycloalkyne": "C≡C", "cyclic allene": "C=C=C", "aryne": "C≡C (formal)"}
 
 
 def _strain_text(r: dict) -> str:
     lines = [f"{r.get('smiles')}  ({r.get('kind')})"]
+    if r.get("intermediate_origin"):
+        lines.append(f"  intermediate of {r.get('run_id')}: {r['intermediate_origin']}")
     if r.get("kind") in (None, "none"):
         lines.append(f"  {r.get('message') or 'no strained unsaturation found'}")
         return "\n".join(lines)
@@ -79,38 +127,85 @@ def _strain_text(r: dict) -> str:
         lines.append(f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in {article} {n}-membered ring (Wiseman)")
     elif r.get("ring_size"):
         lines.append(f"  in a {r['ring_size']}-membered ring")
-    what = "olefin strain" if r.get("kind") == "bridgehead alkene" else "pi-bond strain"
-    lines.append(f"  {what}: {_fmt(r.get('olefin_strain_kcal_mol'), '.1f', ' kcal/mol')} -> {r.get('stability_class')}")
+    lines.extend(_number_lines(r))
     lines.append(f"  twist {_fmt(r.get('twist_deg'), '.1f', '°')}, pyramidalization {_fmt(r.get('pyramidalization_deg'), '.1f', '°')}, "
                  f"{_BOND_WORD.get(r.get('kind'), 'C=C')} {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
                  + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else ""))
-    ref = r.get("reference")
-    if isinstance(ref, dict) and ref.get("unsaturated"):
-        u, sat = ref["unsaturated"], ref.get("saturated") or {}
-        lines.append(f"  reference pair: {u.get('name')} / {sat.get('name')} ({ref.get('substitution', '')})")
-    elif ref:
-        lines.append(f"  reference pair: {ref}")
+    for scheme in r.get("schemes") or []:
+        lines.append(f"  scheme ({scheme.get('quantity')}): {scheme.get('equation')}")
     lines.append(f"  method: {r.get('method')}; {r.get('conformers')} conformers; {_fmt(r.get('seconds'), '.1f', ' s')}"
                  + (" (from the notebook's cache)" if r.get("cached") else ""))
-    if r.get("rough"):
-        lines.append("  note: fast tier is a rough prescreen; MMFF94 overestimates the strain of twisted alkenes")
     return "\n".join(lines)
+
+
+def _number_lines(r: dict) -> list[str]:
+    out = []
+    labelled = [("olefin_strain_kcal_mol", "olefin strain"), ("ring_strain_kcal_mol", "ring strain (against strain-free acyclic groups)"),
+                ("excess_strain_kcal_mol", "excess over the saturated ring"), ("aryne_strain_kcal_mol", "aryne strain (against an open-chain alkyne)")]
+    for key, words in labelled:
+        if r.get(key) is not None:
+            out.append(f"  {words}: {r[key]:.1f} kcal/mol")
+    if r.get("ring_strain_note"):
+        out.append(f"  {r['ring_strain_note']}")
+    judgement = r.get("judgement")
+    if judgement:
+        out.append(f"  class: {judgement['stability']} — {'needs a trap' if judgement['needs_trap'] else 'survives without a trap'}")
+        out.append(f"    {judgement['words']}")
+        out.append(f"    source: {judgement['source']}")
+    elif r.get("prescreen_note"):
+        out.append(f"  no class: {r['prescreen_note']}")
+    else:
+        out.append("  no class: this number cannot be classed; treat the intermediate as needing a trap")
+    return out
 
 
 @main.command()
 @click.argument("smiles")
-@click.option("--json", "as_json", is_flag=True, help="Print {dihedral_deg, weighted_dihedral_deg, verdict, conformers, ...}.")
+@click.option("--temperature", "temperature_c", type=float, default=25.0, show_default=True,
+              help="Temperature (°C) for the Boltzmann populations: the run's temperature at the fluoride addition.")
+@json_option(
+              help="Print {verdict, dihedral_deg, dihedral_words, best_aligned {dihedral_deg, words, delta_kcal_mol, population}, "
+                   "aligned_fraction, conformer_table, temperature_c, stereo_warning, diastereomers, ...}.")
 @pass_ctx
-@guarded
-def alignment(ctx: Ctx, smiles: str, as_json: bool) -> None:
-    """Si–C–C–X alignment of a silyl precursor (can this diastereomer fire?)."""
-    from ..chemistry.strain import precursor_alignment
+def alignment(ctx: Ctx, smiles: str, temperature_c: float, as_json: bool) -> None:
+    """Si–C–C–X alignment of a silyl precursor: can this diastereomer fire?
 
-    result = precursor_alignment(smiles)
+    Measured: the Si–C–C–X dihedral (silyl carbon to leaving-group carbon) in every MMFF94
+    conformer of the precursor, each conformer's Boltzmann population at --temperature,
+    and the energy needed to reach the best-aligned conformer. Angles are named by the
+    Klyne–Prelog ranges: synperiplanar 0–30°, synclinal (gauche) 30–90°, anticlinal
+    90–150°, antiperiplanar 150–180°. Elimination needs antiperiplanar (or synperiplanar
+    in a rigid ring); an aligned conformer within 3 kcal/mol of the lowest counts as
+    reachable ("aligns after a ring flip, +1.4 kcal/mol, 7 % at 25 °C"). Unassigned
+    stereocentres are enumerated and each diastereomer is judged side by side.
+    """
+    from ..strain_link import get_alignment
+
+    nb = _open_optional(ctx)
+    try:
+        result = get_alignment(nb, smiles, temperature_c=temperature_c)
+    finally:
+        if nb is not None:
+            nb.close()
     if as_json:
         emit_json(result)
         return
-    click.echo(f"{smiles}")
-    click.echo(f"  Si–C–C–X dihedral: {_fmt(result.get('dihedral_deg'), '.0f', '°')} in the lowest conformer, "
-               f"{_fmt(result.get('weighted_dihedral_deg'), '.0f', '°')} Boltzmann-weighted over {result.get('conformers')} conformers")
-    click.echo(f"  verdict: {result.get('verdict')}")
+    say(smiles)
+    if result.get("stereo_warning"):
+        say(f"  warning: {result['stereo_warning']}")
+        for side in result.get("diastereomers") or []:
+            say(f"  {side['smiles']}")
+            say(_alignment_lines(side, "    "), multiline=True)
+        return
+    say(_alignment_lines(result, "  "), multiline=True)
+
+
+def _alignment_lines(r: dict, pad: str) -> str:
+    lines = [f"{pad}leaving group: {r.get('leaving_group')}; {r.get('conformers')} conformers, {r.get('method')}",
+             f"{pad}lowest conformer: Si–C–C–X {_fmt(r.get('dihedral_deg'), '.0f', '°')} ({r.get('dihedral_words')})"]
+    best = r.get("best_aligned")
+    if best:
+        lines.append(f"{pad}best aligned: {best['dihedral_deg']:.0f}° ({best['words']}), +{best['delta_kcal_mol']:.1f} kcal/mol, "
+                     f"{best['population'] * 100:.1f} % of the ensemble")
+    lines.append(f"{pad}verdict: {r.get('verdict')}")
+    return "\n".join(lines)

@@ -25,12 +25,15 @@ from pathlib import Path, PurePosixPath
 from typing import Any
 
 from ..errors import ExchangeError, RecordError, TrapbookError
+from ..files import atomic_target
 from ..records import Run, load_run, load_screen
 
 MAX_MEMBERS = 100_000
 MAX_TOTAL_BYTES = 8 * 1024**3
 MAX_RATIO = 200  # uncompressed / compressed, per member: beyond this it is a zip bomb
 RUN_DIR, SCREEN_DIR, FILE_DIR, ORD_PATH = "runs", "screens", "attachments", "ord/dataset.pbtxt"
+HISTORY_SUFFIX = ".history.jsonl"
+MAX_HISTORY_BYTES = 256 * 1024**2
 
 
 def _json_text(obj: Any) -> str:
@@ -77,13 +80,15 @@ def export(nb, runs, screen=None, output=None):
                 "name": run.title, "encodingFormat": "application/json",
                 "description": f"Trapbook run record {run.id or ''}".strip(), "identifier": run.id or "",
             })
+            history_atts = []
             if run.id:
                 hist = work / f"{rid}.history.jsonl"
-                hist.write_text(_history_jsonl(nb, run.id), encoding="utf-8")
+                text, history_atts = _history_jsonl(nb, run.id)
+                hist.write_text(text, encoding="utf-8")
                 crate.add_file(hist, f"{RUN_DIR}/{rid}.history.jsonl", properties={
                     "name": f"version history of {run.id}", "encodingFormat": "application/x-ndjson",
                 })
-            for att in run.attachments:
+            for att in [*run.attachments, *history_atts]:  # older versions keep their files too
                 if att.sha256 in seen_blobs:
                     continue
                 blob = attachments.blob_path(store, att.sha256)
@@ -103,7 +108,7 @@ def export(nb, runs, screen=None, output=None):
                 "name": sc.name, "encodingFormat": "application/json", "description": "Trapbook screen record",
             })
         try:
-            ds, _report = ordx.build_dataset(runs, screens[0] if screen else None, email=ordx._email(nb))
+            ds, _report = ordx.build_dataset(runs, screens[0] if screen else None, email=ordx._email(nb), nb=nb)
             src = work / "dataset.pbtxt"
             src.write_text(ordx.serialise(ds, src), encoding="utf-8")
             crate.add_file(src, ORD_PATH, properties={
@@ -116,9 +121,8 @@ def export(nb, runs, screen=None, output=None):
             crate.root_dataset["comment"] = "; ".join(notes)
         try:
             if out.suffix.lower() == ".zip":
-                part = out.with_name(out.name + ".part")
-                crate.write_zip(part)
-                os.replace(part, out)
+                with atomic_target(out) as part:
+                    crate.write_zip(part)
             else:
                 crate.write(out)
         except OSError as exc:
@@ -137,13 +141,21 @@ def _screens_of(nb, runs: list[Run]) -> list:
     return out
 
 
-def _history_jsonl(nb, run_id: str) -> str:
+def _history_jsonl(nb, run_id: str):
+    """The run's versions as JSON lines, and the attachments named by any of them."""
+    from ..records import Attachment
+
     rows = nb.conn.execute(
         "SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions WHERE run_id = ? ORDER BY version",
         (run_id,),
     ).fetchall()
     keys = ["version", "author", "time", "reason", "action", "prev_hash", "hash", "data"]
-    return "".join(json.dumps(dict(zip(keys, row)), ensure_ascii=False, sort_keys=True) + "\n" for row in rows)
+    atts = {}
+    for row in rows:
+        for a in json.loads(row[-1]).get("attachments") or []:
+            atts.setdefault((a["sha256"], a["name"]), Attachment.model_validate(a))
+    text = "".join(json.dumps(dict(zip(keys, row)), ensure_ascii=False, sort_keys=True) + "\n" for row in rows)
+    return text, list(atts.values())
 
 
 # --- reading ----------------------------------------------------------------------------------
@@ -223,11 +235,13 @@ def _read_crate(folder: Path) -> dict:
     except Exception as exc:  # the library raises many kinds on malformed metadata
         raise ExchangeError(f"the RO-Crate metadata cannot be read ({type(exc).__name__}: {str(exc)[:200]})",
                             "nothing was imported") from None
-    runs, screens, blobs = [], [], {}
+    runs, screens, blobs, histories = [], [], {}, {}
     for eid in ids:
         if not isinstance(eid, str):
             continue
-        if eid.startswith(f"{RUN_DIR}/") and eid.endswith(".json"):
+        if eid.startswith(f"{RUN_DIR}/") and eid.endswith(HISTORY_SUFFIX):
+            histories[eid[:-len(HISTORY_SUFFIX)] + ".json"] = _inside(folder, eid)
+        elif eid.startswith(f"{RUN_DIR}/") and eid.endswith(".json"):
             runs.append((eid, _inside(folder, eid)))
         elif eid.startswith(f"{SCREEN_DIR}/") and eid.endswith(".json"):
             screens.append((eid, _inside(folder, eid)))
@@ -235,7 +249,7 @@ def _read_crate(folder: Path) -> dict:
             blobs[eid[len(FILE_DIR) + 1:]] = _inside(folder, eid)
     if not runs:
         raise ExchangeError("the RO-Crate lists no Trapbook run records (runs/*.json)", "nothing was imported")
-    return {"runs": sorted(runs), "screens": sorted(screens), "blobs": blobs}
+    return {"runs": sorted(runs), "screens": sorted(screens), "blobs": blobs, "histories": histories}
 
 
 def _load_json(path: Path, eid: str) -> Any:
@@ -247,15 +261,72 @@ def _load_json(path: Path, eid: str) -> Any:
         raise ExchangeError(f"{eid} is not valid JSON ({str(exc)[:120]})", "nothing was imported") from None
 
 
-def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], list[str]]:
+def _load_history(path: Path, eid: str) -> list:
+    """The version records of one run's history file (JSON lines), unchecked."""
+    try:
+        if path.stat().st_size > MAX_HISTORY_BYTES:
+            raise ExchangeError(f"{eid} is over {MAX_HISTORY_BYTES // 2**20} MB", "nothing was imported")
+        lines = path.read_text(encoding="utf-8").splitlines()
+    except (OSError, UnicodeDecodeError) as exc:
+        raise ExchangeError(f"{eid} cannot be read ({str(exc)[:120]})", "nothing was imported") from None
+    out = []
+    for n, raw in enumerate(lines, 1):
+        if not raw.strip():
+            continue
+        try:
+            out.append(json.loads(raw))
+        except (ValueError, RecursionError) as exc:
+            raise ExchangeError(f"{eid} line {n} is not valid JSON ({str(exc)[:80]})", "nothing was imported") from None
+    return out
+
+
+def _history_of(run: Run, listing: dict, eid: str) -> list | None:
+    """The run's history from the crate, if it has one; it must end in the very record given."""
+    from ..records import canonical_json
+
+    path = listing["histories"].get(eid)
+    if path is None or not run.id:
+        return None
+    hist_eid = eid[:-len(".json")] + HISTORY_SUFFIX
+    if not path.is_file():
+        raise ExchangeError(f"the crate lists {hist_eid} but the file is not in it", "nothing was imported")
+    history = _load_history(path, hist_eid)
+    last = history[-1] if history else None
+    if not isinstance(last, dict) or last.get("data") != canonical_json(run.to_json_dict()):
+        raise ExchangeError(f"{eid} and its version history {hist_eid} disagree (the last version is not this record)",
+                            "the archive was changed after it was written; nothing was imported")
+    return history
+
+
+def _named_files(run: Run, history: list | None) -> list:
+    """Every attachment the run names now or in any earlier version (verify asks for all)."""
+    from ..records import Attachment
+
+    found = {(a.sha256, a.name): a for a in run.attachments}
+    for item in history or []:
+        try:
+            atts = json.loads(item.get("data", "{}")).get("attachments") or []
+            for a in atts:
+                found.setdefault((a["sha256"], a["name"]), Attachment.model_validate(a))
+        except (ValueError, TypeError, KeyError, AttributeError, RecursionError):
+            continue  # a damaged version is refused whole by the chain check
+    return list(found.values())
+
+
+def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], dict[str, list], list]:
+    """Runs, screens, files by hash, histories by run id, and (run id, attachment) not in the crate."""
     listing = _read_crate(folder)
-    runs, screens, notes = [], [], []
+    runs, screens, histories, missing = [], [], {}, []
     for eid, path in listing["runs"]:
         data = _load_json(path, eid)
         try:
-            runs.append(load_run(data))
+            run = load_run(data)
         except RecordError as exc:
             raise ExchangeError(f"{eid}: {exc.message}", "fix that record; nothing was imported") from None
+        runs.append(run)
+        history = _history_of(run, listing, eid)
+        if history is not None:
+            histories[run.id] = history
     for eid, path in listing["screens"]:
         data = _load_json(path, eid)
         try:
@@ -264,10 +335,10 @@ def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], list[st
             raise ExchangeError(f"{eid}: {exc.message}", "fix that record; nothing was imported") from None
     blobs: dict[str, Path] = {}
     for run in runs:
-        for att in run.attachments:
+        for att in _named_files(run, histories.get(run.id)):
             path = listing["blobs"].get(att.sha256)
             if path is None or not path.is_file():
-                notes.append(f"{run.id}: attachment {att.name} is not in the crate; the record keeps it, the file is missing")
+                missing.append((run.id, att))
                 continue
             h = hashlib.sha256()
             with path.open("rb") as fh:
@@ -277,11 +348,49 @@ def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], list[st
                 raise ExchangeError(f"{run.id}: attachment {att.name} in the crate does not match its SHA-256",
                                     "the archive is damaged; nothing was imported")
             blobs[att.sha256] = path
-    return runs, screens, blobs, notes
+    return runs, screens, blobs, histories, missing
+
+
+def _refuse_missing_files(nb, missing: list) -> None:
+    """A record whose file is neither in the crate nor already in this notebook is refused."""
+    from .. import attachments
+
+    store = attachments.store_dir(nb)
+    for run_id, att in missing:
+        path = attachments.blob_path(store, att.sha256)
+        if not (path.is_file() and path.stat().st_size == att.size):
+            raise ExchangeError(f"{run_id}: attachment {att.name} (sha256 {att.sha256[:12]}…) is not in the crate",
+                                "export the crate again from a notebook that holds the file; nothing was imported")
+
+
+def _store_runs(nb, runs: list[Run], histories: dict, author, reason: str) -> tuple[list, list[str]]:
+    """Each run with its whole history when the crate has it, else as a new run; inside the caller's transaction."""
+    results, notes = [], []
+    for run in runs:
+        history = histories.get(run.id)
+        if history is None:
+            res = nb.import_runs([run], author=author, reason=reason)[0]
+            notes.append(f"{run.id or run.title}: the crate holds no version history; stored as a new run")
+        else:
+            try:
+                res = nb.import_history(run.id, history)
+            except RecordError as exc:
+                raise ExchangeError(exc.message, exc.hint) from None
+            if res.run_id != run.id:
+                notes.append(f"{run.id} was already taken; stored as {res.run_id} with its {res.version} version(s), "
+                             "the chain re-keyed under the new id")
+        if run.id and res.run_id != run.id and history is None:
+            notes.append(f"{run.id} was already taken; stored as {res.run_id}")
+        results.append(res)
+    return results, notes
 
 
 def import_path(nb, path, author=None) -> dict:
-    """Registry entry: import an RO-Crate (zip or folder) written by `export`; all or nothing."""
+    """Registry entry: import an RO-Crate (zip or folder) written by `export`; all or nothing.
+
+    Every run comes back with its whole version history (authors, times, reasons, chain
+    checked); the files every version names come with it, or the import is refused.
+    """
     from .. import attachments
 
     path = Path(path)
@@ -295,15 +404,17 @@ def import_path(nb, path, author=None) -> dict:
             inner = [p for p in folder.iterdir()]
             if not (folder / "ro-crate-metadata.json").exists() and len(inner) == 1 and inner[0].is_dir():
                 folder = inner[0]
-        runs, screens, blobs, notes = read_folder(folder)
+        runs, screens, blobs, histories, missing = read_folder(folder)
+        _refuse_missing_files(nb, missing)
         # Files first: content-addressed, so a copy the database never refers to is harmless.
         store = attachments.store_dir(nb)
         for sha, src in blobs.items():
             stored = attachments.put_file(store, src)
             if stored.sha256 != sha:  # pragma: no cover - checked in read_folder
                 raise ExchangeError(f"attachment {sha[:12]}… changed while importing", "nothing was imported")
+        reason = f"imported from RO-Crate {path.name}"
         with nb.transaction():
-            results = nb.import_runs(runs, author=author, reason=f"imported from RO-Crate {path.name}")
+            results, notes = _store_runs(nb, runs, histories, author, reason)
             renamed = {r.id: res.run_id for r, res in zip(runs, results) if r.id and r.id != res.run_id}
             screen_ids = []
             for sc in screens:
@@ -312,10 +423,9 @@ def import_path(nb, path, author=None) -> dict:
                     continue
                 if renamed:
                     sc = sc.model_copy(update={"runs": [renamed.get(x, x) for x in sc.runs]})
-                screen_ids.append(nb.add_screen(sc, author=author, reason=f"imported from RO-Crate {path.name}"))
-    notes = [f"{old} was already taken; stored as {new}" for old, new in renamed.items()] + notes
+                screen_ids.append(nb.add_screen(sc, author=author, reason=reason))
     return {"format": "rocrate", "imported": [r.run_id for r in results], "screens": screen_ids, "skipped": [],
-            "attachments": len(blobs), "notes": notes}
+            "attachments": len(blobs), "versions": sum(r.version for r in results), "notes": notes}
 
 
 __all__ = ["export", "import_path", "safe_extract", "read_folder"]

@@ -10,6 +10,7 @@ import json
 from pathlib import Path
 
 from ..errors import ExchangeError, RecordError
+from ..files import write_atomic
 from ..records import Run, canonical_json, load_run
 
 
@@ -31,21 +32,12 @@ def export_runs(nb, fmt: str = "jsonl", screen: str | None = None, output: str |
     if fmt == "jsonl":
         text = to_jsonl(runs)
         if output:
-            _write_atomic(Path(output), text)
+            write_atomic(Path(output), text)
             return output
         return text
     from . import registry
 
     return registry.export(nb, fmt, runs, screen=screen, output=output)
-
-
-def _write_atomic(path: Path, text: str) -> None:
-    tmp = path.with_name(path.name + ".part")
-    try:
-        tmp.write_text(text, encoding="utf-8")
-        tmp.replace(path)
-    except OSError as exc:
-        raise ExchangeError(f"cannot write {path}: {exc.strerror}", "choose a writable path") from None
 
 
 def parse_jsonl(text: str, source: str) -> list[Run]:

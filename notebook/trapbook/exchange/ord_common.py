@@ -46,7 +46,10 @@ PLAIN_METADATA = ("page", "screen", "status", "intermediate", "intermediate_name
 JSON_METADATA = ("tags", "factors", "attachments")
 STEPS_METADATA = "trapbook_steps"
 LINE_ORDER_METADATA = "trapbook_line_order"
-METADATA_KEYS = PLAIN_METADATA + JSON_METADATA + (STEPS_METADATA, LINE_ORDER_METADATA)
+#: The run's stop and warn findings under the exporting notebook's settings, as JSON. They
+#: are derived, so the import reads past them: the receiving notebook judges the run anew.
+FINDINGS_METADATA = "trapbook_findings"
+METADATA_KEYS = PLAIN_METADATA + JSON_METADATA + (STEPS_METADATA, LINE_ORDER_METADATA, FINDINGS_METADATA)
 
 #: ORD unit name -> factor to Trapbook's canonical unit (mmol, mg, µL, min); the export
 #: writes the units whose factor is 1.
@@ -57,10 +60,12 @@ _TIME = {"DAY": 1440.0, "HOUR": 60.0, "MINUTE": 1.0, "SECOND": 1 / 60}
 
 
 def _pb():
-    try:
-        from ord_schema.proto import dataset_pb2, reaction_pb2
-    except ImportError as exc:  # pragma: no cover - ord-schema is a dependency
-        raise ExchangeError(f"the ord-schema package is not available ({exc})", "pip install ord-schema") from None
+    import importlib.util
+
+    if importlib.util.find_spec("ord_schema") is None:  # a hard dependency: say so plainly rather than a bare ImportError
+        raise ExchangeError("the ord-schema package is not installed", "pip install ord-schema")
+    from ord_schema.proto import dataset_pb2, reaction_pb2
+
     return reaction_pb2, dataset_pb2
 
 

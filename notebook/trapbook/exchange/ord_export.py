@@ -27,15 +27,15 @@ from pathlib import Path
 
 from ..phrases import step_phrases
 from ..errors import ExchangeError, TrapbookError
+from ..files import write_atomic
 from ..records import Run
 from ..units import to_canonical
-from .ord_common import (LINE_ORDER_METADATA, PLAIN_METADATA, ROLE_TO_ORD, STEPS_METADATA, _RUN_ID_DETAILS,
+from .ord_common import (FINDINGS_METADATA, LINE_ORDER_METADATA, PLAIN_METADATA, ROLE_TO_ORD, STEPS_METADATA, _RUN_ID_DETAILS,
                          _TITLE_DETAILS, _data, _pb)
 
 #: Namespace for the deterministic ORD ids made from Trapbook ids (a fixed UUID of our own).
 _ID_NAMESPACE = uuid.UUID("6f1c2a52-8f0e-4c55-9d57-3a2b3f6e1d10")
 _DEFAULT_EMAIL = "unknown@example.invalid"
-_CAUTION_TAIL = "These notes do not replace the SDS, local rules or the lab's safety officer."
 
 
 def ord_reaction_id(run_id: str) -> str:
@@ -119,26 +119,18 @@ def _step_words(i: int, step) -> str:
 _ATMOSPHERES = {"n2": "NITROGEN", "nitrogen": "NITROGEN", "ar": "ARGON", "argon": "ARGON", "air": "AIR"}
 
 
-def _safety_notes(run: Run) -> list[str]:
-    """Cautions the bench checks attach to this run, once each, with the usual closing line."""
+def _safety_notes(run: Run, findings: list) -> list[str]:
+    """Cautions the bench findings attach to this run, once each, with the usual closing line."""
     cautions: list[str] = []
-    try:
-        from .. import checks
+    for f in findings:
+        if f.caution and f.caution not in cautions:
+            cautions.append(f.caution)
+    from ..materials import caution_text
 
-        for f in checks.run_checks(run):
-            if f.caution and f.caution not in cautions:
-                cautions.append(f.caution)
-    except Exception:  # checks are advisory; an export never fails because of them
-        pass
-    if any(ln.role == "fluoride source" for ln in run.lines):
-        text = ("Fluoride sources give hydrogen fluoride with acid: wear suitable gloves and keep calcium gluconate "
-                "gel at hand.")
-        if not any("fluoride" in c.lower() for c in cautions):
-            cautions.append(text)
+    if any(ln.role == "fluoride source" for ln in run.lines) and not any("fluoride" in c.lower() for c in cautions):
+        cautions.append(caution_text(("fluoride",)))
     if any(s.sealed for s in run.steps) and not any("pressure" in c.lower() for c in cautions):
-        cautions.append("A sealed vessel heated above the solvent's boiling point builds pressure: use a rated vessel behind a shield.")
-    if cautions and not any("SDS" in c for c in cautions):
-        cautions.append(_CAUTION_TAIL)
+        cautions.append(caution_text(("sealed_pressure",)))
     return cautions
 
 
@@ -346,8 +338,9 @@ def _add_provenance(rxn, run: Run, email: str | None, record_time: str | None) -
         prov.reaction_metadata[k].CopyFrom(_data(v))
 
 
-def run_to_reaction(run: Run, email: str | None = None, record_time: str | None = None):
-    """One run as an ORD Reaction, plus notes on what could not be expressed."""
+def run_to_reaction(run: Run, email: str | None = None, record_time: str | None = None, nb=None):
+    """One run as an ORD Reaction, plus notes on what could not be expressed; its findings are
+    judged under the settings of notebook `nb` (the documented defaults when None)."""
     from .. import amounts
 
     r, _ = _pb()
@@ -374,8 +367,14 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
     _add_inputs(rxn, run, table, limiting_name, notes)
     _add_conditions(rxn, run)
 
-    # Notes, with the cautions that apply.
-    safety = _safety_notes(run)
+    # Notes, with the cautions that apply; the stop and warn findings travel in the metadata.
+    from ..findings import findings_for
+
+    findings = findings_for(nb, run)
+    flagged = [{"code": f.code, "severity": f.severity, "message": f.message} for f in findings if f.severity in ("stop", "warn")]
+    if flagged:
+        rxn.provenance.reaction_metadata[FINDINGS_METADATA].CopyFrom(_data(json.dumps(flagged, ensure_ascii=False)))
+    safety = _safety_notes(run, findings)
     if safety:
         rxn.notes.safety_notes = " ".join(safety)
     if run.notes:
@@ -394,7 +393,7 @@ def validate(message) -> tuple[list[str], list[str]]:
     return list(out.errors), list(out.warnings)
 
 
-def build_dataset(runs: list[Run], screen=None, email: str | None = None, name: str | None = None):
+def build_dataset(runs: list[Run], screen=None, email: str | None = None, name: str | None = None, nb=None):
     """A Dataset of the runs, validated; (dataset, report)."""
     _, d = _pb()
     if not runs:
@@ -411,7 +410,7 @@ def build_dataset(runs: list[Run], screen=None, email: str | None = None, name: 
     notes: list[str] = []
     seen: set[str] = set()
     for i, run in enumerate(runs, 1):
-        rxn, rnotes = run_to_reaction(run, email=email)
+        rxn, rnotes = run_to_reaction(run, email=email, nb=nb)
         if rxn.reaction_id in seen:  # unsaved runs with the same title
             rxn.reaction_id = ord_reaction_id(f"{run.id or run.title}#{i}")
         seen.add(rxn.reaction_id)
@@ -454,22 +453,10 @@ def serialise(message, path: Path | None) -> bytes | str:
 def export(nb, runs, screen=None, output=None):
     """Registry entry: a validated Dataset as text (stdout) or to `output`."""
     sc = nb.get_screen(screen) if screen else None
-    ds, report = build_dataset(list(runs), sc, email=_email(nb))
+    ds, report = build_dataset(list(runs), sc, email=_email(nb), nb=nb)
     path = Path(output) if output else None
     payload = serialise(ds, path)
     if path is None:
         return payload
-    _write_atomic(path, payload)
+    write_atomic(path, payload)
     return str(path)
-
-
-def _write_atomic(path: Path, payload: bytes | str) -> None:
-    tmp = path.with_name(path.name + ".part")
-    try:
-        if isinstance(payload, str):
-            tmp.write_text(payload, encoding="utf-8")
-        else:
-            tmp.write_bytes(payload)
-        tmp.replace(path)
-    except OSError as exc:
-        raise ExchangeError(f"cannot write {path}: {exc.strerror}", "choose a writable path") from None

@@ -13,6 +13,7 @@ import io
 from pathlib import Path
 
 from ..errors import ExchangeError, TrapbookError
+from ..files import write_atomic
 
 RUN_COLUMNS = (
     "run id", "title", "chemist", "date", "status", "screen", "tags",
@@ -50,7 +51,7 @@ def run_row(run, index_row: dict | None = None) -> dict:
         ys = amounts.product_yields(run, table) if table else []
     except TrapbookError:
         ys = []
-    best = max(ys, key=lambda y: y.best_yield_pct if y.best_yield_pct is not None else -1.0) if ys else None
+    best = amounts.headline_product(ys)
     try:
         tmin, tmax = _temps(run)
         tsum = _time(run)
@@ -119,7 +120,7 @@ def export_csv(nb, runs, screen=None, output=None):
     text = runs_csv(nb, runs, screen)
     if output is None:
         return text
-    _write(Path(output), text.encode("utf-8-sig"))  # the BOM makes spreadsheet programs read µ and ° right
+    write_atomic(Path(output), text.encode("utf-8-sig"))  # the BOM makes spreadsheet programs read µ and ° right
     return str(output)
 
 
@@ -158,17 +159,8 @@ def export_xlsx(nb, runs, screen=None, output=None):
         sheet.freeze_panes = "A2"
     buf = io.BytesIO()
     wb.save(buf)
-    _write(Path(output), buf.getvalue())
+    write_atomic(Path(output), buf.getvalue())
     return str(output)
-
-
-def _write(path: Path, data: bytes) -> None:
-    tmp = path.with_name(path.name + ".part")
-    try:
-        tmp.write_bytes(data)
-        tmp.replace(path)
-    except OSError as exc:
-        raise ExchangeError(f"cannot write {path}: {exc.strerror}", "choose a writable path") from None
 
 
 EXPORTERS = {"csv": export_csv, "xlsx": export_xlsx}

@@ -25,7 +25,7 @@ def _names(run: Run, role: str) -> str | None:
 
 
 def _temps(run: Run) -> tuple[float | None, float | None]:
-    ts = [to_canonical(s.temperature, "temperature") for s in run.steps if s.temperature is not None]
+    ts = [t for s in run.steps for t in s.temperatures_c()]  # both ends of a ramp
     return (min(ts), max(ts)) if ts else (None, None)
 
 
@@ -34,78 +34,65 @@ def _time(run: Run) -> float | None:
     return sum(hs) if hs else None
 
 
-def best_yield(run: Run) -> tuple[float | None, str | None]:
-    """Highest product yield of the run and whether it is isolated or by NMR."""
-    from .. import amounts
+def _headline_yield(run: Run) -> tuple[float | None, str | None]:
+    """The run's headline yield (`amounts.headline_yield`) for the summary row.
+
+    A yield that cannot be worked out is stored as unknown; the run's findings carry the
+    reason ('yield-unknown'), so the list shows the problem rather than a number.
+    """
+    from ..amounts import headline_yield
 
     try:
-        ys = amounts.product_yields(run)
+        return headline_yield(run)
     except TrapbookError:
         return None, None
-    best, kind = None, None
-    for y in ys:
-        for value, k in ((y.isolated_yield_pct, "isolated"), (y.nmr_yield_pct, "NMR")):
-            if value is not None and (best is None or value > best):
-                best, kind = value, k
-    if best is None and run.outcome is not None and run.status in ("done", "failed") and run.outcome.products == []:
-        return 0.0, "none found"
-    return best, kind
 
 
-def findings_for(run: Run, nb: "Notebook | None" = None) -> list[dict]:
-    """The run's bench checks with the notebook's own thresholds and any cached strain."""
-    try:
-        from .. import checks
-    except ImportError:  # the checks module is optional for the store
-        return []
-    try:
-        from ..strain_link import settings_for, strain_for_run
+def _stored_findings(run: Run, nb: Notebook | None = None) -> list[dict]:
+    """The run's findings as stored in the summary row (`trapbook.findings.findings_for`)."""
+    from ..findings import findings_for
 
-        settings = settings_for(nb) if nb is not None else None
-        strain = strain_for_run(nb, run) if nb is not None else None
-        return [f.to_dict() for f in checks.run_checks(run, strain=strain, settings=settings)]
-    except TrapbookError:
-        return []
+    return [f.to_dict() for f in findings_for(nb, run)]
 
 
-def index_run(nb: "Notebook", run: Run) -> None:
+def summary_row(nb: Notebook, run: Run) -> dict:
+    """The run's summary row as a save writes it; `verify` recomputes it to compare."""
     tmin, tmax = _temps(run)
-    y, kind = best_yield(run)
-    findings = findings_for(run, nb)
+    y, kind = _headline_yield(run)
+    findings = _stored_findings(run, nb)
     worst = None
     if findings:
         top = min(findings, key=lambda f: _SEVERITY_RANK.get(f["severity"], 9))
         worst = f"{top['severity']}:{top['code']}"
     traps = run.lines_by_role("trap")
     precursors = run.lines_by_role("precursor")
-    nb.conn.execute(
-        """INSERT OR REPLACE INTO run_index (run_id, precursor, intermediate, trap, trap_smiles, fluoride, additive, solvent,
-           temp_min_c, temp_max_c, time_min, sealed, yield_pct, yield_kind, worst, findings)
-           VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)""",
-        (
-            run.id,
-            "; ".join(p.smiles or p.name for p in precursors) or None,
-            run.intermediate_name or intermediate_smiles(run),
-            _names(run, "trap"),
-            "; ".join(t.smiles for t in traps if t.smiles) or None,
-            _names(run, "fluoride source"),
-            _names(run, "additive"),
-            _names(run, "solvent"),
-            tmin,
-            tmax,
-            _time(run),
-            1 if any(s.sealed for s in run.steps) else 0,
-            y,
-            kind,
-            worst,
-            json.dumps([f["code"] for f in findings]),
-        ),
-    )
+    return {
+        "run_id": run.id,
+        "precursor": "; ".join(p.smiles or p.name for p in precursors) or None,
+        "intermediate": run.intermediate_name or intermediate_smiles(run),
+        "trap": _names(run, "trap"),
+        "trap_smiles": "; ".join(t.smiles for t in traps if t.smiles) or None,
+        "fluoride": _names(run, "fluoride source"),
+        "additive": _names(run, "additive"),
+        "solvent": _names(run, "solvent"),
+        "temp_min_c": tmin,
+        "temp_max_c": tmax,
+        "time_min": _time(run),
+        "sealed": 1 if any(s.sealed for s in run.steps) else 0,
+        "yield_pct": y,
+        "yield_kind": kind,
+        "worst": worst,
+        "findings": json.dumps([f["code"] for f in findings]),
+    }
+
+
+def index_run(nb: Notebook, run: Run) -> None:
+    nb.db["run_index"].insert(summary_row(nb, run), replace=True)
     row = nb.conn.execute("SELECT hash FROM runs WHERE id = ?", (run.id,)).fetchone()
     index_search(nb.conn, run, row[0] if row else None)
 
 
-def refresh_summaries(nb: "Notebook") -> int:
+def refresh_summaries(nb: Notebook) -> int:
     """Rewrite every run's summary row, in one transaction.
 
     Findings and the worst finding are judged at save time with the notebook's thresholds

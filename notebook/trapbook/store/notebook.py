@@ -10,34 +10,41 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
-import getpass
-import hashlib
 import json
 import os
 import sqlite3
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Iterable, Iterator
+from typing import Any
 
 import sqlite_utils
 
+from .. import attachments
 from ..errors import NotFoundError, RecordError, StaleVersionError, StoreError
 from ..records import Run, Screen, canonical_json, load_run, load_screen
+from ..settings import login_name
+from . import chain, connect
 from . import index as run_index
-from .schema import migrate
+from .chain import version_hash
+from .diff import diff_runs
 
 APP_NAME = "trapbook"
 
 
 def now_utc() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="microseconds")
+    return _dt.datetime.now(_dt.UTC).isoformat(timespec="microseconds")
 
 
-def default_author() -> str:
-    try:
-        return getpass.getuser() or "unknown"
-    except Exception:
-        return os.environ.get("USER") or "unknown"
+def default_author(nb=None, given: str | None = None) -> str:
+    """Who a save is recorded as: `given` (--author), else the notebook's "you are" name, else the login name."""
+    if nb is not None:
+        from ..settings import author_for
+
+        return author_for(nb, given)[0]
+    if given:
+        return given
+    return login_name()
 
 
 def default_path() -> Path:
@@ -48,15 +55,6 @@ def default_path() -> Path:
     import platformdirs
 
     return Path(platformdirs.user_data_dir(APP_NAME, appauthor=False)) / "notebook.sqlite"
-
-
-def version_hash(run_id: str, version: int, author: str, time: str, reason: str, action: str, prev: str | None, data: str) -> str:
-    """SHA-256 over the version's metadata and its canonical JSON: the link of the chain."""
-    payload = canonical_json(
-        {"run": run_id, "version": version, "author": author, "time": time, "reason": reason,
-         "action": action, "prev": prev, "data_sha256": hashlib.sha256(data.encode()).hexdigest()}
-    )
-    return hashlib.sha256(payload.encode()).hexdigest()
 
 
 @dataclass
@@ -86,51 +84,40 @@ class VersionInfo:
 class Notebook:
     """One notebook file. Open with `Notebook.open(path)` or create with `Notebook.create(path)`."""
 
-    def __init__(self, path: Path, conn: sqlite3.Connection):
+    def __init__(self, path: Path, conn: sqlite3.Connection, write_problem: StoreError | None = None):
         self.path = path
         self.conn = conn
         self.db = sqlite_utils.Database(conn)
+        #: Why saves are refused here (read-only place, newer notebook), None when they are not.
+        self.write_problem = write_problem
+        self._hashed_cache: bool | None = None
 
     # --- opening -------------------------------------------------------------------
     @classmethod
-    def create(cls, path: str | os.PathLike) -> "Notebook":
+    def create(cls, path: str | os.PathLike) -> Notebook:
+        """Make a notebook at `path` (folders included), or open the one already there."""
         p = Path(path).expanduser()
-        if p.exists() and p.stat().st_size > 0:
-            nb = cls.open(p)
-            return nb
-        try:
-            p.parent.mkdir(parents=True, exist_ok=True)
-        except OSError as exc:
-            raise StoreError(f"cannot create folder {p.parent}: {exc.strerror}", "choose a writable location with --db") from None
-        return cls._connect(p)
+        return cls(p, *connect.connect(p, create=True))
 
     @classmethod
-    def open(cls, path: str | os.PathLike, create: bool = False) -> "Notebook":
-        p = Path(path).expanduser()
-        if not p.exists():
-            if create:
-                return cls.create(p)
-            raise StoreError(f"no notebook at {p}", "create one with 'trapbook init PATH', or point --db / TRAPBOOK_DB at yours")
-        return cls._connect(p)
+    def open(cls, path: str | os.PathLike, create: bool = False) -> Notebook:
+        """Open an existing notebook; a missing path, an empty file or a foreign file is refused.
 
-    @classmethod
-    def _connect(cls, p: Path) -> "Notebook":
-        try:
-            conn = sqlite3.connect(str(p), isolation_level=None, timeout=30.0, check_same_thread=False)
-            conn.execute("PRAGMA journal_mode=WAL")
-            conn.execute("PRAGMA synchronous=FULL")
-            conn.execute("PRAGMA foreign_keys=ON")
-            conn.execute("PRAGMA busy_timeout=30000")
-            migrate(conn)
-        except sqlite3.DatabaseError as exc:
-            raise (_access_error(p, exc) or StoreError(f"{p} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup")) from None
-        return cls(p, conn)
+        Only `create=True` (as `trapbook init` does) makes one. A notebook that cannot be
+        written here is opened for reading; `write_problem` says why saves are refused.
+        """
+        p = Path(path).expanduser()
+        return cls(p, *connect.connect(p, create=create))
+
+    @property
+    def read_only(self) -> bool:
+        return self.write_problem is not None
 
     def close(self) -> None:
         with contextlib.suppress(Exception):
             self.conn.close()
 
-    def __enter__(self) -> "Notebook":
+    def __enter__(self) -> Notebook:
         return self
 
     def __exit__(self, *exc) -> None:
@@ -138,28 +125,36 @@ class Notebook:
 
     @contextlib.contextmanager
     def transaction(self) -> Iterator[sqlite3.Connection]:
-        """BEGIN IMMEDIATE: one writer at a time, all or nothing."""
+        """BEGIN IMMEDIATE: one writer at a time, all or nothing.
+
+        A full disk, a read-only place or a lock held too long becomes a StoreError that
+        says so and that nothing was changed.
+        """
         if self.conn.in_transaction:
             yield self.conn
             return
+        if self.write_problem is not None:
+            raise self.write_problem
         try:
-            self.conn.execute("BEGIN IMMEDIATE")
+            connect.begin_immediate(self.conn, self.path)
         except sqlite3.OperationalError as exc:
-            raise (_access_error(self.path, exc) or exc) from None
+            raise (connect.plain_error(self.path, exc) or exc) from None
         try:
             yield self.conn
+            self.conn.execute("COMMIT")
         except sqlite3.OperationalError as exc:
             with contextlib.suppress(sqlite3.Error):
-                self.conn.execute("ROLLBACK")
-            problem = _access_error(self.path, exc)
+                if self.conn.in_transaction:
+                    self.conn.execute("ROLLBACK")
+            problem = connect.plain_error(self.path, exc)
             if problem is None:
                 raise
             raise problem from None
         except BaseException:
-            self.conn.execute("ROLLBACK")
+            with contextlib.suppress(sqlite3.Error):
+                if self.conn.in_transaction:
+                    self.conn.execute("ROLLBACK")
             raise
-        else:
-            self.conn.execute("COMMIT")
 
     @property
     def schema_version(self) -> int:
@@ -172,16 +167,14 @@ class Notebook:
         table = "runs" if counter == "run" else "screens"
         while self.conn.execute(f"SELECT 1 FROM {table} WHERE id = ?", (f"{prefix}{n:04d}",)).fetchone():
             n += 1
-        self.conn.execute(
-            "INSERT INTO counters (name, value) VALUES (?, ?) ON CONFLICT(name) DO UPDATE SET value = excluded.value",
-            (counter, n),
-        )
+        self.db["counters"].upsert({"name": counter, "value": n}, pk="name")
         return f"{prefix}{n:04d}"
 
     # --- runs ----------------------------------------------------------------------
     def add_run(self, run: Run | dict, author: str | None = None, reason: str = "created", keep_id: bool = False) -> SaveResult:
         """Store a new run (version 1). With keep_id, the run's own id is kept if it is free."""
         run = load_run(run) if not isinstance(run, Run) else run
+        attachments.require_stored(self, run)  # named by the id or title it arrived with
         with self.transaction():
             if keep_id and run.id:
                 if self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run.id,)).fetchone():
@@ -190,13 +183,15 @@ class Notebook:
             else:
                 run_id = self._next_id("run", "TB-")
             run = run.model_copy(update={"id": run_id})
-            return self._write_version(run, author or default_author(), reason, "create", None)
+            return self._write_version(run, default_author(self, author), reason, "create", None)
 
-    def save_run(self, run: Run | dict, expected_version: int, author: str | None = None, reason: str = "") -> SaveResult:
+    def save_run(self, run: Run | dict, expected_version: int | None, author: str | None = None, reason: str = "") -> SaveResult:
         """Store a new version of an existing run, made from `expected_version`.
 
         If someone saved in between, the save is refused (StaleVersionError) and nothing
-        is written: the chemist reloads, looks at what changed, and saves again.
+        is written: the chemist reloads, looks at what changed, and saves again. With
+        `expected_version=None` the edit is taken as made from whatever version is current
+        when the write lock is held (read inside the transaction, so never falsely stale).
         """
         run = load_run(run) if not isinstance(run, Run) else run
         if not run.id:
@@ -207,12 +202,13 @@ class Notebook:
             row = self.conn.execute("SELECT version, hash, withdrawn FROM runs WHERE id = ?", (run.id,)).fetchone()
             if row is None:
                 raise NotFoundError(f"no run {run.id} in this notebook", "list runs with 'trapbook list'")
-            if row[0] != expected_version:
+            if expected_version is not None and row[0] != expected_version:
                 raise StaleVersionError(
                     f"run {run.id} was changed (now version {row[0]}) since you opened version {expected_version}; your save was not written",
                     "reload the run, re-apply your change and save again",
                 )
-            return self._write_version(run, author or default_author(), reason.strip(), "edit", row[1], row[0] + 1)
+            attachments.require_stored(self, run, previous=self.get_run(run.id))
+            return self._write_version(run, default_author(self, author), reason.strip(), "edit", row[1], row[0] + 1)
 
     def withdraw_run(self, run_id: str, reason: str, author: str | None = None, restore: bool = False) -> SaveResult:
         """Mark a run withdrawn (or back), as a new version: it stays readable for ever."""
@@ -229,28 +225,26 @@ class Notebook:
                 raise RecordError(f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'")
             run = Run.model_validate(json.loads(row[2]))
             action = "restore" if restore else "withdraw"
-            return self._write_version(run, author or default_author(), reason.strip(), action, row[1], row[0] + 1)
+            return self._write_version(run, default_author(self, author), reason.strip(), action, row[1], row[0] + 1)
 
     def _write_version(self, run: Run, author: str, reason: str, action: str, prev: str | None, version: int = 1) -> SaveResult:
+        """Append the version, log the save, move the current row and rebuild the summary: one transaction."""
         data = canonical_json(run.to_json_dict())
         t = now_utc()
         h = version_hash(run.id, version, author, t, reason, action, prev, data)
-        self.conn.execute(
-            "INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) VALUES (?,?,?,?,?,?,?,?,?)",
-            (run.id, version, author, t, reason, action, prev, h, data),
-        )
+        self.db["versions"].insert({"run_id": run.id, "version": version, "author": author, "time": t, "reason": reason,
+                                    "action": action, "prev_hash": prev, "hash": h, "data": data})
+        chain.append_save(self.conn, "run", run.id, version, h)
         withdrawn = 1 if action == "withdraw" else 0
         if action not in ("withdraw", "restore") and version > 1:
             withdrawn = self.conn.execute("SELECT withdrawn FROM runs WHERE id = ?", (run.id,)).fetchone()[0]
-        self.conn.execute(
-            """INSERT INTO runs (id, title, chemist, date, status, screen, withdrawn, version, hash, created, updated, data)
-               VALUES (?,?,?,?,?,?,?,?,?,?,?,?)
-               ON CONFLICT(id) DO UPDATE SET title=excluded.title, chemist=excluded.chemist, date=excluded.date,
-               status=excluded.status, screen=excluded.screen, withdrawn=excluded.withdrawn, version=excluded.version,
-               hash=excluded.hash, updated=excluded.updated, data=excluded.data""",
-            (run.id, run.title, run.chemist, run.date.isoformat() if run.date else None, run.status, run.screen,
-             withdrawn, version, h, t, t, data),
-        )
+        row = {"title": run.title, "chemist": run.chemist, "date": run.date.isoformat() if run.date else None,
+               "status": run.status, "screen": run.screen, "withdrawn": withdrawn, "version": version, "hash": h,
+               "updated": t, "data": data}
+        if version == 1:
+            self.db["runs"].insert({"id": run.id, **row, "created": t})
+        else:
+            self.db["runs"].update(run.id, row)
         run_index.index_run(self, run)
         return SaveResult(run.id, version, h, version == 1)
 
@@ -342,7 +336,7 @@ class Notebook:
                 raise RecordError(f"screen id {sid} is already in this notebook", "choose another id")
             sid = sid or self._next_id("screen", "SC-")
             screen = screen.model_copy(update={"id": sid})
-            self._write_screen(screen, author or default_author(), reason, 1)
+            self._write_screen(screen, default_author(self, author), reason, 1)
         return sid
 
     def save_screen(self, screen: Screen, author: str | None = None, reason: str = "updated") -> int:
@@ -350,22 +344,26 @@ class Notebook:
             row = self.conn.execute("SELECT version FROM screens WHERE id = ?", (screen.id,)).fetchone()
             if row is None:
                 raise NotFoundError(f"no screen {screen.id} in this notebook", "list screens with 'trapbook screens'")
-            self._write_screen(screen, author or default_author(), reason, row[0] + 1)
+            self._write_screen(screen, default_author(self, author), reason, row[0] + 1)
             return row[0] + 1
 
     def _write_screen(self, screen: Screen, author: str, reason: str, version: int) -> None:
         # not canonical: the order of the factors is the order the chemist gave them in
         data = json.dumps(screen.model_dump(mode="json", exclude_none=True), ensure_ascii=False)
         t = now_utc()
-        self.conn.execute(
-            "INSERT INTO screen_versions (screen_id, version, author, time, reason, data) VALUES (?,?,?,?,?,?)",
-            (screen.id, version, author, t, reason, data),
-        )
-        self.conn.execute(
-            """INSERT INTO screens (id, name, version, created, updated, data) VALUES (?,?,?,?,?,?)
-               ON CONFLICT(id) DO UPDATE SET name=excluded.name, version=excluded.version, updated=excluded.updated, data=excluded.data""",
-            (screen.id, screen.name, version, t, t, data),
-        )
+        prev = None
+        if version > 1:
+            prev = self.conn.execute("SELECT hash FROM screen_versions WHERE screen_id = ? AND version = ?",
+                                     (screen.id, version - 1)).fetchone()[0]
+        h = chain.screen_hash(screen.id, version, author, t, reason, prev, data)
+        self.db["screen_versions"].insert({"screen_id": screen.id, "version": version, "author": author, "time": t,
+                                           "reason": reason, "data": data, "prev_hash": prev, "hash": h})
+        chain.append_save(self.conn, "screen", screen.id, version, h)
+        row = {"name": screen.name, "version": version, "updated": t, "data": data}
+        if version == 1:
+            self.db["screens"].insert({"id": screen.id, **row, "created": t})
+        else:
+            self.db["screens"].update(screen.id, row)
 
     def get_screen(self, key: str) -> Screen:
         row = self.conn.execute("SELECT data FROM screens WHERE id = ? OR name = ? ORDER BY id LIMIT 1", (key, key)).fetchone()
@@ -395,26 +393,62 @@ class Notebook:
         row = self.conn.execute("SELECT value FROM settings WHERE key = ?", (key,)).fetchone()
         return json.loads(row[0]) if row else default
 
-    def set_setting(self, key: str, value: Any) -> None:
+    def set_setting(self, key: str, value: Any, author: str | None = None, reason: str = "settings changed") -> None:
+        """Store a setting as a new version (author, time, reason), logged like any save.
+
+        Editor drafts (`draft:...`) are scratch space and are only kept, not versioned.
+        Setting the value it already has adds no version.
+        """
+        stored = chain.stored_value(value)
         with self.transaction():
-            self.conn.execute(
-                "INSERT INTO settings (key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET value = excluded.value",
-                (key, json.dumps(value)),
-            )
+            if not chain.is_private_setting(key):
+                last = self.conn.execute("SELECT version, hash, value FROM setting_versions WHERE key = ? "
+                                         "ORDER BY version DESC LIMIT 1", (key,)).fetchone()
+                if last is not None and last[2] == stored:
+                    return
+                version, prev = (last[0] + 1, last[1]) if last else (1, None)
+                who, why, t = default_author(self, author), reason.strip() or "settings changed", now_utc()
+                h = chain.setting_hash(key, version, who, t, why, prev, stored)
+                self.db["setting_versions"].insert({"key": key, "version": version, "value": stored, "author": who,
+                                                    "time": t, "reason": why, "prev_hash": prev, "hash": h})
+                chain.append_save(self.conn, "setting", key, version, h)
+            self.db["settings"].upsert({"key": key, "value": stored}, pk="key")
+
+    def setting_history(self, key: str) -> list[dict]:
+        """Every version of a setting: value, author, time and reason, oldest first."""
+        rows = self.conn.execute("SELECT version, value, author, time, reason FROM setting_versions WHERE key = ? ORDER BY version",
+                                 (key,)).fetchall()
+        return [{"version": v, "value": json.loads(val), "author": a, "time": t, "reason": r} for v, val, a, t, r in rows]
+
+    def set_check_settings(self, values: dict, author: str | None = None, reason: str = "settings changed") -> None:
+        """New check thresholds and every run's findings judged by them, in one transaction."""
+        from ..settings import CHECKS_KEY
+
+        with self.transaction():
+            self.set_setting(CHECKS_KEY, values, author=author, reason=reason)
+            run_index.refresh_summaries(self)
 
     def cache_get(self, key: str) -> dict | None:
-        row = self.conn.execute("SELECT result FROM strain_cache WHERE key = ?", (key,)).fetchone()
-        return json.loads(row[0]) if row else None
+        """A cached result, or None; an entry whose content no longer matches its hash is a miss."""
+        if not self._cache_is_hashed():
+            return None  # a notebook not yet upgraded (read-only here): its entries cannot be checked, so none is served
+        row = self.conn.execute("SELECT smiles, tier, engine, result, content_sha256 FROM strain_cache WHERE key = ?",
+                                (key,)).fetchone()
+        if row is None or row[4] != chain.cache_hash(key, row[0], row[1], row[2], row[3]):
+            return None
+        return json.loads(row[3])
+
+    def _cache_is_hashed(self) -> bool:
+        if self._hashed_cache is None:
+            self._hashed_cache = "content_sha256" in self.db["strain_cache"].columns_dict
+        return self._hashed_cache
 
     def cache_put(self, key: str, smiles: str, tier: str, engine: str, result: dict) -> None:
+        text = json.dumps(result)
         with self.transaction():
-            self.conn.execute(
-                "INSERT OR REPLACE INTO strain_cache (key, smiles, tier, engine, created, result) VALUES (?,?,?,?,?,?)",
-                (key, smiles, tier, engine, now_utc(), json.dumps(result)),
-            )
-
-    def cached_strain_for(self, smiles: str) -> list[dict]:
-        return [json.loads(r[0]) for r in self.conn.execute("SELECT result FROM strain_cache WHERE smiles = ?", (smiles,))]
+            self.db["strain_cache"].upsert({"key": key, "smiles": smiles, "tier": tier, "engine": engine, "created": now_utc(),
+                                            "result": text, "content_sha256": chain.cache_hash(key, smiles, tier, engine, text)},
+                                           pk="key")
 
     def reindex(self, run_ids: Iterable[str] | None = None) -> int:
         """Rebuild the summary rows (e.g. after strain results arrive, which change the checks)."""
@@ -434,98 +468,23 @@ class Notebook:
                 results.append(self.add_run(run, author=author, reason=reason, keep_id=keep))
         return results
 
+    def import_history(self, run_id: str, versions: list[dict]) -> SaveResult:
+        """Store a run with every version it had elsewhere, authors, times and reasons as given.
 
-def diff_runs(old: dict, new: dict, prefix: str = "") -> list[str]:
-    """What changed between two stored versions, in words a chemist reads ("lines[furan].equiv: 5 → 10")."""
-    changes: list[str] = []
-    _diff(old, new, prefix, changes)
-    return changes or ["no field changed"]
+        The chain is checked first (store/history_import.py); all versions are then written
+        in one BEGIN IMMEDIATE transaction, all or nothing. If `run_id` is taken here, the run
+        gets the next free id and its history is re-keyed (SaveResult.run_id says which).
+        """
+        from . import history_import
 
-
-def _show(v: Any) -> str:
-    if isinstance(v, dict) and set(v) <= {"value", "unit"} and "value" in v:
-        return f"{v['value']:g} {v.get('unit', '')}".strip()
-    s = json.dumps(v, ensure_ascii=False)
-    return s if len(s) <= 60 else s[:57] + "..."
-
-
-def _is_quantity(v: Any) -> bool:
-    return isinstance(v, dict) and set(v) <= {"value", "unit"} and "value" in v
-
-
-def _added(v: Any, path: str, out: list[str]) -> None:
-    """A new field said leaf by leaf ("outcome.products[adduct].isolated_mass: added 21 mg"), not as JSON."""
-    if isinstance(v, dict) and v and not _is_quantity(v):
-        for k in v:
-            _added(v[k], f"{path}.{k}", out)
-    elif isinstance(v, list) and v and all(isinstance(x, dict) for x in v):
-        for i, x in enumerate(v, 1):
-            label = x.get("product") or x.get("name") or i
-            _added(x, f"{path}[{label}]", out)
-    else:
-        out.append(f"{path}: added {_show(v)}")
+        checked = history_import.checked_history(run_id, versions)
+        with self.transaction():
+            taken = self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run_id,)).fetchone()
+            new_id = self._next_id("run", "TB-") if taken else run_id
+            if new_id != run_id:
+                checked = history_import.rekeyed(checked, new_id)
+            return history_import.write_history(self, new_id, checked)
 
 
-def _diff(old: Any, new: Any, path: str, out: list[str]) -> None:
-    if old == new:
-        return
-    if isinstance(old, dict) and isinstance(new, dict) and not (set(old) <= {"value", "unit"} and "value" in old):
-        for k in sorted(set(old) | set(new), key=str):
-            p = f"{path}.{k}" if path else str(k)
-            if k not in old:
-                _added(new[k], p, out)
-            elif k not in new:
-                out.append(f"{p}: removed (was {_show(old[k])})")
-            else:
-                _diff(old[k], new[k], p, out)
-        return
-    key = _list_key(old, new)
-    if key is not None:
-        on = {x[key]: x for x in old}
-        nn = {x[key]: x for x in new}
-        for name in list(on) + [n for n in nn if n not in on]:
-            p = f"{path}[{name}]"
-            if name not in nn:
-                out.append(f"{p}: removed")
-            elif name not in on:
-                out.append(f"{p}: added")
-            else:
-                _diff(on[name], nn[name], p, out)
-        return
-    if isinstance(old, list) and isinstance(new, list) and len(old) == len(new) and all(isinstance(x, dict) for x in old + new):
-        # Steps (and anything else without a name) are compared in order: "steps[2].hold: 1 h → 2 h".
-        for i, (a, b) in enumerate(zip(old, new), 1):
-            _diff(a, b, f"{path}[{i}]", out)
-        return
-    out.append(f"{path}: {_show(old)} → {_show(new)}")
 
-
-def _list_key(old: Any, new: Any) -> str | None:
-    """The field that names each item of a list (lines by name, products by product), if every item has it once."""
-    if not (isinstance(old, list) and isinstance(new, list)):
-        return None
-    items = old + new
-    for key in ("name", "product"):
-        if items and all(isinstance(x, dict) and key in x for x in items) \
-                and len({x[key] for x in old}) == len(old) and len({x[key] for x in new}) == len(new):
-            return key
-    return None
-
-
-def _access_error(path: Path, exc: sqlite3.Error) -> StoreError | None:
-    """A plain-words StoreError when SQLite failed because the file or its folder is read-only for this user."""
-    text = str(exc).lower()
-    if "readonly" not in text and "read-only" not in text and "unable to open" not in text:
-        return None
-    path = Path(path)
-    folder = path.parent
-    if path.exists() and not os.access(path, os.W_OK):
-        what = f"{path} is read-only for you"
-    elif not os.access(folder, os.W_OK):
-        what = f"the folder {folder} is read-only for you (SQLite keeps its journal files beside the notebook)"
-    else:
-        what = f"{path} cannot be written ({exc})"
-    return StoreError(
-        f"cannot use the notebook: {what}; nothing was changed",
-        "ask for write access, or copy the notebook (with any -wal file beside it) to a folder of yours and point --db at the copy",
-    )
+__all__ = ["Notebook", "SaveResult", "VersionInfo", "default_author", "default_path", "diff_runs", "version_hash"]

@@ -15,6 +15,7 @@ from textual.app import App
 from textual.binding import Binding
 
 from ..errors import TrapbookError
+from ..text_safety import printable
 
 
 class TrapbookApp(App):
@@ -27,15 +28,16 @@ class TrapbookApp(App):
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
     BINDINGS = [
         Binding("f1", "keys", "Keys"),
+        Binding("f9", "whoami", "Your name on saves", show=False),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
     def __init__(self, path: str | Path, author: str | None = None, warm: bool = True):
         super().__init__()
-        from ..store.notebook import default_author
-
         self.path = Path(path).expanduser()
-        self.author = author or default_author()
+        #: --author for this session; otherwise the notebook's "you are" name (f9) is used.
+        self.given_author = author
+        self.name_asked = False
         self.warm = warm
         self.nb = None
         self.started = time.perf_counter()
@@ -48,11 +50,16 @@ class TrapbookApp(App):
         from .screens.runs import LogbookScreen
 
         try:
-            self.nb = Notebook.open(self.path, create=True)
+            self.nb = Notebook.open(self.path)  # only `trapbook init` creates a notebook
         except TrapbookError as exc:
             self.exit(message=f"error: {exc.message}\n  what to do: {exc.hint or ''}")
             return
         self.sub_title = self.path.name
+        try:
+            self.author_and_source()  # a bad --author is said now, not at the first save
+        except TrapbookError as exc:
+            self.exit(message=f"error: {printable(exc.message)}\n  what to do: {printable(exc.hint or '')}")
+            return
         self.push_screen(LogbookScreen())
         self.ready_seconds = time.perf_counter() - self.started
         if self.warm:
@@ -62,12 +69,60 @@ class TrapbookApp(App):
     def warm_up(self) -> None:
         """Import the RDKit-backed core off the UI thread, before the user needs it."""
         from .. import amounts  # noqa: F401
+        from .. import checks  # noqa: F401
         from .. import strain_link  # noqa: F401
 
+    # --- who saves ---------------------------------------------------------------
+    def author_and_source(self) -> tuple[str, str]:
+        """(name, 'given' | 'notebook' | 'login'): the same rule as every CLI save."""
+        from ..settings import author_for
+        from ..store.notebook import login_name
+
+        if self.nb is None:
+            return (self.given_author, "given") if self.given_author else (login_name(), "login")
+        return author_for(self.nb, self.given_author)
+
+    @property
+    def author(self) -> str:
+        """The name recorded on the versions saved in this session."""
+        return self.author_and_source()[0]
+
+    @property
+    def chosen_author(self) -> str | None:
+        """A name someone chose (--author or the notebook's); None when only the login name is known."""
+        name, source = self.author_and_source()
+        return None if source == "login" else name
+
+    def action_whoami(self) -> None:
+        from .screens.name_dialog import NameDialog
+
+        self.push_screen(NameDialog(self.chosen_author), self._name_chosen)
+
+    def ask_name_then(self, suggestion: str | None, proceed) -> bool:
+        """Before the first save in a notebook without a name, ask for one; True if asked.
+
+        `proceed` runs after the answer (a name is stored first; Esc saves under the login
+        name and is not asked again in this session).
+        """
+        if self.chosen_author is not None or self.name_asked:
+            return False
+        from .screens.name_dialog import NameDialog
+
+        self.name_asked = True
+        self.push_screen(NameDialog(None, suggestion, first_save=True), lambda name: (self._name_chosen(name), proceed()))
+        return True
+
+    def _name_chosen(self, name: str | None) -> None:
+        from ..settings import set_notebook_author
+
+        if not name:
+            return
         try:
-            from .. import checks  # noqa: F401
-        except ImportError:
-            pass
+            set_notebook_author(self.nb, name, author=self.given_author)
+        except TrapbookError as exc:
+            self.report(exc, "Name not kept")
+            return
+        self.notify(f"Saves in this notebook are recorded as {printable(name)}.", title="Your name", markup=False)
 
     def action_keys(self) -> None:
         from .screens.keys import KeysScreen
@@ -77,8 +132,8 @@ class TrapbookApp(App):
 
     def report(self, exc: TrapbookError, title: str = "Not done") -> None:
         """Show a core error in words, with what to do, instead of a traceback."""
-        text = exc.message + (f"\nwhat to do: {exc.hint}" if exc.hint else "")
-        self.notify(text, title=title, severity="error", timeout=8)
+        text = printable(exc.message) + (f"\nwhat to do: {printable(exc.hint)}" if exc.hint else "")
+        self.notify(text, title=title, severity="error", timeout=8, markup=False)
 
     def on_unmount(self) -> None:
         if self.nb is not None:

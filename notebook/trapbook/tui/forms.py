@@ -30,11 +30,12 @@ def which_amount(text: str) -> tuple[str, object]:
         try:
             q = parse_quantity(text, kind)
             if q.magnitude <= 0:
-                raise TrapbookError(f"'{text}' must be greater than zero", "give a positive amount")
+                raise TrapbookError(f"'{text}' must be greater than zero", "give a positive amount",
+                                    field=kind, got=text, expected="greater than zero")
             return kind, q
         except TrapbookError as exc:
             last = exc
-            if "greater than zero" in exc.message:
+            if exc.field == kind:  # read as this kind, but the value is wrong: no other kind fits
                 raise
     raise TrapbookError(f"'{text}' is not an amount", "write e.g. '10 equiv', '0.200 mmol', '25 mg' or '143 µL'") from last
 

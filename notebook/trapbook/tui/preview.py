@@ -8,18 +8,7 @@ from rich.text import Text
 
 from ..errors import TrapbookError
 from ..units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
-from .text import clip
-
-
-def run_findings(nb, run):
-    """Bench checks of a run with the notebook's settings and cached strain; None if unavailable."""
-    try:
-        from .. import checks
-    except ImportError:
-        return None
-    from ..strain_link import settings_for, strain_for_run
-
-    return checks.run_checks(run, strain=strain_for_run(nb, run), settings=settings_for(nb))
+from .text import clip, shown
 
 
 def amounts_table(table) -> Table:
@@ -42,9 +31,9 @@ def preview(nb, run_id: str):
     run = nb.get_run(run_id)
     meta = nb.run_meta(run_id)
     head = Text()
-    head.append(f"{run.id}  ", style="bold #7fb7be")
-    head.append(run.title, style="bold")
-    head.append(f"   v{meta['version']} · {run.status}" + (f" · screen {run.screen}" if run.screen else ""), style="#8fa3b8")
+    head.append(f"{shown(run.id)}  ", style="bold #7fb7be")
+    head.append(shown(run.title), style="bold")
+    head.append(f"   v{meta['version']} · {run.status}" + (f" · screen {shown(run.screen)}" if run.screen else ""), style="#8fa3b8")
     if nb.get_setting(f"draft:{run_id}"):
         head.append("  ✎ unsaved draft", style="#f2c14e")
     parts = [head]
@@ -53,22 +42,27 @@ def preview(nb, run_id: str):
         parts.append(amounts_table(table))
         yields = amounts.product_yields(run, table)
     except TrapbookError as exc:
-        parts.append(Text(f"amounts: {exc.message}", style="italic #f2c14e"))
+        parts.append(Text(f"amounts: {shown(exc.message)}", style="italic #f2c14e"))
         yields = []
+    from ..findings import findings_for
+
+    checks_problem = None
     try:
-        findings = run_findings(nb, run)
-    except TrapbookError:
-        findings = None
+        findings = findings_for(nb, run)
+    except TrapbookError as exc:  # shown as a problem in the panel, never as a clean run
+        findings, checks_problem = None, exc.message
     grid = Table.grid(padding=(0, 3))
     grid.add_column()
     grid.add_column()
     out = Text()
     for y in yields:
-        out.append(f"{y.product}: ", style="bold")
+        out.append(f"{shown(y.product)}: ", style="bold")
         from ..phrases import yield_phrases
 
         out.append(", ".join(yield_phrases(y)) or "no yield recorded")
         out.append("\n")
+    if checks_problem:
+        out.append(f"checks could not run: {shown(checks_problem)}", style="italic #ff6f59")
     if findings:
         from .text import SEVERITY_MARK, SEVERITY_STYLE
 

@@ -19,10 +19,7 @@ def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
     """(strain, alignment, note): the best strain result reached and the alignment, if any."""
     import importlib
 
-    try:  # the engine's heavy parts: present, or say so plainly before opening anything
-        importlib.import_module("..chemistry.strain", __package__)
-    except ImportError:
-        raise TrapbookError("the strain engine is not available in this installation", "install Trapbook with its chemistry extras")
+    importlib.import_module("..chemistry.strain", __package__)  # the engine's heavy parts, before opening anything
     from ..store import Notebook
     from ..strain_link import get_alignment, get_strain
 

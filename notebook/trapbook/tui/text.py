@@ -8,15 +8,28 @@ from __future__ import annotations
 
 from typing import Any
 
+from rich.markup import escape
+
+from ..text_safety import printable
+
 #: How a severity is marked in tables and the checks panel (our own marks).
 SEVERITY_MARK = {"stop": "✖", "warn": "▲", "note": "·"}
 SEVERITY_STYLE = {"stop": "bold #ff6f59", "warn": "#f2c14e", "note": "#8fa3b8"}
 
 
 def clip(text: Any, width: int) -> str:
-    """Cut a cell to `width` characters with an ellipsis, so columns stay aligned."""
-    s = "" if text is None else str(text)
-    return s if len(s) <= width else s[: max(width - 1, 0)] + "…"
+    """Stored text as a cell: control characters made visible (text_safety.printable), cut to
+    `width` with an ellipsis so columns stay aligned, and escaped for Rich markup, so a
+    name holding '[bold]' or '[link=…]' is shown as written. For DataTable cells, Labels
+    and Rich tables, which read a plain str as markup."""
+    s = printable(text)
+    s = s if len(s) <= width else s[: max(width - 1, 0)] + "…"
+    return escape(s)
+
+
+def shown(text: Any, multiline: bool = False) -> str:
+    """Stored text for Text.append (which reads no markup): control characters made visible."""
+    return printable(text, multiline=multiline)
 
 
 def qtext(value: Any) -> str:

@@ -178,9 +178,11 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             self.data = form_data(self.nb.get_run(self.run_id).to_json_dict())
         elif self.copy_of:
             self.data = form_data(plan_from(self.nb.get_run(self.copy_of).to_json_dict()))
-            self.data["chemist"] = self.app.author  # the plan is the new run of whoever copies it
+            # The plan is the new run of whoever copies it, if they said who they are; a login
+            # name ("root") never replaces the chemist the run's author chose.
+            self.data["chemist"] = self.app.chosen_author or self.data.get("chemist")
         else:
-            self.data = {"title": "", "chemist": self.app.author, "date": _dt.date.today().isoformat(),
+            self.data = {"title": "", "chemist": self.app.chosen_author or "", "date": _dt.date.today().isoformat(),
                          "status": "planned", "lines": [], "steps": []}
         self.original = json.dumps(self.data, sort_keys=True)
         draft = self.nb.get_setting(self.draft_key) if not self.copy_of else None
@@ -324,6 +326,9 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         return None
 
     def action_save(self) -> None:
+        chemist = str(self.data.get("chemist") or "").strip() or None
+        if self.app.ask_name_then(chemist, self.action_save):  # the first save names who saves
+            return
         pending = self.keep_pending()
         if pending:
             self.notify(pending, title="Not saved", severity="error", timeout=8)

@@ -9,7 +9,7 @@ from textual.binding import Binding
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Static
 
-from ..text import clip
+from ..text import clip, shown
 
 
 class TrailScreen(Screen):
@@ -33,7 +33,7 @@ class TrailScreen(Screen):
         meta = nb.run_meta(self.run_id)
         title = Text()
         title.append(f" {self.run_id} ", style="bold #101418 on #7fb7be")
-        title.append(f"  {meta['title']}", style="bold")
+        title.append(f"  {shown(meta['title'])}", style="bold")
         title.append(f"   {len(self.versions)} version(s)" + (" · withdrawn" if meta["withdrawn"] else ""), style="#8fa3b8")
         self.query_one("#trail-title", Static).update(title)
         t = self.query_one("#trail", DataTable)
@@ -55,8 +55,8 @@ class TrailScreen(Screen):
             return
         v = self.versions[max(0, min(index, len(self.versions) - 1))]
         out = Text()
-        out.append(f"Version {v.version}: {v.reason}\n", style="bold")
+        out.append(f"Version {v.version}: {shown(v.reason)}\n", style="bold")
         out.append(f"previous hash {v.prev_hash[:12] if v.prev_hash else '— (first version)'} → {v.hash[:12]}\n\n", style="#8fa3b8")
         for c in v.changes:
-            out.append("  • " + c + "\n")
+            out.append("  • " + shown(c) + "\n")
         self.query_one("#trail-changes", Static).update(out)

@@ -46,6 +46,7 @@ def key_table() -> Group:
     from .history import TrailScreen
     from .review import BoardScreen
     from .runs import LogbookScreen
+    from ...search_query import help_rows as filter_help_rows
 
     screens = [("Everywhere", TrapbookApp), ("Logbook (runs)", LogbookScreen), ("Workbench (run editor)", WorkbenchScreen),
                ("Screen board (review)", BoardScreen), ("Version trail (history)", TrailScreen),
@@ -70,6 +71,7 @@ def key_table() -> Group:
             rows.append((_key_text(b), LONGER.get(b.description, b.description or b.action)))
         section(title, rows)
     section("In forms and tables", FORM_KEYS)
+    section("Logbook filter (/): the query of trapbook search; every part must hold", filter_help_rows())
     return Group(*parts[:-1])
 
 

@@ -17,6 +17,7 @@ from textual.screen import Screen
 from textual.widgets import Footer, Header, ProgressBar, Static
 
 from ...errors import TrapbookError
+from ..text import shown
 from ..widgets.heatgrid import grid
 
 
@@ -46,7 +47,7 @@ def best_text(review: dict) -> Text:
         out.append("\n\nFailed or empty runs:\n", style="bold #ff6f59")
         for f in failed:
             why = "; ".join(x["code"] for x in f["findings"]) or "no finding explains it"
-            out.append(f"  {f['run_id']} {f['title']}: {why}\n")
+            out.append(f"  {shown(f['run_id'])} {shown(f['title'])}: {why}\n")
     if review.get("not_done"):
         out.append(f"\nNot done yet: {', '.join(review['not_done'])}", style="italic")
     return out
@@ -99,11 +100,8 @@ class BoardScreen(Screen):
             title.update(Text("No screens in this notebook yet (plan one with 'trapbook screen plan').", style="italic"))
             self.show_plot()
             return
-        try:
-            from ... import review
-        except ImportError:
-            title.update(Text("Screen review is not available in this installation.", style="italic"))
-            return
+        from ... import review
+
         sid = self.ids[self.index]
         try:
             self.review = review.review_screen(self.app.nb, sid)
@@ -113,10 +111,10 @@ class BoardScreen(Screen):
         r = self.review
         head = Text()
         head.append(f" {r['screen_id']} ", style="bold #101418 on #7fb7be")
-        head.append(f"  {r['name']}", style="bold")
+        head.append(f"  {shown(r['name'])}", style="bold")
         head.append(f"   screen {self.index + 1} of {len(self.ids)}", style="#8fa3b8")
         if r.get("description"):
-            head.append(f"\n {r['description']}", style="italic")
+            head.append(f"\n {shown(r['description'], multiline=True)}", style="italic")
         title.update(head)
         best = (r.get("best") or {}).get("run_id")
         self.query_one("#heat", Static).update(Group(grid(r.get("matrix"), best),

@@ -1,10 +1,11 @@
 """Logbook: every run in the notebook, sortable and filterable, with a preview.
 
-The filter box reads plain words (matched against title, id, chemist, intermediate, trap,
-fluoride source, solvent and worst finding) and a few prefixes: `trap:furan`,
-`chemist:iyer`, `finding:trap-late` and `sub:SMILES-or-SMARTS`. A structure query is
-passed to the core's search in a worker, with its own notebook connection, so typing
-never waits for RDKit.
+The filter box reads the query language of `trapbook search` (search_query.py: `trap:furan`,
+`temp:>100`, `sub:c1cc[nH]c1`, plain words for the full text, ...). The screen only parses
+the text and shows the runs the core's search returns; it never matches rows itself, so
+the filter and the CLI give the same runs. The search runs in a worker, with its own
+notebook connection, so typing never waits for RDKit; a text that cannot be read is said
+in the status line (with the keys there are) and filters nothing.
 """
 
 from __future__ import annotations
@@ -18,7 +19,9 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Header, Input, Static
 
 from ...errors import TrapbookError
+from ...search_query import Query, parse_query
 from ..text import clip, minutes_text, temp_text, worst_text, yield_text
+from ..text import shown as stored_text
 
 #: (row key, header, width) of the run table.
 COLUMNS = (
@@ -38,33 +41,6 @@ WIDTH = {key: width - 1 for key, _, width in COLUMNS}
 #: Rows put into the table at a time: a terminal table pays for every row it holds, so a
 #: notebook of 10 000 runs shows the first page and adds the next as the cursor nears the end.
 PAGE = 300
-TEXT_KEYS = ("id", "title", "chemist", "intermediate", "trap", "fluoride", "solvent", "worst", "screen")
-PREFIXES = {"trap": ("trap",), "chemist": ("chemist",), "finding": ("worst",), "fluoride": ("fluoride",),
-            "solvent": ("solvent",), "screen": ("screen",)}
-
-
-def parse_filter(text: str) -> tuple[list[tuple[tuple[str, ...], str]], str | None]:
-    """Filter text -> ([(columns, needle)], substructure query or None)."""
-    terms: list[tuple[tuple[str, ...], str]] = []
-    sub = None
-    for word in text.split():
-        key, sep, rest = word.partition(":")
-        if sep and key.lower() in ("sub", "s") and rest:
-            sub = rest
-        elif sep and key.lower() in PREFIXES and rest:
-            terms.append((PREFIXES[key.lower()], rest.casefold()))
-        else:
-            terms.append((TEXT_KEYS, word.casefold()))
-    return terms, sub
-
-
-def row_matches(row: dict, terms) -> bool:
-    for cols, needle in terms:
-        if not any(needle in str(row.get(c) or "").casefold() for c in cols):
-            return False
-    return True
-
-
 def _sort_value(row: dict, key: str):
     v = row.get(key)
     return (v is None, v if not isinstance(v, str) else v.casefold())
@@ -75,9 +51,9 @@ def cells(row: dict) -> tuple:
     w = WIDTH
     inter = (row.get("intermediate") or "").replace("bicyclo", "")
     return (
-        row["id"],
+        clip(row["id"], 40),
         clip(row.get("title"), w["title"]),
-        row.get("date") or "",
+        clip(row.get("date"), 10),
         clip(row.get("chemist"), w["chemist"]),
         clip(inter, w["intermediate"]),
         clip(row.get("trap"), w["trap"]),
@@ -112,9 +88,14 @@ class LogbookScreen(Screen):
         self.shown: list[dict] = []
         self.sort_index = 0
         self.sort_reverse = False
-        self.sub_ids: set[str] | None = None
-        self.sub_query: str | None = None
-        self.sub_error: str | None = None
+        #: The filter text being answered (None: ask again, the rows may have changed).
+        self.filter_text: str | None = None
+        self.filter_query: Query | None = None
+        #: The runs of the last answer, and the text it answers (kept on screen while a new one is found).
+        self.found_ids: set[str] | None = None
+        self.answered: str | None = None
+        #: Why the filter text filters nothing: it cannot be read, or the search refused it.
+        self.filter_error: TrapbookError | None = None
         self.limit = PAGE
 
     def compose(self) -> ComposeResult:
@@ -149,23 +130,15 @@ class LogbookScreen(Screen):
 
     def reload(self, select: str | None = None) -> None:
         self.rows = self.nb.list_runs()
+        self.filter_text = None  # runs may have changed since the last answer
         self.apply(select=select)
 
     def apply(self, select: str | None = None) -> None:
         """Filter and sort `rows` into the table, keeping the cursor on the same run (or on `select`)."""
-        text = self.query_one("#filter", Input).value
-        terms, sub = parse_filter(text)
-        shown = [r for r in self.rows if row_matches(r, terms)]
-        if sub:
-            if sub != self.sub_query:
-                self.sub_ids = None
-                self.sub_query = sub
-                self.sub_error = None
-                self.run_substructure(sub)
-            if self.sub_ids is not None:
-                shown = [r for r in shown if r["id"] in self.sub_ids]
-        else:
-            self.sub_query, self.sub_ids, self.sub_error = None, None, None
+        text = self.query_one("#filter", Input).value.strip()
+        if text != self.filter_text:
+            self.start_filter(text)
+        shown = self.filtered_rows()
         key = COLUMNS[self.sort_index][0]
         shown.sort(key=lambda r: _sort_value(r, key), reverse=self.sort_reverse)
         self.shown = shown
@@ -195,44 +168,66 @@ class LogbookScreen(Screen):
             table.add_row(*cells(r), key=r["id"])
         self.show_status()
 
+    def start_filter(self, text: str) -> None:
+        """Read the filter text into a Query and ask the core for its runs (in a worker)."""
+        self.filter_text, self.filter_query, self.filter_error = text, None, None
+        if not text:
+            self.found_ids, self.answered = None, ""
+            return
+        try:
+            self.filter_query = parse_query(text)
+        except TrapbookError as exc:
+            self.filter_error = exc
+            return
+        self.run_filter(text, self.filter_query)
+
+    def filtered_rows(self) -> list[dict]:
+        """The rows of the runs the core's answer names; every row when there is no answer to show."""
+        if not self.filter_text or self.filter_error is not None or self.found_ids is None:
+            return list(self.rows)
+        return [r for r in self.rows if r["id"] in self.found_ids]
+
     def show_status(self) -> None:
+        """Counts and sort order; what the filter is doing; an unreadable filter in words (no markup)."""
         status = self.query_one("#filter-status", Static)
         arrow = "▼" if self.sort_reverse else "▲"
-        msg = f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}"
+        msg = Text()
+        if self.filter_error is not None:
+            exc = self.filter_error
+            msg.append(f"filter not applied: {stored_text(exc.message)}", style="bold #f2c14e")
+            msg.append(f" · {stored_text(exc.hint)}" if exc.hint else "")
+            msg.append(" · ")
+        msg.append(f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}")
         if len(self.shown) > self.limit:
-            msg += f" · first {self.limit} listed, more as you scroll (m)"
-        if self.sub_query:
-            if self.sub_error:
-                msg += f" · structure query: {self.sub_error}"
-            elif self.sub_ids is None:
-                msg += f" · searching structures for {self.sub_query} …"
-            else:
-                msg += f" · {len(self.sub_ids)} runs contain {self.sub_query}"
+            msg.append(f" · first {self.limit} listed, more as you scroll (m)")
+        if self.filter_error is None and self.filter_text and self.answered != self.filter_text:
+            msg.append(f" · searching for {stored_text(self.filter_text)} …")
+        elif self.filter_error is None and self.filter_query is not None and self.filter_query.substructure:
+            msg.append(f" · structures searched for {stored_text(self.filter_query.substructure)}")
         status.update(msg)
 
-    @work(thread=True, exclusive=True, group="substructure", exit_on_error=False)
-    def run_substructure(self, query: str) -> None:
-        """Structure search through the core, on a connection of its own."""
+    @work(thread=True, exclusive=True, group="filter", exit_on_error=False)
+    def run_filter(self, text: str, query: Query) -> None:
+        """The core's search, on a connection of its own; the answer (or the refusal) goes back to the screen."""
+        from ... import search
         from ...store import Notebook
 
         try:
-            from ... import search
-        except ImportError:
-            self.app.call_from_thread(self._sub_done, query, None, "structure search not available in this installation")
-            return
-        try:
             with Notebook.open(self.nb.path) as nb:
-                hits = search.search(nb, substructure=query)
-            ids = {h.run_id for h in hits}
-            self.app.call_from_thread(self._sub_done, query, ids, None)
+                ids = {h.run_id for h in search.search(nb, query)}
         except TrapbookError as exc:
-            self.app.call_from_thread(self._sub_done, query, set(), exc.message)
-
-    def _sub_done(self, query: str, ids: set[str] | None, error: str | None) -> None:
-        if query != self.sub_query:
+            self.app.call_from_thread(self._filter_done, text, None, exc)
             return
-        self.sub_ids = ids if ids is not None else set()
-        self.sub_error = error
+        except Exception as exc:  # shown in the status line as the failure it is, never as "no runs"
+            failure = TrapbookError(f"the search failed ({type(exc).__name__}: {exc})", "please report it")
+            self.app.call_from_thread(self._filter_done, text, None, failure)
+            return
+        self.app.call_from_thread(self._filter_done, text, ids, None)
+
+    def _filter_done(self, text: str, ids: set[str] | None, error: TrapbookError | None) -> None:
+        if text != self.filter_text:
+            return  # the text changed meanwhile; its own answer is on the way
+        self.found_ids, self.answered, self.filter_error = ids, text, error
         self.apply()
 
     # --- preview ----------------------------------------------------------------

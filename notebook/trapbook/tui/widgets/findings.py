@@ -5,13 +5,13 @@ from __future__ import annotations
 from rich.text import Text
 from textual.widgets import Static
 
-from ..text import SEVERITY_MARK, SEVERITY_STYLE
+from ..text import SEVERITY_MARK, SEVERITY_STYLE, shown
 
 
 def findings_text(findings: list | None, problem: str | None = None) -> Text:
     out = Text()
     if problem:
-        out.append(problem + "\n", style="italic #f2c14e")
+        out.append(shown(problem) + "\n", style="italic #f2c14e")
     if findings is None:
         out.append("checks not available in this installation", style="italic #8fa3b8")
         return out
@@ -24,15 +24,15 @@ def findings_text(findings: list | None, problem: str | None = None) -> Text:
         out.append(f.code, style=f"bold {style}")
         where = []
         if f.lines:
-            where.append(", ".join(f.lines))
+            where.append(shown(", ".join(f.lines)))
         if f.steps:
             where.append("step " + ", ".join(map(str, f.steps)))
         if where:
             out.append(f"  [{'; '.join(where)}]", style="#8fa3b8")
-        out.append("\n  " + f.message + "\n")
+        out.append("\n  " + shown(f.message, multiline=True) + "\n")
         if f.caution:
             out.append("  caution: ", style="bold #ff9f1c")
-            out.append(f.caution + "\n", style="italic")
+            out.append(shown(f.caution, multiline=True) + "\n", style="italic")
     return out
 
 

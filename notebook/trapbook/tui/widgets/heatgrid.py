@@ -10,6 +10,8 @@ from __future__ import annotations
 from rich.table import Table
 from rich.text import Text
 
+from ..text import clip, shown
+
 LOW = (0x1d, 0x2b, 0x36)
 HIGH = (0xf0, 0xa8, 0x3c)
 
@@ -31,9 +33,9 @@ def grid(matrix: dict | None, best_run: str | None = None) -> Table | Text:
     corner = f"{matrix['rows']} ╲ {matrix['columns']}" if matrix.get("columns") else matrix["rows"]
     t.add_column(corner, style="bold #7fb7be", max_width=12)
     for c in cols:
-        t.add_column(str(c) or "yield", justify="center", min_width=12, max_width=14)
+        t.add_column(clip(c, 40) or "yield", justify="center", min_width=12, max_width=14)
     for level, line in zip(matrix["row_levels"], matrix["cells"]):
-        row = [Text(str(level))]
+        row = [Text(shown(level))]
         for cell in line:
             y = cell.get("yield_pct")
             runs = cell.get("runs") or []

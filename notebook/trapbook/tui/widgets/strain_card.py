@@ -6,9 +6,8 @@ from rich.table import Table
 from rich.text import Text
 from textual.widgets import Static
 
-
-def _num(v, unit: str = "", digits: int = 1) -> str:
-    return "—" if v is None else f"{v:.{digits}f}{unit}"
+from ...display import fmt_fixed
+from ..text import shown
 
 
 def card(smiles: str | None, strain: dict | None, alignment: dict | None, note: str | None = None):
@@ -17,22 +16,22 @@ def card(smiles: str | None, strain: dict | None, alignment: dict | None, note: 
     t = Table.grid(padding=(0, 1))
     t.add_column(style="#8fa3b8", width=13)
     t.add_column()
-    t.add_row("intermediate", Text(smiles, overflow="fold"))
+    t.add_row("intermediate", Text(shown(smiles), overflow="fold"))
     if strain:
         rough = " (rough)" if strain.get("rough") else ""
         t.add_row("S value", str(strain.get("s_value") if strain.get("s_value") is not None else "—"))
-        t.add_row("OS", _num(strain.get("olefin_strain_kcal_mol"), " kcal/mol"))
+        t.add_row("OS", fmt_fixed(strain.get("olefin_strain_kcal_mol"), 1, " kcal/mol"))
         cls = strain.get("stability_class") or "—"
         t.add_row("class", Text(cls, style="bold #ff9f1c" if cls == "unstable" else "bold"))
-        t.add_row("twist τ", _num(strain.get("twist_deg"), "°"))
-        t.add_row("pyramid. χ", _num(strain.get("pyramidalization_deg"), "°"))
+        t.add_row("twist τ", fmt_fixed(strain.get("twist_deg"), 1, "°"))
+        t.add_row("pyramid. χ", fmt_fixed(strain.get("pyramidalization_deg"), 1, "°"))
         t.add_row("method", Text(f"{strain.get('method', '?')}{rough}", style="italic", overflow="fold"))
         if strain.get("message"):
             t.add_row("", Text(strain["message"], style="italic", overflow="fold"))
     else:
         t.add_row("strain", Text("not computed — ctrl+g computes it", style="italic"))
     if alignment:
-        t.add_row("Si–C–C–X", f"{_num(alignment.get('weighted_dihedral_deg'), '°')} (weighted)")
+        t.add_row("Si–C–C–X", f"{fmt_fixed(alignment.get('weighted_dihedral_deg'), 1, '°')} (weighted)")
         t.add_row("alignment", Text(str(alignment.get("verdict", "—")), overflow="fold"))
     if note:
         t.add_row("", Text(note, style="italic #f2c14e", overflow="fold"))

@@ -108,13 +108,10 @@ class LiveRunMixin:
             return None, f"{problem}; also {exc.message}", False
 
     def _findings(self):
-        try:
-            from .... import checks
-        except ImportError:
-            return None
-        from ....strain_link import settings_for
+        """The form's findings: the notebook's settings, with the strain and alignment the editor holds."""
+        from ....findings import findings_for
 
-        return checks.run_checks(self.run, strain=self.strain, alignment=self.alignment, settings=settings_for(self.nb))
+        return findings_for(self.nb, self.run, strain=self.strain, alignment=self.alignment)
 
     def refresh_status(self) -> None:
         where = f"{self.run_id} v{self.base_version}" if self.run_id else "new run (not yet in the notebook)"

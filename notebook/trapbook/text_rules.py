@@ -1,0 +1,107 @@
+"""What text a record may hold: plain single lines, bounded notes, and one rule for ids.
+
+Stored text is printed in terminals, tables, spreadsheets and file names. A control
+character in a title can move the cursor, write the clipboard (ESC ] 52) or fake a table
+row (a newline); a NUL breaks spreadsheet export; a direction override makes text read
+differently from what is stored; an id such as ``../../x`` walks out of an export folder.
+Such text is refused when a record is validated, with words that say which field and
+what to do, so nothing downstream has to guess.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Annotated
+
+from pydantic import AfterValidator, Field
+
+from .units import shown_input
+
+#: Longest single-line field (names, chemist, reasons, tags) and title. Common practice, no source.
+SINGLE_LINE_MAX = 200
+TITLE_MAX = 300
+#: Longest SMILES kept on a line (large natural products stay well below). Common practice, no source.
+SMILES_MAX = 2000
+#: Longest free-text note (about ten printed pages). Common practice, no source.
+NOTE_MAX = 20_000
+
+# C0 controls (tab, newline and carriage return are allowed in notes only), DEL, C1 controls,
+# the line and paragraph separators, and the bidirectional embeddings, overrides and isolates.
+_NOT_IN_NOTES = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
+_NOT_IN_A_LINE = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+
+_CHARACTER_NAMES = {0x00: "a NUL character", 0x09: "a tab", 0x0A: "a line break", 0x0D: "a carriage return",
+                    0x1B: "an escape character", 0x7F: "a delete character", 0x2028: "a line separator",
+                    0x2029: "a paragraph separator"}
+
+#: One rule for run and screen ids, whoever makes them (the notebook, a run file, every import):
+#: a letter or digit, then up to 63 letters, digits, '.', '_' or '-', and never '..'.
+RUN_ID = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]{0,63}")
+
+
+def _character(ch: str) -> str:
+    code = ord(ch)
+    name = _CHARACTER_NAMES.get(code)
+    if name is None:
+        name = "a direction override" if 0x202A <= code <= 0x202E or 0x2066 <= code <= 0x2069 else "a control character"
+    return f"{name} (U+{code:04X})"
+
+
+def check_line(text: str, limit: int = SINGLE_LINE_MAX) -> str:
+    """A single-line field: plain printable text of at most `limit` characters."""
+    bad = _NOT_IN_A_LINE.search(text)
+    if bad:
+        raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1} "
+                         f"('{shown_input(text, 40)}'); a single-line field takes plain text only: "
+                         "remove it (no control characters, line breaks or direction overrides)")
+    if len(text) > limit:
+        raise ValueError(f"is {len(text):,} characters long; at most {limit:,} are kept here: shorten it "
+                         "(longer text belongs in the notes)")
+    return text
+
+
+def check_note(text: str) -> str:
+    """A free-text note: line breaks and tabs are fine, other control characters and NUL are not."""
+    bad = _NOT_IN_NOTES.search(text)
+    if bad:
+        raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1}; "
+                         "notes take text, line breaks and tabs only: remove it")
+    if len(text) > NOTE_MAX:
+        raise ValueError(f"is {len(text):,} characters long; notes hold at most {NOTE_MAX:,}: "
+                         "shorten it, or attach the full text as a file")
+    return text
+
+
+def validate_run_id(text: str) -> str:
+    """The id rule for runs and screens (see RUN_ID); raises ValueError in plain words."""
+    if not isinstance(text, str):
+        raise ValueError(f"id {shown_input(text)} is not text")
+    if not RUN_ID.fullmatch(text) or ".." in text:
+        if len(text) > 64:
+            why = f"is {len(text):,} characters long (at most 64)"
+        elif _NOT_IN_A_LINE.search(text):
+            why = f"contains {_character(_NOT_IN_A_LINE.search(text).group())}"
+        elif ".." in text or "/" in text or "\\" in text:
+            why = "looks like a file path"
+        else:
+            why = "has characters other than letters, digits, '.', '_' and '-'"
+        raise ValueError(f"'{shown_input(text, 40)}' {why}: an id starts with a letter or digit, then up to 63 "
+                         "letters, digits, '.', '_' or '-' (never '..'), e.g. TB-0042")
+    return text
+
+
+# The same rules written into the JSON Schema, so a run file can be checked without Trapbook.
+_LINE_PATTERN = r"^[^\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]*$"
+_NOTE_PATTERN = r"^[^\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f\u202a-\u202e\u2066-\u2069]*$"
+
+
+def _schema(limit: int, pattern: str):
+    return Field(json_schema_extra={"maxLength": limit, "pattern": pattern})
+
+
+SingleLine = Annotated[str, AfterValidator(check_line), _schema(SINGLE_LINE_MAX, _LINE_PATTERN)]
+Title = Annotated[str, AfterValidator(lambda v: check_line(v, TITLE_MAX)), _schema(TITLE_MAX, _LINE_PATTERN)]
+SmilesText = Annotated[str, AfterValidator(lambda v: check_line(v, SMILES_MAX)), _schema(SMILES_MAX, _LINE_PATTERN)]
+Note = Annotated[str, AfterValidator(check_note), _schema(NOTE_MAX, _NOTE_PATTERN)]
+RunId = Annotated[str, AfterValidator(validate_run_id),
+                  Field(json_schema_extra={"pattern": r"^(?!.*\.\.)[A-Za-z0-9][A-Za-z0-9._-]{0,63}$"})]
