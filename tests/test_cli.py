@@ -117,3 +117,127 @@ def test_console_script_prints_no_traceback(tmp_path):
                           capture_output=True, text=True, env=env, timeout=120)
     assert proc.returncode == 2
     assert "no file" in proc.stderr and "Traceback" not in proc.stderr
+
+
+# --- one error path: words on stderr, or JSON on stdout under --json ---------------------
+
+
+def test_json_error_is_an_object_on_stdout_exit_2(cli, tmp_path, minimal_run):
+    minimal_run["lines"][2]["volume"] = "2 mg"
+    del minimal_run["lines"][2]["equiv"]
+    p = tmp_path / "bad.json"
+    p.write_text(json.dumps(minimal_run))
+    res = cli("amounts", str(p), "--json")
+    assert res.exit_code == 2
+    data = json.loads(res.stdout)
+    assert set(data) == {"error", "hint", "field"}
+    assert "volume '2 mg' is a mass" in data["error"] and data["hint"]
+    assert res.stderr == ""
+    # without --json the same refusal is words on stderr and nothing on stdout
+    res = cli("amounts", str(p))
+    assert res.exit_code == 2 and res.stdout == ""
+    assert res.stderr.startswith("error: ") and "what to do:" in res.stderr
+
+
+def test_json_error_names_the_field_refused(cli):
+    res = cli("show", "TB-0001", "--json")  # the notebook exists but holds no such run
+    assert res.exit_code == 2 and json.loads(res.stdout)["error"]
+    runner = CliRunner()
+    res = runner.invoke(main, ["--db", "/nonexistent-folder/nb.sqlite", "list", "--json"])
+    assert res.exit_code == 2
+    assert json.loads(res.stdout)["field"] == "db"
+
+
+def test_usage_error_under_json_is_json(cli):
+    res = cli("list", "--json", "--no-such-option")
+    assert res.exit_code == 2
+    assert "no-such-option" in json.loads(res.stdout)["error"]
+
+
+def test_a_bug_is_exit_1_and_still_json(cli, monkeypatch):
+    from trapbook.store import Notebook
+
+    def broken(self, *args, **kwargs):
+        raise ZeroDivisionError("division by zero")
+
+    monkeypatch.setattr(Notebook, "list_runs", broken)
+    res = cli("list", "--json")
+    assert res.exit_code == 1
+    data = json.loads(res.stdout)
+    assert "unexpected ZeroDivisionError" in data["error"] and "report" in data["hint"]
+    res = cli("list")
+    assert res.exit_code == 1 and "Traceback" not in res.output and "unexpected ZeroDivisionError" in res.stderr
+
+
+def test_closed_pipe_is_a_quiet_exit_0(cli, monkeypatch):
+    from trapbook.store import Notebook
+
+    def gone(self, *args, **kwargs):
+        raise BrokenPipeError
+
+    monkeypatch.setattr(Notebook, "list_runs", gone)
+    res = cli("list")
+    assert res.exit_code == 0 and res.stderr == ""
+
+
+def test_no_command_module_carries_its_own_error_decorator():
+    from pathlib import Path
+
+    import trapbook.cli as cli_pkg
+
+    for src in Path(cli_pkg.__file__).parent.glob("*.py"):
+        assert "@guarded" not in src.read_text(encoding="utf-8"), src.name
+
+
+# --- a mistyped --db never creates a notebook ------------------------------------------------
+
+
+@pytest.mark.parametrize("args", [["list"], ["show", "TB-0001"], ["settings"], ["open"], ["add", "{run}"],
+                                  ["import", "{run}"], ["screens"], ["search", "--text", "furan"], ["verify"]])
+def test_mistyped_db_says_no_notebook_and_creates_nothing(tmp_path, minimal_run_file, args):
+    missing = tmp_path / "no-such-folder" / "typo.sqlite"
+    res = CliRunner().invoke(main, ["--db", str(missing), *[a.format(run=minimal_run_file) for a in args]])
+    assert res.exit_code == 2, res.output
+    assert str(missing) in res.stderr and ("no notebook" in res.stderr or "does not exist" in res.stderr)
+    assert "trapbook init" in res.stderr or "--create" in res.stderr
+    assert not missing.parent.exists()
+
+
+def test_add_and_import_create_only_when_asked(tmp_path, minimal_run_file):
+    db = tmp_path / "new.sqlite"
+    res = CliRunner().invoke(main, ["--db", str(db), "add", str(minimal_run_file)])
+    assert res.exit_code == 2 and "--create" in res.stderr and not db.exists()
+    res = CliRunner().invoke(main, ["--db", str(db), "add", str(minimal_run_file), "--create", "--json"])
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.stdout)["run_id"] and db.exists()
+
+
+def test_list_refuses_an_empty_file_and_leaves_it_empty(tmp_path):
+    empty = tmp_path / "empty.sqlite"
+    empty.write_bytes(b"")
+    res = CliRunner().invoke(main, ["--db", str(empty), "list"])
+    assert res.exit_code == 2 and "empty" in res.stderr
+    assert empty.stat().st_size == 0
+
+
+def test_errors_carry_data_for_code_not_only_words():
+    from trapbook.errors import UnitError
+    from trapbook.units import parse_quantity
+
+    # Source: SI base dimensions (BIPM SI Brochure, 9th ed.): a mass is [mass], a volume [length]^3
+    with pytest.raises(UnitError) as err:
+        parse_quantity("2 mg", "volume", field="volume")
+    assert err.value.field == "volume"
+    assert err.value.got == "[mass]" and err.value.expected == "[length] ** 3"
+    assert err.value.to_dict() == {"error": err.value.message, "hint": err.value.hint, "field": "volume"}
+
+
+async def test_the_terminal_ui_does_not_create_a_mistyped_notebook(tmp_path):
+    from trapbook.tui.app import TrapbookApp
+
+    missing = tmp_path / "no-such-folder" / "typo.sqlite"
+    app = TrapbookApp(missing, author="pilot", warm=False)
+    async with app.run_test() as pilot:
+        await pilot.pause(0.1)
+    assert app.nb is None
+    assert not missing.parent.exists()

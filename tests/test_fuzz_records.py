@@ -4,13 +4,12 @@ from __future__ import annotations
 
 import copy
 import json
+import math
+import re
 
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 from rdkit import Chem, RDLogger
-
-import math
-import re
 
 from trapbook.errors import RecordError
 from trapbook.records import Run, load_run, load_run_text

@@ -197,7 +197,7 @@ async def test_bracket_atoms_survive_in_the_status_line(demo_copy):
 
 
 @pytest.mark.parametrize("text", ["tmp:100", "trap:furan trap:anthracene", "temp:hot", "yield:80..50", "date:2026-13",
-                                  "trap:", "min:high", "temp:>inf"])
+                                  "trap:", "min:high", "temp:>inf", "min:0.5", "temp:.."])
 def test_unreadable_filters_are_errors_with_a_hint(text):
     with pytest.raises(TrapbookError) as info:
         parse_query(text)

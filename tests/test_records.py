@@ -1,6 +1,7 @@
 """Run files: the minimal format is accepted as it is, and every mistake is named."""
 
 import json
+from pathlib import Path
 
 import jsonschema
 import pytest
@@ -8,8 +9,6 @@ import pytest
 from trapbook.errors import RecordError
 from trapbook.records import Run, load_run, load_run_text
 from trapbook.schema_files import generate, render
-
-from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -111,7 +110,7 @@ def _step3(minimal_run, words=None, **step):
 def test_rt_is_kept_as_written_with_the_labs_nominal(minimal_run, written):
     step = _step3(minimal_run, temperature=written, hold="2 h")
     assert step.temperature_written == written
-    # common practice, no source: room temperature taken as 23 °C unless the lab says otherwise
+    # Source: docs/sources.md (Bench words): rt is 23 °C unless the lab says otherwise (common practice, no source)
     assert to_canonical(step.temperature, "temperature") == pytest.approx(23.0)
     stored = load_run(minimal_run).to_json_dict()["steps"][2]
     assert stored["temperature_written"] == written and stored["temperature"] == {"value": 23.0, "unit": "°C"}
@@ -135,13 +134,13 @@ def test_a_run_read_before_its_notebook_takes_the_notebooks_words(minimal_run):
 
 def test_overnight_defaults_to_sixteen_hours(minimal_run):
     step = _step3(minimal_run, temperature="23 °C", hold="overnight")
-    assert to_canonical(step.hold, "duration") == 16 * 60  # common practice, no source: overnight is 16 h
+    assert to_canonical(step.hold, "duration") == 16 * 60  # Source: docs/sources.md (Bench words), common practice, no source
 
 
 @pytest.mark.parametrize("solvent,smiles,low,high", [
-    ("THF", "C1CCOC1", 65.0, 67.0),  # Source: PubChem CID 8028, tetrahydrofuran, bp 66 °C (from memory)
-    ("toluene", "Cc1ccccc1", 110.0, 111.5),  # Source: PubChem CID 1140, toluene, bp 110.6 °C (from memory)
-    ("acetonitrile", None, 81.0, 82.5),  # Source: PubChem CID 6342, acetonitrile, bp 81.6 °C (from memory)
+    ("THF", "C1CCOC1", 65.0, 67.0),  # Source: docs/sources.md solvent table, THF bp 66 °C
+    ("toluene", "Cc1ccccc1", 110.0, 111.5),  # Source: docs/sources.md solvent table, toluene bp 110.6 °C
+    ("acetonitrile", None, 81.0, 82.5),  # Source: docs/sources.md solvent table, MeCN bp 81.6 °C
 ])
 def test_reflux_is_the_solvents_boiling_point_shown_as_computed(minimal_run, solvent, smiles, low, high):
     minimal_run["lines"][3] = {"role": "solvent", "name": solvent, "volume": "2.0 mL", **({"smiles": smiles} if smiles else {})}

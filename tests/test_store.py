@@ -166,7 +166,8 @@ def test_a_full_disk_says_so_and_changes_nothing(notebook, minimal_run):
 
     notebook.add_run(minimal_run, author="a")
     pages = notebook.conn.execute("PRAGMA page_count").fetchone()[0]
-    notebook.conn.execute(f"PRAGMA max_page_count = {pages}")  # SQLite's own SQLITE_FULL, as on a full disk
+    # Source: docs/sources.md, "Store, verify and faults" (max_page_count gives SQLITE_FULL, as a full disk does)
+    notebook.conn.execute(f"PRAGMA max_page_count = {pages}")
     big = dict(minimal_run, notes="x" * 19_000)
     with pytest.raises(StoreError) as exc:
         notebook.add_run(big, author="a")
@@ -187,7 +188,7 @@ def test_a_lock_held_too_long_is_waited_for_then_refused_plainly(tmp_path, minim
     monkeypatch.setattr(connect, "LOCK_WAIT_SECONDS", 1.0)
     monkeypatch.setattr(connect, "LOCK_SLICE_MS", 100)
     holder = sqlite3.connect(path, isolation_level=None)
-    holder.execute("BEGIN IMMEDIATE")
+    holder.execute("BEGIN IMMEDIATE")  # Source: docs/sources.md, "Store, verify and faults" (BEGIN IMMEDIATE locks)
     try:
         with Notebook.open(path) as nb, caplog.at_level("WARNING", logger="trapbook.store"):
             with pytest.raises(StoreError) as exc:

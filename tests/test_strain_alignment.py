@@ -128,3 +128,16 @@ def test_no_si_c_c_x_unit_is_a_chemistry_error():
     with pytest.raises(ChemistryError) as err:
         alignment.precursor_alignment("CCOS(=O)(=O)C(F)(F)F")
     assert err.value.hint
+
+
+@pytest.mark.slow
+def test_bridgehead_precursor_keeps_only_diastereomers_that_exist():
+    # from memory: a bicyclo[3.3.1]nonane has one possible relative configuration at its
+    # bridgeheads (an in/out isomer cannot close), so of the 4 diastereomer pairs of the
+    # 1-silyl-2-triflate only the 2 epimers at C2 exist; and (textbook chair analysis) a
+    # bridgehead substituent is equatorial to both rings, so neither epimer is antiperiplanar.
+    r = alignment.precursor_alignment("C[Si](C)(C)C12CCCC(CCC1OS(=O)(=O)C(F)(F)F)C2")
+    assert len(r["diastereomers"]) == 2
+    assert len(r["left_out_diastereomers"]) == 2
+    assert all(x["above_best_kcal_mol"] > alignment.IMPOSSIBLE_ABOVE_KCAL for x in r["left_out_diastereomers"])
+    assert all(d["antiperiplanar_fraction"] < 0.01 for d in r["diastereomers"])

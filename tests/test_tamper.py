@@ -229,8 +229,8 @@ def delete_newest_save_entry(c):
     c.execute("DELETE FROM saves WHERE n = (SELECT max(n) FROM saves)")
 
 
-#: (edit, a code verify must report). Source of the list: every kind of edit the README's
-#: "Sharing and keeping records safe" section says verify catches.
+#: (edit, a code verify must report). Source: docs/sources.md, "Store, verify and faults": every
+#: kind of edit the README's "Sharing and keeping records safe" section says verify catches.
 EDITS = [
     (edit_version_data, "hash-mismatch"),
     (edit_version_hash, "hash-mismatch"),

@@ -111,7 +111,7 @@ def put_file(root: Path, src: Path) -> Stored:
 
 
 def _stamp() -> str:
-    return _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%dT%H%M%SZ")
+    return _dt.datetime.now(_dt.UTC).strftime("%Y%m%dT%H%M%SZ")
 
 
 def safe_name(name: str) -> str:
@@ -135,7 +135,7 @@ def attach(nb, run_id: str, file: str | os.PathLike, author: str | None = None, 
     if any(a.sha256 == stored.sha256 and a.name == fname for a in run.attachments):
         raise RecordError(f"{fname} (sha256 {stored.sha256[:12]}…) is already attached to {run_id}", "nothing was changed")
     att = Attachment(name=fname, sha256=stored.sha256, size=stored.size, media_type=media_type,
-                     added=_dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"))
+                     added=_dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"))
     run = run.model_copy(update={"attachments": [*run.attachments, att]})
     res = nb.save_run(run, meta["version"], author=author, reason=reason or f"attached {fname}")
     return {"run_id": res.run_id, "version": res.version, "name": fname, "sha256": stored.sha256, "size": stored.size,

@@ -55,7 +55,7 @@ class BenchWords:
                                 "set how many hours the lab means by overnight, e.g. 16")
 
     @classmethod
-    def from_context(cls, context: Any) -> "BenchWords":
+    def from_context(cls, context: Any) -> BenchWords:
         """The notebook's words when a caller passed them to validation, else the defaults."""
         words = context.get(CONTEXT_KEY) if isinstance(context, dict) else None
         return words if isinstance(words, cls) else cls()

@@ -106,7 +106,7 @@ def _your_name(path: Path) -> str | None:
 
 def dated_backup_path(path: Path) -> Path:
     """``demo-YYYYmmdd-HHMMSS.sqlite`` beside `path` (UTC); never a name already taken."""
-    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y%m%d-%H%M%S")
+    stamp = _dt.datetime.now(_dt.UTC).strftime("%Y%m%d-%H%M%S")
     suffix = path.suffix or ".sqlite"
     cand = path.with_name(f"{path.stem}-{stamp}{suffix}")
     n = 2

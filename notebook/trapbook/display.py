@@ -93,3 +93,25 @@ def fmt_equiv(x: float | None) -> str:
 def fmt_pct(x: float | None, unit: str = "%") -> str:
     """A yield or ee in whole percent (72%)."""
     return fmt_fixed(x, 0, unit)
+
+
+def fmt_temp_c(c: float | None) -> str:
+    """A temperature in whole °C (−78 °C, 120 °C)."""
+    return DASH if c is None else f"{c:.0f} °C"
+
+
+def fmt_minutes(m: float | None) -> str:
+    """A duration given in minutes: minutes below an hour, then hours (30 min, 2 h, 1.5 h)."""
+    if m is None:
+        return DASH
+    if m >= 60:
+        h = m / 60
+        return f"{h:.0f} h" if abs(h - round(h)) < 1e-9 else f"{h:.1f} h"
+    return f"{m:.0f} min"
+
+
+def fmt_yield(pct: float | None, kind: str | None = None) -> str:
+    """A headline yield in whole percent; an NMR yield is marked ⁿ (isolated is unmarked)."""
+    if pct is None:
+        return DASH
+    return f"{pct:.0f} %" + ("ⁿ" if kind == "NMR" else "")

@@ -64,3 +64,7 @@ class NotFoundError(StoreError):
 
 class ExchangeError(TrapbookError):
     """An import or export that cannot be carried out; nothing was written."""
+
+
+class SpectrumError(TrapbookError):
+    """Raw NMR data that cannot be read, processed or integrated as asked; nothing was saved."""

@@ -70,8 +70,12 @@ def _locate(data: Any, loc: tuple) -> str:
 def explain(exc: ValidationError, data: Any, what: str = "run") -> RecordError:
     """One RecordError listing every problem, each named by record and field."""
     problems = []
+    fields: list[str] = []
     for err in exc.errors():
         where = _locate(data, tuple(err.get("loc", ())))
+        path = ".".join(shown_input(str(k), 40) for k in err.get("loc", ()) if not str(k).startswith("function-"))
+        if path and path not in fields:
+            fields.append(path)
         ctx = err.get("ctx") or {}
         cause = ctx.get("error")
         if isinstance(cause, UnitError):
@@ -89,6 +93,8 @@ def explain(exc: ValidationError, data: Any, what: str = "run") -> RecordError:
         problems.append(f"{where}: {msg}" if where else msg)
     title = data.get("title") if isinstance(data, dict) else None
     head = f"{what} '{shown_input(title, 60)}'" if isinstance(title, str) and title.strip() else what
+    field = ", ".join(fields) or None  # for code: e.g. "steps.0.hold" (the words above are for people)
     if len(problems) == 1:
-        return RecordError(f"{head}: {problems[0]}", "correct the field and try again")
-    return RecordError(f"{head} has {len(problems)} problems:\n  - " + "\n  - ".join(problems), "correct the fields and try again")
+        return RecordError(f"{head}: {problems[0]}", "correct the field and try again", field=field)
+    return RecordError(f"{head} has {len(problems)} problems:\n  - " + "\n  - ".join(problems),
+                       "correct the fields and try again", field=field)

@@ -144,7 +144,7 @@ class Line(_Model):
         return _check_smiles(v, "SMILES")
 
     @model_validator(mode="after")
-    def _one_amount(self) -> "Line":
+    def _one_amount(self) -> Line:
         given = [f for f in AMOUNT_FIELDS if getattr(self, f) is not None]
         if self.role == "product":
             if given:
@@ -218,7 +218,7 @@ class Step(_Model):
         return v
 
     @model_validator(mode="after")
-    def _times_and_words(self) -> "Step":
+    def _times_and_words(self) -> Step:
         for what, q in (("hold", self.hold), ("addition time (over)", self.over)):
             if q is not None and q.magnitude <= 0:
                 raise ValueError(f"{what} must be longer than zero (got {q.magnitude:g} {q.units:~}); "
@@ -262,6 +262,24 @@ class QNMR(_Model):
         return v
 
 
+class HRMS(_Model):
+    """One high-resolution mass found for a product: which ion and its m/z as read."""
+
+    ion: SingleLine = Field(description="ion measured: [M+H]+, [M+Na]+, [M+NH4]+, [M+K]+ or [M-H]-")
+    #: Far above any small-molecule HRMS; refuses typos such as a missing decimal point. Common practice, no source.
+    found_mz: float = Field(gt=0, le=100_000, allow_inf_nan=False, description="m/z found")
+
+    @field_validator("ion", mode="before")
+    @classmethod
+    def _ion(cls, v: Any) -> Any:
+        from .chemistry.ions import ion_name  # light: the list of ions, no RDKit
+
+        try:
+            return ion_name(v)
+        except ChemistryError as exc:
+            raise ValueError(f"{exc.message}; {exc.hint}") from None
+
+
 class ProductResult(_Model):
     """What one product came to: isolated mass and/or an NMR yield, and its selectivity."""
 
@@ -271,6 +289,7 @@ class ProductResult(_Model):
     dr: SingleLine | None = Field(default=None, description="diastereomer ratio, major:minor, e.g. '5:1'")
     er: SingleLine | None = Field(default=None, description="enantiomer ratio, major:minor, e.g. '95:5'")
     ee: float | None = Field(default=None, ge=-100, le=100, allow_inf_nan=False, description="enantiomeric excess in percent")
+    hrms: HRMS | None = Field(default=None, description="high-resolution mass found, e.g. {ion: '[M+Na]+', found_mz: 213.1248}")
     note: Note | None = None
 
     @field_validator("dr", "er", mode="before")
@@ -286,7 +305,7 @@ class ProductResult(_Model):
         return str(v).replace(" ", "")
 
     @model_validator(mode="after")
-    def _positive_mass(self) -> "ProductResult":
+    def _positive_mass(self) -> ProductResult:
         if self.isolated_mass is not None and self.isolated_mass.magnitude < 0:
             raise ValueError("isolated mass cannot be negative")
         return self
@@ -363,7 +382,7 @@ class Run(_Model):
         return v
 
     @model_validator(mode="after")
-    def _names(self) -> "Run":
+    def _names(self) -> Run:
         seen: set[str] = set()
         for line in self.lines:
             key = line.name.casefold()

@@ -8,7 +8,7 @@ a column, so a control character shows as an escape and a newline cannot fake a 
 from __future__ import annotations
 
 from .amounts import AmountTable, ProductYield
-from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
+from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_temp_c, fmt_ul, fmt_yield
 from .phrases import step_phrases, yield_phrases
 from .records import Run
 from .text_safety import printable
@@ -69,7 +69,7 @@ def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[Produ
 
 
 def run_rows_text(rows: list[dict]) -> str:
-    head = f"{'id':8} {'date':10} {'chemist':10} {'title':38} {'trap':18} {'T max':>6} {'yield':>6} {'worst':16}"
+    head = f"{'id':8} {'date':10} {'chemist':10} {'title':38} {'trap':18} {'T max':>7} {'yield':>6} {'worst':16}"
     out = [head, "-" * len(head)]
     for r in rows:
         title = printable(r["title"])
@@ -77,7 +77,7 @@ def run_rows_text(rows: list[dict]) -> str:
             title = "[withdrawn] " + title
         out.append(
             f"{printable(r['id']):8} {cell(r.get('date'), 10)} {cell(r.get('chemist'), 10)} {cell(title, 38)} "
-            f"{cell(r.get('trap') or '—', 18)} {fmt_fixed(r.get('temp_max_c'), 0, '°C'):>6} "
-            f"{fmt_pct(r.get('yield_pct')):>6} {cell(r.get('worst'), 16)}"
+            f"{cell(r.get('trap') or '—', 18)} {fmt_temp_c(r.get('temp_max_c')):>7} "
+            f"{fmt_yield(r.get('yield_pct'), r.get('yield_kind')):>6} {cell(r.get('worst'), 16)}"
         )
     return "\n".join(out)

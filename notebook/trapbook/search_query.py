@@ -1,6 +1,6 @@
 """The one query language of run search: a `Query`, the typed filter syntax and its key table.
 
-Every view that finds runs builds a `Query` and hands it to `search.run_query`: the Logbook's
+Every view that finds runs builds a `Query` and hands it to `search.search`: the Logbook's
 filter box parses typed text with `parse_query`, `trapbook search` builds one from its options
 with `query_from_options`. Neither view matches rows itself, so both give the same runs.
 
@@ -181,6 +181,9 @@ def parse_query(text: str) -> Query:
             raise TrapbookError(f"'{key.name}:' is given twice", "give each key once (only tag: repeats)", field="filter",
                                 got=name)
         values[key.field] = _value(key, raw.strip())
+    if "min_similarity" in values and "similar" not in values:
+        raise TrapbookError("'min:' is the threshold of a similarity query", "add similar:SMILES, e.g. similar:C1=CCCC1 min:0.4",
+                            field="filter", got="min")
     if words:
         values["text"] = " ".join(words)
     return Query(tags=tuple(tags), **values)

@@ -112,7 +112,7 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
     from .chemistry import strain
 
     result = strain.compute_strain(smiles, tier=tier, progress=progress)
-    if nb is not None:
+    if nb is not None and not nb.read_only:  # a notebook that cannot be written here caches nothing
         nb.cache_put(key, result.get("smiles", smiles), tier, result.get("engine_version", ""), result)
         rejudge_runs_with(nb, smiles)
     result = dict(result)
@@ -177,6 +177,6 @@ def get_alignment(nb, smiles: str, compute: bool = True, temperature_c: float = 
     from .chemistry.strain_key import ENGINE_VERSION
 
     result = alignment.precursor_alignment(smiles, temperature_c=temperature_c)
-    if nb is not None:
+    if nb is not None and not nb.read_only:  # a notebook that cannot be written here caches nothing
         nb.cache_put(key, smiles, ALIGNMENT_TIER, ENGINE_VERSION, result)
     return result

@@ -11,17 +11,15 @@ from __future__ import annotations
 
 from .errors import RecordError, TrapbookError
 
-#: Largest HRMS error a lab usually accepts for a formula match (common practice, no source).
-DEFAULT_PPM_THRESHOLD = 5.0
 
+def _run_inputs(run) -> tuple[str, str, list[tuple[str, str | None]], tuple[str, str] | None]:
+    """The run's intermediate (recorded or derived) and where it came from, its traps and
+    the leaving group its precursor releases."""
+    from .strain_link import intermediate_of_run
 
-def _run_inputs(run) -> tuple[str, list[tuple[str, str | None]], tuple[str, str] | None]:
-    """The run's intermediate (recorded or derived), its traps and the leaving group released."""
-    from .strain_link import intermediate_of
-
-    intermediate = intermediate_of(run)
+    found = intermediate_of_run(run)
     label = run.id or run.title
-    if not intermediate:
+    if not found:
         raise RecordError(f"run {label} names no intermediate and none can be derived from its precursor",
                           "write the intermediate's SMILES on the run, or give the precursor's SMILES",
                           field="intermediate")
@@ -29,7 +27,7 @@ def _run_inputs(run) -> tuple[str, list[tuple[str, str | None]], tuple[str, str]
     if not traps:
         raise RecordError(f"run {label} has no trap line with a SMILES",
                           "add the trap's SMILES to its line (e.g. furan 'c1ccoc1')", field="trap")
-    return intermediate, traps, _leaving_group(run)
+    return found[0], found[1], traps, _leaving_group(run)
 
 
 def _leaving_group(run) -> tuple[str, str] | None:
@@ -49,11 +47,11 @@ def _inputs(subject, trap: str | None):
         if not trap:
             raise RecordError("an intermediate without a trap gives no adduct", "give the trap's SMILES as well",
                               field="trap")
-        return subject, [(trap, None)], None
-    intermediate, traps, leaving = _run_inputs(subject)
+        return subject, "as given", [(trap, None)], None
+    intermediate, origin, traps, leaving = _run_inputs(subject)
     if trap:
         traps = [(trap, None)]
-    return intermediate, traps, leaving
+    return intermediate, origin, traps, leaving
 
 
 def with_masses(product: dict) -> dict:
@@ -68,14 +66,16 @@ def products_report(subject, trap: str | None = None, limits=None) -> dict:
     with masses, plus the notes that say what was dropped or cut and why."""
     from .chemistry.products import expected_products as enumerate_products
 
-    intermediate, traps, leaving = _inputs(subject, trap)
+    intermediate, origin, traps, leaving = _inputs(subject, trap)
     result = enumerate_products(intermediate, traps, leaving_group=leaving, limits=limits)
     return {
         "intermediate": result.intermediate,
+        "intermediate_origin": origin,
         "intermediate_kind": result.kind,
         "traps": [{"smiles": s, "name": n} for s, n in traps],
         "leaving_group": leaving[1] if leaving else None,
         "products": [with_masses(p) for p in result.products],
+        "hrms": [] if isinstance(subject, str) else run_hrms(subject),
         "notes": result.notes,
         "truncated": result.truncated,
     }
@@ -105,7 +105,7 @@ def expected_formulas(run) -> dict[str, str]:
     from .chemistry.masses import element_counts, hill_formula
     from .chemistry.products import listed_by_products
 
-    intermediate, traps, leaving = _run_inputs(run)
+    intermediate, _origin, traps, leaving = _run_inputs(run)
     base = element_counts(intermediate)
     out: dict[str, str] = {}
     for smiles, name in traps:
@@ -115,4 +115,20 @@ def expected_formulas(run) -> dict[str, str]:
         out.setdefault(hill_formula(total), f"adduct of {name}")
     for p in listed_by_products(intermediate, leaving):
         out.setdefault(hill_formula(element_counts(p["smiles"])), p["words"])
+    return out
+
+
+def run_hrms(run) -> list[dict]:
+    """Each outcome product with an HRMS record: calculated m/z of its ion and the ppm error,
+    or `problem` in words when the product line has no SMILES to calculate from."""
+    out = []
+    for res in (run.outcome.products if run.outcome else []):
+        if res.hrms is None:
+            continue
+        line = run.line(res.product)
+        if line is None or not line.smiles:
+            out.append({"product": res.product, "ion": res.hrms.ion, "found_mz": res.hrms.found_mz,
+                        "problem": "the product line has no SMILES, so no m/z can be calculated"})
+            continue
+        out.append({"product": res.product, **hrms_comparison(line.smiles, res.hrms.ion, res.hrms.found_mz)})
     return out

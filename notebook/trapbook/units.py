@@ -19,6 +19,7 @@ from pydantic import BeforeValidator, PlainSerializer, WithJsonSchema
 from .errors import UnitError
 from .text_safety import printable
 
+
 def _registry() -> pint.UnitRegistry:
     """The registry, from pint's on-disk definition cache when it can be used (start-up speed)."""
     try:
@@ -240,13 +241,13 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
             raise UnitError(
                 f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
                 f"give {words} ({examples})",
-                field=field,
+                field=field, got=str(q.dimensionality), expected=str(expected),
             )
     elif not q.dimensionless:
         raise UnitError(
             f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
             f"give {words} ({examples})",
-            field=field,
+            field=field, got=str(q.dimensionality), expected="dimensionless",
         )
     if kind == "temperature":
         kelvin = q.to("K").magnitude

@@ -10,7 +10,7 @@ makes them raise. Judgement thresholds are `CheckSettings`, which a lab can chan
 
 One module per family: `addition_order` (trap before fluoride, the steps), `amounts`,
 `water`, `temperature` (heat and pressure, the vessel), `strain` (judged by
-`trapbook.stability`), `outcome` and `hazards`; `finding` holds the one registry of codes
+`trapbook.stability`), `outcome`, `hrms` (HRMS and the product's formula) and `hazards`; `finding` holds the one registry of codes
 (`CHECK_CODES`), `settings` the thresholds and their sources, `runner` the entry point.
 Views do not call `run_checks` themselves: `trapbook.findings.findings_for` gives a run's
 findings under its notebook's settings.

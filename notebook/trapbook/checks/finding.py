@@ -48,6 +48,9 @@ CHECK_CODES: dict[str, str] = {
     "ratio-order": "note: a dr or er written minor first",
     "fluoride-acid": "warn with caution: fluoride and an acid in the same run give hydrogen fluoride",
     "material-caution": "note with caution: the usual hazards of a material used, once per material",
+    "hrms-off": "warn: the HRMS m/z found differs from the calculated one by more than the lab's ppm limit",
+    "hrms-uncalculable": "note: an HRMS value is recorded for a product whose line has no SMILES",
+    "product-formula-unexpected": "warn: a product's formula is neither intermediate + trap nor a listed by-product",
     "check-incomplete": "note: one check could not finish on this run's data",
 }
 

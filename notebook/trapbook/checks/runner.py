@@ -12,6 +12,7 @@ from .amounts import check_amounts_known, check_concentration, check_fluoride, c
 from .context import Context, timeline
 from .finding import RANK, Finding
 from .hazards import check_hazards
+from .hrms import check_hrms, check_product_formula
 from .outcome import check_outcome
 from .settings import CheckSettings
 from .strain import check_alignment, check_strain
@@ -33,6 +34,8 @@ _CHECKS: tuple[Callable[[Context], list[Finding]], ...] = (
     check_concentration,
     check_steps,
     check_outcome,
+    check_hrms,
+    check_product_formula,
     check_hazards,
 )
 

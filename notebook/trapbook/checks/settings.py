@@ -26,6 +26,7 @@ SETTING_SOURCES: dict[str, str] = {
     "headspace_ml": "common practice, no source (a typical pressure tube headspace, used for the gas estimate when the run gives no vessel)",
     "vessel_fill_max_pct": "common practice, no source (fill a sealed vessel to no more than about half its volume)",
     "yield_disagree_pct": "common practice, no source (isolated and NMR yields of one product usually agree within this many points)",
+    "hrms_ppm_max": "common practice, no source (most journals accept an HRMS formula match within 5 ppm; docs/sources.md, Exact masses)",
 }
 
 
@@ -51,6 +52,7 @@ class CheckSettings:
     headspace_ml: float = 10.0
     vessel_fill_max_pct: float = 50.0
     yield_disagree_pct: float = 15.0
+    hrms_ppm_max: float = 5.0
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):

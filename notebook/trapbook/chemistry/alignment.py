@@ -158,22 +158,39 @@ def precursor_alignment(smiles: str, temperature_c: float = 25.0) -> dict:
     _units(mol)
     isomers = unassigned_diastereomers(mol)
     if isomers:
-        sides = [_one_isomer(iso, temperature_c) for iso in isomers]
+        sides, dropped = _real_diastereomers([_one_isomer(iso, temperature_c) for iso in isomers])
         verdicts = {s["verdict_short"] for s in sides}
         out = dict(sides[0])
         out.update({
             "smiles": Chem.MolToSmiles(mol),
-            "stereo_warning": (f"{len(isomers)} diastereomers: the SMILES leaves stereocentres unassigned, so "
-                               "each one is judged below" + ("; they differ" if len(verdicts) > 1 else "")),
+            "stereo_warning": (f"{len(sides)} diastereomers: the SMILES leaves stereocentres unassigned, so "
+                               "each one is judged below" + ("; they differ" if len(verdicts) > 1 else "")
+                               + (f" ({len(dropped)} more left out as too strained to exist)" if dropped else "")),
             "verdict": "depends on the diastereomer: " + "; ".join(f"{s['smiles']}: {s['verdict']}" for s in sides),
             "diastereomers": sides,
+            "left_out_diastereomers": dropped,
         })
     else:
         out = _one_isomer(mol, temperature_c)
         out["stereo_warning"] = None
         out["diastereomers"] = []
+        out["left_out_diastereomers"] = []
     out["seconds"] = round(time.perf_counter() - start, 3)
     return out
+
+
+#: a diastereomer this far above the best one (MMFF94) is an impossible ring fusion, e.g. an
+#: in/out bridged bicycle that embedding forced into shape
+IMPOSSIBLE_ABOVE_KCAL = 25.0
+
+
+def _real_diastereomers(sides: list[dict]) -> tuple[list[dict], list[dict]]:
+    """Split off diastereomers too strained to exist, saying how far above the best each lies."""
+    best = min(s["mmff_energy_kcal_mol"] for s in sides)
+    kept = [s for s in sides if s["mmff_energy_kcal_mol"] - best <= IMPOSSIBLE_ABOVE_KCAL]
+    dropped = [{"smiles": s["smiles"], "above_best_kcal_mol": round(s["mmff_energy_kcal_mol"] - best, 1)}
+               for s in sides if s not in kept]
+    return kept, dropped
 
 
 def _one_isomer(mol: Chem.Mol, temperature_c: float) -> dict:
@@ -187,6 +204,7 @@ def _one_isomer(mol: Chem.Mol, temperature_c: float) -> dict:
     out.update({
         "smiles": Chem.MolToSmiles(mol),
         "conformers": len(ens.conf_ids),
+        "mmff_energy_kcal_mol": round(float(ens.energies[0]), 3),
         "temperature_c": temperature_c,
         "method": f"MMFF94 (RDKit ETKDG), Boltzmann populations at {temperature_c:g} °C",
         "measured": MEASURED,

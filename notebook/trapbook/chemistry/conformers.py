@@ -209,8 +209,14 @@ def build_ensemble(
     n = n_confs or n_conformers_for(mol)
     mol_h = Chem.AddHs(mol)
     wanted = specified_stereo(mol)
-    got, route = _embed(mol_h, n, seed), "ETKDG"
-    if got < max(3, n // 4) and relax_bonds:
+    got, route = 0, "ETKDG"
+    if _linear_in_ring(mol, relax_bonds):
+        # distance geometry cannot close a ring round a linear C–C≡C–C unit and spends its
+        # whole attempt budget failing (seconds per molecule): start from the analogue
+        got, route = _embed_analogue(mol, mol_h, relax_bonds, n, seed), "saturated analogue"
+    if not got:
+        got, route = _embed(mol_h, n, seed), "ETKDG"
+    if got < max(3, n // 4) and relax_bonds and route == "ETKDG":
         extra = _embed_analogue(mol, mol_h, relax_bonds, n, seed)
         if extra:
             route = "ETKDG + saturated analogue" if got else "saturated analogue"
@@ -232,6 +238,11 @@ def build_ensemble(
         )
     ids = [c for c, _ in kept]
     return Ensemble(mol_h, ids, [e for _, e in kept], route, ff, [f"{got} embedded"])
+
+
+def _linear_in_ring(mol: Chem.Mol, bond_ids: list[int] | None) -> bool:
+    """True when a bond to relax is a triple bond in a ring (cycloalkyne or aryne)."""
+    return any(mol.GetBondWithIdx(i).GetBondType() == Chem.BondType.TRIPLE for i in bond_ids or [])
 
 
 def _dedupe(mol_h, conf_ids, energies, wanted) -> list[tuple[int, float]]:

@@ -92,7 +92,7 @@ class TrapbookGroup(click.Group):
         except click.UsageError as exc:
             if not self._wants_json(cctx):
                 raise
-            emit_json({"error": exc.format_message(), "hint": "see the command's --help", "field": None})
+            render_error(TrapbookError(exc.format_message(), "see the command's --help"), as_json=True)
             cctx.exit(exc.exit_code)
         except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
             raise
@@ -103,13 +103,9 @@ class TrapbookGroup(click.Group):
             _quiet_stdout()
             cctx.exit(0)
         except Exception as exc:  # a bug: say so plainly (nothing is half-written: saves are transactions)
-            message = f"unexpected {type(exc).__name__}: {exc}"
-            hint = "nothing was saved by this command; please report it with the command you ran"
-            if self._wants_json(cctx):
-                emit_json({"error": message, "hint": hint, "field": None})
-            else:
-                say(f"error: {message}", multiline=True, err=True)
-                click.echo(f"  what to do: {hint}", err=True)
+            bug = TrapbookError(f"unexpected {type(exc).__name__}: {exc}",
+                                "nothing was saved by this command; please report it with the command you ran")
+            render_error(bug, self._wants_json(cctx))
             cctx.exit(1)
 
 
@@ -137,16 +133,21 @@ class Ctx:
     def notebook(self, create: bool = False, offer_create: bool = False):
         """The notebook at --db. Only `create=True` (init, --create) makes a new one: a
         mistyped path is an error naming it, never a new empty notebook (or folders)."""
-        from ..errors import StoreError
         from ..store import Notebook
 
-        path = self.db_path()
         if create:
-            return Notebook.create(path)
+            return Notebook.create(self.db_path())
+        return Notebook.open(self.existing_path(offer_create))
+
+    def existing_path(self, offer_create: bool = False) -> Path:
+        """The --db path, or the error that names it when there is no file there."""
+        from ..errors import StoreError
+
+        path = self.db_path()
         if not path.exists():
             hint = f"create it with 'trapbook init {path}'" + (", or add --create to this command" if offer_create else "")
             raise StoreError(f"no notebook at {path}", hint + "; or check --db / TRAPBOOK_DB", field="db", got=str(path))
-        return Notebook.open(path)
+        return path
 
     def optional_notebook(self):
         """The notebook for settings and caches when a command also works without one:
@@ -557,16 +558,27 @@ def demo(ctx: Ctx, no_ui: bool, strain_tier: str, fresh: bool, as_json: bool) ->
 @click.option("--reset", is_flag=True, help="Go back to the documented defaults.")
 @click.option("--reason", default="settings changed", show_default=True,
               help="Why the thresholds change (recorded with your name in the notebook's history).")
-@json_option(help="Print {name: value} of every check threshold in force.")
+@click.option("--history", is_flag=True, help="List every change of the thresholds: version, time, author, reason.")
+@json_option(help="Print {name: value} of every check threshold in force "
+                  "(with --history: [{version, value, author, time, reason}]).")
 @pass_ctx
-def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, reason: str, as_json: bool) -> None:
+def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, reason: str, history: bool, as_json: bool) -> None:
     """Check thresholds of this notebook (trap minimum, water, concentration, ...).
 
     Every change is kept as a version (who, when, why) that `verify` checks.
     """
-    from ..settings import notebook_check_settings, update_check_settings
+    from ..settings import CHECKS_KEY, notebook_check_settings, update_check_settings
 
     with ctx.notebook() as nb:
+        if history:
+            versions = nb.setting_history(CHECKS_KEY)
+            if as_json:
+                emit_json(versions)
+            for v in [] if as_json else versions:
+                say(f"v{v['version']}  {v['time'][:19].replace('T', ' ')} UTC  {v['author']}: {v['reason']}")
+            if not versions and not as_json:
+                say("the documented defaults are in force; no change was ever saved")
+            return
         if reset or assignments:
             current = update_check_settings(nb, assignments, reset=reset, author=ctx.author, reason=reason)
         else:

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import click
 
+from ..errors import TrapbookError
 from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
 
@@ -56,22 +57,28 @@ def attachment_cmd(ctx: Ctx, run_id: str, which: str, output: str, as_json: bool
 
 
 @main.command("formats")
-@json_option(help='Print a list of {"name", "import"}.')
+@json_option(help='Print a list of {"name", "import", "problem"} (problem: why a plugin cannot be loaded, else null).')
 def formats_cmd(as_json: bool) -> None:
-    """List the export formats (built in, and added by installed plugins)."""
+    """List the export formats (built in, and added by installed plugins).
+
+    A plugin that fails to load is listed with its problem, so the failure is seen
+    rather than hidden; the other formats stay usable.
+    """
     from ..exchange import registry
 
     rows = []
     for name in registry.known_formats():
         if name == "jsonl":
-            rows.append({"name": name, "import": True})
+            rows.append({"name": name, "import": True, "problem": None})
             continue
         try:
-            rows.append({"name": name, "import": bool(registry.spec(name).get("import"))})
-        except Exception:  # a broken plugin is listed, not fatal
-            rows.append({"name": name, "import": False})
+            rows.append({"name": name, "import": bool(registry.spec(name).get("import")), "problem": None})
+        except Exception as exc:  # a broken plugin: shown as broken, with why
+            problem = exc.message if isinstance(exc, TrapbookError) else f"{type(exc).__name__}: {exc}"
+            rows.append({"name": name, "import": False, "problem": problem})
     if as_json:
         emit_json(rows)
     else:
         for r in rows:
-            say(f"{r['name']:10} export{' + import' if r['import'] else ''}")
+            line = f"{r['name']:10} export{' + import' if r['import'] else ''}"
+            say(line if not r["problem"] else f"{r['name']:10} BROKEN: {r['problem']}")

@@ -34,7 +34,7 @@ def verify(ctx: Ctx, no_files: bool, noted_head: str | None, as_json: bool) -> N
     """
     from ..integrity import verify_path
 
-    report = verify_path(ctx.db_path(), check_files=not no_files, noted_head=noted_head).to_dict()
+    report = verify_path(ctx.existing_path(), check_files=not no_files, noted_head=noted_head).to_dict()
     if as_json:
         emit_json(report)
     else:
@@ -64,7 +64,7 @@ def backup(ctx: Ctx, dest: str, as_json: bool) -> None:
     """
     from ..backup import backup as do_backup
 
-    res = do_backup(ctx.db_path(), dest)
+    res = do_backup(ctx.existing_path(), dest)
     if as_json:
         emit_json(res)
     else:

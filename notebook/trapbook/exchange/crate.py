@@ -68,7 +68,7 @@ def export(nb, runs, screen=None, output=None):
         crate.name = f"Trapbook runs ({len(runs)})" if not screen else f"Trapbook screen {screens[0].id}: {screens[0].name}"
         crate.description = ("Trapping runs exported from a Trapbook notebook: each run's record (JSON), its version "
                              "history, screens, attached files and an Open Reaction Database dataset.")
-        crate.datePublished = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+        crate.datePublished = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
         crate.root_dataset["keywords"] = ["trapping experiment", "strained intermediate", "lab notebook"]
         notes: list[str] = []
         seen_blobs: set[str] = set()

@@ -76,9 +76,8 @@ def _one(item, run_id: str, n: int) -> HistoryVersion:
 
 def checked_history(run_id: str, items: list) -> list[HistoryVersion]:
     """The versions of `run_id` as given, or a RecordError naming the first broken link."""
-    from .chain import version_hash
-
     from ..text_rules import validate_run_id
+    from .chain import version_hash
 
     try:
         validate_run_id(run_id)

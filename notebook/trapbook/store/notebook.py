@@ -1,9 +1,10 @@
-"""The notebook file: runs and screens with an immutable, hash-chained version history.
+"""The notebook file: runs, screens and settings with an immutable, hash-chained version history.
 
-Every save appends a version (author, UTC time, reason, SHA-256 of the canonical JSON,
-hash of the previous version) inside one SQLite transaction, so a crash leaves either
-the whole save or none of it. A save made from a stale version is refused, never merged.
-Runs are withdrawn, never deleted.
+Every save appends a version (author, UTC time, reason, SHA-256 of the content, hash of
+the previous version) and an entry in the notebook's log of saves (store/chain.py) inside
+one SQLite transaction, so a crash leaves either the whole save or none of it. A save
+made from a stale version is refused, never merged. Runs are withdrawn, never deleted.
+Opening and locking live in store/connect.py.
 """
 
 from __future__ import annotations

@@ -10,6 +10,7 @@ from typing import Any
 
 from rich.markup import escape
 
+from ..display import fmt_minutes, fmt_temp_c, fmt_yield
 from ..text_safety import printable
 
 #: How a severity is marked in tables and the checks panel (our own marks).
@@ -46,24 +47,10 @@ def qtext(value: Any) -> str:
     return str(value)
 
 
-def temp_text(c: float | None) -> str:
-    return "—" if c is None else f"{c:.0f} °C"
-
-
-def minutes_text(m: float | None) -> str:
-    if m is None:
-        return "—"
-    if m >= 60:
-        h = m / 60
-        return f"{h:.0f} h" if abs(h - round(h)) < 1e-9 else f"{h:.1f} h"
-    return f"{m:.0f} min"
-
-
-def yield_text(pct: float | None, kind: str | None = None) -> str:
-    if pct is None:
-        return "—"
-    mark = "ⁿ" if kind == "NMR" else ""
-    return f"{pct:.0f} %{mark}"
+# Temperatures, durations and yields are written as everywhere else (display.py).
+temp_text = fmt_temp_c
+minutes_text = fmt_minutes
+yield_text = fmt_yield
 
 
 def worst_text(worst: str | None) -> tuple[str, str]:
