@@ -12,6 +12,7 @@ from the accurate number, which is why it is never acted on.
 from __future__ import annotations
 
 import argparse
+import os
 import statistics
 import sys
 import time
@@ -65,11 +66,13 @@ EXPECTED = {  # the class the bench knows for each molecule (docs/sources.md, "S
 }
 
 
-def run_one(smiles: str, tier: str) -> tuple[dict, float]:
+def run_one(smiles: str, tier: str) -> tuple[dict, float, float]:
+    """Result, wall seconds and CPU seconds of this process (the CPU figure does not grow
+    when other work shares the machine; conformer work here runs in-process)."""
     strain.reference_species.cache_clear()
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), time.process_time()
     result = strain.compute_strain(smiles, tier=tier)
-    return result, time.perf_counter() - t0
+    return result, time.perf_counter() - t0, time.process_time() - c0
 
 
 def measure_cache_hit(tier: str = "fast", repeats: int = 20) -> float | None:
@@ -102,11 +105,12 @@ def table(kind: str, tier: str, repeat: bool) -> tuple[list[float], int, int]:
     quantity = stability.quantity_of(kind)
     print(f"\n-- {kind} ({tier}; classed by {quantity})")
     print(f"{'molecule':32s} {'value':>7s} {'OS':>6s} {'ring':>6s} {'excess':>6s} {'class':>22s} {'known':>22s} "
-          f"{'WBO':>5s} {'conf':>4s} {'s':>6s}" + ("  rerun d" if repeat else ""))
-    times, agree, known = [], 0, 0
+          f"{'WBO':>5s} {'conf':>4s} {'s':>6s} {'cpu s':>6s}" + ("  rerun d" if repeat else ""))
+    times, cpus, agree, known = [], [], 0, 0
     for name, smiles in SERIES[kind]:
-        r, dt = run_one(smiles, tier)
+        r, dt, cpu = run_one(smiles, tier)
         times.append(dt)
+        cpus.append(cpu)
         expected = EXPECTED.get(name)
         cls = r["stability_class"]
         if expected is not None and tier == "accurate":
@@ -115,12 +119,13 @@ def table(kind: str, tier: str, repeat: bool) -> tuple[list[float], int, int]:
         line = (f"{name:32s} {_cell(r['strain_kcal_mol'], '7.2f')} {_cell(r['olefin_strain_kcal_mol'], '6.1f')} "
                 f"{_cell(r.get('ring_strain_kcal_mol'), '6.1f')} {_cell(r.get('excess_strain_kcal_mol'), '6.1f')} "
                 f"{cls or 'no class (prescreen)':>22s} {expected or '':>22s} {_cell(r['wiberg_bond_order'], '5.2f')} "
-                f"{r['conformers']:>4d} {dt:6.2f}")
+                f"{r['conformers']:>4d} {dt:6.2f} {cpu:6.2f}")
         if repeat:
-            again, _ = run_one(smiles, tier)
+            again, _, _ = run_one(smiles, tier)
             line += f"  {again['strain_kcal_mol'] - r['strain_kcal_mol']:+.3f}"
         print(line, flush=True)
-    print(f"{kind}: median {statistics.median(times):.2f} s, max {max(times):.2f} s, n = {len(times)}")
+    print(f"{kind}: median {statistics.median(times):.2f} s (cpu {statistics.median(cpus):.2f} s), "
+          f"max {max(times):.2f} s, n = {len(times)}")
     return times, agree, known
 
 
@@ -151,6 +156,9 @@ def main(argv: list[str]) -> int:
         print(f"\nall kinds ({tier}): median {statistics.median(all_times):.2f} s, max {max(all_times):.2f} s, "
               f"n = {len(all_times)}" + (f"; class agrees with the bench on {agree}/{known}" if known else ""))
         cyclooctene_gap(tier)
+    if os.getloadavg()[0] > (os.cpu_count() or 1):
+        print(f"note: load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores; wall times are inflated, "
+              "the cpu column is closer to an unshared machine")
     hit = measure_cache_hit()
     print(f"cache hit (notebook lookup, median of 20): {hit:.4f} s")
     strain.shutdown()

@@ -132,6 +132,7 @@ def test_json_error_is_an_object_on_stdout_exit_2(cli, tmp_path, minimal_run):
     data = json.loads(res.stdout)
     assert set(data) == {"error", "hint", "field"}
     assert "volume '2 mg' is a mass" in data["error"] and data["hint"]
+    assert "volume" in data["field"]  # the refused input, for code to branch on
     assert res.stderr == ""
     # without --json the same refusal is words on stderr and nothing on stdout
     res = cli("amounts", str(p))

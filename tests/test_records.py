@@ -309,3 +309,18 @@ def test_absurd_outcome_numbers_are_refused(minimal_run, result):
 def test_run_file_text_with_unreadable_numbers_is_a_record_error(text):
     with pytest.raises(RecordError):
         load_run_text(text)
+
+
+def test_the_notebook_setting_gives_rt_and_overnight_their_numbers(notebook, minimal_run):
+    from trapbook.errors import TrapbookError
+    from trapbook.settings import notebook_bench_words, update_check_settings
+
+    minimal_run["steps"][2] = {"temperature": "rt", "hold": "overnight"}
+    update_check_settings(notebook, ["room_temperature_c=21", "overnight_h=18"], author="tester")
+    res = notebook.add_run(with_bench_words(load_run(minimal_run), notebook_bench_words(notebook)), author="tester")
+    step = notebook.get_run(res.run_id).steps[2]
+    assert to_canonical(step.temperature, "temperature") == 21.0  # the lab's own values, as set
+    assert to_canonical(step.hold, "duration") == 18 * 60  # Source: SI Brochure Table 8, 1 h = 60 min
+    assert "notebook" in step.temperature_basis
+    with pytest.raises(TrapbookError, match="room temperature"):
+        update_check_settings(notebook, ["room_temperature_c=60"], author="tester")

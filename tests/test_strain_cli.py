@@ -10,8 +10,8 @@ import json
 
 import pytest
 from click.testing import CliRunner
-from samples import MINIMAL_RUN
 
+from samples import MINIMAL_RUN
 from trapbook.cli import main
 
 BENZYNE_PRECURSOR = "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F"

@@ -47,7 +47,7 @@ def _sub(s: str) -> str:
 
 @st.composite
 def intermediates(draw):
-    kind = draw(st.sampled_from(["aryne", "hetaryne", "naphthalyne", "cycloalkyne", "allene", "bridgehead"]))
+    kind = draw(st.sampled_from(["aryne", "hetaryne", "naphthalyne", "cycloalkyne", "allene", "bridgehead", "benzo"]))
     a, b = draw(st.sampled_from(SUBSTITUENTS)), draw(st.sampled_from(SUBSTITUENTS))
     if kind == "aryne":
         return f"C1{_sub(a)}=CC{_sub(b)}=CC#C1"
@@ -55,6 +55,9 @@ def intermediates(draw):
         return draw(st.sampled_from([f"C1{_sub(a)}=NC=CC#C1", f"N1=C{_sub(a)}C=CC#C1", f"C1=NC{_sub(a)}=CC#C1"]))
     if kind == "naphthalyne":
         return f"C1{_sub(a)}=CC2=CC#CC=C2C=C1"
+    if kind == "benzo":  # benzo-fused cycloalkynes and cyclic allenes, substituted on the arene
+        return draw(st.sampled_from([f"C1CC#CCCc2cc{_sub(a)}ccc21", f"C1C=C=CCc2c{_sub(a)}cccc21",
+                                     f"C1=CC=C2C(=C1{_sub(a)})CC#CCC3=CC=CC=C23"]))
     n = draw(st.integers(min_value=7, max_value=10))
     ring_atom = draw(st.sampled_from(["C", "O", "[Si](C)C", "N(C)"]))
     if kind == "cycloalkyne":
@@ -137,6 +140,11 @@ def test_ring_strain_scheme_of_cyclooctane_is_the_classic_one():
     assert coeffs == {"C1CCCCCCC1": 1, "CC": 8, "CCC": -8}
 
 
-def test_no_ring_strain_claimed_across_an_aromatic_ring():
-    # common practice, no source: methyl caps would count aromatic stabilisation as strain.
-    assert sch.ring_strain_scheme(Chem.MolFromSmiles("c1ccc2c(c1)CCCCCC2")) is None
+def test_a_fused_arene_is_one_group_and_a_ring_alkene_has_none():
+    # common practice, no source: methyl caps on single aromatic atoms would count aromatic
+    # stabilisation as strain, so a fused benzene enters whole, as o-xylene.
+    ring = sch.ring_strain_scheme(Chem.MolFromSmiles("c1ccc2c(c1)CCCCCC2"))
+    coeffs = {t.smiles: t.coefficient for t in ring.terms}
+    assert coeffs["Cc1ccccc1C"] == -1 and coeffs["CCC"] == -6 and coeffs["CC"] == 7
+    assert net_atoms(ring) == {}
+    assert sch.ring_strain_scheme(Chem.MolFromSmiles("C1=CCCCCCC1")) is None

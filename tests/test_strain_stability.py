@@ -103,3 +103,19 @@ def test_class_limits_cover_the_whole_line_without_gaps(kind):
 
 def test_class_limits_unknown_kind_is_empty():
     assert class_limits("none") == []
+
+
+def test_an_unconverged_result_never_clears_a_run_of_its_trap():
+    # common practice, no source: an unfinished geometry optimisation may hide strain.
+    j = judge({"tier": "accurate", "kind": "bridgehead alkene", "olefin_strain_kcal_mol": 12.7, "converged": False})
+    assert j.stability == "isolable" and j.needs_trap is True and "converged" in j.words
+
+
+@pytest.mark.parametrize("kind,value", [("bridgehead alkene", 16.0), ("cycloalkyne", 23.9), ("cyclic allene", 8.3)])
+def test_a_number_just_below_a_trap_class_is_judged_as_needing_a_trap(kind, value):
+    # common practice, no source: GFN2-xTB strain carries errors of a few kcal/mol, so a value
+    # within BORDER_KCAL of a limit to a trap-needing class keeps its class name but needs a trap.
+    j = judge(accurate(kind, value))
+    assert j.stability == "isolable" and j.needs_trap is True and "uncertainty" in j.words
+    clear = judge(accurate(kind, value - stability.BORDER_KCAL - 0.1))
+    assert clear.needs_trap is False

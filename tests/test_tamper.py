@@ -387,3 +387,22 @@ def test_a_head_noted_elsewhere_catches_the_rewrite_the_file_alone_cannot(templa
     assert integrity.verify_path(cut).ok
     codes = {p.code for p in integrity.verify_path(cut, noted_head=noted).problems}
     assert codes == {"head-mismatch"}
+
+
+def test_a_new_alignment_result_rejudges_the_runs_so_verify_stays_clean(tmp_path, monkeypatch):
+    """A cached result that changes a run's findings must reach its stored summary at once,
+    or the list would show stale findings (and verify would rightly say so)."""
+    from samples import MINIMAL_RUN
+    from trapbook.chemistry import alignment
+    from trapbook.strain_link import get_alignment
+
+    # a stand-in result in the engine's own shape: the check reads only the verdict and the angle
+    monkeypatch.setattr(alignment, "precursor_alignment",
+                        lambda smiles, temperature_c=25.0: {"verdict": "poor alignment", "weighted_dihedral_deg": 95.0})
+    path = tmp_path / "nb.sqlite"
+    with Notebook.create(path) as nb:
+        rid = nb.add_run(MINIMAL_RUN, author="A. Trial").run_id
+        get_alignment(nb, MINIMAL_RUN["lines"][0]["smiles"])
+        codes = json.loads(nb.conn.execute("SELECT findings FROM run_index WHERE run_id = ?", (rid,)).fetchone()[0])
+    assert "precursor-misaligned" in codes
+    assert integrity.verify_path(path).ok

@@ -20,6 +20,7 @@ from pathlib import Path
 
 from .errors import StoreError
 from .files import atomic_target
+from .store.connect import uri
 
 
 def _stamp() -> str:
@@ -30,7 +31,7 @@ def _copy_db(src: Path, dest: Path) -> None:
     """Consistent snapshot of `src` into a new file `dest` (written beside it, then renamed)."""
     try:
         with atomic_target(dest) as part:
-            s = sqlite3.connect(f"file:{src}?mode=ro", uri=True, timeout=30.0)
+            s = sqlite3.connect(uri(src, "mode=ro"), uri=True, timeout=30.0)
             s.execute("PRAGMA busy_timeout=30000")
             d = sqlite3.connect(str(part))
             try:
@@ -141,7 +142,7 @@ def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = Fal
     # Into the target through the backup API as well: a process that has the target open
     # sees the restored content on its next read instead of a file swapped under it.
     try:
-        s = sqlite3.connect(f"file:{src_p}?mode=ro", uri=True, timeout=30.0)
+        s = sqlite3.connect(uri(src_p, "mode=ro"), uri=True, timeout=30.0)
         d = sqlite3.connect(str(tgt), timeout=30.0)
         try:
             d.execute("PRAGMA busy_timeout=30000")

@@ -115,3 +115,28 @@ def fmt_yield(pct: float | None, kind: str | None = None) -> str:
     if pct is None:
         return DASH
     return f"{pct:.0f} %" + ("ⁿ" if kind == "NMR" else "")
+
+
+def fmt_volume(ul: float | None) -> str:
+    """A volume with its unit: µL to 1 µL below a millilitre, then mL to 3 significant figures
+    (150 µL, 1.00 mL, 12.5 mL) — how a paper writes a syringe and a solvent volume."""
+    if ul is None:
+        return DASH
+    if abs(ul) < 1000:
+        return f"{fmt_ul(ul)} µL"
+    return f"{fmt_sig(ul / 1000.0, 3)} mL"
+
+
+def fmt_equiv_paper(x: float | None) -> str:
+    """Equivalents as a paper writes them: one decimal (10.0, 1.5, 3.1); below 0.1 equiv, two
+    significant figures (0.05). Bench tables keep `fmt_equiv`'s two decimals to tell 1.25
+    from 1.3 while weighing; a published procedure rounds to one (common practice, no source)."""
+    if x is None:
+        return DASH
+    if not math.isfinite(x):
+        return str(x)
+    if 0 < abs(x) < 0.1:
+        return fmt_sig(x, 2)
+    if abs(x) >= 1e6:
+        return f"{x:.0e}"
+    return f"{x:.1f}"

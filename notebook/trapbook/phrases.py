@@ -3,6 +3,8 @@
 
 from __future__ import annotations
 
+import re
+
 from .bench_words import hold_words, temperature_words
 from .units import unit_text
 
@@ -49,3 +51,26 @@ def yield_phrases(y, digits: int = 0, with_mmol: bool = False) -> list[str]:
         source = f" ({y.ee_source})" if y.ee_source else ""
         bits.append(f"ee {y.ee_pct:.{digits}f} %{source}")
     return bits
+
+
+def paper_quantity(q) -> str:
+    """A quantity as printed in a paper: '−78 °C', '2 h' (a true minus sign, the unit as written)."""
+    return quantity_words(q).replace("-", "\u2212", 1) if q is not None and q.magnitude < 0 else quantity_words(q)
+
+
+def temperature_as_written(step) -> str:
+    """The step's temperature in the chemist's own words for a paper: 'rt', '0 °C to rt', '−78 °C'."""
+    if step.temperature is None:
+        return ""
+    if step.temperature_written:
+        return re.sub(r"(?<![\w.])-(?=\s?\d)", "\u2212", step.temperature_written)
+    if step.temperature_end is not None:
+        return f"{paper_quantity(step.temperature)} to {paper_quantity(step.temperature_end)}"
+    return paper_quantity(step.temperature)
+
+
+def hold_as_written(step) -> str:
+    """The step's hold in the chemist's own words for a paper: 'overnight', '2 h'."""
+    if step.hold is None:
+        return ""
+    return step.hold_written or paper_quantity(step.hold)

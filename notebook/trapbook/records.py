@@ -29,6 +29,7 @@ from .units import (
     Equiv,
     Fraction,
     Mass,
+    Measured,
     Molarity,
     MolarMass,
     Temperature,
@@ -127,6 +128,9 @@ class Line(_Model):
     water: Fraction | None = Field(default=None, description="water content of the form used, e.g. '5 wt%'")
     molar_mass: MolarMass | None = Field(default=None, description="explicit molar mass; overrides the one computed from SMILES")
     limiting: bool = False
+    actual: Measured | None = Field(default=None, description=(
+        "what was actually weighed or measured, once done: a mass, volume or amount ('31.2 mg'); "
+        "equiv, concentration and yields are then worked out from it"))
     lot: SingleLine | None = None
     note: Note | None = None
 
@@ -169,6 +173,10 @@ class Line(_Model):
             raise ValueError("give molarity (stock solution) or density (neat liquid), not both")
         if self.limiting and self.equiv is not None:
             raise ValueError("the limiting line needs an amount, mass or volume, not equiv")
+        if self.actual is not None:
+            if self.role == "product":
+                raise ValueError("a product line has nothing weighed in; record what was obtained in the outcome")
+            _positive(self.actual, "actual (what was weighed or measured)")
         return self
 
     @property
@@ -242,6 +250,30 @@ class Step(_Model):
         return min(self.temperatures_c(), default=None)
 
 
+class SpectrumRecord(_Model):
+    """How Trapbook made a qNMR record's integrals from an attached FID (trapbook.spectra)."""
+
+    attachment_sha256: str = Field(pattern=r"^[0-9a-f]{64}$", description="SHA-256 of the attached raw data")
+    attachment_name: SingleLine | None = None
+    standard_region: tuple[float, float] = Field(description="ppm range integrated for the internal standard")
+    product_region: tuple[float, float] = Field(description="ppm range integrated for the product")
+    processing: dict[str, Any] = Field(default_factory=dict, description="every processing parameter and what it found")
+
+    @field_validator("standard_region", "product_region")
+    @classmethod
+    def _ppm_range(cls, v: tuple[float, float]) -> tuple[float, float]:
+        if not all(math.isfinite(x) and -50 <= x <= 250 for x in v) or v[0] >= v[1]:
+            raise ValueError(f"{v} is not a ppm range LOW..HIGH within -50..250 ppm")
+        return v
+
+    @field_validator("processing")
+    @classmethod
+    def _small(cls, v: dict[str, Any]) -> dict[str, Any]:
+        if len(json.dumps(v, default=str)) > 20_000:  # a processing record is a few hundred characters
+            raise ValueError("the processing record is far larger than one can be; it was not written by Trapbook")
+        return v
+
+
 class QNMR(_Model):
     """Integrals for an NMR yield against an internal standard."""
 
@@ -251,6 +283,7 @@ class QNMR(_Model):
     standard_protons: int = Field(gt=0, le=100)
     integral: float = Field(ge=0, le=INTEGRAL_MAX, allow_inf_nan=False)
     protons: int = Field(gt=0, le=100)
+    spectrum: SpectrumRecord | None = Field(default=None, description="set when the integrals come from an attached FID")
 
     @field_validator("standard_integral")
     @classmethod
@@ -290,6 +323,9 @@ class ProductResult(_Model):
     er: SingleLine | None = Field(default=None, description="enantiomer ratio, major:minor, e.g. '95:5'")
     ee: float | None = Field(default=None, ge=-100, le=100, allow_inf_nan=False, description="enantiomeric excess in percent")
     hrms: HRMS | None = Field(default=None, description="high-resolution mass found, e.g. {ion: '[M+Na]+', found_mz: 213.1248}")
+    appearance: SingleLine | None = Field(default=None, description="what the product looks like, e.g. 'white solid'")
+    rf: float | None = Field(default=None, ge=0, le=1, allow_inf_nan=False, description="TLC Rf in the chromatography eluent")
+    nmr_text: Note | None = Field(default=None, description="NMR data as written for the paper, e.g. '1H NMR (400 MHz, CDCl3) δ ...'")
     note: Note | None = None
 
     @field_validator("dr", "er", mode="before")
@@ -315,6 +351,8 @@ class Outcome(_Model):
     products: list[ProductResult] = Field(default_factory=list, max_length=MAX_PRODUCTS)
     recovered_precursor: Mass | None = Field(default=None, description="mass of precursor recovered")
     observations: Note | None = None
+    workup: Note | None = Field(default=None, description="the work-up as done, e.g. 'filtered through a silica plug (Et2O), concentrated'")
+    eluent: SingleLine | None = Field(default=None, description="flash chromatography eluent, e.g. 'pentane/Et2O 20:1'")
 
 
 class Attachment(_Model):

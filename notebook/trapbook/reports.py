@@ -179,6 +179,7 @@ def run_report_html(nb, run_id: str) -> str:
     """The whole run on one page: structures, amounts, steps, checks, outcome, strain."""
     from .findings import findings_for
     from .review import shown_strain
+    from .spectra.figures import run_spectra_html
 
     run = nb.get_run(run_id)
     meta = nb.run_meta(run_id)
@@ -196,7 +197,7 @@ def run_report_html(nb, run_id: str) -> str:
             "<h2>Amounts</h2>", _amounts_table(run),
             "<h2>Steps</h2>", _steps(run),
             "<h2>Bench checks</h2>", _findings_html(findings, problem),
-            "<h2>Outcome</h2>", _outcome(run),
+            "<h2>Outcome</h2>", _outcome(run), run_spectra_html(nb, run),
             "<h2>Strain</h2>", _strain_card(strain)]
     if run.notes:
         body += ["<h2>Notes</h2>", f"<p>{e(run.notes)}</p>"]

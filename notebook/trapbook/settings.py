@@ -98,22 +98,16 @@ def login_name() -> str:
 
 # --- the bench's words ------------------------------------------------------------------
 
-BENCH_WORDS_KEY = "bench_words"
-
 
 def notebook_bench_words(nb):
-    """What this notebook means by 'rt' and 'overnight' (the `bench_words` defaults where none is set).
+    """What this notebook means by 'rt' and 'overnight': its settings `room_temperature_c` and
+    `overnight_h` (set like the check thresholds, `trapbook settings --set room_temperature_c=20`).
 
-    Pass the result to `records.load_run(data, words)` so a run file's words get this lab's numbers.
+    Pass the result to `records.load_run(data, words)` or `records.with_bench_words(run, words)`.
     """
-    from .bench_words import OVERNIGHT_H, ROOM_TEMPERATURE_C, BenchWords
+    from .bench_words import BenchWords
 
-    data = nb.get_setting(BENCH_WORDS_KEY, None) if nb is not None else None
-    if not data:
+    s = notebook_check_settings(nb)
+    if (s.room_temperature_c, s.overnight_h) == (BenchWords().room_temperature_c, BenchWords().overnight_h):
         return BenchWords()
-    try:
-        return BenchWords(room_temperature_c=float(data.get("room_temperature_c", ROOM_TEMPERATURE_C)),
-                          overnight_h=float(data.get("overnight_h", OVERNIGHT_H)), source="this notebook's setting")
-    except (AttributeError, TypeError, ValueError):
-        raise TrapbookError("the notebook's setting for 'rt' and 'overnight' cannot be read",
-                            "set it again (room_temperature_c, overnight_h)") from None
+    return BenchWords(s.room_temperature_c, s.overnight_h, source="this notebook's setting")

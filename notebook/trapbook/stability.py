@@ -7,7 +7,8 @@ aryne's strain of the formal triple bond. The class limits come from what is kno
 bench about real members of each kind (docs/sources.md, section "Strain").
 
 Safety rule: a result is only ever judged "survives without a trap" when its kind and its
-number put it in a class whose source says so. Fast-tier (force-field) numbers are a
+number put it in a class whose source says so, and not within BORDER_KCAL of a limit to a
+class that needs one. Fast-tier (force-field) numbers are a
 prescreen and are never judged; neither is a failed or unfinished result.
 
 This module is light on purpose (no RDKit): checks and screens call it on every save.
@@ -26,6 +27,9 @@ ARYNE = "aryne"
 
 #: tier whose numbers may be acted on; the other tier is a labelled prescreen
 ACTIONABLE_TIER = "accurate"
+#: a number this close below a limit to a class that needs a trap is judged as needing one
+#: (GFN2-xTB strain energies carry errors of a few kcal/mol; common practice, no source)
+BORDER_KCAL = 2.0
 
 
 @dataclass(frozen=True)
@@ -164,7 +168,22 @@ def judge(result: dict | None) -> Judgement | None:
         return None
     band = next(b for b in rule.bands if b.below_top(value))
     words = f"{rule.quantity} {value:.1f} kcal/mol: {band.name}; {band.words}."
-    return Judgement(result["kind"], rule.quantity, value, band.name, band.needs_trap, words, rule.source)
+    needs_trap = band.needs_trap
+    above = _next_band(rule, band)
+    if not needs_trap and above is not None and above.needs_trap and above.low - value < BORDER_KCAL:
+        needs_trap = True
+        words += (f" It lies within {BORDER_KCAL:g} kcal/mol of the {above.name} limit ({above.low:g}), inside the "
+                  "method's uncertainty: treat it as needing a trap.")
+    if result.get("converged") is False and not needs_trap:
+        # an unconverged geometry may hide strain: never let it clear a run of its trap
+        needs_trap = True
+        words += " Not every geometry converged, so treat it as needing a trap until recomputed."
+    return Judgement(result["kind"], rule.quantity, value, band.name, needs_trap, words, rule.source)
+
+
+def _next_band(rule: KindRule, band: ClassBand) -> ClassBand | None:
+    i = rule.bands.index(band)
+    return rule.bands[i + 1] if i + 1 < len(rule.bands) else None
 
 
 def class_limits(kind: str) -> list[tuple[float | None, float | None, str]]:

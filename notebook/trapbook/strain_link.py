@@ -120,16 +120,17 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
     return result
 
 
-def rejudge_runs_with(nb, smiles: str) -> list[str]:
-    """Re-run the stored checks of runs with this intermediate: a new strain result can change them."""
+def rejudge_runs_with(nb, smiles: str, part: str = "intermediate") -> list[str]:
+    """Re-run the stored checks of runs with this intermediate (or, with part="precursor", this
+    precursor): a new strain or alignment result can change them, and `verify` compares."""
     from .chemistry.molecules import canonical
 
     try:
         canon = canonical(smiles)
         rows = nb.conn.execute(
             "SELECT DISTINCT rs.run_id FROM run_structures rs JOIN structures s ON s.id = rs.structure_id "
-            "WHERE rs.part = 'intermediate' AND s.smiles = ?",
-            (canon,),
+            "WHERE rs.part = ? AND s.smiles = ?",
+            (part, canon),
         ).fetchall()
     except sqlite3.OperationalError:  # a notebook without search tables: nothing to re-judge by structure
         return []
@@ -179,4 +180,5 @@ def get_alignment(nb, smiles: str, compute: bool = True, temperature_c: float = 
     result = alignment.precursor_alignment(smiles, temperature_c=temperature_c)
     if nb is not None and not nb.read_only:  # a notebook that cannot be written here caches nothing
         nb.cache_put(key, smiles, ALIGNMENT_TIER, ENGINE_VERSION, result)
+        rejudge_runs_with(nb, smiles, part="precursor")
     return result

@@ -375,6 +375,44 @@ MolarMass = quantity_type("molar_mass")
 Fraction = quantity_type("fraction")
 Equiv = quantity_type("equiv")
 
+#: The kinds a bench measurement can be: what a balance, a syringe or a count of moles reads.
+MEASURED_KINDS = ("mass", "volume", "amount")
+
+
+def parse_measured(value: Any) -> pint.Quantity:
+    """A weighed or measured quantity: a mass, a volume or an amount of substance, by its unit."""
+    if isinstance(value, (int, float)) or (isinstance(value, str) and not re.search(r"[A-Za-zµμ]", value)):
+        raise UnitError(f"'{shown_input(value)}' has no unit; a weighed or measured amount needs one",
+                        "write it with its unit, e.g. '31.2 mg', '150 µL' or '0.105 mmol'", field="actual")
+    for kind in MEASURED_KINDS:
+        try:
+            return parse_quantity(value, kind)
+        except UnitError as exc:
+            if exc.expected is None and exc.got is None:  # not a dimension mismatch: the value itself is wrong
+                raise
+    raise UnitError(f"'{shown_input(value)}' is not a mass, a volume or an amount of substance",
+                    "write what was weighed or measured, e.g. '31.2 mg', '150 µL' or '0.105 mmol'", field="actual")
+
+
+Measured = Annotated[
+    Any,
+    BeforeValidator(parse_measured),
+    PlainSerializer(dump_quantity, return_type=dict | None, when_used="always"),
+    WithJsonSchema({"anyOf": [
+        {"type": "string", "description": "a mass, volume or amount written with its unit, e.g. '31.2 mg', '150 µL'"},
+        {"type": "object", "properties": {"value": {"type": "number"}, "unit": {"type": "string"}},
+         "required": ["value"], "additionalProperties": False},
+    ]}),
+]
+
+
+def measured_kind(q: pint.Quantity) -> str:
+    """Which of mass, volume or amount a measured quantity is."""
+    for kind in MEASURED_KINDS:
+        if q.dimensionality == ureg.parse_expression("1 " + _probe_unit(kind)).dimensionality:
+            return kind
+    raise UnitError(f"{q:~} is not a mass, a volume or an amount", "give one of mg, µL or mmol")
+
 
 # Number display lives in display.py (one rule for every view); these names stay importable here.
 from .display import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul  # noqa: E402,F401

@@ -6,6 +6,7 @@ import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
+from ..bench_words import OVERNIGHT_H, ROOM_TEMPERATURE_C, BenchWords
 from ..errors import TrapbookError
 
 
@@ -27,6 +28,8 @@ SETTING_SOURCES: dict[str, str] = {
     "vessel_fill_max_pct": "common practice, no source (fill a sealed vessel to no more than about half its volume)",
     "yield_disagree_pct": "common practice, no source (isolated and NMR yields of one product usually agree within this many points)",
     "hrms_ppm_max": "common practice, no source (most journals accept an HRMS formula match within 5 ppm; docs/sources.md, Exact masses)",
+    "room_temperature_c": "common practice, no source (what a run file's 'rt' stands for, 15-30 °C; docs/sources.md, Bench words)",
+    "overnight_h": "common practice, no source (what a run file's 'overnight' or 'o/n' stands for, 6-24 h; docs/sources.md, Bench words)",
 }
 
 
@@ -53,6 +56,8 @@ class CheckSettings:
     vessel_fill_max_pct: float = 50.0
     yield_disagree_pct: float = 15.0
     hrms_ppm_max: float = 5.0
+    room_temperature_c: float = ROOM_TEMPERATURE_C  # the bench's words (bench_words), set like the thresholds
+    overnight_h: float = OVERNIGHT_H
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
@@ -64,6 +69,7 @@ class CheckSettings:
         bad = [n for n in positive if getattr(self, n) <= 0]
         if bad:
             raise TrapbookError(f"check settings must be greater than zero: {', '.join(bad)}", "give positive numbers")
+        BenchWords(self.room_temperature_c, self.overnight_h)  # refuses a room temperature or overnight out of range
         if self.concentration_low_M >= self.concentration_high_M:
             raise TrapbookError("concentration_low_M must be below concentration_high_M",
                                 f"got {self.concentration_low_M:g} M and {self.concentration_high_M:g} M")

@@ -159,6 +159,8 @@ def trap_family(trap: Chem.Mol, template: str, prod: Chem.Mol) -> str:
     """The trade's name for the diene or dipole that reacted, for the product's words."""
     if template.startswith("azide"):
         return "azide"
+    if template == "anthracene" and trap.GetRingInfo().NumRings() > 3:
+        return "acene (inner ring)"
     if template != "diene":
         return template
     bridge = next(a for a in prod.GetAtoms() if a.GetPropsAsDict().get("old_mapno") == 7)

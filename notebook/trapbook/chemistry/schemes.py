@@ -176,6 +176,7 @@ NAMES = {
     "C=C": "ethylene",
     "C#C": "acetylene",
     "COC": "dimethyl ether",
+    "Cc1ccccc1C": "o-xylene",
 }
 
 
@@ -285,29 +286,83 @@ def ring_strain_scheme(parent: Chem.Mol) -> Scheme | None:
     """Group-equivalent ring opening of the saturated parent: each heavy atom is taken
     from the acyclic molecule in which its heavy neighbours are methyl (methylene,
     methine) caps, and each cap is paid back as half an ethane (ethylene, acetylene).
+    An aromatic ring system is one group (the arene with methyl caps, e.g. o-xylene for a
+    fused benzene), so its aromatic stabilisation is never counted as strain.
 
-    None when a ring of the parent holds a multiple or aromatic bond: the caps would
-    then count aromatic stabilisation as strain, so no ring strain is claimed.
+    None when a ring holds a non-aromatic multiple bond: no acyclic group matches it.
     """
     ring = parent.GetRingInfo()
-    if any(ring.NumBondRings(b.GetIdx()) and b.GetBondType() != Chem.BondType.SINGLE for b in parent.GetBonds()):
+    if any(ring.NumBondRings(b.GetIdx()) and b.GetBondType() != Chem.BondType.SINGLE and not b.GetIsAromatic()
+           for b in parent.GetBonds()):
         return None
-    kek = Chem.Mol(parent)
-    Chem.Kekulize(kek, clearAromaticFlags=True)
     coeffs: Counter = Counter()
-    for atom in kek.GetAtoms():
-        frag, caps = _fragment(atom)
+    systems = _aromatic_systems(parent)
+    in_system = set().union(*systems) if systems else set()
+    pieces = [_fragment(a) for a in parent.GetAtoms() if a.GetIdx() not in in_system]
+    pieces += [_system_fragment(parent, atoms) for atoms in systems]
+    for frag, caps in pieces:
         coeffs[frag] += 1
         for donor in caps:
             coeffs[donor] -= Fraction(1, 2)
     scheme = Scheme("ring strain of the saturated parent",
-                    "saturated parent + caps -> acyclic molecules with the same atom neighbourhoods")
+                    "saturated parent + caps -> acyclic molecules (and capped arenes) with the same atom neighbourhoods")
     scheme.add(1, Chem.MolToSmiles(parent), "saturated parent")
     for smiles, c in sorted(coeffs.items()):
         if c:
-            scheme.add(-c, smiles, "acyclic group reference", NAMES.get(smiles))
+            scheme.add(-c, smiles, "group reference", NAMES.get(smiles))
     assert_balanced(scheme)
     return scheme
+
+
+def _aromatic_systems(mol: Chem.Mol) -> list[set[int]]:
+    """Atoms of each aromatic ring system (joined through aromatic bonds)."""
+    systems: list[set[int]] = []
+    seen: set[int] = set()
+    for atom in mol.GetAtoms():
+        if not atom.GetIsAromatic() or atom.GetIdx() in seen:
+            continue
+        group, todo = {atom.GetIdx()}, [atom]
+        while todo:
+            cur = todo.pop()
+            for bond in cur.GetBonds():
+                other = bond.GetOtherAtom(cur)
+                if bond.GetIsAromatic() and other.GetIdx() not in group:
+                    group.add(other.GetIdx())
+                    todo.append(other)
+        seen |= group
+        systems.append(group)
+    return systems
+
+
+def _system_fragment(mol: Chem.Mol, atoms: set[int]) -> tuple[str, list[str]]:
+    """An aromatic ring system with its own hydrogens and methyl caps where it is attached."""
+    rw = Chem.RWMol()
+    index = {}
+    for i in sorted(atoms):
+        src = mol.GetAtomWithIdx(i)
+        atom = Chem.Atom(src.GetAtomicNum())
+        atom.SetFormalCharge(src.GetFormalCharge())
+        atom.SetNumExplicitHs(src.GetTotalNumHs())
+        atom.SetNoImplicit(True)
+        atom.SetIsAromatic(True)
+        index[i] = rw.AddAtom(atom)
+    donors = []
+    for bond in mol.GetBonds():
+        i, j = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        if i in atoms and j in atoms:
+            rw.AddBond(index[i], index[j], bond.GetBondType())
+            continue
+        if (i in atoms) == (j in atoms) or mol.GetAtomWithIdx(j if i in atoms else i).GetAtomicNum() == 1:
+            continue
+        cap_smiles, donor = _CAP_OF_BOND.get(bond.GetBondType(), (None, None))
+        if cap_smiles is None:
+            raise ChemistryError("A bond type the ring-strain scheme cannot cap.", "Report the structure.")
+        k = rw.AddAtom(Chem.Atom(Chem.MolFromSmiles(cap_smiles).GetAtomWithIdx(0)))
+        rw.AddBond(index[i if i in atoms else j], k, bond.GetBondType())
+        donors.append(donor)
+    frag = rw.GetMol()
+    Chem.SanitizeMol(frag)
+    return Chem.MolToSmiles(frag), donors
 
 
 def _fragment(atom: Chem.Atom) -> tuple[str, list[str]]:

@@ -133,7 +133,8 @@ def _strain_text(r: dict) -> str:
                  + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else ""))
     for scheme in r.get("schemes") or []:
         lines.append(f"  scheme ({scheme.get('quantity')}): {scheme.get('equation')}")
-    lines.append(f"  method: {r.get('method')}; {r.get('conformers')} conformers; {_fmt(r.get('seconds'), '.1f', ' s')}"
+    n = r.get("conformers")
+    lines.append(f"  method: {r.get('method')}; {n} conformer{'' if n == 1 else 's'}; {_fmt(r.get('seconds'), '.1f', ' s')}"
                  + (" (from the notebook's cache)" if r.get("cached") else ""))
     return "\n".join(lines)
 

@@ -23,7 +23,7 @@ from .readers import RawFID, remove_bruker_filter
 
 PHASE_METHODS = ("tallest-peak", "acme", "acme+p1", "peak_minima")
 #: Half-width of the window around the tallest peak that sets its phase. Common practice, no source.
-PEAK_WINDOW_PPM = 0.1
+PEAK_WINDOW_PPM = 0.015
 #: Points above this many noise widths count as signal when the baseline is fitted.
 #: Common practice, no source.
 SIGNAL_SIGMAS = 4.0

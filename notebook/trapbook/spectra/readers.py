@@ -303,7 +303,10 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
     carrier = o1 / bf1 if o1 is not None and bf1 else 0.0
     notes = [] if bf1 else ["the JCAMP-DX file has no $O1/$BF1: the ppm axis is set by referencing only"]
     _check_axis(name, sw, obs, fid.size)
-    return RawFID(_finite(fid, name), sw, obs, carrier, "jcamp-dx", None, None, notes)
+    decim, dspfvs, grpdly = _jcamp_float(dic, "$DECIM"), _jcamp_float(dic, "$DSPFVS"), _jcamp_float(dic, "$GRPDLY")
+    filt = {"DECIM": decim, "DSPFVS": int(dspfvs), "GRPDLY": grpdly if grpdly is not None else -1.0} \
+        if decim is not None and dspfvs is not None else None  # a Bruker FID exported as JCAMP-DX keeps its filter
+    return RawFID(_finite(fid, name), sw, obs, carrier, "jcamp-dx", None, filt, notes)
 
 
 def _jcamp_float(dic: dict, key: str) -> float | None:

@@ -141,6 +141,11 @@ def _use_wal(conn: sqlite3.Connection, path: Path) -> None:
             time.sleep(0.05 + random.random() * 0.1)
 
 
+def uri(path: Path, query: str) -> str:
+    """A SQLite URI for `path` (percent-encoded, so '?', '#' or '%' in a folder name stay part of the path)."""
+    return f"{Path(path).absolute().as_uri()}?{query}"
+
+
 def writable_here(path: Path) -> bool:
     """Whether this user can write the file and the folder SQLite keeps its journal in."""
     folder = path.parent
@@ -157,7 +162,7 @@ def open_read_only(path: Path) -> sqlite3.Connection:
     last: sqlite3.Error | None = None
     for query in ("mode=ro", "immutable=1"):
         try:
-            conn = sqlite3.connect(f"file:{path}?{query}", uri=True, isolation_level=None, timeout=30.0,
+            conn = sqlite3.connect(uri(path, query), uri=True, isolation_level=None, timeout=30.0,
                                    check_same_thread=False)
             conn.execute("SELECT count(*) FROM sqlite_master").fetchone()
             return conn
@@ -198,7 +203,9 @@ def connect(path: Path, create: bool) -> tuple[sqlite3.Connection, StoreError | 
     conn = None
     if writable_here(path):
         try:
-            conn = sqlite3.connect(str(path), isolation_level=None, timeout=LOCK_SLICE_MS / 1000, check_same_thread=False)
+            # mode=rw when opening: SQLite must not make a new file if this one vanished meanwhile
+            conn = sqlite3.connect(uri(path, "mode=rwc" if create else "mode=rw"), uri=True, isolation_level=None,
+                                   timeout=LOCK_SLICE_MS / 1000, check_same_thread=False)
             _set_busy_timeout(conn)
             _use_wal(conn, path)
             conn.execute("PRAGMA synchronous=FULL")

@@ -24,16 +24,22 @@ class TrapbookApp(App):
     CSS_PATH = "app.tcss"
     TITLE = "Trapbook"
     ENABLE_COMMAND_PALETTE = False
-    #: Under 120 columns the side panels give the forms room (`.-narrow` in app.tcss).
+    #: Under 120 columns the side panels give the forms room (`.-narrow` in app.tcss); under
+    #: 32 lines the tables and the preview give up height (`.-short`).
     HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (120, "-wide")]
+    VERTICAL_BREAKPOINTS = [(0, "-short"), (32, "-tall")]
     BINDINGS = [
         Binding("f1", "keys", "Keys"),
+        Binding("f8", "light_dark", "Light / dark", show=False),
         Binding("f9", "whoami", "Your name on saves", show=False),
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
     def __init__(self, path: str | Path, author: str | None = None, warm: bool = True):
         super().__init__()
+        from .theme import register
+
+        register(self)
         self.path = Path(path).expanduser()
         #: --author for this session; otherwise the notebook's "you are" name (f9) is used.
         self.given_author = author
@@ -123,6 +129,16 @@ class TrapbookApp(App):
             self.report(exc, "Name not kept")
             return
         self.notify(f"Saves in this notebook are recorded as {printable(name)}.", title="Your name", markup=False)
+
+    def action_light_dark(self) -> None:
+        """Switch between the dark and the light variant of Trapbook's theme."""
+        from .theme import DARK, LIGHT
+
+        self.theme = LIGHT.name if self.theme == DARK.name else DARK.name
+        for screen in self.screen_stack:  # text drawn in Python took its colours when it was drawn
+            repaint = getattr(screen, "repaint_colours", None)
+            if repaint is not None:
+                repaint()
 
     def action_keys(self) -> None:
         from .screens.keys import KeysScreen

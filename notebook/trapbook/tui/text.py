@@ -15,7 +15,6 @@ from ..text_safety import printable
 
 #: How a severity is marked in tables and the checks panel (our own marks).
 SEVERITY_MARK = {"stop": "✖", "warn": "▲", "note": "·"}
-SEVERITY_STYLE = {"stop": "bold #ff6f59", "warn": "#f2c14e", "note": "#8fa3b8"}
 
 
 def clip(text: Any, width: int) -> str:
@@ -58,4 +57,6 @@ def worst_text(worst: str | None) -> tuple[str, str]:
     if not worst:
         return "", ""
     sev, _, code = worst.partition(":")
-    return f"{SEVERITY_MARK.get(sev, '?')} {code}", SEVERITY_STYLE.get(sev, "")
+    from .theme import severity_style
+
+    return f"{SEVERITY_MARK.get(sev, '?')} {code}", severity_style(sev)

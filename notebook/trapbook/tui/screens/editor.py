@@ -17,7 +17,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Checkbox, DataTable, Footer, Header, Input, ProgressBar, Static, TabbedContent, TabPane
+from textual.widgets import Checkbox, DataTable, Header, Input, ProgressBar, Static, TabbedContent, TabPane
 
 from ...errors import StaleVersionError, TrapbookError
 from ..outcome_form import PRODUCT_FIELDS
@@ -26,7 +26,8 @@ from ..widgets.field import Field, FormCheck
 from ..widgets.findings import ChecksPanel
 from ..widgets.strain_card import StrainCard
 from ..widgets.timeline import AdditionTrack
-from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin
+from ..widgets.keybar import KeyBar
+from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
 from .workbench.outcome_tab import OUTCOME_FIELDS, PRODUCT_CHECKS, PRODUCT_COLUMNS, OutcomeTabMixin
 from .workbench.repaint import RepaintMixin
@@ -46,20 +47,21 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
     `screens/workbench/`; the state they share is set up here.
     """
 
-    BINDINGS = [
+    BINDINGS = [  # in order of importance: the footer shows the first that fit, f1 lists them all
         Binding("ctrl+s", "save", "Save"),
+        Binding("escape", "leave", "Back"),
+        Binding("f7", "side", "Track/checks"),
         Binding("f2", "tab('tab-run')", "Run tab", show=False),  # the tab titles show f2-f5
         Binding("f3", "tab('tab-lines')", "Lines tab", show=False),
         Binding("f4", "tab('tab-steps')", "Steps tab", show=False),
         Binding("f5", "tab('tab-outcome')", "Outcome tab", show=False),
         Binding("ctrl+n", "blank", "New row"),
         Binding("ctrl+r", "remove", "Remove"),
-        Binding("ctrl+up", "move(-1)", "Move", key_display="^↑/^↓"),
-        Binding("ctrl+down", "move(1)", "Move row down", show=False),
         Binding("ctrl+l", "limiting", "Limiting"),
         Binding("ctrl+g", "strain", "Strain"),
+        Binding("ctrl+up", "move(-1)", "Move", key_display="^↑/^↓"),
+        Binding("ctrl+down", "move(1)", "Move row down", show=False),
         Binding("f6", "history", "History"),
-        Binding("escape", "leave", "Back"),
     ]
 
     def __init__(self, run_id: str | None = None, copy_of: str | None = None):
@@ -142,12 +144,9 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                 with VerticalScroll(id="checks-scroll"):
                     yield ChecksPanel(id="checks")
         yield Static("", id="status")
-        yield Footer()
+        yield KeyBar()
 
     def on_mount(self) -> None:
-        lines = self.query_one("#lines", DataTable)
-        for label, width in LINE_COLUMNS:
-            lines.add_column(label, width=width)
         steps = self.query_one("#steps", DataTable)
         for label, width in STEP_COLUMNS:
             steps.add_column(label, width=width)
@@ -155,12 +154,36 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         for label, width in PRODUCT_COLUMNS:
             products.add_column(label, width=width)
         self.query_one("#strain-progress").display = False
+        self.fit_name_column()
         self.load()
         self.query_one("#line-role", Input).focus()
 
     def on_resize(self) -> None:
+        self.call_after_refresh(self.fit_name_column)
         if self.run is not None:  # the addition track is drawn to the width the side panel has
             self.call_after_refresh(self.recompute)
+
+    def action_side(self) -> None:
+        """f7: the order of additions, strain card and checks — a pane of its own under 120 columns."""
+        self.toggle_class("-side-toggled")
+        narrow = self.has_class("-narrow")
+        if narrow and self.has_class("-side-toggled"):
+            self._focus_before_side = self.focused
+            self.query_one("#checks-scroll").focus()
+        elif narrow:
+            back = getattr(self, "_focus_before_side", None)
+            if back is not None and back.is_attached:
+                back.focus()
+            else:
+                self.action_tab(self._active())
+        self.call_after_refresh(self.fit_name_column)
+        self.call_after_refresh(self.recompute)
+
+    def repaint_colours(self) -> None:
+        """After a change of theme: every panel drawn again in the new colours."""
+        self.__dict__.pop("_shown", None)
+        self.__dict__.pop("_table_rows", None)
+        self.recompute()
 
     @property
     def nb(self):

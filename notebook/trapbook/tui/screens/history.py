@@ -7,9 +7,11 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Header, Static
+from textual.widgets import DataTable, Header, Static
 
 from ..text import clip, shown
+from ..theme import tone
+from ..widgets.keybar import KeyBar
 
 
 class TrailScreen(Screen):
@@ -25,16 +27,16 @@ class TrailScreen(Screen):
         yield Static("", id="trail-title")
         yield DataTable(id="trail", cursor_type="row")
         yield Static("", id="trail-changes")
-        yield Footer()
+        yield KeyBar()
 
     def on_mount(self) -> None:
         nb = self.app.nb
         self.versions = nb.history(self.run_id)
         meta = nb.run_meta(self.run_id)
         title = Text()
-        title.append(f" {self.run_id} ", style="bold #101418 on #7fb7be")
+        title.append(f" {self.run_id} ", style=f"bold {tone('ground')} on {tone('accent')}")
         title.append(f"  {shown(meta['title'])}", style="bold")
-        title.append(f"   {len(self.versions)} version(s)" + (" · withdrawn" if meta["withdrawn"] else ""), style="#8fa3b8")
+        title.append(f"   {len(self.versions)} version(s)" + (" · withdrawn" if meta["withdrawn"] else ""), style=f"{tone('muted')}")
         self.query_one("#trail-title", Static).update(title)
         t = self.query_one("#trail", DataTable)
         for label, width in (("v", 3), ("saved (UTC)", 19), ("by", 14), ("action", 8), ("reason", 36), ("hash", 12)):
@@ -56,7 +58,7 @@ class TrailScreen(Screen):
         v = self.versions[max(0, min(index, len(self.versions) - 1))]
         out = Text()
         out.append(f"Version {v.version}: {shown(v.reason)}\n", style="bold")
-        out.append(f"previous hash {v.prev_hash[:12] if v.prev_hash else '— (first version)'} → {v.hash[:12]}\n\n", style="#8fa3b8")
+        out.append(f"previous hash {v.prev_hash[:12] if v.prev_hash else '— (first version)'} → {v.hash[:12]}\n\n", style=f"{tone('muted')}")
         for c in v.changes:
             out.append("  • " + shown(c) + "\n")
         self.query_one("#trail-changes", Static).update(out)

@@ -10,6 +10,7 @@ from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
+from ..theme import tone
 
 # Keys of the forms that are not bindings (Textual's own widgets handle them).
 FORM_KEYS = [
@@ -55,11 +56,11 @@ def key_table() -> Group:
 
     def section(title: str, rows: list[tuple[str, str]]) -> None:
         t = Table(box=None, padding=(0, 2), show_header=False)
-        t.add_column(style="bold #f0a83c", width=16)
+        t.add_column(style=f"bold {tone('attention')}", width=16)
         t.add_column()
         for k, d in rows:
             t.add_row(k, d)
-        parts.extend([Text(title, style="bold #7fb7be underline"), t, Text("")])
+        parts.extend([Text(title, style=f"bold {tone('accent')} underline"), t, Text("")])
 
     for title, cls in screens:
         rows = []

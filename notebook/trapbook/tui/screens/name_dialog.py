@@ -23,7 +23,7 @@ class NameDialog(ModalScreen[str | None]):
     """Asks for the name recorded on every save in this notebook; Esc keeps things as they are."""
 
     DEFAULT_CSS = """
-    NameDialog { align: center middle; background: #000000 60%; }
+    NameDialog { align: center middle; background: $background 60%; }
     """
     BINDINGS = [Binding("escape", "cancel", "Cancel")]
 

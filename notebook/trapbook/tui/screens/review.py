@@ -14,11 +14,13 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Footer, Header, ProgressBar, Static
+from textual.widgets import Header, ProgressBar, Static
 
 from ...errors import TrapbookError
 from ..text import shown
 from ..widgets.heatgrid import grid
+from ..theme import tone
+from ..widgets.keybar import KeyBar
 
 
 def best_text(review: dict) -> Text:
@@ -26,14 +28,14 @@ def best_text(review: dict) -> Text:
     best = review.get("best")
     if best:
         out.append("Best conditions: ", style="bold")
-        out.append(", ".join(f"{k} = {v}" for k, v in best["factors"].items()), style="bold #f0a83c")
+        out.append(", ".join(f"{k} = {v}" for k, v in best["factors"].items()), style=f"bold {tone('attention')}")
         out.append(f"  →  {best['yield_pct']:.0f} % ({best['yield_kind']}), {best['run_id']}\n")
         if best.get("note"):
-            out.append(best["note"] + "\n", style="italic #8fa3b8")
+            out.append(best["note"] + "\n", style=f"italic {tone('muted')}")
     else:
         out.append("No run of this screen has a yield yet.\n", style="italic")
     for name, levels in (review.get("levels") or {}).items():
-        out.append(f"\n{name}: ", style="bold #7fb7be")
+        out.append(f"\n{name}: ", style=f"bold {tone('accent')}")
         bits = []
         for level, s in levels.items():
             h = s.get("headline") or {}
@@ -44,7 +46,7 @@ def best_text(review: dict) -> Text:
         out.append(" · ".join(bits))
     failed = review.get("failed") or []
     if failed:
-        out.append("\n\nFailed or empty runs:\n", style="bold #ff6f59")
+        out.append("\n\nFailed or empty runs:\n", style=f"bold {tone('stop')}")
         for f in failed:
             why = "; ".join(x["code"] for x in f["findings"]) or "no finding explains it"
             out.append(f"  {shown(f['run_id'])} {shown(f['title'])}: {why}\n")
@@ -85,7 +87,7 @@ class BoardScreen(Screen):
                 yield PlotextPlot(id="strain-plot")
                 yield Static("", id="plot-note")
                 yield ProgressBar(id="fill-progress", show_eta=False)
-        yield Footer()
+        yield KeyBar()
 
     def on_mount(self) -> None:
         self.query_one("#fill-progress").display = False
@@ -106,19 +108,19 @@ class BoardScreen(Screen):
         try:
             self.review = review.review_screen(self.app.nb, sid)
         except TrapbookError as exc:
-            title.update(Text(exc.message, style="#ff6f59"))
+            title.update(Text(exc.message, style=f"{tone('stop')}"))
             return
         r = self.review
         head = Text()
-        head.append(f" {r['screen_id']} ", style="bold #101418 on #7fb7be")
+        head.append(f" {r['screen_id']} ", style=f"bold {tone('ground')} on {tone('accent')}")
         head.append(f"  {shown(r['name'])}", style="bold")
-        head.append(f"   screen {self.index + 1} of {len(self.ids)}", style="#8fa3b8")
+        head.append(f"   screen {self.index + 1} of {len(self.ids)}", style=f"{tone('muted')}")
         if r.get("description"):
             head.append(f"\n {shown(r['description'], multiline=True)}", style="italic")
         title.update(head)
         best = (r.get("best") or {}).get("run_id")
         self.query_one("#heat", Static).update(Group(grid(r.get("matrix"), best),
-                                                     Text(r.get("yield_rule", ""), style="italic #8fa3b8")))
+                                                     Text(r.get("yield_rule", ""), style=f"italic {tone('muted')}")))
         self.query_one("#best", Static).update(best_text(r))
         self.show_plot()
 
@@ -130,7 +132,7 @@ class BoardScreen(Screen):
         try:
             self.map = review.strain_map(self.app.nb)
         except TrapbookError as exc:
-            note.update(Text(exc.message, style="#ff6f59"))
+            note.update(Text(exc.message, style=f"{tone('stop')}"))
             return
         pts = [e for e in self.map["intermediates"]
                if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
@@ -160,14 +162,14 @@ class BoardScreen(Screen):
         missing = self.map.get("missing_strain") or []
         if missing:
             text.append(f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n",
-                        style="#f2c14e")
+                        style=f"{tone('warn')}")
         if rk.get("spearman_rho") is not None:
             text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} intermediates. ", style="bold")
         elif rk.get("note"):
             text.append(rk["note"] + ". ", style="italic")
         methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
         if methods:
-            text.append("Strain method: " + "; ".join(methods), style="italic #8fa3b8")
+            text.append("Strain method: " + "; ".join(methods), style=f"italic {tone('muted')}")
         note.update(text)
 
     def action_turn(self, delta: int) -> None:

@@ -16,12 +16,14 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Header, Input, Static
+from textual.widgets import DataTable, Header, Input, Static
 
 from ...errors import TrapbookError
 from ...search_query import Query, parse_query
 from ..text import clip, minutes_text, temp_text, worst_text, yield_text
 from ..text import shown as stored_text
+from ..theme import tone
+from ..widgets.keybar import KeyBar
 
 #: (row key, header, width) of the run table.
 COLUMNS = (
@@ -37,7 +39,6 @@ COLUMNS = (
     ("yield_pct", "Yield", 6),
     ("worst", "Worst finding", 16),
 )
-WIDTH = {key: width - 1 for key, _, width in COLUMNS}
 #: Rows put into the table at a time: a terminal table pays for every row it holds, so a
 #: notebook of 10 000 runs shows the first page and adds the next as the cursor nears the end.
 PAGE = 300
@@ -46,23 +47,36 @@ def _sort_value(row: dict, key: str):
     return (v is None, v if not isinstance(v, str) else v.casefold())
 
 
-def cells(row: dict) -> tuple:
+#: Columns given up first when the terminal is narrower than the whole table (title flexes).
+DROP_UNDER = {"chemist": 120, "fluoride": 120, "intermediate": 100, "time_min": 100}
+
+
+def layout(width: int) -> tuple[tuple[str, str, int], ...]:
+    """The run table's columns for a terminal `width` wide: no sideways scroll at 80 or 100 columns."""
+    cols = [c for c in COLUMNS if width >= DROP_UNDER.get(c[0], 0)]
+    others = sum(w for key, _, w in cols if key != "title")
+    title = max(12, min(40, width - 1 - others))  # one column for the scroll bar
+    return tuple((key, label, title if key == "title" else w) for key, label, w in cols)
+
+
+def cells(row: dict, columns=COLUMNS) -> tuple:
     worst, style = worst_text(row.get("worst"))
-    w = WIDTH
+    width = {key: w - 1 for key, _, w in columns}
     inter = (row.get("intermediate") or "").replace("bicyclo", "")
-    return (
-        clip(row["id"], 40),
-        clip(row.get("title"), w["title"]),
-        clip(row.get("date"), 10),
-        clip(row.get("chemist"), w["chemist"]),
-        clip(inter, w["intermediate"]),
-        clip(row.get("trap"), w["trap"]),
-        clip(row.get("fluoride"), w["fluoride"]),
-        temp_text(row.get("temp_max_c")),
-        minutes_text(row.get("time_min")),
-        yield_text(row.get("yield_pct"), row.get("yield_kind")),
-        Text(clip(worst, w["worst"]), style=style),
-    )
+    every = {
+        "id": lambda: clip(row["id"], 40),
+        "title": lambda: clip(row.get("title"), width["title"]),
+        "date": lambda: clip(row.get("date"), 10),
+        "chemist": lambda: clip(row.get("chemist"), width["chemist"]),
+        "intermediate": lambda: clip(inter, width["intermediate"]),
+        "trap": lambda: clip(row.get("trap"), width["trap"]),
+        "fluoride": lambda: clip(row.get("fluoride"), width["fluoride"]),
+        "temp_max_c": lambda: temp_text(row.get("temp_max_c")),
+        "time_min": lambda: minutes_text(row.get("time_min")),
+        "yield_pct": lambda: yield_text(row.get("yield_pct"), row.get("yield_kind")),
+        "worst": lambda: Text(clip(worst, width["worst"]), style=style),
+    }
+    return tuple(every[key]() for key, _, _ in columns)
 
 
 class LogbookScreen(Screen):
@@ -77,6 +91,7 @@ class LogbookScreen(Screen):
         Binding("S", "reverse", "Reverse", show=False),
         Binding("h", "history", "History"),
         Binding("b", "board", "Screen board"),
+        Binding("p", "toggle_preview", "Preview"),
         Binding("m", "more", "More rows", show=False),
         Binding("escape", "leave_filter", "Back to table", show=False),
         Binding("q", "app.quit", "Quit", show=False),
@@ -97,6 +112,7 @@ class LogbookScreen(Screen):
         #: Why the filter text filters nothing: it cannot be read, or the search refused it.
         self.filter_error: TrapbookError | None = None
         self.limit = PAGE
+        self.columns = COLUMNS
 
     def compose(self) -> ComposeResult:
         yield Header()
@@ -106,14 +122,34 @@ class LogbookScreen(Screen):
         yield table
         with Vertical(id="preview-box"):
             yield Static("", id="preview")
-        yield Footer()
+        yield KeyBar()
 
     def on_mount(self) -> None:
         table = self.query_one("#runs", DataTable)
-        for key, label, width in COLUMNS:
+        self.columns = layout(self.app.size.width)
+        for key, label, width in self.columns:
             table.add_column(label, key=key, width=width)
         self.reload()
         table.focus()
+
+    def on_resize(self) -> None:
+        """A new width may take or give back columns: the table is laid out again, rows and all."""
+        wanted = layout(self.app.size.width)
+        if wanted == self.columns:
+            return
+        self.columns = wanted
+        table = self.query_one("#runs", DataTable)
+        table.clear(columns=True)
+        for key, label, width in wanted:
+            table.add_column(label, key=key, width=width)
+        self.apply()
+
+    def repaint_colours(self) -> None:
+        self.apply()
+
+    def action_toggle_preview(self) -> None:
+        """Hide or show the preview: hidden, the table takes the whole screen."""
+        self.toggle_class("-no-preview")
 
     def on_screen_resume(self) -> None:
         """Back from another screen: fresh rows, and the cursor on the run just worked on."""
@@ -151,7 +187,7 @@ class LogbookScreen(Screen):
             if pos is not None:
                 self.limit = max(PAGE, (pos // PAGE + 1) * PAGE)
         for r in shown[: self.limit]:
-            table.add_row(*cells(r), key=r["id"])
+            table.add_row(*cells(r, self.columns), key=r["id"])
         if current and table.row_count and current in table.rows:
             table.move_cursor(row=table.get_row_index(current), animate=False)
         self.show_status()
@@ -165,7 +201,7 @@ class LogbookScreen(Screen):
             return
         self.limit = start + PAGE
         for r in self.shown[start: self.limit]:
-            table.add_row(*cells(r), key=r["id"])
+            table.add_row(*cells(r, self.columns), key=r["id"])
         self.show_status()
 
     def start_filter(self, text: str) -> None:
@@ -194,7 +230,7 @@ class LogbookScreen(Screen):
         msg = Text()
         if self.filter_error is not None:
             exc = self.filter_error
-            msg.append(f"filter not applied: {stored_text(exc.message)}", style="bold #f2c14e")
+            msg.append(f"filter not applied: {stored_text(exc.message)}", style=f"bold {tone('warn')}")
             msg.append(f" · {stored_text(exc.hint)}" if exc.hint else "")
             msg.append(" · ")
         msg.append(f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}")
@@ -285,7 +321,8 @@ class LogbookScreen(Screen):
 
     @on(DataTable.HeaderSelected, "#runs")
     def _header(self, event: DataTable.HeaderSelected) -> None:
-        idx = event.column_index
+        key = self.columns[event.column_index][0]
+        idx = next(i for i, c in enumerate(COLUMNS) if c[0] == key)
         self.sort_reverse = (not self.sort_reverse) if idx == self.sort_index else False
         self.sort_index = idx
         self.apply()

@@ -1,6 +1,6 @@
 """The yield grid of a screen: one cell per pair of levels, shaded by yield.
 
-The shade runs from a dark slate (nothing) to a warm amber (quantitative) on one hue, so
+The shade runs from the theme's panel colour (nothing) to its amber accent (quantitative), so
 the eye finds the best corner first; the number and the run id are always written in the
 cell, so nothing depends on telling colours apart.
 """
@@ -10,28 +10,30 @@ from __future__ import annotations
 from rich.table import Table
 from rich.text import Text
 
-from ..text import clip, shown
+from textual.color import Color
 
-LOW = (0x1d, 0x2b, 0x36)
-HIGH = (0xf0, 0xa8, 0x3c)
+from ..text import clip, shown
+from ..theme import tone
 
 
 def shade(pct: float | None) -> str:
+    """Ink on ground for a cell: the ground blends from the theme's ground to its amber by yield."""
     if pct is None:
-        return "on #2a2a2a"
+        return f"{tone('ink')} on {tone('faint')}"
     f = max(0.0, min(1.0, pct / 100.0))
-    r, g, b = (round(lo + (hi - lo) * f) for lo, hi in zip(LOW, HIGH))
-    ink = "#101418" if f > 0.55 else "#e6edf3"
-    return f"{ink} on #{r:02x}{g:02x}{b:02x}"
+    ground = Color.parse(tone("ground")).blend(Color.parse(tone("attention")), 0.15 + 0.85 * f)
+    # the ink that reads best on this ground: the theme's ground or its ink, whichever is further in lightness
+    ink = tone("ground") if abs(ground.brightness - Color.parse(tone("ground")).brightness) > 0.45 else tone("ink")
+    return f"{ink} on {ground.hex}"
 
 
 def grid(matrix: dict | None, best_run: str | None = None) -> Table | Text:
     if not matrix:
         return Text("This screen names no varied conditions.", style="italic")
     cols = matrix.get("column_levels") or [""]
-    t = Table(show_lines=True, header_style="bold", border_style="#4a5866", pad_edge=False)
+    t = Table(show_lines=True, header_style="bold", border_style=tone("faint"), pad_edge=False)
     corner = f"{matrix['rows']} ╲ {matrix['columns']}" if matrix.get("columns") else matrix["rows"]
-    t.add_column(corner, style="bold #7fb7be", max_width=12)
+    t.add_column(corner, style=f"bold {tone('accent')}", max_width=12)
     for c in cols:
         t.add_column(clip(c, 40) or "yield", justify="center", min_width=12, max_width=14)
     for level, line in zip(matrix["row_levels"], matrix["cells"]):

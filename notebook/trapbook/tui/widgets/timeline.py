@@ -10,13 +10,13 @@ from __future__ import annotations
 from rich.text import Text
 from textual.widgets import Static
 
-from ..text import SEVERITY_STYLE
+from ..theme import severity_style, tone
 
-#: Lanes drawn, in order, and how each is labelled and coloured (our own palette).
+#: Lanes drawn, in order, and how each is labelled and which colour role it takes (theme.py).
 LANES = (
-    ("precursor", "precursor", "#7fb7be"),
-    ("trap", "trap", "#9be564"),
-    ("fluoride source", "F⁻ source", "#ff9f1c"),
+    ("precursor", "precursor", "accent"),
+    ("trap", "trap", "ok"),
+    ("fluoride source", "F⁻ source", "attention"),
 )
 LABEL_W = 11
 
@@ -46,7 +46,7 @@ def track(run, findings: list | None, width: int | None = None) -> Text:
     out = Text()
     n = len(run.steps)
     if n == 0:
-        out.append("No steps yet: say what goes in when (Steps tab).", style="italic #8fa3b8")
+        out.append("No steps yet: say what goes in when (Steps tab).", style=f"italic {tone('muted')}")
         return out
     cell = 6 if n <= 5 else 4 if n <= 8 else 3
     while width and cell > 3 and LABEL_W + n * cell > width:
@@ -58,23 +58,24 @@ def track(run, findings: list | None, width: int | None = None) -> Text:
     out.append("\n" + " " * LABEL_W)
     for step in run.steps:
         mark = _temp(step) + ("▣" if step.sealed else "")
-        out.append(f"{mark[:cell - 1]:<{cell}}", style="#8fa3b8")
+        out.append(f"{mark[:cell - 1]:<{cell}}", style=f"{tone('muted')}")
     out.append("\n")
-    for role, label, colour in LANES:
+    for role, label, colour_role in LANES:
+        colour = tone(colour_role)
         lines = run.lines_by_role(role)
         if not lines:
             out.append(f"{label:<{LABEL_W}}", style=colour)
-            out.append("none in this run\n", style="italic #8fa3b8")
+            out.append("none in this run\n", style=f"italic {tone('muted')}")
             continue
         for line in lines:
             at = first.get(line.name.casefold())
             out.append(f"{label[:LABEL_W - 1]:<{LABEL_W}}", style=colour)
             if at is None:  # said in words, which fit the panel however many steps there are
-                out.append("never added in any step\n", style="#f2c14e")
+                out.append("never added in any step\n", style=f"{tone('warn')}")
                 continue
             for i in range(n):
                 if i < at:
-                    out.append("·".ljust(cell), style="#4a5866")
+                    out.append("·".ljust(cell), style=f"{tone('faint')}")
                 elif i == at:
                     out.append("●" + "━" * (cell - 1), style=f"bold {colour}")
                 else:
@@ -88,15 +89,15 @@ def verdict(run, findings: list | None) -> Text:
     """One line stating what the checks said about the order of additions."""
     codes = {f.code: f for f in (findings or [])}
     if findings is None:
-        return Text("order not judged: checks not available", style="italic #8fa3b8")
+        return Text("order not judged: checks not available", style=f"italic {tone('muted')}")
     if "trap-late" in codes:
-        return Text("✖ trap enters after the fluoride source", style=SEVERITY_STYLE["stop"])
+        return Text("✖ trap enters after the fluoride source", style=severity_style("stop"))
     if "no-trap" in codes:
-        return Text("▲ no trap line: nothing to catch the intermediate", style=SEVERITY_STYLE["warn"])
+        return Text("▲ no trap line: nothing to catch the intermediate", style=severity_style("warn"))
     if "trap-order-unknown" in codes:
-        return Text("▲ steps do not say when the trap goes in", style=SEVERITY_STYLE["warn"])
+        return Text("▲ steps do not say when the trap goes in", style=severity_style("warn"))
     if run.lines_by_role("trap") and run.lines_by_role("fluoride source"):
-        return Text("✔ trap in the flask before the fluoride source", style="bold #9be564")
+        return Text("✔ trap in the flask before the fluoride source", style=f"bold {tone('ok')}")
     return Text("")
 
 

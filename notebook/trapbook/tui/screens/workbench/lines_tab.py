@@ -15,6 +15,7 @@ from textual.widgets import Checkbox, DataTable, Input
 from ....errors import TrapbookError
 from ... import forms
 from ...text import clip, qtext
+from ...theme import tone
 
 LINE_FIELDS = (
     ("role", "Role", "precursor, trap, fluoride source…", forms.check_role, forms.ROLE_WORDS),
@@ -27,6 +28,9 @@ LINE_FIELDS = (
 )
 LIMIT_MARK = "◆"
 LINE_COLUMNS = (("#", 3), ("role", 10), ("name", 19), ("given", 7), ("equiv", 6), ("mmol", 7), ("mg", 7), ("µL", 6), ("g/mol", 7))
+#: The side panel's width beside the tabs (app.tcss `#bench-side`), and the name column's bounds.
+SIDE_WIDTH = 44
+NAME_MIN, NAME_MAX = 8, 40
 ROLE_SHORT = {"fluoride source": "fluoride", "internal standard": "int. std"}
 
 
@@ -111,13 +115,13 @@ class LinesTabMixin:
 
         bad = self.field_problem("line", LINE_FIELDS)
         if bad:  # the field's own words in full, not only what fits beside it
-            say(Text(bad, style="#ff6f59"))
+            say(Text(bad, style=f"{tone('stop')}"))
             return
         if line is None:
-            say(Text(why or "", style="#ff6f59"))
+            say(Text(why or "", style=f"{tone('stop')}"))
             return
         if line["role"] == "product":
-            say(Text("Enter keeps this line", style="#8fa3b8"))
+            say(Text("Enter keeps this line", style=f"{tone('muted')}"))
             return
         try:
             data = self.with_line(line)
@@ -129,9 +133,9 @@ class LinesTabMixin:
                     f"{row.equiv:.3g} equiv" if row.equiv is not None else None,
                     f"{fmt_mg(row.mass_mg)} mg" if row.mass_mg is not None else None,
                     f"{fmt_ul(row.volume_ul)} µL" if row.volume_ul is not None else None]
-            say(Text("→ " + " · ".join(b for b in bits if b) + "   (Enter keeps this line)", style="#9be564"))
+            say(Text("→ " + " · ".join(b for b in bits if b) + "   (Enter keeps this line)", style=f"{tone('ok')}"))
         except TrapbookError as exc:
-            say(Text(f"valid line; amounts not yet worked out: {exc.message}   (Enter keeps it)", style="#f2c14e"))
+            say(Text(f"valid line; amounts not yet worked out: {exc.message}   (Enter keeps it)", style=f"{tone('warn')}"))
 
     def commit_line(self, focus: bool = True) -> bool:
         return self.keep_row(self.line_form, "#line-msg", self.with_line, self.blank_line, focus)
@@ -140,7 +144,7 @@ class LinesTabMixin:
         self.line_index = None
         self.clear_form("line", LINE_FIELDS, "#line-limiting")
         self.put("#line-head", Text(f"New line — Enter keeps it · pick a row to change it · {LIMIT_MARK} limiting: ctrl+l",
-                                    style="#8fa3b8"), layout=False)
+                                    style=f"{tone('muted')}"), layout=False)
         self.put("#line-msg", Text(""), layout=False)
         if focus:
             self.query_one("#line-role", Input).focus()
@@ -156,8 +160,29 @@ class LinesTabMixin:
             self.query_one(f"#line-{k}", Input).value = values[k] or ""
         marked = bool(line.get("limiting")) or (self.data.get("limiting") or "").casefold() == line.get("name", "").casefold()
         self.query_one("#line-limiting", Checkbox).value = marked
-        self.put("#line-head", Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style="#f2c14e"), layout=False)
+        self.put("#line-head", Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style=f"{tone('warn')}"), layout=False)
         self.query_one("#line-name", Input).focus()
+
+    def name_width(self) -> int:
+        """The name column takes what the amount columns leave: it is cut before any amount is."""
+        side_beside = self.has_class("-wide") and not self.has_class("-side-toggled")
+        room = self.app.size.width - (SIDE_WIDTH if side_beside else 0) - 1  # one for the scroll bar
+        others = sum(w for label, w in LINE_COLUMNS if label != "name")
+        return max(NAME_MIN, min(NAME_MAX, room - others))
+
+    def fit_name_column(self) -> None:
+        """Lay the line table's columns out again when the room for the name has changed."""
+        t = self.query_one("#lines", DataTable)
+        width = self.name_width()
+        if getattr(self, "_name_width", None) == width and t.columns:
+            return
+        self._name_width = width
+        t.clear(columns=True)
+        for label, w in LINE_COLUMNS:
+            t.add_column(label, width=width if label == "name" else w)
+        self.__dict__.get("_table_rows", {}).pop("lines", None)
+        if self.data:
+            self.refresh_lines()
 
     def refresh_lines(self) -> None:
         from ....units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
@@ -170,7 +195,7 @@ class LinesTabMixin:
             given = next((k for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "—")
             role = line.get("role") or ""
             mark = LIMIT_MARK if limiting and line.get("name", "").casefold() == limiting else ""
-            cells = [f"{i + 1}{mark}", ROLE_SHORT.get(role, role)[:9], clip(line.get("name"), 18), given]
+            cells = [f"{i + 1}{mark}", ROLE_SHORT.get(role, role)[:9], clip(line.get("name"), self._name_width - 1), given]
             if row is not None:
                 cells += [fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg), fmt_ul(row.volume_ul),
                           f"{row.mw_g_mol:.2f}" if row.mw_g_mol else "—"]

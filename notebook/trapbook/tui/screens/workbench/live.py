@@ -15,6 +15,7 @@ from textual.widgets import Input
 
 from ....errors import TrapbookError
 from ...rundata import clean
+from ...theme import tone
 
 
 class LiveRunMixin:
@@ -67,9 +68,9 @@ class LiveRunMixin:
         if self.run is not None:
             self.put("#track", track(self.run, findings, self.query_one("#track").content_size.width or None))
         else:
-            self.put("#track", Text("the run is not complete yet", style="italic #8fa3b8"))
+            self.put("#track", Text("the run is not complete yet", style=f"italic {tone('muted')}"))
         if self.run is None:
-            self.put("#checks", Text("Checks start once the run has its lines: " + (self.problem or ""), style="italic #f2c14e"))
+            self.put("#checks", Text("Checks start once the run has its lines: " + (self.problem or ""), style=f"italic {tone('warn')}"))
         else:
             self.put("#checks", findings_text(findings, table_problem or (f"not saved yet: {self.problem}" if self.problem else None)))
         smiles = self.intermediate_smiles()
@@ -118,7 +119,27 @@ class LiveRunMixin:
         state = "unsaved changes, kept as a draft" if self.dirty else "no unsaved changes"
         text = Text(f"{where} · {state} · ")
         if self.problem:
-            text.append("cannot be saved yet: " + self.problem.replace("\n", " "), style="#ff6f59")
+            text.append("cannot be saved yet: " + self.problem.replace("\n", " "), style=f"{tone('stop')}")
         else:
-            text.append("complete: ctrl+s saves", style="#9be564")
+            text.append("complete: ctrl+s saves", style=f"{tone('ok')}")
+        if not self.side_in_sight():
+            text.append_text(self.checks_summary())
         self.put("#status", text, layout=False)
+
+    def side_in_sight(self) -> bool:
+        """Whether the addition track and the checks are on the screen (app.tcss, f7)."""
+        return self.has_class("-wide") != self.has_class("-side-toggled")
+
+    def checks_summary(self) -> Text:
+        """The checks in a few marks, for when their panel is out of sight: where to look is f7."""
+        from ...text import SEVERITY_MARK
+        from ...theme import severity_style
+
+        out = Text(" · checks: ")
+        if self.run is None or self.findings is None:
+            return out.append("not run yet", style=tone("muted"))
+        counts = {sev: sum(f.severity == sev for f in self.findings) for sev in ("stop", "warn")}
+        marks = [(f"{SEVERITY_MARK[sev]}{n} ", severity_style(sev)) for sev, n in counts.items() if n]
+        for mark, style in marks or [("nothing to flag ", tone("ok"))]:
+            out.append(mark, style=style)
+        return out.append("(f7)", style=tone("muted"))

@@ -18,6 +18,7 @@ from ... import forms
 from ...outcome_form import PRODUCT_FIELDS, form_values, product_entry
 from ...text import clip, qtext
 from ...widgets.field import Field
+from ...theme import tone
 
 PRODUCT_CHECKS = {
     "isolated_mass": forms.check_kind("mass", "a mass"),
@@ -101,7 +102,7 @@ class OutcomeTabMixin:
         entry, why = self.product_form()
         bad = self.field_problem("prod", PRODUCT_FIELDS)
         if entry is None or bad:
-            self.put("#prod-msg", Text(bad or why or "", style="#ff6f59"), layout=False)
+            self.put("#prod-msg", Text(bad or why or "", style=f"{tone('stop')}"), layout=False)
             return
         data = self.with_product(entry)
         if not (data.get("title") or "").strip():
@@ -111,10 +112,10 @@ class OutcomeTabMixin:
             ys = amounts.product_yields(run)
             y = next(y for y in ys if y.product.casefold() == entry["product"].casefold())
             text = "→ " + (yield_words(y) or "kept as given") + "   (Enter keeps this result)"
-            self.put("#prod-msg", Text(text, style="#9be564"), layout=False)
+            self.put("#prod-msg", Text(text, style=f"{tone('ok')}"), layout=False)
         except (TrapbookError, StopIteration) as exc:
             why = exc.message if isinstance(exc, TrapbookError) else "no yield"
-            self.put("#prod-msg", Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style="#f2c14e"),
+            self.put("#prod-msg", Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=f"{tone('warn')}"),
                      layout=False)
 
     def commit_product(self, focus: bool = True) -> bool:
@@ -123,7 +124,7 @@ class OutcomeTabMixin:
     def blank_product(self, focus: bool = True) -> None:
         self.product_index = None
         self.clear_form("prod", PRODUCT_FIELDS)
-        self.put("#prod-head", Text("New product result — Enter keeps it; pick a row above to change one", style="#8fa3b8"),
+        self.put("#prod-head", Text("New product result — Enter keeps it; pick a row above to change one", style=f"{tone('muted')}"),
                  layout=False)
         self.put("#prod-msg", Text(""), layout=False)
         if focus:
@@ -140,7 +141,7 @@ class OutcomeTabMixin:
             self.query_one(f"#prod-{k}", Input).value = values.get(k, "")
         self._loading = False
         self.put("#prod-head", Text(f"Changing result {index + 1} ({rows[index].get('product')}) — Enter keeps it; "
-                                    "ctrl+n for a new one", style="#f2c14e"), layout=False)
+                                    "ctrl+n for a new one", style=f"{tone('warn')}"), layout=False)
         self.query_one("#prod-isolated_mass", Input).focus()
 
     def refresh_products(self) -> None:
@@ -194,16 +195,16 @@ class OutcomeTabMixin:
 
         if self.run is None or self.table is None or self.run.outcome is None or not self.run.outcome.products:
             self.put("#yields", Text("Yields appear here once the run has its lines and a product result.",
-                                     style="italic #8fa3b8"))
+                                     style=f"italic {tone('muted')}"))
             return
         out = Text()
         for name, y, why in yields_each(self.run, self.table):
             out.append(f"{name}: ", style="bold")
             if y is None:
-                out.append(why or "no yield", style="#f2c14e")
+                out.append(why or "no yield", style=f"{tone('warn')}")
             else:
                 out.append(yield_words(y) or "no yield yet")
             out.append("\n")
         out.append(f"yields on {fmt_mmol(self.table.limiting_mmol)} mmol of {self.table.limiting} (the limiting line)",
-                   style="italic #8fa3b8")
+                   style=f"italic {tone('muted')}")
         self.put("#yields", out)

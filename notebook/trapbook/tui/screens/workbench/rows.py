@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from rich.text import Text
 from textual.widgets import Checkbox, DataTable, Input
+from ...theme import tone
 
 
 class TabRowsMixin:
@@ -37,7 +38,7 @@ class TabRowsMixin:
         """Enter on a row form: the run takes its row and the form starts afresh, or `msg` says why not."""
         row, why = form()
         if row is None:
-            self.put(msg, Text(why or "the form is empty", style="#ff6f59"), layout=False)
+            self.put(msg, Text(why or "the form is empty", style=f"{tone('stop')}"), layout=False)
             return False
         self.data = with_row(row)
         blank(focus=focus)

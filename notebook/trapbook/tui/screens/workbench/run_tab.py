@@ -13,6 +13,7 @@ from textual.widgets import Input, Label
 from ... import forms
 from ...text import clip
 from ...widgets.field import Field
+from ...theme import tone
 
 RUN_FIELDS = (
     # (data key, label, placeholder, check, suggestions)
@@ -99,11 +100,11 @@ class RunTabMixin:
         self._loading = False
         if sc is not None:
             hint = Text(f"{sc.id} varies {', '.join(self.factor_names) or 'nothing yet'}: give this run's level of each "
-                        "(→ completes a level)", style="#8fa3b8")
+                        "(→ completes a level)", style=f"{tone('muted')}")
         elif (self.data.get("screen") or "").strip():
             hint = Text("")
         else:
-            hint = Text("In a condition screen? Give its id above; its varied conditions appear here.", style="#8fa3b8")
+            hint = Text("In a condition screen? Give its id above; its varied conditions appear here.", style=f"{tone('muted')}")
         self.put("#factor-hint", hint, layout=True)
 
     @staticmethod

@@ -11,6 +11,7 @@ from textual.widgets import Checkbox, DataTable, Input
 
 from ... import forms
 from ...text import clip, qtext
+from ...theme import tone
 
 STEP_FIELDS = (
     ("add", "Adds", "1 + 3 · precursor; trap · names", None, None),
@@ -51,17 +52,17 @@ class StepsTabMixin:
         step, why = self.step_form()
         bad = self.field_problem("step", STEP_FIELDS)
         if bad:  # the field's own words in full, not only what fits beside it
-            self.put("#step-msg", Text(bad, style="#ff6f59"), layout=False)
+            self.put("#step-msg", Text(bad, style=f"{tone('stop')}"), layout=False)
         elif step is None:
-            self.put("#step-msg", Text(why or "", style="#ff6f59"), layout=False)
+            self.put("#step-msg", Text(why or "", style=f"{tone('stop')}"), layout=False)
         else:
             adds = f"adds {', '.join(step['add'])}" if step["add"] else "nothing added (a hold or temperature change)"
-            self.put("#step-msg", Text(f"→ {adds}   (Enter keeps this step)", style="#9be564"), layout=False)
+            self.put("#step-msg", Text(f"→ {adds}   (Enter keeps this step)", style=f"{tone('ok')}"), layout=False)
 
     def commit_step(self, focus: bool = True) -> bool:
         step, why = self.step_form()
         if step is None:
-            self.put("#step-msg", Text(why or "the form is empty", style="#ff6f59"), layout=False)
+            self.put("#step-msg", Text(why or "the form is empty", style=f"{tone('stop')}"), layout=False)
             return False
         steps = self.data.setdefault("steps", [])
         if self.step_index is None:
@@ -78,7 +79,7 @@ class StepsTabMixin:
     def blank_step(self) -> None:
         self.step_index = None
         self.clear_form("step", STEP_FIELDS, "#step-sealed")
-        self.put("#step-head", Text("New step — Enter keeps it; pick a row above to change one", style="#8fa3b8"), layout=False)
+        self.put("#step-head", Text("New step — Enter keeps it; pick a row above to change one", style=f"{tone('muted')}"), layout=False)
         self.put("#step-msg", Text(""), layout=False)
 
     def edit_step(self, index: int) -> None:
@@ -88,7 +89,7 @@ class StepsTabMixin:
         for k in ("temperature", "hold", "over", "atmosphere", "note"):
             self.query_one(f"#step-{k}", Input).value = qtext(step.get(k, ""))
         self.query_one("#step-sealed", Checkbox).value = bool(step.get("sealed"))
-        self.put("#step-head", Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style="#f2c14e"), layout=False)
+        self.put("#step-head", Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style=f"{tone('warn')}"), layout=False)
         self.query_one("#step-add", Input).focus()
 
     def refresh_steps(self) -> None:

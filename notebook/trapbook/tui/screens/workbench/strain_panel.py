@@ -12,6 +12,7 @@ from textual import work
 from textual.widgets import ProgressBar, Static
 
 from ....errors import TrapbookError
+from ...theme import tone
 
 
 class StrainPanelMixin:
@@ -78,7 +79,7 @@ class StrainPanelMixin:
         if not self.is_mounted:
             return
         self.query_one("#strain-progress", ProgressBar).update(progress=round(100 * fraction))
-        self.query_one("#strain-stage", Static).update(Text(stage, style="italic #8fa3b8"))
+        self.query_one("#strain-stage", Static).update(Text(stage, style=f"italic {tone('muted')}"))
 
     def _strain_done(self, strain: dict | None, alignment: dict | None, note: str | None) -> None:
         if not self.is_mounted:

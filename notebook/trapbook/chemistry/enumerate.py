@@ -1,0 +1,284 @@
+"""Which strained intermediates a skeleton can hold, and the silyl precursors that release them.
+
+A campaign starts from a saturated polycyclic skeleton: every bridgehead C=C it can carry,
+and on request the cyclic allenes and cycloalkynes of its rings. Positions that the
+skeleton's symmetry makes equivalent give the same intermediate, so they are merged by
+RDKit's canonical atom ranks (ties kept: equal rank = symmetry-equivalent atom); the
+canonical SMILES of each intermediate is checked to be new as well, so two classes that
+rank alike but differ in structure are never merged.
+
+Each intermediate is released by fluoride from a silyl (pseudo)halide: the 1,2-elimination
+of `derive` run backwards. The silyl group may sit on either carbon and the leaving group
+on the other; the new stereocentres give diastereomers that can behave oppositely
+(antiperiplanar or not), so each is listed (one of each mirror pair: enantiomers align
+alike). Every precursor is checked to release exactly its intermediate.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+
+from rdkit import Chem, rdBase
+from rdkit.Chem.EnumerateStereoisomers import EnumerateStereoisomers, StereoEnumerationOptions
+
+from ..errors import ChemistryError
+from . import bridgehead as bh
+from .derive import intermediate_from_precursor
+from .molecules import parse
+
+#: kinds a skeleton can be asked for; bridgehead alkenes are always listed
+KINDS = (bh.BRIDGEHEAD, bh.ALLENE, bh.ALKYNE)
+KIND_WORDS = {"bridgehead": bh.BRIDGEHEAD, "allene": bh.ALLENE, "alkyne": bh.ALKYNE}
+#: leaving groups a precursor may carry, as SMILES fragments bonded through their first atom
+LEAVING_GROUPS = {"OTf": "OS(=O)(=O)C(F)(F)F", "Cl": "Cl", "Br": "Br", "I": "I"}
+DEFAULT_LEAVING_GROUPS = ("OTf", "Br")
+SILYL = "TMS"
+#: cyclic allenes and cycloalkynes are listed in rings up to this size (larger ones are unstrained)
+MAX_SMALL_RING = 9
+MAX_DIASTEREOMERS = 16
+MAX_CANDIDATES = 500
+
+
+@dataclass
+class Precursor:
+    smiles: str
+    silyl_on: int
+    leaving_group: str
+    leaving_on: int
+
+
+@dataclass
+class Candidate:
+    name: str
+    smiles: str
+    kind: str
+    origin: str
+    precursors: list[Precursor] = field(default_factory=list)
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+
+def _skeleton(smiles: str) -> Chem.Mol:
+    mol = parse(smiles, "skeleton SMILES")
+    if any(b.GetBondType() != Chem.BondType.SINGLE for b in mol.GetBonds()):
+        raise ChemistryError("the skeleton has double, triple or aromatic bonds",
+                             "give the saturated skeleton (e.g. C1CC2CCCC(C1)C2); the campaign places the unsaturation")
+    if mol.GetRingInfo().NumRings() == 0:
+        raise ChemistryError("the skeleton has no ring", "give a polycyclic skeleton, e.g. C1CC2CCCC(C1)C2")
+    return mol
+
+
+def _with_bonds(mol: Chem.Mol, changes: dict[tuple[int, int], Chem.BondType]) -> Chem.Mol | None:
+    """The skeleton with some bonds raised, or None when a carbon has no hydrogen to give."""
+    rw = Chem.RWMol(mol)
+    for (i, j), order in changes.items():
+        rw.GetBondBetweenAtoms(i, j).SetBondType(order)
+    out = rw.GetMol()
+    with rdBase.BlockLogs():
+        try:
+            Chem.SanitizeMol(out)
+        except Exception:  # noqa: BLE001 - an over-valent carbon: that position cannot hold the bond
+            return None
+    return out
+
+
+def _rank_key(ranks: list[int], atoms: list[int]) -> tuple:
+    """Symmetry class of a unit: the ranks of its atoms, read in the direction that sorts first."""
+    seq = [ranks[a] for a in atoms]
+    return min(tuple(seq), tuple(reversed(seq)))
+
+
+def _bridgehead_alkenes(mol: Chem.Mol, ranks: list[int]) -> dict[tuple, Chem.Mol]:
+    found: dict[tuple, Chem.Mol] = {}
+    for bond in mol.GetBonds():
+        i, j = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
+        if not bond.IsInRing() or mol.GetAtomWithIdx(i).GetAtomicNum() != 6 or mol.GetAtomWithIdx(j).GetAtomicNum() != 6:
+            continue
+        key = ("bridgehead",) + _rank_key(ranks, [i, j])
+        if key in found:
+            continue
+        alkene = _with_bonds(mol, {(i, j): Chem.BondType.DOUBLE})
+        if alkene is not None and bh.perceive_mol(alkene).kind == bh.BRIDGEHEAD:
+            found[key] = alkene
+    return found
+
+
+def _small_rings(mol: Chem.Mol) -> list[tuple[int, ...]]:
+    return [r for r in mol.GetRingInfo().AtomRings() if len(r) <= MAX_SMALL_RING]
+
+
+def _ring_units(mol: Chem.Mol, ranks: list[int], kind: str) -> dict[tuple, Chem.Mol]:
+    """Cycloalkynes (two ring neighbours) or cyclic allenes (three) of the skeleton's small rings."""
+    found: dict[tuple, Chem.Mol] = {}
+    span = 2 if kind == bh.ALKYNE else 3
+    for ring in _small_rings(mol):
+        n = len(ring)
+        for k in range(n):
+            atoms = [ring[(k + m) % n] for m in range(span)]
+            if any(mol.GetAtomWithIdx(a).GetAtomicNum() != 6 for a in atoms):
+                continue
+            key = (kind,) + _rank_key(ranks, atoms)
+            if key in found:
+                continue
+            pairs = list(zip(atoms, atoms[1:]))
+            order = Chem.BondType.TRIPLE if kind == bh.ALKYNE else Chem.BondType.DOUBLE
+            made = _with_bonds(mol, {p: order for p in pairs})
+            if made is not None and bh.perceive_mol(made).kind == kind:
+                found[key] = made
+    return found
+
+
+def intermediates_of_skeleton(smiles: str, kinds: tuple[str, ...] = (bh.BRIDGEHEAD,)) -> list[Candidate]:
+    """Every symmetry-unique strained intermediate of the kinds asked for, most strained-looking first."""
+    unknown = [k for k in kinds if k not in KINDS]
+    if unknown:
+        raise ChemistryError(f"unknown kind(s) {', '.join(map(repr, unknown))}",
+                             "choose from bridgehead, allene, alkyne")
+    mol = _skeleton(smiles)
+    ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False))
+    made: dict[tuple, Chem.Mol] = {}
+    if bh.BRIDGEHEAD in kinds:
+        made.update(_bridgehead_alkenes(mol, ranks))
+    for kind in (bh.ALLENE, bh.ALKYNE):
+        if kind in kinds:
+            made.update(_ring_units(mol, ranks, kind))
+    seen: set[str] = set()
+    out: list[Candidate] = []
+    for inter in made.values():
+        smi = Chem.MolToSmiles(inter)
+        if smi in seen:
+            continue
+        seen.add(smi)
+        out.append(Candidate("", smi, bh.perceive_mol(inter).kind, f"from the skeleton {Chem.MolToSmiles(mol)}"))
+    out.sort(key=lambda c: (KINDS.index(c.kind) if c.kind in KINDS else 9, _s_value(c.smiles), c.smiles))
+    for n, cand in enumerate(out, 1):
+        cand.name = f"C{n}"
+    return out
+
+
+def _s_value(smiles: str) -> int:
+    best = bh.perceive(smiles).best
+    if best is None:
+        return 99
+    return best.s_value if best.s_value is not None else (best.ring_size or 99)
+
+
+def unit_bonds(mol: Chem.Mol) -> list[tuple[int, int]]:
+    """The bonds of the strained unit an elimination can form: one for an alkene or alkyne,
+    either of the two of an allene."""
+    best = bh.perceive_mol(mol).best
+    if best is None:
+        return []
+    atoms = best.atoms
+    return list(zip(atoms, atoms[1:]))
+
+
+def precursors_of(smiles: str, leaving_groups: tuple[str, ...] = DEFAULT_LEAVING_GROUPS) -> list[Precursor]:
+    """Silyl (pseudo)halides releasing the intermediate by 1,2-elimination, one per diastereomer."""
+    bad = [g for g in leaving_groups if g not in LEAVING_GROUPS]
+    if bad:
+        raise ChemistryError(f"unknown leaving group(s) {', '.join(map(repr, bad))}",
+                             f"choose from {', '.join(LEAVING_GROUPS)}")
+    mol = parse(smiles, "intermediate SMILES")
+    target = _flat(smiles)
+    out: list[Precursor] = []
+    seen: set[str] = set()
+    for a, b in unit_bonds(mol):
+        for si_on, x_on in ((a, b), (b, a)):
+            for group in leaving_groups:
+                flat = _attach(mol, si_on, x_on, group)
+                if flat is None:
+                    continue
+                for iso in diastereomers(flat):
+                    if iso in seen:
+                        continue
+                    released = _flat(intermediate_from_precursor(iso))
+                    if released != target:  # conservation: the precursor must give back this very intermediate
+                        raise ChemistryError(f"precursor {iso} releases {released}, not {target}",
+                                             "report the structure: the precursor builder is wrong here")
+                    seen.add(iso)
+                    out.append(Precursor(iso, si_on, group, x_on))
+    return out
+
+
+def _flat(smiles: str) -> str:
+    """The constitution alone: a chiral intermediate (most bridgehead alkenes are) is released
+    from each precursor diastereomer as one enantiomer or the other."""
+    return Chem.MolToSmiles(parse(smiles), isomericSmiles=False)
+
+
+def _attach(mol: Chem.Mol, si_on: int, x_on: int, group: str) -> str | None:
+    """The intermediate with its new bond lowered by one, TMS on one carbon and the group on the other."""
+    rw = Chem.RWMol(Chem.Mol(mol))
+    Chem.Kekulize(rw, clearAromaticFlags=True)
+    bond = rw.GetBondBetweenAtoms(si_on, x_on)
+    lower = {Chem.BondType.DOUBLE: Chem.BondType.SINGLE, Chem.BondType.TRIPLE: Chem.BondType.DOUBLE}
+    if bond.GetBondType() not in lower:
+        return None
+    bond.SetBondType(lower[bond.GetBondType()])
+    bond.SetStereo(Chem.BondStereo.STEREONONE)
+    silyl = Chem.MolFromSmiles("[Si](C)(C)C")
+    leaving = Chem.MolFromSmiles(LEAVING_GROUPS[group])
+    combo = Chem.RWMol(Chem.CombineMols(Chem.CombineMols(rw.GetMol(), silyl), leaving))
+    n = rw.GetNumAtoms()
+    combo.AddBond(si_on, n, Chem.BondType.SINGLE)
+    combo.AddBond(x_on, n + silyl.GetNumAtoms(), Chem.BondType.SINGLE)
+    for idx in (si_on, x_on):
+        atom = combo.GetAtomWithIdx(idx)
+        atom.SetNoImplicit(False)
+        atom.SetNumExplicitHs(0)
+    out = combo.GetMol()
+    with rdBase.BlockLogs():
+        try:
+            Chem.SanitizeMol(out)
+        except Exception:  # noqa: BLE001 - no hydrogen left on that carbon: no such precursor
+            return None
+    return Chem.MolToSmiles(out)
+
+
+def _mirror_smiles(mol: Chem.Mol) -> str:
+    m = Chem.Mol(mol)
+    flip = {Chem.ChiralType.CHI_TETRAHEDRAL_CW: Chem.ChiralType.CHI_TETRAHEDRAL_CCW,
+            Chem.ChiralType.CHI_TETRAHEDRAL_CCW: Chem.ChiralType.CHI_TETRAHEDRAL_CW}
+    for atom in m.GetAtoms():
+        atom.SetChiralTag(flip.get(atom.GetChiralTag(), atom.GetChiralTag()))
+    return Chem.MolToSmiles(m)
+
+
+def diastereomers(smiles: str) -> list[str]:
+    """Every diastereomer that can be embedded in 3D, one of each mirror pair."""
+    mol = parse(smiles, "precursor SMILES")
+    opts = StereoEnumerationOptions(onlyUnassigned=True, tryEmbedding=True, unique=True,
+                                    maxIsomers=MAX_DIASTEREOMERS, rand=0xC0FFEE)
+    kept: list[str] = []
+    with rdBase.BlockLogs():
+        for iso in EnumerateStereoisomers(mol, options=opts):
+            smi = Chem.MolToSmiles(iso)
+            if smi not in kept and _mirror_smiles(iso) not in kept:
+                kept.append(smi)
+    return kept or [Chem.MolToSmiles(mol)]
+
+
+def candidates_from_lines(lines: list[str]) -> list[Candidate]:
+    """Candidates as a file gives them: one SMILES a line, optionally a name after it; # starts a comment.
+
+    A line that is not a structure is kept as a candidate with kind 'unreadable', so the
+    campaign records its failure with the reason instead of dropping it.
+    """
+    out: list[Candidate] = []
+    for number, raw in enumerate(lines, 1):
+        text = raw.split("#", 1)[0].strip()
+        if not text:
+            continue
+        parts = text.split(None, 1)
+        smiles, name = parts[0], (parts[1].strip() if len(parts) > 1 else f"line {number}")
+        try:
+            mol = parse(smiles, f"SMILES on line {number}")
+            out.append(Candidate(name, Chem.MolToSmiles(mol), bh.perceive_mol(mol).kind, f"line {number}"))
+        except ChemistryError as exc:
+            out.append(Candidate(name, smiles, "unreadable", f"line {number}: {exc.message}"))
+        if len(out) > MAX_CANDIDATES:
+            raise ChemistryError(f"more than {MAX_CANDIDATES} candidates in the file",
+                                 "split the list into several campaigns")
+    return out

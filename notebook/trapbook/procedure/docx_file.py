@@ -1,0 +1,39 @@
+"""A procedure as a Word document (.docx, written by python-docx): the same blocks, the same words."""
+
+from __future__ import annotations
+
+import io
+
+from ..text_safety import printable
+from .document import Document, Heading, Paragraph
+
+
+def as_docx(doc: Document) -> bytes:
+    """The .docx file's bytes; stored text passes through `printable` (XML cannot hold control characters)."""
+    import docx  # python-docx: only needed for this format
+
+    out = docx.Document()
+    out.core_properties.title = printable(doc.title)[:250]
+    out.core_properties.author = "Trapbook"
+    for block in doc.blocks:
+        if isinstance(block, Heading):
+            out.add_heading(printable(block.text), level=2)
+        elif isinstance(block, Paragraph):
+            para = out.add_paragraph()
+            for text, style in block.pieces:
+                piece = para.add_run(printable(text))
+                piece.bold = style == "bold"
+                piece.italic = style == "italic"
+        else:
+            out.add_paragraph().add_run(printable(block.caption)).italic = True
+            table = out.add_table(rows=1 + len(block.rows), cols=len(block.header))
+            table.style = "Table Grid"
+            for r, row in enumerate([block.header, *block.rows]):
+                for c, value in enumerate(row):
+                    table.cell(r, c).text = printable(value)
+                    if r == 0:
+                        for piece in table.cell(r, c).paragraphs[0].runs:
+                            piece.bold = True
+    buf = io.BytesIO()
+    out.save(buf)
+    return buf.getvalue()

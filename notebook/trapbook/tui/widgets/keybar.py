@@ -1,0 +1,54 @@
+"""The footer: the screen's most important keys first, as many as fit, and f1 always in sight.
+
+Textual's own footer shows every shown binding and lets the last ones fall off the edge,
+which on an 80-column terminal is the key that lists all the others. Here the bindings are
+taken in the order the screen lists them (most important first), those that do not fit
+are left to the f1 list, and f1 closes the row.
+"""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.widgets import Footer
+from textual.widgets._footer import FooterKey
+
+#: The binding that lists every key (TrapbookApp.action_keys); it is never dropped.
+ALL_KEYS_ACTION = "app.keys"
+
+
+class KeyBar(Footer):
+    """A footer that fits the terminal's width: first keys first, f1 last and always shown."""
+
+    def compose(self) -> ComposeResult:
+        if not self._bindings_ready:
+            return
+        width = self.size.width or self.app.size.width
+        narrow = width < 120
+        keys, help_key = [], None
+        seen: set[str] = set()
+        for _, binding, enabled, tooltip in self.screen.active_bindings.values():
+            if not binding.show or binding.action in seen:
+                continue
+            seen.add(binding.action)
+            if binding.action in (ALL_KEYS_ACTION, "keys"):
+                help_key = (binding, enabled, tooltip)
+            else:
+                keys.append((binding, enabled, tooltip))
+
+        def cost(binding) -> int:
+            return len(self.app.get_key_display(binding)) + len(binding.description) + (2 if narrow else 3)
+
+        room = width - (cost(help_key[0]) if help_key else 0)
+        fitted = []
+        for item in keys:
+            room -= cost(item[0])
+            if room < 0:
+                break
+            fitted.append(item)
+        self.styles.grid_size_columns = len(fitted) + (1 if help_key else 0)
+        for binding, enabled, tooltip in fitted + ([help_key] if help_key else []):
+            yield FooterKey(binding.key, self.app.get_key_display(binding), binding.description, binding.action,
+                            disabled=not enabled, tooltip=tooltip).data_bind(compact=Footer.compact)
+
+    def on_resize(self) -> None:
+        self.call_after_refresh(self.recompose)
