@@ -35,7 +35,6 @@ def main() -> None:
     args = parser.parse_args()
 
     from spectra_samples import fid, write_bruker, zip_folder
-
     from trapbook.attachments import attach
     from trapbook.spectra import Region
     from trapbook.spectra.runs import RegionSet, integrate_screen

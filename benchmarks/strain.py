@@ -126,7 +126,7 @@ def table(kind: str, tier: str, repeat: bool) -> tuple[list[float], int, int]:
         print(line, flush=True)
     print(f"{kind}: median {statistics.median(times):.2f} s (cpu {statistics.median(cpus):.2f} s), "
           f"max {max(times):.2f} s, n = {len(times)}")
-    return times, agree, known
+    return list(zip(times, cpus)), agree, known
 
 
 def cyclooctene_gap(tier: str) -> None:
@@ -148,12 +148,14 @@ def main(argv: list[str]) -> int:
     kinds = [args.kind] if args.kind else list(SERIES)
     for tier in tiers:
         print(f"\n== tier: {tier} — {strain.METHODS[tier]}")
-        all_times, agree, known = [], 0, 0
+        pairs, agree, known = [], 0, 0
         for kind in kinds:
-            times, a, k = table(kind, tier, args.repeat)
-            all_times += times
+            timed, a, k = table(kind, tier, args.repeat)
+            pairs += timed
             agree, known = agree + a, known + k
-        print(f"\nall kinds ({tier}): median {statistics.median(all_times):.2f} s, max {max(all_times):.2f} s, "
+        all_times = [t for t, _ in pairs]
+        print(f"\nall kinds ({tier}): median {statistics.median(all_times):.2f} s "
+              f"(cpu {statistics.median(c for _, c in pairs):.2f} s), max {max(all_times):.2f} s, "
               f"n = {len(all_times)}" + (f"; class agrees with the bench on {agree}/{known}" if known else ""))
         cyclooctene_gap(tier)
     if os.getloadavg()[0] > (os.cpu_count() or 1):

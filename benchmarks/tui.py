@@ -7,9 +7,14 @@ version hash (the store's own `version_hash`) and a copy of its index row — th
 row depends only on the run's content, which the clone keeps.
 
 Prints:
-  * cold start: a fresh Python process from import to the Logbook drawn with every row;
+  * the floor: a fresh Python process doing nothing, and one that imports Textual and draws
+    a bare table of as many rows — no Trapbook start can beat these on this machine;
+  * cold start: a fresh Python process from import to the Logbook drawn with its first rows;
   * warm start: the same inside this process (imports done);
-  * latency of a filter keystroke (the work after the typing pause), a cursor move with
+  * the machine's load average beside them (the figures scale with it);
+  * filter work: from the end of the typing pause to the matching rows in the table (the
+    core's search in its worker, then the table refilled), median over several texts;
+  * latency of a cursor move with
     its preview, and a keystroke in the run editor's amount field (validation plus live
     amounts), each as the median of several, measured through Textual's test pilot, which
     adds its own wait for idle to every key — so these are upper bounds.
@@ -87,6 +92,29 @@ asyncio.run(main())
 """
 
 
+FLOOR = """
+import sys, time
+t0 = time.perf_counter()
+import asyncio
+from textual.app import App
+from textual.widgets import DataTable
+class Bare(App):
+    def compose(self):
+        yield DataTable(id='runs')
+    def on_mount(self):
+        t = self.query_one(DataTable)
+        t.add_columns(*'abcdefghijk')
+        for i in range(int(sys.argv[1])):
+            t.add_row(*[str(i)] * 11)
+async def main():
+    app = Bare()
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.pause()
+        print(time.perf_counter() - t0, app.query_one(DataTable).row_count)
+asyncio.run(main())
+"""
+
+
 def cold_start(path: Path, repeats: int = 3) -> tuple[float, int]:
     times, rows = [], 0
     for _ in range(repeats):
@@ -94,6 +122,18 @@ def cold_start(path: Path, repeats: int = 3) -> tuple[float, int]:
         t, rows = out.stdout.split()
         times.append(float(t))
     return statistics.median(times), int(rows)
+
+
+def floors(rows: int, repeats: int = 3) -> tuple[float, float]:
+    """(bare Python start, Python + Textual drawing a bare table of `rows` rows), medians in s."""
+    bare, textual_ = [], []
+    for _ in range(repeats):
+        t = time.perf_counter()
+        subprocess.run([sys.executable, "-c", "pass"], check=True)
+        bare.append(time.perf_counter() - t)
+        out = subprocess.run([sys.executable, "-c", FLOOR, str(rows)], capture_output=True, text=True, check=True)
+        textual_.append(float(out.stdout.split()[0]))
+    return statistics.median(bare), statistics.median(textual_)
 
 
 async def in_process(path: Path, repeats: int) -> dict:
@@ -107,16 +147,23 @@ async def in_process(path: Path, repeats: int) -> dict:
         out["warm_start_s"] = time.perf_counter() - t0
         screen = app.screen
         box = screen.query_one("#filter")
-        # filter: the work done once the typing pause ends (debounce is 0.12 s on top)
+        # filter: the work done once the typing pause ends (debounce is 0.12 s on top): the
+        # core's search in its worker, then the table refilled with the rows it names
         times = []
-        for word in ["furan", "anthracene", "trap:furan", "TBAF", "Iyer", ""][:repeats]:
+        for word in ["furan", "anthracene", "trap:furan", "TBAF", "Iyer"][:max(repeats, 3)]:
             box.value = word
             t = time.perf_counter()
             screen.apply()
-            await pilot.pause()
+            while screen.answered != word:
+                if time.perf_counter() - t > 30:
+                    raise RuntimeError(f"no answer to the filter {word!r} in 30 s")
+                await asyncio.sleep(0.002)
             times.append(time.perf_counter() - t)
         out["filter_apply_ms"] = 1000 * statistics.median(times)
         out["rows_after_filter"] = len(screen.shown)
+        box.value = ""
+        screen.apply()
+        await pilot.pause()
         screen.query_one("#runs").focus()
         times = []
         for _ in range(repeats):
@@ -162,11 +209,17 @@ def main() -> None:
         path = Path(tmp) / "bench.sqlite"
         built = build(path, args.runs)
         print(f"notebook: {args.runs} runs built in {built:.1f} s")
+        import os
+
+        print("load average (1, 5, 15 min): " + ", ".join(f"{x:.2f}" for x in os.getloadavg())
+              + f" on {os.cpu_count()} cores")
         cold, rows = cold_start(path)
+        bare, floor = floors(rows)
         print(f"cold start (new process, imports included, to {rows} rows drawn): {cold:.2f} s (median of 3)")
+        print(f"  floor: Python alone {bare:.2f} s; Python + Textual drawing a bare table of {rows} rows {floor:.2f} s")
         res = asyncio.run(in_process(path, args.repeats))
         print(f"warm start (in process): {res['warm_start_s']:.2f} s")
-        print(f"filter keystroke, work after the typing pause: {res['filter_apply_ms']:.0f} ms median "
+        print(f"filter work, typing pause to rows shown (core search + table): {res['filter_apply_ms']:.0f} ms median "
               f"(+120 ms pause; {res['rows_after_filter']} rows at the end)")
         print(f"cursor move in the run table, with preview: {res['cursor_move_ms']:.0f} ms median (pilot round trip)")
         print(f"keystroke in the editor's amount field (check + live amounts): {res['editor_key_ms']:.0f} ms median "

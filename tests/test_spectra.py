@@ -11,8 +11,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from spectra_samples import bruker_zip, fid, jcamp_fid, write_bruker, write_varian
 
+from spectra_samples import bruker_zip, fid, jcamp_fid, write_bruker, write_varian
 from trapbook.cli import main
 from trapbook.errors import SpectrumError
 from trapbook.spectra import Processing, Region, process, read_bytes, read_path
@@ -188,6 +188,35 @@ def test_zip_with_a_symlink_is_refused(tmp_path):
         read_bytes(buf.getvalue(), "link.zip")
 
 
+def test_garbled_or_odd_acqus_is_refused(tmp_path):
+    folder = write_bruker(tmp_path / "exp", fid(delay=0))
+    text = (folder / "acqus").read_text()
+    (folder / "acqus").write_text(text.replace("##$SW_h=", "##$SW_x="))
+    with pytest.raises(SpectrumError, match="SW_h"):
+        read_path(folder)
+    (folder / "acqus").write_text(text.replace(f"##$TD= {2 * 16384}", "##$TD= 32767"))
+    with pytest.raises(SpectrumError, match="odd number"):
+        read_path(folder)
+
+
+def test_fid_of_not_numbers_is_refused(tmp_path):
+    x = fid(delay=0)
+    x[100] = np.nan
+    with pytest.raises(SpectrumError, match="not numbers"):
+        read_path(write_bruker(tmp_path / "exp", x))
+
+
+def test_zip_member_larger_than_a_data_set_is_refused(tmp_path, monkeypatch):
+    from trapbook.spectra import readers
+
+    monkeypatch.setattr(readers, "MAX_MEMBER_BYTES", 1000)
+    dest = tmp_path / "dest"
+    dest.mkdir()
+    with pytest.raises(SpectrumError, match="more than a raw 1D data set"):
+        unzip_safely(_zip({"exp/fid": b"\x00" * 5000, "exp/acqus": b"##TITLE= x"}), dest, "big.zip")
+    assert list(dest.rglob("*")) == []
+
+
 def test_zip_without_an_experiment_is_refused():
     with pytest.raises(SpectrumError, match="holds no experiment"):
         read_bytes(_zip({"notes.txt": b"hello"}), "notes.zip")
@@ -254,6 +283,29 @@ def test_cli_integrates_an_attached_bruker_zip(cli, tmp_path, bruker_bytes):
     assert again["saved"] is False and again["version"] == 3 and again["ratio"] == out["ratio"]
 
 
+def test_stored_findings_are_bench_check_findings_and_the_report_draws_the_spectrum(cli, tmp_path, bruker_bytes):
+    from trapbook.checks import run_checks
+    from trapbook.reports import run_report_html
+    from trapbook.store import Notebook
+
+    run_file = tmp_path / "run.json"
+    run_file.write_text(json.dumps(QNMR_RUN))
+    cli("add", str(run_file))
+    zipped = tmp_path / "v.zip"
+    zipped.write_bytes(bruker_bytes)
+    cli("attach", "TB-0001", str(zipped))
+    # a product region with no peak in it: stored as a finding with the integrals
+    res = cli("nmr", "TB-0001", "--standard", "6.00..6.20", "--product", "3.00..3.20", "--standard-protons", "3",
+              "--product-protons", "1", "--json")
+    assert res.exit_code == 0, res.output
+    with Notebook.open(tmp_path / "nb.sqlite") as nb:
+        run = nb.get_run("TB-0001")
+        codes = {f.code for f in run_checks(run)}
+        page = run_report_html(nb, "TB-0001")
+    assert "nmr-region-empty" in codes
+    assert page.count("data:image/png;base64,") == 1
+
+
 def test_cli_refuses_random_bytes_and_changes_nothing(cli, tmp_path):
     run_file = tmp_path / "run.json"
     run_file.write_text(json.dumps(QNMR_RUN))
@@ -293,3 +345,41 @@ def test_screen_uses_one_set_of_regions_for_every_vial(cli, tmp_path, bruker_byt
         again = integrate_screen(nb, sid, progress=lambda stage, fraction: stages.append(fraction))  # the stored regions
     assert again["regions"]["standard"] == [6.0, 6.2] and stages[-1] == 1.0
     assert all(not r["saved"] for r in again["integrated"])
+
+
+def test_only_the_spectra_package_reads_raw_nmr_data():
+    # one place owns the reading library, as chemistry/ owns RDKit
+    import ast
+
+    pkg = Path(__file__).resolve().parents[1] / "notebook" / "trapbook"
+    users = set()
+    for path in pkg.rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            names = [a.name for a in node.names] if isinstance(node, ast.Import) else \
+                [node.module or ""] if isinstance(node, ast.ImportFrom) else []
+            if any(n.split(".")[0] == "nmrglue" for n in names):
+                users.add(path.relative_to(pkg).parts[0])
+    assert users == {"spectra"}
+
+
+@pytest.mark.parametrize("bad", [{"line_broadening_hz": float("nan")}, {"baseline_order": "3"}, {"zero_fill_factor": True},
+                                 {"reference_ppm": 6.09, "reference_region": ("x", 1.0)}, {"phase_region": (6.0, float("inf"))},
+                                 {"reverse": "yes"}, {"phase_method": ["acme"]}])
+def test_processing_parameters_from_a_hand_written_record_are_refused_in_words(bad):
+    with pytest.raises(SpectrumError):
+        Processing(**bad)
+
+
+def test_a_hand_written_processing_record_is_said_in_the_report_not_a_crash():
+    from trapbook.spectra.figures import processing_from_record
+
+    for record in ({"parameters": [1, 2]}, {"parameters": {"no_such": 1}}, {"parameters": {"reference_region": 5}}):
+        with pytest.raises(SpectrumError, match="cannot be read"):
+            processing_from_record(record)
+
+
+def test_zip_member_names_the_system_cannot_hold_are_refused(tmp_path):
+    dest = tmp_path / "dest"
+    dest.mkdir()
+    with pytest.raises(SpectrumError, match="cannot be unpacked"):
+        unzip_safely(_zip({"exp/" + "a" * 300 + "/fid": b"1", "exp/acqus": b"##TITLE= x"}), dest, "long.zip")

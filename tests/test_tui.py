@@ -502,7 +502,7 @@ async def test_copy_as_plan_is_written_by_whoever_copies_it(demo_path):
 
 
 async def test_narrow_terminal_keeps_f1_and_the_addition_track_in_sight(demo_path):
-    """At 100 columns the side panel gives room, the footer still ends in f1, the track does not wrap."""
+    """At 100 columns the side panel is a pane of its own (f7), the footer ends in f1, the track does not wrap."""
     app = TrapbookApp(demo_path, author="pilot", warm=False)
     async with app.run_test(size=(100, 30)) as pilot:
         await pilot.press("e")  # TB-0001: four steps
@@ -513,7 +513,7 @@ async def test_narrow_terminal_keeps_f1_and_the_addition_track_in_sight(demo_pat
         assert keys and keys[0].region.right <= 100
         await pilot.press("f4", "tab")  # a fifth step, a hold at room temperature
         await type_text(pilot, "23 °C")
-        await pilot.press("enter")
+        await pilot.press("enter", "f7")
         await pilot.pause(0.3)
         track = screen.query_one("#track")
         lines = str(track.render()).splitlines()

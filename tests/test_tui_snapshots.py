@@ -1,4 +1,6 @@
-"""Snapshot tests of every screen at 120×40 on the demo notebook (pytest-textual-snapshot).
+"""Snapshot tests of every screen at 80×24, 100×30 and 120×40 on the demo notebook (pytest-textual-snapshot).
+
+80×24 is the terminal a chemist gets over SSH on a lab PC; 120×40 a desktop window.
 
 The snapshots under tests/__snapshots__/ were looked at and accepted by hand; a change in
 any screen's look fails here until it is looked at again (`--snapshot-update`). The demo
@@ -13,7 +15,9 @@ import pytest
 
 pytest.importorskip("pytest_textual_snapshot")
 
-SIZE = (120, 40)
+#: Every screen is drawn at each of these sizes (columns, lines).
+SIZES = [(80, 24), (100, 30), (120, 40)]
+sizes = pytest.mark.parametrize("size", SIZES, ids=[f"{w}x{h}" for w, h in SIZES])
 
 
 @pytest.fixture(scope="module")
@@ -66,29 +70,33 @@ async def settle(pilot) -> None:
     await pilot.pause(0.2)
 
 
-def test_logbook(snap_compare, snap_db):
+@sizes
+def test_logbook(snap_compare, snap_db, size):
     """The run table with the preview of TB-0001."""
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=settle)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=settle)
 
 
-def test_logbook_filtered_by_trap(snap_compare, snap_db):
+@sizes
+def test_logbook_filtered_by_trap(snap_compare, snap_db, size):
     async def before(pilot):
         await pilot.press("slash", *"trap:anthracene", "enter")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_workbench_lines(snap_compare, snap_db):
+@sizes
+def test_workbench_lines(snap_compare, snap_db, size):
     """Workbench on TB-0001: reagent table, addition track, strain card, checks."""
     async def before(pilot):
         await pilot.press("e")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_workbench_steps_trap_late(snap_compare, snap_db):
+@sizes
+def test_workbench_steps_trap_late(snap_compare, snap_db, size):
     """TB-0010 added the furan after TBAF: the track and the checks say so."""
     async def before(pilot):
         await pilot.press(*["down"] * 9, "e")
@@ -96,10 +104,11 @@ def test_workbench_steps_trap_late(snap_compare, snap_db):
         await pilot.press("f4")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_workbench_outcome_qnmr(snap_compare, snap_db):
+@sizes
+def test_workbench_outcome_qnmr(snap_compare, snap_db, size):
     """TB-0004's outcome: qNMR integrals and the NMR yield worked out from them."""
     async def before(pilot):
         await pilot.press(*["down"] * 3, "e")
@@ -107,35 +116,39 @@ def test_workbench_outcome_qnmr(snap_compare, snap_db):
         await pilot.press("f5")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_screen_board(snap_compare, snap_db):
+@sizes
+def test_screen_board(snap_compare, snap_db, size):
     """SC-0001: yield grid of trap × temperature, best conditions, strain plot."""
     async def before(pilot):
         await pilot.press(*["down"] * 12, "b")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_version_trail(snap_compare, snap_db):
+@sizes
+def test_version_trail(snap_compare, snap_db, size):
     async def before(pilot):
         await pilot.press("h")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_keys(snap_compare, snap_db):
+@sizes
+def test_keys(snap_compare, snap_db, size):
     async def before(pilot):
         await pilot.press("f1")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
 
 
-def test_leave_question(snap_compare, snap_db, tmp_path):
+@sizes
+def test_leave_question(snap_compare, snap_db, tmp_path, size):
     """Leaving a changed run asks what to do with the changes (on a copy: a draft is written)."""
     import shutil
 
@@ -150,10 +163,11 @@ def test_leave_question(snap_compare, snap_db, tmp_path):
         await pilot.press("escape")
         await settle(pilot)
 
-    assert snap_compare(make_app(copy), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(copy), terminal_size=size, run_before=before)
 
 
-def test_workbench_run_tab_in_a_screen(snap_compare, snap_db):
+@sizes
+def test_workbench_run_tab_in_a_screen(snap_compare, snap_db, size):
     """TB-0013's Run tab: its screen SC-0001 and one row per varied condition with its level."""
     async def before(pilot):
         await pilot.press(*["down"] * 12, "e")
@@ -161,4 +175,4 @@ def test_workbench_run_tab_in_a_screen(snap_compare, snap_db):
         await pilot.press("f2")
         await settle(pilot)
 
-    assert snap_compare(make_app(snap_db), terminal_size=SIZE, run_before=before)
+    assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)

@@ -14,7 +14,7 @@ from dataclasses import asdict, dataclass, field
 from . import materials
 from .chemistry import molecules
 from .errors import ChemistryError, RecordError
-from .records import Line, Run, parse_ratio
+from .records import AMOUNT_FIELDS, Line, Run, parse_ratio
 from .units import to_canonical, unit_text
 
 WATER_MW = 18.015  # g/mol, H2O from IUPAC standard atomic weights
@@ -209,8 +209,25 @@ def _water_mmol(line: Line, mmol: float | None, mass_mg: float | None) -> float 
     return water if known else None
 
 
-def compute(run: Run) -> AmountTable:
-    """The reagent table of a run: mmol, equiv, mg and µL of every line."""
+def as_weighed(line: Line) -> Line:
+    """The line with what was actually weighed or measured (`actual`) in place of its planned amount.
+
+    The one place the choice is made: once a line records what went into the flask, every
+    equiv, concentration and yield is worked out from that, not from the plan.
+    """
+    if line.actual is None:
+        return line
+    from .units import measured_kind
+
+    cleared = dict.fromkeys(AMOUNT_FIELDS)
+    return line.model_copy(update={**cleared, measured_kind(line.actual): line.actual})
+
+
+def compute(run: Run, planned: bool = False) -> AmountTable:
+    """The reagent table of a run: mmol, equiv, mg and µL of every line — from what was
+    weighed where a line records it, or (`planned=True`) from the plan alone."""
+    if not planned and any(ln.actual is not None for ln in run.lines):
+        run = run.model_copy(update={"lines": [as_weighed(ln) for ln in run.lines]})
     for line in run.lines:
         refuse_solid_by_volume(line)
     lim = limiting_line(run)

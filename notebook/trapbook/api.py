@@ -100,10 +100,36 @@ def checks(run: Any, nb=None) -> list:
 
 
 def strain(smiles: str, tier: str = "fast", nb=None, progress: Callable[[str, float], None] | None = None) -> dict:
-    """Olefin strain of an intermediate; with `nb`, served from and stored in its cache."""
+    """Olefin strain of an intermediate; with `nb`, served from and stored in its cache (shows as a card in Jupyter)."""
+    from .html_display import StrainResult
     from .strain_link import get_strain
 
-    return get_strain(nb, smiles, tier, progress)
+    return StrainResult(get_strain(nb, smiles, tier, progress))
+
+
+def find_runs(nb, query: str = "", **options) -> list:
+    """Runs matching a query typed as in the Logbook's filter ("trap:furan temp:>100"), or `trapbook search`'s options."""
+    from .search import search
+    from .search_query import parse_query
+
+    if query and options:
+        raise RecordError("give a query text or search options, not both", "e.g. find_runs(nb, 'trap:furan') or find_runs(nb, trap='furan')")
+    return search(nb, parse_query(query)) if query else search(nb, **options)
+
+
+def review_screen(nb, screen: str) -> dict:
+    """A screen's review: yields by condition, best run, failures (a dict that shows as a table in Jupyter)."""
+    from .html_display import ScreenReview
+    from .review import review_screen as _review
+
+    return ScreenReview(_review(nb, screen))
+
+
+def open_group(paths) -> Any:
+    """Several members' notebooks read together, read-only (`trapbook.group.Group`; close it when done)."""
+    from .group import Group
+
+    return Group.open([paths] if isinstance(paths, (str, os.PathLike)) else paths)
 
 
 def verify(nb_or_path) -> dict:
@@ -144,4 +170,4 @@ def backup(nb_or_path, dest: str | os.PathLike) -> dict:
 
 
 __all__ = ["open_notebook", "load_run", "add_run", "save_run", "get_run", "list_runs", "amounts", "yields", "checks",
-           "strain", "verify", "attach", "export", "import_file", "backup"]
+           "strain", "find_runs", "review_screen", "open_group", "verify", "attach", "export", "import_file", "backup"]

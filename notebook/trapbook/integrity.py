@@ -131,7 +131,7 @@ def verify(nb, check_files: bool = True, noted_head: str | None = None) -> Repor
 
 def _check_version(rep: Report, row: tuple, i: int, prev: str | None):
     """One run version: number, link, hash and form; returns the run it holds (None if unreadable)."""
-    from .records import Run, canonical_json
+    from .records import canonical_json, stored_run
     from .store.chain import version_hash
 
     rid, version, author, time, reason, action, prev_hash, h, data = row
@@ -147,7 +147,7 @@ def _check_version(rep: Report, row: tuple, i: int, prev: str | None):
     if recomputed != h:
         rep.add("hash-mismatch", where, "content does not match its stored SHA-256 (changed outside Trapbook)")
     try:
-        run = Run.model_validate(json.loads(data))
+        run = stored_run(data)
     except (ValueError, TypeError, RecursionError, TrapbookError) as exc:
         rep.add("bad-record", where, f"not a readable run record ({str(exc).splitlines()[0][:120]})")
         return None

@@ -22,6 +22,7 @@ from .bench_words import BenchWords
 from .errors import ChemistryError, RecordError, UnitError
 from .record_errors import explain
 from .text_rules import Note, RunId, SingleLine, SmilesText, Title, validate_run_id
+from .stored_reading import input_rules_apply, reading_stored
 from .units import (
     Amount,
     Density,
@@ -228,7 +229,7 @@ class Step(_Model):
     @model_validator(mode="after")
     def _times_and_words(self) -> Step:
         for what, q in (("hold", self.hold), ("addition time (over)", self.over)):
-            if q is not None and q.magnitude <= 0:
+            if q is not None and q.magnitude <= 0 and input_rules_apply():
                 raise ValueError(f"{what} must be longer than zero (got {q.magnitude:g} {q.units:~}); "
                                  "leave it out if there was none")
         if self.temperature is None and (self.temperature_end is not None or self.temperature_written is not None):
@@ -451,6 +452,12 @@ class Run(_Model):
         """The stored form: every quantity as {"value", "unit"}, no empty optionals."""
         return self.model_dump(mode="json", exclude_none=True, exclude_defaults=False)
 
+    def _repr_html_(self) -> str:
+        """How Jupyter shows a run: structures, amounts, outcome and checks (html_display.py)."""
+        from .html_display import run_html
+
+        return run_html(self)
+
 
 class Screen(_Model):
     """A named set of runs that vary stated conditions around one base."""
@@ -528,3 +535,15 @@ def load_screen(data: Any) -> Screen:
 def canonical_json(obj: Any) -> str:
     """Deterministic JSON for hashing: sorted keys, no spaces, UTF-8 kept."""
     return json.dumps(obj, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+
+
+def stored_run(text: str) -> Run:
+    """A run version as the notebook holds it, readable even if saved under looser rules."""
+    with reading_stored():
+        return Run.model_validate(json.loads(text))
+
+
+def stored_screen(text: str) -> Screen:
+    """A screen as the notebook holds it (see stored_run)."""
+    with reading_stored():
+        return Screen.model_validate(json.loads(text))

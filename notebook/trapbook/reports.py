@@ -18,6 +18,7 @@ from pathlib import Path
 from .errors import ExchangeError, NotFoundError, TrapbookError
 from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
 from .files import write_atomic
+from .reports_outcome import outcome_data_html, screen_products, screen_raw_rows_html, version_html, weighed_html
 
 e = html.escape
 
@@ -194,10 +195,11 @@ def run_report_html(nb, run_id: str) -> str:
                                   "WITHDRAWN" if meta.get("withdrawn") else None) if x)
     body = [f"<h1>{e(run.id)} — {e(run.title)}</h1>", f"<p class='meta'>{e(info)}</p>",
             "<h2>Structures</h2>", _structures(_run_structures(run)),
-            "<h2>Amounts</h2>", _amounts_table(run),
+            "<h2>Amounts</h2>", _amounts_table(run), weighed_html(run, nb),
             "<h2>Steps</h2>", _steps(run),
             "<h2>Bench checks</h2>", _findings_html(findings, problem),
-            "<h2>Outcome</h2>", _outcome(run), run_spectra_html(nb, run),
+            "<h2>Outcome</h2>", _outcome(run), outcome_data_html(run), run_spectra_html(nb, run),
+            "<h2>Version</h2>", version_html(nb, run_id),
             "<h2>Strain</h2>", _strain_card(strain)]
     if run.notes:
         body += ["<h2>Notes</h2>", f"<p>{e(run.notes)}</p>"]
@@ -317,7 +319,7 @@ def screen_report_html(nb, screen_id: str) -> str:
         body.append(f"<p>{e(rv['description'])}</p>")
     body.append("<p class='meta'>Varied: " + e("; ".join(f"{k}: {', '.join(v)}" for k, v in rv["factors"].items()))
                 + (f" · scale {e(screen.scale)}" if screen.scale else "") + "</p>")
-    body += ["<h2>Structures</h2>", _structures(items + traps)]
+    body += ["<h2>Structures</h2>", _structures(items + traps + screen_products(runs))]
     body += ["<h2>Yield map</h2>", heat_map_html(rv["matrix"])]
     if rv["best"]:
         b = rv["best"]
@@ -359,6 +361,7 @@ def screen_report_html(nb, screen_id: str) -> str:
                     f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
                     f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>")
     body.append("</table>")
+    body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs)]
     return _page(f"{rv['screen_id']} {rv['name']}", body)
 
 
@@ -368,6 +371,12 @@ def write_report(nb, ref: str, output: str | Path) -> dict:
     if path.suffix.lower() not in (".html", ".htm"):
         raise ExchangeError(f"report file {path} does not end in .html", "give a file name like report.html")
     kind = None
+    if ref.startswith("CP-"):  # a campaign's map (reports_campaign)
+        from .reports_campaign import campaign_report_html
+
+        text = campaign_report_html(nb, ref)
+        write_atomic(path, text)
+        return {"path": str(path), "kind": "campaign", "id": ref, "bytes": len(text.encode())}
     try:
         nb.run_meta(ref)
         kind, text = "run", run_report_html(nb, ref)

@@ -113,8 +113,7 @@ def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str,
 
     result = strain.compute_strain(smiles, tier=tier, progress=progress)
     if nb is not None and not nb.read_only:  # a notebook that cannot be written here caches nothing
-        nb.cache_put(key, result.get("smiles", smiles), tier, result.get("engine_version", ""), result)
-        rejudge_runs_with(nb, smiles)
+        store_result(nb, smiles, tier, result)
     result = dict(result)
     result["cached"] = False
     return result
@@ -175,10 +174,31 @@ def get_alignment(nb, smiles: str, compute: bool = True, temperature_c: float = 
     elif not compute:
         return None
     from .chemistry import alignment
-    from .chemistry.strain_key import ENGINE_VERSION
 
     result = alignment.precursor_alignment(smiles, temperature_c=temperature_c)
     if nb is not None and not nb.read_only:  # a notebook that cannot be written here caches nothing
+        store_alignment(nb, smiles, result, temperature_c)
+    return result
+
+
+def store_result(nb, smiles: str, tier: str, result: dict) -> str:
+    """Keep a strain result computed here or on a cluster under its cache key, and re-judge the
+    runs it concerns: the one way a strain result enters the notebook."""
+    from .chemistry.strain_key import cache_key
+
+    key = cache_key(smiles, tier)
+    nb.cache_put(key, result.get("smiles", smiles), tier, result.get("engine_version", ""), result)
+    rejudge_runs_with(nb, smiles)
+    return key
+
+
+def store_alignment(nb, smiles: str, result: dict, temperature_c: float = 25.0) -> str | None:
+    """Keep a precursor's alignment computed here or on a cluster under its cache key, and
+    re-judge the runs with that precursor."""
+    from .chemistry.strain_key import ENGINE_VERSION
+
+    key = alignment_key(smiles, temperature_c)
+    if key is not None:
         nb.cache_put(key, smiles, ALIGNMENT_TIER, ENGINE_VERSION, result)
         rejudge_runs_with(nb, smiles, part="precursor")
-    return result
+    return key

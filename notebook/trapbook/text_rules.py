@@ -15,6 +15,8 @@ from typing import Annotated
 
 from pydantic import AfterValidator, Field
 
+from .stored_reading import input_rules_apply
+from .text_safety import UNSAFE_IN_A_LINE, UNSAFE_IN_NOTES
 from .units import shown_input
 
 #: Longest single-line field (names, chemist, reasons, tags) and title. Common practice, no source.
@@ -26,9 +28,10 @@ SMILES_MAX = 2000
 NOTE_MAX = 20_000
 
 # C0 controls (tab, newline and carriage return are allowed in notes only), DEL, C1 controls,
-# the line and paragraph separators, and the bidirectional embeddings, overrides and isolates.
-_NOT_IN_NOTES = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
-_NOT_IN_A_LINE = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
+# the line and paragraph separators, and the bidirectional marks, overrides and isolates:
+# the same list printing escapes (text_safety), so what is refused and what is shown agree.
+_NOT_IN_NOTES = re.compile(f"[{UNSAFE_IN_NOTES}]")
+_NOT_IN_A_LINE = re.compile(f"[{UNSAFE_IN_A_LINE}]")
 
 _CHARACTER_NAMES = {0x00: "a NUL character", 0x09: "a tab", 0x0A: "a line break", 0x0D: "a carriage return",
                     0x1B: "an escape character", 0x7F: "a delete character", 0x2028: "a line separator",
@@ -43,12 +46,14 @@ def _character(ch: str) -> str:
     code = ord(ch)
     name = _CHARACTER_NAMES.get(code)
     if name is None:
-        name = "a direction override" if 0x202A <= code <= 0x202E or 0x2066 <= code <= 0x2069 else "a control character"
+        name = "a direction mark or override" if code in (0x061C, 0x200E, 0x200F) or 0x202A <= code <= 0x202E or 0x2066 <= code <= 0x2069 else "a control character"
     return f"{name} (U+{code:04X})"
 
 
 def check_line(text: str, limit: int = SINGLE_LINE_MAX) -> str:
     """A single-line field: plain printable text of at most `limit` characters."""
+    if not input_rules_apply():
+        return text
     bad = _NOT_IN_A_LINE.search(text)
     if bad:
         raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1} "
@@ -62,6 +67,8 @@ def check_line(text: str, limit: int = SINGLE_LINE_MAX) -> str:
 
 def check_note(text: str) -> str:
     """A free-text note: line breaks and tabs are fine, other control characters and NUL are not."""
+    if not input_rules_apply():
+        return text
     bad = _NOT_IN_NOTES.search(text)
     if bad:
         raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1}; "
@@ -76,6 +83,8 @@ def validate_run_id(text: str) -> str:
     """The id rule for runs and screens (see RUN_ID); raises ValueError in plain words."""
     if not isinstance(text, str):
         raise ValueError(f"id {shown_input(text)} is not text")
+    if not input_rules_apply():
+        return text
     if not RUN_ID.fullmatch(text) or ".." in text:
         if len(text) > 64:
             why = f"is {len(text):,} characters long (at most 64)"
@@ -91,8 +100,13 @@ def validate_run_id(text: str) -> str:
 
 
 # The same rules written into the JSON Schema, so a run file can be checked without Trapbook.
-_LINE_PATTERN = r"^[^\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]*$"
-_NOTE_PATTERN = r"^[^\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f\u202a-\u202e\u2066-\u2069]*$"
+def _json_class(body: str) -> str:
+    """A regex class body with every character spelled as a JSON Schema \\uXXXX escape."""
+    return "".join(ch if ch == "-" else f"\\u{ord(ch):04x}" for ch in body)
+
+
+_LINE_PATTERN = f"^[^{_json_class(UNSAFE_IN_A_LINE)}]*$"
+_NOTE_PATTERN = f"^[^{_json_class(UNSAFE_IN_NOTES)}]*$"
 
 
 def _schema(limit: int, pattern: str):

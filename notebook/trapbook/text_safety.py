@@ -15,12 +15,19 @@ from __future__ import annotations
 import re
 from typing import Any
 
-#: Bidirectional overrides and isolates (they reorder what follows them on screen) and the
-#: Unicode line and paragraph separators (some terminals break lines on them).
+#: Bidirectional marks, overrides and isolates (they reorder what follows them on screen) and
+#: the Unicode line and paragraph separators (some terminals break lines on them).
 _INVISIBLE_FORMATTING = "\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029"
 
-#: C0 controls, DEL, C1 controls and the formatting characters above.
-_UNSAFE = re.compile(f"[\x00-\x1f\x7f-\x9f{_INVISIBLE_FORMATTING}]")
+#: The one list of characters text must not carry into a terminal, as regex class bodies:
+#: validation refuses them in new input (text_rules) and printing escapes them (below).
+#: In a single line: C0 controls, DEL, C1 controls and the formatting characters above.
+UNSAFE_IN_A_LINE = f"\x00-\x1f\x7f-\x9f{_INVISIBLE_FORMATTING}"
+#: In notes: the same, less tab and line feed (and carriage return, refused only on input
+#: as part of a line break, escaped on output).
+UNSAFE_IN_NOTES = f"\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f{_INVISIBLE_FORMATTING}"
+
+_UNSAFE = re.compile(f"[{UNSAFE_IN_A_LINE}]")
 _UNSAFE_KEEP_LINES = re.compile(f"[\x00-\x08\x0b-\x1f\x7f-\x9f{_INVISIBLE_FORMATTING}]")
 
 _NAMED = {"\n": "\\n", "\r": "\\r", "\t": "\\t"}

@@ -142,6 +142,10 @@ LIMITS: dict[str, tuple[float, float]] = {
 
 def _check_limits(q: pint.Quantity, kind: str, field: str | None, shown: str) -> None:
     """Refuse a value outside LIMITS with the bound in the stored unit."""
+    from .stored_reading import input_rules_apply
+
+    if not input_rules_apply():
+        return
     low, high = LIMITS[kind]
     unit = CANONICAL_UNITS[kind]
     try:

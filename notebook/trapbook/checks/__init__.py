@@ -9,8 +9,8 @@ strain engine's result dicts): no database, no UI, no printing, and a valid run 
 makes them raise. Judgement thresholds are `CheckSettings`, which a lab can change.
 
 One module per family: `addition_order` (trap before fluoride, the steps), `amounts`,
-`water`, `temperature` (heat and pressure, the vessel), `strain` (judged by
-`trapbook.stability`), `outcome`, `hrms` (HRMS and the product's formula) and `hazards`; `finding` holds the one registry of codes
+`water`, `weighed` (weighed against planned), `temperature` (heat and pressure, the vessel), `strain` (judged by
+`trapbook.stability`), `outcome`, `spectrum` (what processing an attached FID found), `hrms` (HRMS and the product's formula) and `hazards`; `finding` holds the one registry of codes
 (`CHECK_CODES`), `settings` the thresholds and their sources, `runner` the entry point.
 Views do not call `run_checks` themselves: `trapbook.findings.findings_for` gives a run's
 findings under its notebook's settings.

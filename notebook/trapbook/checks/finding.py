@@ -52,6 +52,12 @@ CHECK_CODES: dict[str, str] = {
     "hrms-uncalculable": "note: an HRMS value is recorded for a product whose line has no SMILES",
     "product-formula-unexpected": "warn: a product's formula is neither intermediate + trap nor a listed by-product",
     "check-incomplete": "note: one check could not finish on this run's data",
+    "weighed-off-plan": "warn: what was weighed or measured differs from the plan by more than the lab's limit",
+    "nmr-region-empty": "warn: an integral region of a spectrum Trapbook processed holds no peak above the noise",
+    "nmr-regions-overlap": "warn: the standard's and the product's integral regions overlap",
+    "nmr-standard-distorted": "warn: the internal standard's signal is lopsided or dips below the baseline (phase or baseline trouble)",
+    "nmr-product-zero": "note: the product region integrated to within noise of zero and was stored as 0",
+    "nmr-processing-note": "note: something the spectrum processing had to say (e.g. no ppm reference in the file)",
 }
 
 

@@ -15,15 +15,18 @@ from .hazards import check_hazards
 from .hrms import check_hrms, check_product_formula
 from .outcome import check_outcome
 from .settings import CheckSettings
+from .spectrum import check_spectrum
 from .strain import check_alignment, check_strain
 from .temperature import check_sealed_gas, check_temperatures, check_vessel_fill
 from .water import check_water
+from .weighed import check_weighed
 
 
 _CHECKS: tuple[Callable[[Context], list[Finding]], ...] = (
     check_trap_order,
     check_strain,
     check_amounts_known,
+    check_weighed,
     check_trap_amount,
     check_fluoride,
     check_temperatures,
@@ -34,6 +37,7 @@ _CHECKS: tuple[Callable[[Context], list[Finding]], ...] = (
     check_concentration,
     check_steps,
     check_outcome,
+    check_spectrum,
     check_hrms,
     check_product_formula,
     check_hazards,

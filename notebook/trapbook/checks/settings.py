@@ -28,6 +28,7 @@ SETTING_SOURCES: dict[str, str] = {
     "vessel_fill_max_pct": "common practice, no source (fill a sealed vessel to no more than about half its volume)",
     "yield_disagree_pct": "common practice, no source (isolated and NMR yields of one product usually agree within this many points)",
     "hrms_ppm_max": "common practice, no source (most journals accept an HRMS formula match within 5 ppm; docs/sources.md, Exact masses)",
+    "weighed_diff_max_pct": "common practice, no source (a weighed amount more than this far from the plan is worth a second look)",
     "room_temperature_c": "common practice, no source (what a run file's 'rt' stands for, 15-30 °C; docs/sources.md, Bench words)",
     "overnight_h": "common practice, no source (what a run file's 'overnight' or 'o/n' stands for, 6-24 h; docs/sources.md, Bench words)",
 }
@@ -56,6 +57,7 @@ class CheckSettings:
     vessel_fill_max_pct: float = 50.0
     yield_disagree_pct: float = 15.0
     hrms_ppm_max: float = 5.0
+    weighed_diff_max_pct: float = 10.0
     room_temperature_c: float = ROOM_TEMPERATURE_C  # the bench's words (bench_words), set like the thresholds
     overnight_h: float = OVERNIGHT_H
 

@@ -10,8 +10,8 @@ rank alike but differ in structure are never merged.
 Each intermediate is released by fluoride from a silyl (pseudo)halide: the 1,2-elimination
 of `derive` run backwards. The silyl group may sit on either carbon and the leaving group
 on the other; the new stereocentres give diastereomers that can behave oppositely
-(antiperiplanar or not), so each is listed (one of each mirror pair: enantiomers align
-alike). Every precursor is checked to release exactly its intermediate.
+(antiperiplanar or not), which the alignment judges side by side. Every precursor is
+checked to release exactly its intermediate.
 """
 
 from __future__ import annotations
@@ -19,7 +19,6 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field
 
 from rdkit import Chem, rdBase
-from rdkit.Chem.EnumerateStereoisomers import EnumerateStereoisomers, StereoEnumerationOptions
 
 from ..errors import ChemistryError
 from . import bridgehead as bh
@@ -31,11 +30,10 @@ KINDS = (bh.BRIDGEHEAD, bh.ALLENE, bh.ALKYNE)
 KIND_WORDS = {"bridgehead": bh.BRIDGEHEAD, "allene": bh.ALLENE, "alkyne": bh.ALKYNE}
 #: leaving groups a precursor may carry, as SMILES fragments bonded through their first atom
 LEAVING_GROUPS = {"OTf": "OS(=O)(=O)C(F)(F)F", "Cl": "Cl", "Br": "Br", "I": "I"}
-DEFAULT_LEAVING_GROUPS = ("OTf", "Br")
+DEFAULT_LEAVING_GROUPS = ("OTf",)
 SILYL = "TMS"
 #: cyclic allenes and cycloalkynes are listed in rings up to this size (larger ones are unstrained)
 MAX_SMALL_RING = 9
-MAX_DIASTEREOMERS = 16
 MAX_CANDIDATES = 500
 
 
@@ -175,7 +173,12 @@ def unit_bonds(mol: Chem.Mol) -> list[tuple[int, int]]:
 
 
 def precursors_of(smiles: str, leaving_groups: tuple[str, ...] = DEFAULT_LEAVING_GROUPS) -> list[Precursor]:
-    """Silyl (pseudo)halides releasing the intermediate by 1,2-elimination, one per diastereomer."""
+    """Silyl (pseudo)halides releasing the intermediate by 1,2-elimination.
+
+    The new stereocentres are left open on purpose: `alignment.precursor_alignment` splits
+    such a precursor into every diastereomer that embeds in 3D (tryEmbedding), drops the
+    ones too strained to exist and judges the rest side by side; one place does that.
+    """
     bad = [g for g in leaving_groups if g not in LEAVING_GROUPS]
     if bad:
         raise ChemistryError(f"unknown leaving group(s) {', '.join(map(repr, bad))}",
@@ -187,18 +190,15 @@ def precursors_of(smiles: str, leaving_groups: tuple[str, ...] = DEFAULT_LEAVING
     for a, b in unit_bonds(mol):
         for si_on, x_on in ((a, b), (b, a)):
             for group in leaving_groups:
-                flat = _attach(mol, si_on, x_on, group)
-                if flat is None:
+                made = _attach(mol, si_on, x_on, group)
+                if made is None or made in seen:
                     continue
-                for iso in diastereomers(flat):
-                    if iso in seen:
-                        continue
-                    released = _flat(intermediate_from_precursor(iso))
-                    if released != target:  # conservation: the precursor must give back this very intermediate
-                        raise ChemistryError(f"precursor {iso} releases {released}, not {target}",
-                                             "report the structure: the precursor builder is wrong here")
-                    seen.add(iso)
-                    out.append(Precursor(iso, si_on, group, x_on))
+                released = _flat(intermediate_from_precursor(made))
+                if released != target:  # conservation: the precursor must give back this very intermediate
+                    raise ChemistryError(f"precursor {made} releases {released}, not {target}",
+                                         "report the structure: the precursor builder is wrong here")
+                seen.add(made)
+                out.append(Precursor(made, si_on, group, x_on))
     return out
 
 
@@ -237,39 +237,17 @@ def _attach(mol: Chem.Mol, si_on: int, x_on: int, group: str) -> str | None:
     return Chem.MolToSmiles(out)
 
 
-def _mirror_smiles(mol: Chem.Mol) -> str:
-    m = Chem.Mol(mol)
-    flip = {Chem.ChiralType.CHI_TETRAHEDRAL_CW: Chem.ChiralType.CHI_TETRAHEDRAL_CCW,
-            Chem.ChiralType.CHI_TETRAHEDRAL_CCW: Chem.ChiralType.CHI_TETRAHEDRAL_CW}
-    for atom in m.GetAtoms():
-        atom.SetChiralTag(flip.get(atom.GetChiralTag(), atom.GetChiralTag()))
-    return Chem.MolToSmiles(m)
-
-
-def diastereomers(smiles: str) -> list[str]:
-    """Every diastereomer that can be embedded in 3D, one of each mirror pair."""
-    mol = parse(smiles, "precursor SMILES")
-    opts = StereoEnumerationOptions(onlyUnassigned=True, tryEmbedding=True, unique=True,
-                                    maxIsomers=MAX_DIASTEREOMERS, rand=0xC0FFEE)
-    kept: list[str] = []
-    with rdBase.BlockLogs():
-        for iso in EnumerateStereoisomers(mol, options=opts):
-            smi = Chem.MolToSmiles(iso)
-            if smi not in kept and _mirror_smiles(iso) not in kept:
-                kept.append(smi)
-    return kept or [Chem.MolToSmiles(mol)]
-
-
 def candidates_from_lines(lines: list[str]) -> list[Candidate]:
-    """Candidates as a file gives them: one SMILES a line, optionally a name after it; # starts a comment.
+    """Candidates as a file gives them: one SMILES a line, optionally a name after it; a line
+    starting with # is a comment (only at the start: # inside a SMILES is a triple bond).
 
     A line that is not a structure is kept as a candidate with kind 'unreadable', so the
     campaign records its failure with the reason instead of dropping it.
     """
     out: list[Candidate] = []
     for number, raw in enumerate(lines, 1):
-        text = raw.split("#", 1)[0].strip()
-        if not text:
+        text = raw.strip()
+        if not text or text.startswith("#"):
             continue
         parts = text.split(None, 1)
         smiles, name = parts[0], (parts[1].strip() if len(parts) > 1 else f"line {number}")
@@ -282,3 +260,15 @@ def candidates_from_lines(lines: list[str]) -> list[Candidate]:
             raise ChemistryError(f"more than {MAX_CANDIDATES} candidates in the file",
                                  "split the list into several campaigns")
     return out
+
+
+def diastereomers_of(precursor: str) -> list[str]:
+    """The precursor's diastereomers as the alignment judges them (every one that embeds in
+    3D, one of each mirror pair), so each becomes its own task; the precursor itself when its
+    open centres make only enantiomers."""
+    from .alignment import unassigned_diastereomers
+
+    mol = parse(precursor, "precursor SMILES")
+    with rdBase.BlockLogs():
+        isomers = unassigned_diastereomers(mol)
+    return [Chem.MolToSmiles(m) for m in isomers] or [Chem.MolToSmiles(mol)]

@@ -121,9 +121,11 @@ def _quiet_stdout() -> None:
 class Ctx:
     """What every command needs: where the notebook is and who is writing."""
 
-    def __init__(self, db: str | None, author: str | None):
+    def __init__(self, db: str | None, author: str | None, group: tuple[str, ...] = ()):
         self.db = db
         self.author = author
+        #: --group paths: several members' notebooks read together (cli/group_view.py); () for one notebook.
+        self.group = tuple(group)
 
     def db_path(self) -> Path:
         from ..store import default_path
@@ -161,12 +163,21 @@ class Ctx:
 _pass_obj = click.make_pass_decorator(Ctx)
 
 
+def refuse_db_with_group(group: tuple[str, ...], db: str | None) -> None:
+    """--db names one notebook and --group several: given both, which one is meant is unclear."""
+    if group and db:
+        raise TrapbookError(f"both --db {db} and --group were given",
+                            "use --db FILE for one notebook, or --group for several read together (add that file as another --group)",
+                            field="db", got=db)
+
+
 def pass_ctx(fn: Callable) -> Callable:
     """Pass the Ctx, and accept --db/--author after the command name as well as before it."""
 
     @functools.wraps(fn)
     def wrapper(ctx: Ctx, *args, db_local: str | None = None, author_local: str | None = None, **kwargs):
         if db_local:
+            refuse_db_with_group(ctx.group, db_local)
             ctx.db = db_local
         if author_local:
             ctx.author = author_local
@@ -226,39 +237,59 @@ def load_run_arg(ctx: Ctx, ref: str):
 
 @click.group(cls=TrapbookGroup, invoke_without_command=True, context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--db", envvar="TRAPBOOK_DB", help="Notebook file (default: $TRAPBOOK_DB, then the per-user data directory).")
+@click.option("--group", "group", multiple=True, metavar="PATH",
+              help="Read several members' notebooks together instead of --db (repeat it; a folder means every *.sqlite "
+                   "in it): list, search, review, strain-map, report, open and serve; nothing is written.")
 @click.option("--author", help="Name recorded on saved versions (default: your OS user name).")
 @click.version_option(__version__, prog_name="trapbook")
 @click.pass_context
-def main(cctx: click.Context, db: str | None, author: str | None) -> None:
+def main(cctx: click.Context, db: str | None, group: tuple[str, ...], author: str | None) -> None:
     """Trapbook: plan, record and review trapping runs of strained intermediates.
 
     With no command, opens the notebook in the terminal UI.
     """
-    cctx.obj = Ctx(db, author)
+    if group:
+        from click.core import ParameterSource
+
+        if cctx.get_parameter_source("db") != ParameterSource.ENVIRONMENT:  # $TRAPBOOK_DB yields to --group
+            refuse_db_with_group(group, db)
+        db = None
+        from .group_view import refuse_outside_group
+
+        refuse_outside_group(cctx.invoked_subcommand)
+    cctx.obj = Ctx(db, author, group)
     if cctx.invoked_subcommand is None:
         cctx.invoke(open_cmd)
 
 
 @main.command("open")
 @click.argument("path", required=False)
+@click.option("--read-only", is_flag=True, help="Open for reading only: nothing is written, keys that would write are hidden.")
 @pass_ctx
-def open_cmd(ctx: Ctx, path: str | None = None) -> None:
-    """Open a notebook (PATH or the default) in the terminal UI."""
+def open_cmd(ctx: Ctx, path: str | None = None, read_only: bool = False) -> None:
+    """Open a notebook (PATH or the default) in the terminal UI; under --group, every member's runs, read-only."""
+    if ctx.group:
+        from .group_view import open_group_ui
+
+        return open_group_ui(ctx, path)
     if path:
         ctx.db = path
-    with ctx.notebook():
-        pass
-    _open_ui(ctx.db_path(), ctx.author)
+    if read_only:
+        ctx.existing_path()
+    else:
+        with ctx.notebook():
+            pass
+    _open_ui(ctx.db_path(), ctx.author, read_only)
 
 
-def _open_ui(path: Path, author: str | None = None) -> None:
+def _open_ui(path: Path, author: str | None = None, read_only: bool = False) -> None:
     import importlib.util
 
     if importlib.util.find_spec("textual") is None:
         raise TrapbookError("the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'")
     from ..tui.app import run_app
 
-    run_app(path, author=author)  # --author, for this session, over the notebook's "you are" name
+    run_app(path, author=author, read_only=read_only)  # --author, for this session, over the notebook's "you are" name
 
 
 @main.command()
@@ -350,7 +381,7 @@ def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> N
 @click.argument("run_id")
 @click.option("--version", "version", type=click.IntRange(min=1), help="Show an earlier version.")
 @json_option(
-              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown, intermediate} (meta describes the current version; intermediate: {smiles, how} when derived from the precursor, else null).")
+              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown, intermediate} (meta describes the current version; intermediate: {smiles, how}, as recorded on the run or derived from its precursor, else null).")
 @pass_ctx
 def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
     """Show one run: lines with amounts, steps, outcome and checks."""
@@ -401,7 +432,11 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
 @json_option(help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...}.")
 @pass_ctx
 def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: bool) -> None:
-    """List the runs in the notebook."""
+    """List the runs in the notebook (under --group: {members, runs}, each run with member and ref)."""
+    if ctx.group:
+        from .group_view import list_group
+
+        return list_group(ctx, include_withdrawn, screen, as_json)
     with ctx.notebook() as nb:
         rows = nb.list_runs(include_withdrawn=include_withdrawn, screen=screen)
     if as_json:

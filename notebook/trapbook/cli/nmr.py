@@ -14,7 +14,7 @@ REFERENCE_SEARCH_PPM = 0.2
 
 
 def _regions(standard, product, standard_protons, product_protons, product_line, lb, phase0, phase1, phase_method,
-             baseline_order, reference, reference_region):
+             baseline_order, reference, reference_region, reverse):
     from ..spectra import Processing, Region
     from ..spectra.runs import RegionSet
 
@@ -30,7 +30,8 @@ def _regions(standard, product, standard_protons, product_protons, product_line,
             Region.of(std.low - REFERENCE_SEARCH_PPM, std.high + REFERENCE_SEARCH_PPM, "reference region")
         ref_region = (ref.low, ref.high)
     proc = Processing(line_broadening_hz=lb, phase0_deg=phase0, phase1_deg=phase1, phase_method=phase_method,
-                      baseline_order=baseline_order, reference_ppm=reference, reference_region=ref_region)
+                      baseline_order=baseline_order, reference_ppm=reference, reference_region=ref_region,
+                      reverse=reverse)
     return RegionSet(std, prod, standard_protons, product_protons, product_line, proc)
 
 
@@ -39,13 +40,19 @@ def _is_screen(nb, target: str) -> bool:
         nb.run_meta(target)
         return False
     except NotFoundError:
-        nb.get_screen(target)  # NotFoundError names the target when it is neither
-        return True
+        pass
+    try:
+        nb.get_screen(target)
+    except NotFoundError:
+        raise NotFoundError(f"no run or screen '{target}' in this notebook", "list them with 'trapbook list' and "
+                            "'trapbook screens'", field="target", got=target) from None
+    return True
 
 
 def _print_run(res: dict) -> None:
     y = res["yield_pct"]
-    say(f"{res['run_id']} v{res['version']}: {res['product']} from {res['attachment']} (sha256 {res['sha256'][:12]}…)")
+    kept = "" if res["saved"] else " (the same as stored: no new version)"
+    say(f"{res['run_id']} v{res['version']}{kept}: {res['product']} from {res['attachment']} (sha256 {res['sha256'][:12]}…)")
     say(f"  standard {res['standard_integral']:.2f} ({res['standard_protons']}H)  product {res['product_integral']:.3f} "
         f"({res['product_protons']}H)  ratio {res['ratio']:.4f}  NMR yield " + ("—" if y is None else f"{y:.1f} %"))
     p = res["processing"]
@@ -57,6 +64,7 @@ def _print_run(res: dict) -> None:
 
 def _write_png(ctx: Ctx, run_id: str, regions, attachment: str | None, png: str) -> None:
     from ..attachments import read_verified, store_dir
+    from ..files import write_atomic
     from ..spectra.plot import spectrum_png
     from ..spectra.runs import analyse, spectrum_attachment
 
@@ -64,7 +72,16 @@ def _write_png(ctx: Ctx, run_id: str, regions, attachment: str | None, png: str)
         run = nb.get_run(run_id)
         att = spectrum_attachment(run, attachment)
         spec, integ = analyse(read_verified(store_dir(nb), att.sha256, att.size), att.name, regions)
-    Path(png).write_bytes(spectrum_png(spec, integ, title=f"{run_id}: {att.name}"))
+    write_atomic(png, spectrum_png(spec, integ, title=f"{run_id}: {att.name}"), SpectrumError)
+
+
+def _check_png_path(png: str) -> None:
+    """Refuse a picture path that cannot be written before anything is integrated or saved."""
+    path = Path(png)
+    if path.suffix.lower() != ".png":
+        raise SpectrumError(f"picture file {png} does not end in .png", "give a file name like tb4.png", field="png")
+    if not path.parent.expanduser().is_dir():
+        raise SpectrumError(f"folder {path.parent} does not exist", "choose a folder that exists", field="png")
 
 
 @main.command()
@@ -85,12 +102,14 @@ def _write_png(ctx: Ctx, run_id: str, regions, attachment: str | None, png: str)
 @click.option("--reference", type=float, metavar="PPM",
               help="Move the tallest signal of the reference region (default: around the standard's) to this shift.")
 @click.option("--reference-region", metavar="LOW..HIGH", help="Where to look for the reference signal, e.g. 7.1..7.4 for CHCl3.")
+@click.option("--reverse/--no-reverse", default=True, show_default=True,
+              help="Flip the transformed spectrum end to end, so high ppm comes first (right for Bruker data).")
 @click.option("--png", type=click.Path(dir_okay=False), help="Also write the spectrum with its regions shaded (one run only).")
 @json_option(help="Print {run_id, version, standard_integral, product_integral, ratio, yield_pct, processing: {...}, "
                   "warnings: [...]}; for a screen {screen, regions, integrated: [...], refused: [...], skipped: [...]}.")
 @pass_ctx
 def nmr(ctx: Ctx, target: str, standard, product, standard_protons, product_protons, product_line, attachment, lb,
-        phase0, phase1, phase_method, baseline_order, reference, reference_region, png, as_json: bool) -> None:
+        phase0, phase1, phase_method, baseline_order, reference, reference_region, reverse, png, as_json: bool) -> None:
     """NMR yield from the attached FID: process, integrate, save as a new version.
 
     RUN is a stored run with a zipped Bruker or Varian/Agilent experiment folder, or a
@@ -106,7 +125,9 @@ def nmr(ctx: Ctx, target: str, standard, product, standard_protons, product_prot
     from ..spectra.runs import integrate_run, integrate_screen
 
     regions = _regions(standard, product, standard_protons, product_protons, product_line, lb, phase0, phase1,
-                       phase_method, baseline_order, reference, reference_region)
+                       phase_method, baseline_order, reference, reference_region, reverse)
+    if png:
+        _check_png_path(png)
     with ctx.notebook() as nb:
         screen = _is_screen(nb, target)
         if screen:

@@ -100,8 +100,15 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     """Review a screen: yields by condition, per-level mean and best, the best run, failures and why."""
     from ..review import review_screen
 
-    with ctx.notebook() as nb:
-        rv = review_screen(nb, screen)
+    if ctx.group:  # SCREEN as MEMBER:SC-…, or an id only one member has
+        from .group_view import review_group
+
+        rv = review_group(ctx, screen, as_json)
+        if rv is None:
+            return
+    else:
+        with ctx.notebook() as nb:
+            rv = review_screen(nb, screen)
     if as_json:
         emit_json(rv)
         return
@@ -144,8 +151,15 @@ def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
     """Strain against outcome: each intermediate's cached OS and class beside its best yield per trap."""
     from ..review import strain_map
 
-    with ctx.notebook() as nb:
-        sm = strain_map(nb)
+    if ctx.group:  # every member's runs; intermediates merged by structure, runs as MEMBER:ID
+        from .group_view import strain_map_group
+
+        sm = strain_map_group(ctx, as_json)
+        if sm is None:
+            return
+    else:
+        with ctx.notebook() as nb:
+            sm = strain_map(nb)
     if as_json:
         emit_json(sm)
         return
@@ -170,9 +184,14 @@ def report_cmd(ctx: Ctx, ref: str, output: str, as_json: bool) -> None:
     """Write a printable HTML report of a run (TB-…) or a screen (SC-… or its name)."""
     from ..reports import write_report
 
-    with ctx.notebook() as nb:
-        info = write_report(nb, ref, output)
+    if ctx.group:  # REF as MEMBER:TB-… / MEMBER:SC-…; only the report file is written
+        from .group_view import report_group
+
+        info = report_group(ctx, ref, output)
+    else:
+        with ctx.notebook() as nb:
+            info = write_report(nb, ref, output)
     if as_json:
         emit_json(info)
     else:
-        say(f"wrote {info['kind']} report of {info['id']} to {info['path']}")
+        say(f"wrote {info['kind']} report of {(info['member'] + ':') if info.get('member') else ''}{info['id']} to {info['path']}")

@@ -46,6 +46,10 @@ def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> Non
     from ..search_query import query_from_options
 
     query = query_from_options(tags=tags, **filters)
+    if ctx.group:  # the same Query on every member's notebook, hits labelled MEMBER:ID
+        from .group_view import search_group
+
+        return search_group(ctx, query, as_json)
     with ctx.notebook() as nb:
         hits = search(nb, query)
     if as_json:

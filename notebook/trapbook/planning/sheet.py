@@ -25,6 +25,14 @@ def _how(row) -> tuple[str, str]:
     return "add", "amount unknown"
 
 
+def _weighed(run, name: str) -> str:
+    """What the line records as actually weighed or measured, or '' (a box to fill in at the bench)."""
+    from ..phrases import quantity_words
+
+    line = run.line(name)
+    return quantity_words(line.actual) if line is not None and line.actual is not None else ""
+
+
 def vial_instructions(pr: PlannedRun) -> list[dict]:
     """Ordered actions for one vial: each addition with every amount, then heating and holds."""
     from ..units import fmt_mmol
@@ -48,7 +56,8 @@ def vial_instructions(pr: PlannedRun) -> list[dict]:
                 extra.append(f"{row.equiv:.3g} equiv")
             if row.molarity_M:
                 extra.append(f"{row.molarity_M:g} M solution")
-            out.append({"step": i, "action": verb, "line": name, "role": row.role, "quantity": qty, "detail": ", ".join(extra)})
+            out.append({"step": i, "action": verb, "line": name, "role": row.role, "quantity": qty, "detail": ", ".join(extra),
+                        "weighed": _weighed(pr.run, name)})
         cond = step_phrases(s.model_copy(update={"note": None}), with_additions=False)
         if cond or s.note:
             out.append({"step": i, "action": "conditions", "line": "", "quantity": "; ".join(cond), "detail": s.note or ""})
@@ -102,7 +111,8 @@ def bench_sheet_text(plan: PlannedScreen) -> str:
             if ins["action"] == "conditions":
                 lines.append(f"   {step:4} {ins['quantity']}" + (f" ({ins['detail']})" if ins["detail"] else ""))
             else:
-                lines.append(f"   {step:4} [ ] {ins['action']:7} {ins['quantity']:>12}  {ins['line']}" + (f"  ({ins['detail']})" if ins.get("detail") else ""))
+                weighed = f"  weighed: {ins.get('weighed') or '________'}" if ins["action"] != "add" else ""
+                lines.append(f"   {step:4} [ ] {ins['action']:7} {ins['quantity']:>12}  {ins['line']}" + (f"  ({ins['detail']})" if ins.get("detail") else "") + weighed)
         for f in pr.findings:
             if f.severity in ("stop", "warn"):
                 lines.append(f"   ! {f.severity.upper()} {f.code}: {f.message}")
@@ -137,10 +147,11 @@ def bench_sheet_html(plan: PlannedScreen) -> str:
         out.append(f"<div class='vial'><h2>{e(pr.vial)} {e(rid)} — " + e(", ".join(f"{k}: {v}" for k, v in pr.run.factors.items())) + "</h2>")
         if pr.problem:
             out.append(f"<p class='stop'>Amounts cannot be worked out: {e(pr.problem)}</p>")
-        out.append("<table><tr><th class='box'>✓</th><th>step</th><th>do</th><th>amount</th><th>line</th><th>detail</th></tr>")
+        out.append("<table><tr><th class='box'>✓</th><th>step</th><th>do</th><th>amount</th><th>weighed</th><th>line</th><th>detail</th></tr>")
         for ins in vial_instructions(pr):
             out.append(f"<tr><td class='box'>☐</td><td>{ins['step'] or '?'}</td><td>{e(ins['action'])}</td>"
-                       f"<td class='n'>{e(ins['quantity'])}</td><td>{e(ins['line'])}</td><td>{e(ins.get('detail') or '')}</td></tr>")
+                       f"<td class='n'>{e(ins['quantity'])}</td><td class='n weighed'>{e(ins.get('weighed') or '')}</td>"
+                       f"<td>{e(ins['line'])}</td><td>{e(ins.get('detail') or '')}</td></tr>")
         out.append("</table>")
         for f in pr.findings:
             if f.severity in ("stop", "warn"):

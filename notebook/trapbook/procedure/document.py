@@ -13,6 +13,18 @@ from dataclasses import dataclass, field
 from ..text_safety import printable
 
 
+def clean(text: str) -> str:
+    """Stored text as one run of words: line breaks and repeated spaces become one space."""
+    return " ".join(str(text).split())
+
+
+def sentence(text: str) -> str:
+    """`text` as a sentence: capital first letter, closing full stop."""
+    text = clean(text)
+    text = text[:1].upper() + text[1:]
+    return text if text.endswith((".", "!", "?")) else text + "."
+
+
 @dataclass
 class Heading:
     text: str

@@ -14,17 +14,7 @@ from ..errors import TrapbookError
 from ..records import Run
 from ..trapping import run_hrms, with_masses
 from ..units import to_canonical
-from .document import Paragraph
-
-
-def _clean(text: str) -> str:
-    return " ".join(str(text).split())
-
-
-def _sentence(text: str) -> str:
-    text = _clean(text)
-    text = text[:1].upper() + text[1:]
-    return text if text.endswith((".", "!", "?")) else text + "."
+from .document import Paragraph, clean, sentence
 
 
 def _yield_bits(y: ProductYield, mass_mg: float | None) -> list[str]:
@@ -46,31 +36,31 @@ def outcome_sentences(run: Run, table: AmountTable | None) -> tuple[list[str], l
     if oc is None:
         return [], ["the run has no outcome recorded"]
     if oc.workup:
-        out.append(_sentence(oc.workup))
+        out.append(sentence(oc.workup))
     try:
         yields = product_yields(run, table) if table is not None else []
     except TrapbookError as exc:
         return out, [f"yields cannot be worked out: {exc.message}"]
-    lead = f"Flash column chromatography ({_clean(oc.eluent)}) gave" if oc.eluent else "This gave"
+    lead = f"Flash column chromatography ({clean(oc.eluent)}) gave" if oc.eluent else "This gave"
     for res, y in zip(oc.products, yields):
         mass = to_canonical(res.isolated_mass, "mass") if res.isolated_mass is not None else None
         bits = _yield_bits(y, mass)
         if mass == 0:
-            out.append(_sentence(f"No {_clean(y.product)} was isolated"))
+            out.append(sentence(f"No {clean(y.product)} was isolated"))
         elif y.isolated_yield_pct is not None:
-            look = f" as a {_clean(res.appearance)}" if res.appearance else ""
-            out.append(_sentence(f"{lead} {_clean(y.product)} ({', '.join(bits)}){look}"))
+            look = f" as a {clean(res.appearance)}" if res.appearance else ""
+            out.append(sentence(f"{lead} {clean(y.product)} ({', '.join(bits)}){look}"))
             lead = "It also gave" if not oc.eluent else "Further elution gave"
         if y.nmr_yield_pct is not None:
-            std = _clean(res.qnmr.standard) if res.qnmr and res.qnmr.standard else "the internal standard"
+            std = clean(res.qnmr.standard) if res.qnmr and res.qnmr.standard else "the internal standard"
             extra = "" if y.isolated_yield_pct is not None else "".join(f", {b}" for b in bits)
-            out.append(_sentence(f"The yield of {_clean(y.product)} by 1H NMR against {std} was "
+            out.append(sentence(f"The yield of {clean(y.product)} by 1H NMR against {std} was "
                                  f"{fmt_pct(y.nmr_yield_pct)} ({fmt_mmol(y.nmr_mmol)} mmol{extra})"))
         if y.isolated_yield_pct is None and y.nmr_yield_pct is None:
-            notes.append(f"no isolated mass or NMR yield is recorded for '{_clean(y.product)}'")
+            notes.append(f"no isolated mass or NMR yield is recorded for '{clean(y.product)}'")
     if not oc.products:
         products = [ln.name for ln in run.lines_by_role("product")]
-        out.append(_sentence(f"No {_clean(products[0])} was obtained" if products else "No product was obtained"))
+        out.append(sentence(f"No {clean(products[0])} was obtained" if products else "No product was obtained"))
     return out, notes
 
 
@@ -84,31 +74,31 @@ def characterisation(run: Run) -> tuple[list[Paragraph], list[str]]:
     hrms = {row["product"].casefold(): row for row in run_hrms(run)}
     for res in oc.products:
         line = run.line(res.product)
-        p = Paragraph().add(_clean(line.name if line else res.product), "bold").add(": ")
+        p = Paragraph().add(clean(line.name if line else res.product), "bold").add(": ")
         parts = []
         if res.appearance:
-            parts.append(_sentence(res.appearance))
+            parts.append(sentence(res.appearance))
         if res.rf is not None:
-            parts.append(f"Rf = {res.rf:.2f}" + (f" ({_clean(oc.eluent)})." if oc.eluent else "."))
+            parts.append(f"Rf = {res.rf:.2f}" + (f" ({clean(oc.eluent)})." if oc.eluent else "."))
         if res.nmr_text:
-            parts.append(_sentence(res.nmr_text))
+            parts.append(sentence(res.nmr_text))
         else:
-            notes.append(f"no NMR text is recorded for '{_clean(res.product)}' (nmr_text in its outcome)")
+            notes.append(f"no NMR text is recorded for '{clean(res.product)}' (nmr_text in its outcome)")
         if line is not None and line.smiles:
             try:
                 m = with_masses({"smiles": line.smiles})
                 parts.append(f"Formula {m['formula']}, M = {fmt_fixed(m['molar_mass'], 2)} g/mol, "
                              f"exact mass {fmt_fixed(m['monoisotopic_mass'], 4)}.")
             except TrapbookError as exc:
-                notes.append(f"no formula for '{_clean(res.product)}': {exc.message}")
+                notes.append(f"no formula for '{clean(res.product)}': {exc.message}")
         row = hrms.get(res.product.casefold())
         if row is not None and "problem" not in row:
             parts.append(f"HRMS m/z: {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
                          f"found {row['found_mz']:.4f}.")
         elif row is not None:
-            notes.append(f"HRMS of '{_clean(res.product)}': {row['problem']}")
+            notes.append(f"HRMS of '{clean(res.product)}': {row['problem']}")
         else:
-            notes.append(f"no HRMS is recorded for '{_clean(res.product)}'")
+            notes.append(f"no HRMS is recorded for '{clean(res.product)}'")
         p.add(" ".join(parts) if parts else "no characterisation recorded.")
         blocks.append(p)
     return blocks, notes

@@ -11,12 +11,9 @@ import re
 
 from ..amounts import AmountTable, LineAmounts
 from ..display import fmt_equiv_paper, fmt_mg, fmt_mmol, fmt_molarity, fmt_volume
+from .document import clean
 
 _STATES_MOLARITY = re.compile(r"\d\s*(?:M|mol/L)\b")
-
-
-def _sentence_name(name: str) -> str:
-    return " ".join(name.split())
 
 
 def amount_bits(row: LineAmounts, concentration_M: float | None = None) -> list[str]:
@@ -49,10 +46,10 @@ def reagent_phrase(name: str, table: AmountTable | None, concentration_for: str 
     """'name (numbers)'; the solvent named in `concentration_for` also carries the run's concentration."""
     row = table.line(name) if table is not None else None
     if row is None:
-        return _sentence_name(name)
+        return clean(name)
     conc = table.concentration_M if concentration_for is not None and row.name == concentration_for else None
     bits = amount_bits(row, conc)
-    return f"{_sentence_name(row.name)} ({', '.join(bits)})" if bits else _sentence_name(row.name)
+    return f"{clean(row.name)} ({', '.join(bits)})" if bits else clean(row.name)
 
 
 def join_words(items: list[str]) -> str:

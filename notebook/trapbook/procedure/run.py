@@ -7,13 +7,9 @@ import re
 from .. import amounts
 from ..errors import RecordError, TrapbookError
 from ..records import Run
-from .document import Document, Heading, Paragraph
+from .document import Document, Heading, Paragraph, clean
 from .outcome import characterisation, outcome_sentences
 from .steps import Varied, step_sentences
-
-
-def _clean(text: str) -> str:
-    return " ".join(str(text).split())
 
 
 def amount_table(run: Run) -> tuple[amounts.AmountTable | None, list[str]]:
@@ -29,7 +25,7 @@ def _title(run: Run) -> str:
     made = [res.product for res in run.outcome.products] if run.outcome else []
     shown = made or names
     label = f" ({run.id})" if run.id else ""
-    return (_clean(", ".join(shown)) if shown else _clean(run.title)) + label
+    return (clean(", ".join(shown)) if shown else clean(run.title)) + label
 
 
 def procedure_paragraph(run: Run, table: amounts.AmountTable | None, varied: Varied | None = None,
@@ -47,7 +43,6 @@ def cautions(nb, run: Run) -> Paragraph | None:
     """The cautions the bench checks give for this run (pressure, fluoride, solvents), once each:
     whoever repeats a procedure needs them as much as whoever planned it."""
     from ..findings import findings_for
-
     from ..materials import DEFER
 
     said: list[str] = []
@@ -57,7 +52,7 @@ def cautions(nb, run: Run) -> Paragraph | None:
                 said.append(sentence.strip())
     if not said:
         return None
-    return Paragraph().add("Caution: ", "bold").add(" ".join(said + [DEFER]), "italic")
+    return Paragraph().add("Caution:", "bold").add(" ").add(" ".join(said + [DEFER]), "italic")
 
 
 def run_procedure(run: Run, nb=None) -> Document:

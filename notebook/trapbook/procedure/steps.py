@@ -14,6 +14,7 @@ from ..amounts import AmountTable
 from ..phrases import hold_as_written, paper_quantity, temperature_as_written
 from ..records import Run, Step
 from ..units import to_canonical
+from .document import clean, sentence
 from .reagents import join_words, reagent_phrase
 
 #: Above this a flask is 'heated', not 'warmed' (a little over any lab's room temperature). Common practice, no source.
@@ -22,14 +23,6 @@ HEATED_ABOVE_C = 30.0
 SAME_TEMPERATURE_C = 0.5
 
 
-def _clean(text: str) -> str:
-    return " ".join(str(text).split())
-
-
-def _sentence(text: str) -> str:
-    text = text.strip()
-    text = text[:1].upper() + text[1:]
-    return text if text.endswith((".", "!", "?")) else text + "."
 
 
 def _change_verb(before: float | None, after: float) -> str:
@@ -72,7 +65,7 @@ class StepWriter:
             line = self.run.line(name)
             if line is None:
                 self.unknown.append(name)
-                out.append(_clean(name))
+                out.append(clean(name))
                 continue
             self.added.append(line.name)
             concentration_for = None
@@ -87,7 +80,7 @@ class StepWriter:
         verb = "were" if len(items) > 1 else "was"
         t_words = self._temperature(step)
         t_new = step.temperature is not None and _change_verb(self.temp_c, step.min_temp_c() or 0.0) != ""
-        atmosphere = f" under {_clean(step.atmosphere)}" if step.atmosphere and step.atmosphere != self.atmosphere else ""
+        atmosphere = f" under {clean(step.atmosphere)}" if step.atmosphere and step.atmosphere != self.atmosphere else ""
         over = f" over {paper_quantity(step.over)}" if step.over is not None else ""
         if not self.charged:
             self.charged = True
@@ -133,16 +126,16 @@ class StepWriter:
         if stir:
             out.append(stir)
         if step.atmosphere and not step.add and step.atmosphere != self.atmosphere and out:
-            out[-1] += f" under {_clean(step.atmosphere)}"
+            out[-1] += f" under {clean(step.atmosphere)}"
         if step.note and out:
-            out[-1] += f" ({_clean(step.note)})"
+            out[-1] += f" ({clean(step.note)})"
         if step.temperature is not None:
             last = step.temperature_end if step.temperature_end is not None else step.temperature
             self.temp_c = to_canonical(last, "temperature")
         if step.atmosphere:
             self.atmosphere = step.atmosphere
         self.index += 1
-        return [_sentence(s) for s in out]
+        return [sentence(s) for s in out]
 
 
 def step_sentences(run: Run, table: AmountTable | None, varied: Varied | None = None) -> tuple[list[str], list[str]]:
@@ -151,18 +144,20 @@ def step_sentences(run: Run, table: AmountTable | None, varied: Varied | None = 
     sentences: list[str] = []
     for step in run.steps:
         sentences += writer.sentences(step)
-    notes = [f"a step adds '{_clean(n)}', which is not one of the lines" for n in writer.unknown]
+    notes = [f"a step adds '{clean(n)}', which is not one of the lines" for n in writer.unknown]
     placed = {n.casefold() for n in writer.added}
     missing = [ln.name for ln in run.lines
                if ln.role not in ("product", "internal standard") and ln.name.casefold() not in placed]
     if missing:
-        items = [reagent_phrase(n, table) for n in missing]
+        solvent = None if writer.solvent_named or writer.varied.concentration_in_table else next(
+            (n for n in missing if run.line(n).role == "solvent"), None)
+        items = [reagent_phrase(n, table, solvent) for n in missing]
         if not run.steps:
-            sentences.insert(0, _sentence(f"{join_words(items)} were combined" if len(items) > 1
+            sentences.insert(0, sentence(f"{join_words(items)} were combined" if len(items) > 1
                                           else f"{items[0]} was used"))
             notes.append("the run records no steps, so the order of additions is not known")
         else:
-            sentences.append(_sentence(f"The record does not say when {join_words(items)} "
+            sentences.append(sentence(f"The record does not say when {join_words(items)} "
                                        f"{'were' if len(items) > 1 else 'was'} added"))
-            notes.append("no step adds " + ", ".join(f"'{_clean(n)}'" for n in missing))
+            notes.append("no step adds " + ", ".join(f"'{clean(n)}'" for n in missing))
     return sentences, notes

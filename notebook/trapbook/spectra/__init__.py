@@ -8,7 +8,7 @@ with its regions for reports.
 """
 
 from .integrate import Integration, Region, integrate
-from .processing import Processing, ProcessedSpectrum, process
+from .processing import ProcessedSpectrum, Processing, process
 from .readers import RawFID, read_bytes, read_path
 
 __all__ = ["Integration", "Processing", "ProcessedSpectrum", "RawFID", "Region", "integrate", "process", "read_bytes", "read_path"]

@@ -12,7 +12,7 @@ import base64
 import html
 
 from ..attachments import read_verified, store_dir
-from ..errors import TrapbookError
+from ..errors import SpectrumError, TrapbookError
 from .integrate import Region, integrate
 from .plot import spectrum_png
 from .processing import Processing, process
@@ -21,12 +21,14 @@ from .readers import read_bytes
 
 def processing_from_record(record: dict) -> Processing:
     """The Processing that reproduces a stored record: its parameters with the phases it found."""
-    params = dict(record.get("parameters") or {})
-    if params.get("reference_region") is not None:
-        params["reference_region"] = tuple(params["reference_region"])
-    params["phase0_deg"] = record.get("phase0_deg", params.get("phase0_deg"))
-    params["phase1_deg"] = record.get("phase1_deg", params.get("phase1_deg"))
-    return Processing(**params)
+    try:
+        params = dict(record.get("parameters") or {})
+        params["phase0_deg"] = record.get("phase0_deg", params.get("phase0_deg"))
+        params["phase1_deg"] = record.get("phase1_deg", params.get("phase1_deg"))
+        return Processing.from_dict(params)
+    except (TypeError, ValueError) as exc:  # a record not written by this version of Trapbook
+        raise SpectrumError(f"the stored processing record cannot be read ({exc})",
+                            "integrate the spectrum again with 'trapbook nmr RUN'") from None
 
 
 def run_spectra_html(nb, run) -> str:

@@ -133,7 +133,13 @@ def integrate(spec: ProcessedSpectrum, standard: Region, product: Region, standa
         found.append({"code": "nmr-product-zero", "message": f"the product region {product} ppm integrates to within noise "
                       "of zero, slightly below it; stored as 0"})
         p_area = 0.0
-    return Integration(standard, product, s_area, p_area, standard_protons, product_protons, found)
+    result = Integration(standard, product, s_area, p_area, standard_protons, product_protons, found)
+    # what is stored (the standard set to its protons, the product read against it) must give back the ratio
+    stored = (result.product_integral / product_protons) / (result.standard_integral / standard_protons)
+    if not (math.isfinite(result.ratio) and math.isclose(stored, result.ratio, rel_tol=1e-9, abs_tol=1e-12)):
+        raise SpectrumError(f"the integrals do not give back their own ratio ({stored!r} against {result.ratio!r})",
+                            "nothing was saved; please report this with the data set")
+    return result
 
 
 def _lopsidedness(y: np.ndarray) -> float:
@@ -172,11 +178,11 @@ def findings(spec: ProcessedSpectrum, standard: Region, product: Region) -> list
     if top > 0:
         if float(y.min()) < -DIP_SHARE * top:
             out.append({"code": "nmr-standard-distorted", "message": f"the standard's signal dips {-y.min() / top:.0%} of its height "
-                        "below the baseline: phase trouble; give the phases by hand"})
+                        "below the baseline: phase trouble; check the phase"})
         lopsided = _lopsidedness(y)
         if abs(lopsided) > LOPSIDED_SHARE:
             out.append({"code": "nmr-standard-distorted", "message": f"the standard's signal is lopsided (its halves differ by "
-                        f"{abs(lopsided):.0%} of its area): the phase is off; check it, or give --phase0 by hand"})
+                        f"{abs(lopsided):.0%} of its area): the phase is off by a few degrees or more; check the phase"})
         edge = max(1, inside.size // 20)
         rim = max(float(np.mean(y[:edge])), float(np.mean(y[-edge:])))
         if rim > EDGE_SHARE * top:

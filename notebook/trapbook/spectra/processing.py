@@ -2,8 +2,8 @@
 
 The chain is the usual one for quantitative 1H work: digital-filter removal (Bruker),
 exponential line broadening, zero filling to a power of two, half-weighting of the first
-point, Fourier transform, phase correction (automatic by nmrglue's ACME entropy
-minimisation unless the chemist gives the phases), a polynomial baseline fitted to the
+point, Fourier transform, phase correction (read off the internal standard's signal, or
+by nmrglue's ACME or peak-minima search, unless the chemist gives the phases), a polynomial baseline fitted to the
 points that hold no signal, and referencing to a known signal. `Processing` holds what
 was asked; `ProcessedSpectrum.record` holds what was done (the phases found, the shift
 applied, the sizes), so saving the record and processing the same bytes again gives the
@@ -43,6 +43,9 @@ class Processing:
     reference_ppm: float | None = None
     reference_region: tuple[float, float] | None = None
     remove_digital_filter: bool = True
+    #: where the tallest-peak phase is read (ppm); None: the whole spectrum. `analyse` sets the
+    #: standard's region, whose singlet is sharp and never saturated like a solvent peak can be
+    phase_region: tuple[float, float] | None = None
     #: spectrometers store the FID so that the spectrum comes out high ppm last; flip it
     reverse: bool = True
 
@@ -50,8 +53,17 @@ class Processing:
         numbers = {"line broadening": self.line_broadening_hz, "phase 0": self.phase0_deg, "phase 1": self.phase1_deg,
                    "reference ppm": self.reference_ppm}
         for what, v in numbers.items():
-            if v is not None and (not isinstance(v, (int, float)) or not math.isfinite(v)):
+            if not _number(v) and (v is not None or what == "line broadening"):
                 raise SpectrumError(f"{what} {v!r} is not a finite number", "give a plain number", field=what)
+        for what, rng in (("reference region", self.reference_region), ("phase region", self.phase_region)):
+            if rng is not None and not (isinstance(rng, tuple) and len(rng) == 2 and all(_number(v) for v in rng)):
+                raise SpectrumError(f"{what} {rng!r} is not a ppm range of two numbers", "write it as LOW..HIGH", field=what)
+        for what, flag in (("remove_digital_filter", self.remove_digital_filter), ("reverse", self.reverse)):
+            if not isinstance(flag, bool):
+                raise SpectrumError(f"{what} {flag!r} is not true or false", "give true or false", field=what)
+        for what, v in (("baseline order", self.baseline_order), ("zero-fill factor", self.zero_fill_factor)):
+            if not isinstance(v, int) or isinstance(v, bool):
+                raise SpectrumError(f"{what} {v!r} is not a whole number", "use the default", field=what)
         if not 0 <= self.line_broadening_hz <= 50:
             raise SpectrumError(f"line broadening {self.line_broadening_hz} Hz is outside 0-50 Hz",
                                 "0.3 Hz is usual for a 1H qNMR spectrum", field="line_broadening_hz")
@@ -66,11 +78,25 @@ class Processing:
             raise SpectrumError("referencing needs both the target ppm and the region to look for the signal in",
                                 "give both, or neither", field="reference_ppm")
 
+    @classmethod
+    def from_dict(cls, d: dict) -> Processing:
+        """The Processing a stored `to_dict` came from (ranges come back from JSON as lists)."""
+        d = dict(d)
+        for key in ("reference_region", "phase_region"):
+            if d.get(key) is not None:
+                d[key] = tuple(d[key])
+        return cls(**d)
+
     def to_dict(self) -> dict:
         d = asdict(self)
-        if self.reference_region is not None:
-            d["reference_region"] = list(self.reference_region)
+        for key in ("reference_region", "phase_region"):
+            if d[key] is not None:
+                d[key] = list(d[key])
         return d
+
+
+def _number(v) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
 
 
 @dataclass
@@ -111,7 +137,7 @@ def process(raw: RawFID, params: Processing | None = None, keep_out: list[tuple[
     ppm = raw.carrier_ppm + freq / raw.observe_mhz
     if not p.reverse:
         ppm, spec = ppm[::-1].copy(), spec[::-1].copy()
-    p0, p1, how = _phases(spec, p, abs(float(ppm[0] - ppm[1])))
+    p0, p1, how = _phases(spec, p, ppm)
     real = np.ascontiguousarray(ng.proc_base.ps(spec, p0=p0, p1=p1).real)
     shift = 0.0
     if p.reference_ppm is not None:
@@ -125,7 +151,7 @@ def process(raw: RawFID, params: Processing | None = None, keep_out: list[tuple[
     return ProcessedSpectrum(ppm, real, noise, record, list(raw.notes))
 
 
-def _phases(spec: np.ndarray, p: Processing, ppm_step: float) -> tuple[float, float, str]:
+def _phases(spec: np.ndarray, p: Processing, ppm: np.ndarray) -> tuple[float, float, str]:
     """The zero- and first-order phases: as given, or found by nmrglue's autops (signal upright).
 
     "tallest-peak" (the default) reads the zero-order phase off the tallest peak; with
@@ -142,7 +168,8 @@ def _phases(spec: np.ndarray, p: Processing, ppm_step: float) -> tuple[float, fl
     scaled = spec / np.max(np.abs(spec))
     fixed_p1 = float(p.phase1_deg or 0.0)
     if p.phase_method == "tallest-peak":
-        return _tallest_peak_phase(scaled, fixed_p1, ppm_step), fixed_p1, "automatic (tallest-peak)"
+        where = "" if p.phase_region is None else f" in {min(p.phase_region):g}..{max(p.phase_region):g} ppm"
+        return _tallest_peak_phase(scaled, fixed_p1, ppm, p.phase_region), fixed_p1, f"automatic (tallest-peak{where})"
     if p.phase_method == "acme":
         fn = functools.partial(_acme_zero_order, p1=fixed_p1)
     else:
@@ -155,14 +182,21 @@ def _phases(spec: np.ndarray, p: Processing, ppm_step: float) -> tuple[float, fl
     return p0, p1, f"automatic ({p.phase_method})"
 
 
-def _tallest_peak_phase(spec: np.ndarray, p1: float, ppm_step: float) -> float:
-    """Zero-order phase from the tallest peak: summed over a window symmetric about its top,
-    a Lorentzian's dispersion part cancels and what is left points along its phase."""
+def _tallest_peak_phase(spec: np.ndarray, p1: float, ppm: np.ndarray, region: tuple[float, float] | None) -> float:
+    """Zero-order phase from the tallest peak (of the region): summed over a window symmetric
+    about its top, a Lorentzian's dispersion part cancels and what is left points along its phase."""
     import nmrglue as ng
 
     turned = ng.proc_base.ps(spec, p0=0.0, p1=p1)
-    top = int(np.argmax(np.abs(turned)))
-    half = max(3, int(PEAK_WINDOW_PPM / ppm_step))
+    size = np.abs(turned)
+    if region is not None:
+        inside = (ppm >= min(region)) & (ppm <= max(region))
+        if inside.sum() < 3:
+            raise SpectrumError(f"the phase region {min(region):g}..{max(region):g} ppm is not inside the spectrum",
+                                "give a region that holds a sharp signal, or another phase method", field="phase_region")
+        size = np.where(inside, size, -1.0)
+    top = int(np.argmax(size))
+    half = max(3, int(PEAK_WINDOW_PPM / abs(float(ppm[0] - ppm[1]))))
     lo, hi = max(0, top - half), min(spec.size, top + half + 1)
     half = min(top - lo, hi - 1 - top)
     total = np.sum(turned[top - half:top + half + 1])

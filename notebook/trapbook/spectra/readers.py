@@ -31,6 +31,8 @@ from ..errors import SpectrumError
 MAX_MEMBER_BYTES = 256 * 1024**2
 MAX_UNPACKED_BYTES = 512 * 1024**2
 MAX_MEMBERS = 5000
+#: Largest JCAMP-DX text accepted: 2^20 complex points as numbers are some 30 MB. Common practice, no source.
+MAX_JCAMP_BYTES = 64 * 1024**2
 #: Fewest complex points that make a usable 1D spectrum. Common practice, no source.
 MIN_POINTS = 64
 #: Most complex points of one 1D FID (TD 2M); above is a 2D set or a broken header.
@@ -69,7 +71,7 @@ def read_bytes(data: bytes, name: str = "attachment") -> RawFID:
         with tempfile.TemporaryDirectory(prefix="trapbook-nmr-") as tmp:
             folder = unzip_safely(data, Path(tmp), name)
             return read_folder(folder, name)
-    head = data[:4096].lstrip()
+    head = data[:4096].removeprefix(b"\xef\xbb\xbf").lstrip()  # a UTF-8 byte-order mark may lead a JCAMP-DX file
     if head.startswith(b"##"):
         return read_jcamp_bytes(data, name)
     raise _refuse(f"{name} is not raw NMR data Trapbook can read (not a zip of an experiment folder, not JCAMP-DX)")
@@ -130,9 +132,7 @@ def unzip_safely(data: bytes, dest: Path, name: str = "zip") -> Path:
             rel = _member_path(info, name)
             if rel is None or info.is_dir():
                 continue
-            target = dest.joinpath(*rel.parts)
-            target.parent.mkdir(parents=True, exist_ok=True)
-            _copy_member(zf, info, target, name)
+            _copy_member(zf, info, dest.joinpath(*rel.parts), name)
     return dest
 
 
@@ -155,6 +155,7 @@ def _copy_member(zf: zipfile.ZipFile, info: zipfile.ZipInfo, target: Path, name:
     """Copy one member, counting bytes as they come: a header that lies about its size is caught."""
     written = 0
     try:
+        target.parent.mkdir(parents=True, exist_ok=True)
         with zf.open(info) as src, target.open("xb") as out:
             while chunk := src.read(1 << 20):
                 written += len(chunk)
@@ -187,6 +188,8 @@ def _read_bruker(exp: Path, name: str) -> RawFID:
         raise _refuse(f"{name}: 'acqus' lacks or garbles {exc} (TD, SW_h, SFO1 are needed)") from None
     isfloat = int(acqus.get("DTYPA", 0)) == 2
     big = int(acqus.get("BYTORDA", 0)) == 1
+    if td % 2:
+        raise _refuse(f"{name}: acqus gives TD = {td}, an odd number of points; a complex FID has pairs")
     _check_axis(name, sw, sfo1, td // 2)
     item = 8 if isfloat else 4
     size = (exp / "fid").stat().st_size
@@ -256,6 +259,9 @@ def _read_varian(exp: Path, name: str) -> RawFID:
                       + ("the file is truncated" if size < 32 + bbytes else "the sizes do not belong together"),
                       "attach the complete experiment folder again, straight from the spectrometer")
     isfloat = bool(status & 0x8)
+    if npts % 2 or (isfloat and ebytes != 4):
+        raise _refuse(f"{name}: the 'fid' header says {npts} values of {ebytes} bytes"
+                      + (" as floats" if isfloat else "") + "; a complex FID has pairs of 2- or 4-byte integers or 4-byte floats")
     dtype = ">f4" if isfloat else (">i4" if ebytes == 4 else ">i2")
     start = 32 + 28 * nbheaders
     raw = np.frombuffer(blob[start:start + tbytes], dtype=dtype).astype(np.float64)
@@ -275,6 +281,9 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
     """A JCAMP-DX FID (real and imaginary tables). A processed spectrum is refused: the FID is wanted."""
     import nmrglue as ng
 
+    if len(data) > MAX_JCAMP_BYTES:
+        raise _refuse(f"{name} is {len(data) / 2**20:.0f} MB, far more than a JCAMP-DX 1D FID can be "
+                      f"(at most {MAX_JCAMP_BYTES // 2**20} MB)")
     with tempfile.TemporaryDirectory(prefix="trapbook-nmr-") as tmp:
         path = Path(tmp) / "data.jdx"
         path.write_bytes(data)
@@ -288,7 +297,7 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
     if "FID" not in kind:
         raise _refuse(f"{name} is a JCAMP-DX file of data type '{kind or 'unknown'}', not an NMR FID",
                       "export the FID (DATA TYPE= NMR FID) from the spectrometer software and attach that")
-    if not isinstance(values, list) or len(values) != 2 or len(values[0]) != len(values[1]):
+    if not isinstance(values, list) or len(values) != 2 or any(v is None for v in values) or len(values[0]) != len(values[1]):
         raise _refuse(f"{name}: a JCAMP-DX FID needs a real and an imaginary table of the same length")
     fid = np.asarray(values[0], dtype=np.float64) + 1j * np.asarray(values[1], dtype=np.float64)
     obs = _jcamp_float(dic, ".OBSERVEFREQUENCY")

@@ -21,8 +21,8 @@ from ..attachments import read_verified, store_dir
 from ..errors import SpectrumError, TrapbookError
 from ..records import QNMR, Outcome, ProductResult, Run, SpectrumRecord
 from .integrate import Integration, Region, integrate
-from .processing import Processing, ProcessedSpectrum, process
-from .readers import read_bytes
+from .processing import ProcessedSpectrum, Processing, process
+from .readers import MAX_UNPACKED_BYTES, read_bytes
 
 REASON = "integrated from the attached spectrum"
 #: File name endings of attachments that can hold raw 1H data (a zipped experiment folder, JCAMP-DX).
@@ -53,11 +53,9 @@ class RegionSet:
     @classmethod
     def from_dict(cls, d: dict) -> RegionSet:
         try:
-            proc = dict(d.get("processing") or {})
-            if proc.get("reference_region") is not None:
-                proc["reference_region"] = tuple(proc["reference_region"])
             return cls(Region.of(*d["standard"], what="standard"), Region.of(*d["product"], what="product"),
-                       d.get("standard_protons"), d.get("product_protons"), d.get("product_line"), Processing(**proc))
+                       d.get("standard_protons"), d.get("product_protons"), d.get("product_line"),
+                       Processing.from_dict(d.get("processing") or {}))
         except (KeyError, TypeError, ValueError) as exc:
             raise SpectrumError(f"the stored NMR regions cannot be read ({exc})", "set them again with 'trapbook nmr SCREEN "
                                 "--standard LOW..HIGH --product LOW..HIGH'") from None
@@ -86,7 +84,10 @@ def analyse(data: bytes, name: str, regions: RegionSet) -> tuple[ProcessedSpectr
     raw = read_bytes(data, name)
     std_n = regions.standard_protons or 1
     prod_n = regions.product_protons or 1
-    spec = process(raw, regions.processing, keep_out=[(regions.standard.low, regions.standard.high),
+    proc = regions.processing
+    if proc.phase_method == "tallest-peak" and proc.phase_region is None and proc.phase0_deg is None:
+        proc = replace(proc, phase_region=(regions.standard.low, regions.standard.high))
+    spec = process(raw, proc, keep_out=[(regions.standard.low, regions.standard.high),
                                                      (regions.product.low, regions.product.high)])
     return spec, integrate(spec, regions.standard, regions.product, std_n, prod_n)
 
@@ -96,6 +97,9 @@ def integrate_run(nb, run_id: str, regions: RegionSet, attachment: str | None = 
     meta = nb.run_meta(run_id)
     run = nb.get_run(run_id)
     att = spectrum_attachment(run, attachment)
+    if att.size > MAX_UNPACKED_BYTES:
+        raise SpectrumError(f"{att.name} is {att.size / 2**20:.0f} MB, more than a 1D experiment can be",
+                            "attach the zipped folder of the one 1H experiment", field="attachment")
     data = read_verified(store_dir(nb), att.sha256, att.size)
     product_name, previous = _product_result(run, regions.product_line)
     std_n, prod_n = _protons(regions, previous)
@@ -105,7 +109,7 @@ def integrate_run(nb, run_id: str, regions: RegionSet, attachment: str | None = 
                             standard_region=(regions.standard.low, regions.standard.high),
                             product_region=(regions.product.low, regions.product.high),
                             processing={**spec.record, "standard_area": integ.standard_area, "product_area": integ.product_area,
-                                        "warnings": [w["message"] for w in integ.warnings]})
+                                        "warnings": integ.warnings})
     old_q = previous.qnmr if previous is not None else None
     qnmr = QNMR(standard=old_q.standard if old_q else None, standard_amount=old_q.standard_amount if old_q else None,
                 standard_integral=integ.standard_integral, standard_protons=std_n, integral=integ.product_integral,
@@ -158,9 +162,8 @@ def _with_qnmr(run: Run, product: str, previous: ProductResult | None, qnmr: QNM
         products = [*outcome.products, ProductResult(product=product, qnmr=qnmr)]
     else:
         products = [r.model_copy(update={"qnmr": qnmr}) if r is previous else r for r in outcome.products]
-    return Run.model_validate({**run.to_json_dict(), "outcome": {**outcome.model_dump(mode="json", exclude_none=True),
-                                                                 "products": [p.model_dump(mode="json", exclude_none=True)
-                                                                              for p in products]}})
+    # a copy, not a re-read: the run's steps keep the meaning they were saved with ('rt' in this lab)
+    return run.model_copy(update={"outcome": outcome.model_copy(update={"products": products})})
 
 
 def _nmr_yield(run: Run, product: str) -> float | None:

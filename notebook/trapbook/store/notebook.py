@@ -23,7 +23,7 @@ import sqlite_utils
 
 from .. import attachments
 from ..errors import NotFoundError, RecordError, StaleVersionError, StoreError
-from ..records import Run, Screen, canonical_json, load_run, load_screen
+from ..records import Run, Screen, canonical_json, load_run, load_screen, stored_run, stored_screen
 from ..settings import login_name
 from . import chain, connect
 from . import index as run_index
@@ -224,7 +224,7 @@ class Notebook:
                 if restore:
                     raise RecordError(f"run {run_id} is not withdrawn", "nothing to bring back; see 'trapbook history RUN_ID'")
                 raise RecordError(f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'")
-            run = Run.model_validate(json.loads(row[2]))
+            run = stored_run(row[2])
             action = "restore" if restore else "withdraw"
             return self._write_version(run, default_author(self, author), reason.strip(), action, row[1], row[0] + 1)
 
@@ -260,7 +260,7 @@ class Notebook:
             if version is not None and self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run_id,)).fetchone():
                 hint = f"see the versions of {run_id} with 'trapbook history {run_id}'"
             raise NotFoundError(f"no {what} in this notebook", hint)
-        return Run.model_validate(json.loads(row[0]))
+        return stored_run(row[0])
 
     def run_meta(self, run_id: str) -> dict:
         row = self.conn.execute(
@@ -306,7 +306,7 @@ class Notebook:
     def iter_runs(self, include_withdrawn: bool = True) -> Iterator[Run]:
         q = "SELECT data FROM runs" + ("" if include_withdrawn else " WHERE withdrawn = 0") + " ORDER BY id"
         for (data,) in self.conn.execute(q).fetchall():
-            yield Run.model_validate(json.loads(data))
+            yield stored_run(data)
 
     def count_runs(self) -> int:
         return self.conn.execute("SELECT count(*) FROM runs").fetchone()[0]
@@ -370,10 +370,10 @@ class Notebook:
         row = self.conn.execute("SELECT data FROM screens WHERE id = ? OR name = ? ORDER BY id LIMIT 1", (key, key)).fetchone()
         if row is None:
             raise NotFoundError(f"no screen '{key}' in this notebook", "list screens with 'trapbook screens'")
-        return Screen.model_validate(json.loads(row[0]))
+        return stored_screen(row[0])
 
     def list_screens(self) -> list[Screen]:
-        return [Screen.model_validate(json.loads(r[0])) for r in self.conn.execute("SELECT data FROM screens ORDER BY id")]
+        return [stored_screen(r[0]) for r in self.conn.execute("SELECT data FROM screens ORDER BY id")]
 
     def screen_runs(self, screen: Screen) -> list[Run]:
         """Runs of a screen: those listed in it plus any run that names the screen."""

@@ -35,12 +35,21 @@ class TrapbookApp(App):
         Binding("ctrl+q", "quit", "Quit", priority=True),
     ]
 
-    def __init__(self, path: str | Path, author: str | None = None, warm: bool = True):
+    #: Actions that write to a notebook: refused (hidden, and said) when the app is read-only.
+    WRITE_ACTIONS = frozenset({"new_run", "copy_run", "whoami", "fill_strain", "open_best"})
+
+    def __init__(self, path: str | Path | None, author: str | None = None, warm: bool = True,
+                 group: tuple[str, ...] = (), read_only: bool = False):
         super().__init__()
         from .theme import register
 
         register(self)
-        self.path = Path(path).expanduser()
+        #: --group paths: every member's runs in one Logbook (trapbook.group), always read-only.
+        self.group_paths = tuple(group)
+        self.group = None
+        #: Nothing is written in this session: write keys are hidden and say so when pressed.
+        self.read_only = read_only or bool(group)
+        self.path = Path(path).expanduser() if path is not None else None
         #: --author for this session; otherwise the notebook's "you are" name (f9) is used.
         self.given_author = author
         self.name_asked = False
@@ -52,15 +61,14 @@ class TrapbookApp(App):
         self.last_run: str | None = None
 
     def on_mount(self) -> None:
-        from ..store import Notebook
         from .screens.runs import LogbookScreen
 
         try:
-            self.nb = Notebook.open(self.path)  # only `trapbook init` creates a notebook
+            self.nb = self.open_notebook()  # only `trapbook init` creates a notebook
         except TrapbookError as exc:
             self.exit(message=f"error: {exc.message}\n  what to do: {exc.hint or ''}")
             return
-        self.sub_title = self.path.name
+        self.sub_title = self.where() + (" · read-only" if self.read_only else "")
         try:
             self.author_and_source()  # a bad --author is said now, not at the first save
         except TrapbookError as exc:
@@ -70,6 +78,34 @@ class TrapbookApp(App):
         self.ready_seconds = time.perf_counter() - self.started
         if self.warm:
             self.warm_up()
+
+    def open_notebook(self):
+        """The notebook this session shows: read-only when asked, the group's first readable member under --group."""
+        Notebook = store_class()  # first: the group module imports the store too
+        from ..group import Group, open_member
+
+        if self.group_paths:
+            self.group = Group.open(self.group_paths)
+            first = next(self.group.readable(), None)
+            if first is None:
+                raise TrapbookError("no member's notebook passed its check", "run 'trapbook --db FILE verify' on each")
+            return first.nb
+        return open_member(self.path) if self.read_only else Notebook.open(self.path)
+
+    def where(self) -> str:
+        if self.group is None:
+            return self.path.name
+        return "group: " + ", ".join(m.label if m.ok else f"{m.label} (NOT VERIFIED, left out)" for m in self.group.members)
+
+    def allows(self, action: str) -> bool:
+        """Whether an action may run in this session (a write in a read-only session may not)."""
+        return not (self.read_only and action in self.WRITE_ACTIONS)
+
+    def say_read_only(self) -> None:
+        self.notify("read-only: this view does not write to any notebook.", title="Read-only", severity="warning", timeout=4)
+
+    def check_action(self, action: str, parameters: tuple) -> bool | None:
+        return self.allows(action)
 
     @work(thread=True, group="warm", exit_on_error=False)
     def warm_up(self) -> None:
@@ -152,10 +188,34 @@ class TrapbookApp(App):
         self.notify(text, title=title, severity="error", timeout=8, markup=False)
 
     def on_unmount(self) -> None:
-        if self.nb is not None:
+        if self.group is not None:
+            self.group.close()
+        elif self.nb is not None:
             self.nb.close()
 
 
-def run_app(path: str | Path, author: str | None = None) -> None:
-    """Entry point used by `trapbook`, `trapbook open [DB]` and `trapbook demo`."""
-    TrapbookApp(path, author=author).run()
+def run_app(path: str | Path | None, author: str | None = None, group: tuple[str, ...] = (), read_only: bool = False) -> None:
+    """Entry point used by `trapbook`, `trapbook open [DB]`, `trapbook demo` and `trapbook serve`."""
+    TrapbookApp(path, author=author, group=group, read_only=read_only).run()
+
+
+def store_class():
+    """The store's Notebook class, imported without sqlite-utils' optional pandas support.
+
+    sqlite-utils imports pandas, when it is installed, only to accept DataFrames and pandas
+    values in inserts; the store never hands it one, and that import is about a third of a
+    cold start. While sqlite-utils loads, pandas is marked absent (sqlite-utils reads that
+    as "not installed"); afterwards pandas imports as usual for whoever needs it.
+    """
+    import sys
+
+    if "sqlite_utils" in sys.modules or "pandas" in sys.modules:
+        from ..store import Notebook
+
+        return Notebook
+    sys.modules["pandas"] = None  # an import of pandas raises ImportError meanwhile
+    try:
+        from ..store import Notebook
+    finally:
+        del sys.modules["pandas"]
+    return Notebook

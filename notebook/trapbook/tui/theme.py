@@ -19,33 +19,33 @@ from textual.theme import Theme
 
 DARK = Theme(
     name="trapbook-dark",
-    primary="hsl(186,32%,62%)",      # teal: structure, headings, the precursor lane
+    primary="hsl(186,55%,50%)",      # teal: structure, headings, the precursor lane
     secondary="hsl(205,30%,40%)",
-    accent="hsl(36,86%,58%)",        # amber: keys, the best cell, the fluoride lane
+    accent="hsl(40,90%,55%)",        # amber: keys, the best cell, the fluoride lane
     warning="hsl(44,86%,62%)",
-    error="hsl(8,100%,68%)",
+    error="hsl(8,100%,64%)",
     success="hsl(96,70%,64%)",
     foreground="hsl(207,24%,90%)",
     background="hsl(210,21%,10%)",
     surface="hsl(206,30%,16%)",
     panel="hsl(206,30%,22%)",
     dark=True,
-    variables={"footer-background": "hsl(206,30%,16%)", "block-cursor-background": "hsl(203,30%,26%)"},
 )
 
 LIGHT = Theme(
     name="trapbook-light",
-    primary="hsl(186,60%,28%)",
+    primary="hsl(186,80%,28%)",
     secondary="hsl(205,40%,35%)",
-    accent="hsl(30,90%,38%)",
+    accent="hsl(30,90%,34%)",
     warning="hsl(38,95%,32%)",
     error="hsl(4,75%,42%)",
-    success="hsl(120,60%,26%)",
+    success="hsl(120,80%,26%)",
     foreground="hsl(210,25%,12%)",
     background="hsl(40,30%,97%)",
     surface="hsl(40,20%,92%)",
     panel="hsl(200,20%,86%)",
     dark=False,
+    variables={"foreground-muted": "hsl(210,8%,40%)"},  # the default muted ink is too pale on paper white
 )
 
 THEMES = (DARK, LIGHT)

@@ -66,6 +66,10 @@ class BoardScreen(Screen):
         Binding("escape", "app.pop_screen", "Back"),
     ]
 
+    def check_action(self, action: str, parameters: tuple) -> bool | None:
+        """In a read-only session the keys that write (compute and cache strain, open the Workbench) are hidden."""
+        return self.app.allows(action) if hasattr(self.app, "allows") else True
+
     def __init__(self, screen_id: str | None = None):
         super().__init__()
         self.wanted = screen_id

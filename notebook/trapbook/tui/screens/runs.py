@@ -28,6 +28,7 @@ from ..widgets.keybar import KeyBar
 #: (row key, header, width) of the run table.
 COLUMNS = (
     ("id", "Run", 8),
+    ("member", "Member", 9),  # only in a group view (--group): whose notebook the run is in
     ("title", "Title", 21),
     ("date", "Date", 11),
     ("chemist", "Chemist", 10),
@@ -41,7 +42,7 @@ COLUMNS = (
 )
 #: Rows put into the table at a time: a terminal table pays for every row it holds, so a
 #: notebook of 10 000 runs shows the first page and adds the next as the cursor nears the end.
-PAGE = 300
+PAGE = 120
 def _sort_value(row: dict, key: str):
     v = row.get(key)
     return (v is None, v if not isinstance(v, str) else v.casefold())
@@ -51,9 +52,9 @@ def _sort_value(row: dict, key: str):
 DROP_UNDER = {"chemist": 120, "fluoride": 120, "intermediate": 100, "time_min": 100}
 
 
-def layout(width: int) -> tuple[tuple[str, str, int], ...]:
+def layout(width: int, group: bool = False) -> tuple[tuple[str, str, int], ...]:
     """The run table's columns for a terminal `width` wide: no sideways scroll at 80 or 100 columns."""
-    cols = [c for c in COLUMNS if width >= DROP_UNDER.get(c[0], 0)]
+    cols = [c for c in COLUMNS if width >= DROP_UNDER.get(c[0], 0) and (group or c[0] != "member")]
     others = sum(w for key, _, w in cols if key != "title")
     title = max(12, min(40, width - 1 - others))  # one column for the scroll bar
     return tuple((key, label, title if key == "title" else w) for key, label, w in cols)
@@ -64,7 +65,8 @@ def cells(row: dict, columns=COLUMNS) -> tuple:
     width = {key: w - 1 for key, _, w in columns}
     inter = (row.get("intermediate") or "").replace("bicyclo", "")
     every = {
-        "id": lambda: clip(row["id"], 40),
+        "id": lambda: clip(row.get("run_id") or row["id"], 40),  # in a group view `id` is the MEMBER:ID key
+        "member": lambda: clip(row.get("member"), width["member"]),
         "title": lambda: clip(row.get("title"), width["title"]),
         "date": lambda: clip(row.get("date"), 10),
         "chemist": lambda: clip(row.get("chemist"), width["chemist"]),
@@ -113,6 +115,7 @@ class LogbookScreen(Screen):
         self.filter_error: TrapbookError | None = None
         self.limit = PAGE
         self.columns = COLUMNS
+        self.shown_before = False
 
     def compose(self) -> ComposeResult:
         yield Header()
@@ -126,7 +129,7 @@ class LogbookScreen(Screen):
 
     def on_mount(self) -> None:
         table = self.query_one("#runs", DataTable)
-        self.columns = layout(self.app.size.width)
+        self.columns = layout(self.app.size.width, self.in_group)
         for key, label, width in self.columns:
             table.add_column(label, key=key, width=width)
         self.reload()
@@ -134,7 +137,7 @@ class LogbookScreen(Screen):
 
     def on_resize(self) -> None:
         """A new width may take or give back columns: the table is laid out again, rows and all."""
-        wanted = layout(self.app.size.width)
+        wanted = layout(self.app.size.width, self.in_group)
         if wanted == self.columns:
             return
         self.columns = wanted
@@ -150,9 +153,13 @@ class LogbookScreen(Screen):
     def action_toggle_preview(self) -> None:
         """Hide or show the preview: hidden, the table takes the whole screen."""
         self.toggle_class("-no-preview")
+        self.schedule_preview()
 
     def on_screen_resume(self) -> None:
         """Back from another screen: fresh rows, and the cursor on the run just worked on."""
+        if not self.shown_before:  # the first resume is the first showing: on_mount has just read the rows
+            self.shown_before = True
+            return
         wanted = getattr(self.app, "last_run", None)
         self.app.last_run = None
         self.reload(select=wanted)
@@ -164,8 +171,32 @@ class LogbookScreen(Screen):
     def nb(self):
         return self.app.nb
 
+    @property
+    def in_group(self) -> bool:
+        return getattr(self.app, "group", None) is not None
+
+    def pick(self, key: str) -> str:
+        """The run id of a table row; in a group view the row's member becomes the notebook the next screen reads."""
+        if not self.in_group:
+            return key
+        label, rid = self.app.group.split_ref(key)
+        self.app.nb = self.app.group.member(label).nb
+        return rid
+
+    def check_action(self, action: str, parameters: tuple) -> bool | None:
+        return self.app.allows(action) if hasattr(self.app, "allows") else True
+
+    def on_key(self, event) -> None:
+        """A write key in a read-only session does nothing but say so."""
+        if getattr(self.app, "read_only", False) and event.key in ("n", "c") and not isinstance(self.focused, Input):
+            event.stop()
+            self.app.say_read_only()
+
     def reload(self, select: str | None = None) -> None:
-        self.rows = self.nb.list_runs()
+        if self.in_group:  # every member's runs, keyed MEMBER:ID (ids repeat between notebooks)
+            self.rows = [{**r, "id": r["ref"]} for r in self.app.group.list_runs()]
+        else:
+            self.rows = self.nb.list_runs()
         self.filter_text = None  # runs may have changed since the last answer
         self.apply(select=select)
 
@@ -174,10 +205,7 @@ class LogbookScreen(Screen):
         text = self.query_one("#filter", Input).value.strip()
         if text != self.filter_text:
             self.start_filter(text)
-        shown = self.filtered_rows()
-        key = COLUMNS[self.sort_index][0]
-        shown.sort(key=lambda r: _sort_value(r, key), reverse=self.sort_reverse)
-        self.shown = shown
+        self.shown = shown = self.filtered_rows()
         table = self.query_one("#runs", DataTable)
         current = select or self.current_id()
         table.clear()
@@ -219,9 +247,20 @@ class LogbookScreen(Screen):
 
     def filtered_rows(self) -> list[dict]:
         """The rows of the runs the core's answer names; every row when there is no answer to show."""
+        rows = self.sorted_rows()
         if not self.filter_text or self.filter_error is not None or self.found_ids is None:
-            return list(self.rows)
-        return [r for r in self.rows if r["id"] in self.found_ids]
+            return list(rows)
+        return [r for r in rows if r["id"] in self.found_ids]
+
+    def sorted_rows(self) -> list[dict]:
+        """Every row in the chosen order, sorted once per order and read of the rows, not per keystroke."""
+        key = (self.sort_index, self.sort_reverse, id(self.rows))
+        cached = getattr(self, "_sorted", None)
+        if cached is None or cached[0] != key:
+            column = COLUMNS[self.sort_index][0]
+            rows = sorted(self.rows, key=lambda r: _sort_value(r, column), reverse=self.sort_reverse)
+            self._sorted = cached = (key, rows)
+        return cached[1]
 
     def show_status(self) -> None:
         """Counts and sort order; what the filter is doing; an unreadable filter in words (no markup)."""
@@ -246,11 +285,15 @@ class LogbookScreen(Screen):
     def run_filter(self, text: str, query: Query) -> None:
         """The core's search, on a connection of its own; the answer (or the refusal) goes back to the screen."""
         from ... import search
+        from ...group import open_member
         from ...store import Notebook
 
         try:
-            with Notebook.open(self.nb.path) as nb:
-                ids = {h.run_id for h in search.search(nb, query)}
+            if self.in_group:  # the same Query on every member (the group's connections are read-only)
+                ids = {h["ref"] for h in self.app.group.search(query)}
+            else:
+                with (open_member(self.nb.path) if self.app.read_only else Notebook.open(self.nb.path)) as nb:
+                    ids = {h.run_id for h in search.search(nb, query)}
         except TrapbookError as exc:
             self.app.call_from_thread(self._filter_done, text, None, exc)
             return
@@ -288,18 +331,30 @@ class LogbookScreen(Screen):
         self._preview_timer = self.set_timer(0.08, self.show_preview)
 
     def show_preview(self) -> None:
-        from ..preview import preview
-
         self._preview_timer = None
         rid = self.current_id()
-        box = self.query_one("#preview", Static)
         if rid is None:
-            box.update(Text("No run here yet: press n for a new run.", style="italic"))
+            self.query_one("#preview", Static).update(Text("No run here yet: press n for a new run.", style="italic"))
             return
+        if self.has_class("-no-preview"):
+            return
+        run_id = self.pick(rid)  # on the UI thread: in a group view it chooses the member's notebook
+        self.draw_preview(rid, self.nb, run_id)
+
+    @work(thread=True, exclusive=True, group="preview", exit_on_error=False)
+    def draw_preview(self, rid: str, nb, run_id: str) -> None:
+        """Work out the preview off the UI thread: the first one loads RDKit, which must not freeze the table."""
+        from ..preview import preview
+
         try:
-            box.update(preview(self.nb, rid))
+            shown_now = preview(nb, run_id)
         except TrapbookError as exc:
-            box.update(Text(exc.message, style="italic"))
+            shown_now = Text(exc.message, style="italic")
+        self.app.call_from_thread(self._preview_done, rid, shown_now)
+
+    def _preview_done(self, rid: str, content) -> None:
+        if self.is_mounted and rid == self.current_id():  # the cursor may have moved on meanwhile
+            self.query_one("#preview", Static).update(content)
 
     # --- filter -----------------------------------------------------------------
     @on(Input.Changed, "#filter")
@@ -329,6 +384,8 @@ class LogbookScreen(Screen):
 
     def action_sort(self) -> None:
         self.sort_index = (self.sort_index + 1) % len(COLUMNS)
+        if COLUMNS[self.sort_index][0] == "member" and not self.in_group:
+            self.sort_index = (self.sort_index + 1) % len(COLUMNS)
         self.sort_reverse = False
         self.apply()
 
@@ -345,6 +402,8 @@ class LogbookScreen(Screen):
         from .editor import WorkbenchScreen
 
         rid = self.current_id()
+        if rid and getattr(self.app, "read_only", False):  # the Workbench saves drafts: a read-only view shows the trail
+            return self.action_history()
         if rid:
             self.app.push_screen(WorkbenchScreen(run_id=rid))
 
@@ -365,11 +424,13 @@ class LogbookScreen(Screen):
 
         rid = self.current_id()
         if rid:
-            self.app.push_screen(TrailScreen(rid))
+            self.app.push_screen(TrailScreen(self.pick(rid)))
 
     def action_board(self) -> None:
         from .review import BoardScreen
 
         rid = self.current_id()
+        if rid:
+            self.pick(rid)
         screen = next((r.get("screen") for r in self.shown if r["id"] == rid), None)
         self.app.push_screen(BoardScreen(screen_id=screen))

@@ -51,4 +51,7 @@ class KeyBar(Footer):
                             disabled=not enabled, tooltip=tooltip).data_bind(compact=Footer.compact)
 
     def on_resize(self) -> None:
-        self.call_after_refresh(self.recompose)
+        width = self.size.width
+        if getattr(self, "_laid_out_for", None) != width:  # a new width may fit more keys, or fewer
+            self._laid_out_for = width
+            self.call_after_refresh(self.recompose)

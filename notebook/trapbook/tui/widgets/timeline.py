@@ -31,11 +31,8 @@ def _entry_steps(run) -> dict[str, int]:
 
 
 def _temp(step) -> str:
-    if step.temperature is None:
-        return ""
-    from ...units import to_canonical
-
-    return f"{to_canonical(step.temperature, 'temperature'):.0f}°"
+    temps = step.temperatures_c()  # both ends of a ramp ('0 °C to rt' draws as 0→23°)
+    return "→".join(f"{t:.0f}" for t in temps) + "°" if temps else ""
 
 
 def track(run, findings: list | None, width: int | None = None) -> Text:

@@ -1,0 +1,120 @@
+"""A group of many members' notebooks searched together, against one notebook holding the same runs.
+
+    .venv/bin/python benchmarks/group.py                               # 20 members × 1 000 runs vs 1 × 20 000
+    .venv/bin/python benchmarks/group.py --members 20 --runs 5000      # the full size: 20 × 5 000 vs 1 × 100 000
+
+The runs are synthesised as in benchmarks/search.py (`make_run`, `bulk_add`), once: run i
+goes into member i // runs and into the single notebook, so both hold exactly the same
+runs. Each query is timed cold (kept work cleared, as a one-shot `trapbook --group ...
+search`) and repeated, by median; the group's answer is checked to name the same runs.
+Target: the group searches as fast as the single notebook (ratio about 1; common
+practice, no source: the PI should not wait longer for being able to read everyone).
+Opening the group checks every member's chains (group.check_member); that time is
+printed too, beside a full `verify` of one member, which the group does not run.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import random
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "notebook"))
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+
+from search import bulk_add, make_run, structures  # noqa: E402  (benchmarks/search.py)
+
+from trapbook import integrity  # noqa: E402
+from trapbook import search as S  # noqa: E402
+from trapbook.group import Group  # noqa: E402
+from trapbook.search_query import query_from_options  # noqa: E402
+from trapbook.store import Notebook  # noqa: E402
+
+QUERIES = {
+    "substructure [3.3.1] core (generic bonds)": dict(substructure="[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2"),
+    "substructure nitrile C#N": dict(substructure="C#N"),
+    "similarity to a [3.3.1] alkene ≥ 0.6": dict(similar="C12=CCCC(CCC1)C2", min_similarity=0.6),
+    "trap furan, T ≥ 80 °C": dict(trap="furan", temp_min="80"),
+    "fluoride TBAF, yield ≥ 50 %": dict(fluoride="TBAF", yield_min=50),
+    "chemist + date range": dict(chemist="novak", date_from="2023-01-01", date_to="2023-06-30"),
+    "full text 'oligomers'": dict(text="oligomers"),
+}
+
+
+def build(folder: Path, members: int, runs: int) -> tuple[list[Path], Path]:
+    rng = random.Random(20261202)
+    pool = structures(rng)
+    cache: dict = {}
+    paths = [folder / f"member{k + 1:02d}.sqlite" for k in range(members)]
+    single = folder / "single.sqlite"
+    t0 = time.perf_counter()
+    with Notebook.create(single) as whole:
+        for k, path in enumerate(paths):
+            dicts = [make_run(i, rng, pool, cache) for i in range(k * runs, (k + 1) * runs)]
+            with Notebook.create(path) as nb:
+                bulk_add(nb, [dict(d) for d in dicts])
+            bulk_add(whole, dicts)
+            print(f"  built member {k + 1}/{members} ({time.perf_counter() - t0:.0f} s)", file=sys.stderr)
+    print(f"build: {members} × {runs} runs and 1 × {members * runs} in {time.perf_counter() - t0:.0f} s")
+    return paths, single
+
+
+def median_seconds(fn, repeat: int, cold: bool) -> tuple[float, object]:
+    times, out = [], None
+    for _ in range(repeat):
+        if cold:
+            S.clear_caches()
+        t0 = time.perf_counter()
+        out = fn()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times), out
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--members", type=int, default=20)
+    ap.add_argument("--runs", type=int, default=1000, help="runs per member (the single notebook holds members × runs)")
+    ap.add_argument("--repeat", type=int, default=3)
+    args = ap.parse_args()
+    tmp = tempfile.TemporaryDirectory()
+    paths, single = build(Path(tmp.name), args.members, args.runs)
+
+    t0 = time.perf_counter()
+    group = Group.open(paths)
+    opened = time.perf_counter() - t0
+    assert all(m.ok for m in group.members), [m.problems for m in group.members if not m.ok]
+    t0 = time.perf_counter()
+    full = integrity.verify_path(paths[0], check_files=False)
+    full_s = time.perf_counter() - t0
+    assert full.ok, full.problems[:3]
+    print(f"open the group (chains of every member checked): {opened:.2f} s for {args.members} members; "
+          f"full verify of one member: {full_s:.2f} s (× {args.members} would be {full_s * args.members:.0f} s)")
+
+    nb = Notebook.open(single)
+    print(f"\n{'query':46} {'hits':>6} {'single cold':>12} {'group cold':>11} {'ratio':>6} {'single rep':>11} {'group rep':>10}")
+    ratios = []
+    for name, options in QUERIES.items():
+        query = query_from_options(**options)
+        one_s, hits = median_seconds(lambda q=query: S.search(nb, q), args.repeat, cold=True)
+        grp_s, ghits = median_seconds(lambda q=query: group.search(q), args.repeat, cold=True)
+        one_r, _ = median_seconds(lambda q=query: S.search(nb, q), args.repeat, cold=False)
+        grp_r, _ = median_seconds(lambda q=query: group.search(q), args.repeat, cold=False)
+        assert {h.run_id for h in hits} == {h["run_id"] for h in ghits}, f"{name}: the group found other runs"
+        ratios.append(grp_s / one_s if one_s else float("nan"))
+        print(f"{name:46} {len(hits):6d} {one_s:12.3f} {grp_s:11.3f} {ratios[-1]:6.2f} {one_r:11.3f} {grp_r:10.3f}")
+    worst = max(ratios)
+    print(f"\nworst cold ratio group/single: {worst:.2f} (target: about 1, i.e. ≤ 1.5)  median ratio {statistics.median(ratios):.2f}")
+    print(json.dumps({"members": args.members, "runs_per_member": args.runs, "open_group_s": round(opened, 3),
+                      "full_verify_one_member_s": round(full_s, 3), "worst_cold_ratio": round(worst, 3),
+                      "median_cold_ratio": round(statistics.median(ratios), 3)}))
+    nb.close()
+    group.close()
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,318 @@
+"""A campaign: the strain of many candidate intermediates and the alignment of their
+precursors, computed as a task graph on a Dask cluster and kept in the notebook.
+
+Why a cluster: one accurate-tier strain takes seconds to minutes, and a library of
+candidates takes hours on one core. Each strain (at the chosen tier) and each precursor
+alignment is a task; the tasks are independent, so a LocalCluster on this machine (one
+single-threaded worker process per core) or a group's scheduler runs them side by side.
+
+Why only the client writes: the notebook is SQLite with one writer. Workers get SMILES
+and return plain dicts; they never learn where the notebook is. The client stores each
+result in the cache as it arrives, so a campaign stopped half-way (Ctrl-C, a killed job)
+resumes by computing only what the cache lacks, and a re-run of a finished campaign
+computes nothing. A failed task is recorded with its reason on its candidate and the rest
+go on.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+import os
+from collections.abc import Callable
+from dataclasses import dataclass
+
+from .errors import ChemistryError, TrapbookError
+
+#: alignment temperature of the campaign's precursors (°C): fluoride additions start at room temperature
+ALIGN_TEMPERATURE_C = 25.0
+RECORD_PREFIX = "campaign:"
+Progress = Callable[[int, int, int], None]
+
+
+# ---------------------------------------------------------------- the plan
+
+
+@dataclass(frozen=True)
+class Task:
+    """One unit of work: the strain of a candidate at a tier, or the alignment of a precursor."""
+
+    what: str  # "strain" or "alignment"
+    smiles: str
+    tier: str
+    candidate: str  # name of the candidate it belongs to
+
+    @property
+    def key(self) -> str:
+        digest = hashlib.sha256(f"{self.what}|{self.smiles}|{self.tier}".encode()).hexdigest()[:16]
+        return f"{self.what}-{digest}"
+
+
+def plan(source: str, tier: str = "fast", kinds: tuple[str, ...] = ("bridgehead",),
+         leaving_groups: tuple[str, ...] = ("OTf",), precursors: bool = True, lines: list[str] | None = None) -> dict:
+    """The campaign's candidates and their precursors; `lines` (a file's lines) take the place
+    of enumerating the skeleton `source`."""
+    from .chemistry import enumerate as en
+    from .chemistry.strain_key import check_tier
+
+    check_tier(tier)
+    bad = [k for k in kinds if k not in en.KIND_WORDS]
+    if bad:
+        raise ChemistryError(f"unknown kind(s) {', '.join(map(repr, bad))}", "choose from bridgehead, allene, alkyne")
+    if lines is None:
+        cands = en.intermediates_of_skeleton(source, tuple(en.KIND_WORDS[k] for k in kinds))
+        if not cands:
+            raise ChemistryError(f"the skeleton {source} holds no bridgehead alkene" + (", allene or alkyne" if len(kinds) > 1 else ""),
+                                 "give a bridged polycycle (e.g. C1CC2CCCC(C1)C2), or add --kinds allene,alkyne")
+    else:
+        cands = en.candidates_from_lines(lines)
+        if not cands:
+            raise ChemistryError(f"no candidate in {source}", "write one SMILES a line, optionally followed by a name")
+    rows = []
+    for cand in cands:
+        row = cand.to_dict()
+        row["precursors"] = []
+        if precursors and cand.kind in en.KINDS + ("aryne",):
+            row["precursors"] = [{"smiles": p.smiles, "leaving_group": p.leaving_group,
+                                  "diastereomers": en.diastereomers_of(p.smiles)}
+                                 for p in en.precursors_of(cand.smiles, tuple(leaving_groups))]
+        rows.append(row)
+    record = {"source": source, "tier": tier, "kinds": list(kinds), "leaving_groups": list(leaving_groups),
+              "alignment_temperature_c": ALIGN_TEMPERATURE_C, "candidates": rows}
+    record["id"] = campaign_id(record)
+    return record
+
+
+def campaign_id(record: dict) -> str:
+    """Same question, same id: the source, tier, kinds and leaving groups name a campaign."""
+    text = json.dumps([record["source"], record["tier"], record["kinds"], record["leaving_groups"],
+                       [c["smiles"] for c in record["candidates"]]], sort_keys=True)
+    return "CP-" + hashlib.sha256(text.encode()).hexdigest()[:8]
+
+
+def tasks_of(record: dict) -> list[Task]:
+    out: list[Task] = []
+    for cand in record["candidates"]:
+        if cand["kind"] == "unreadable":
+            continue
+        out.append(Task("strain", cand["smiles"], record["tier"], cand["name"]))
+        out += [Task("alignment", d, "alignment", cand["name"]) for p in cand["precursors"] for d in p["diastereomers"]]
+    return list({t.key: t for t in out}.values())
+
+
+def cached(nb, task: Task) -> dict | None:
+    """The task's result from the notebook's cache (None when it must be computed)."""
+    from .chemistry.strain_key import cache_key
+    from .strain_link import alignment_key
+
+    if nb is None:
+        return None
+    key = cache_key(task.smiles, task.tier) if task.what == "strain" else alignment_key(task.smiles, ALIGN_TEMPERATURE_C)
+    return nb.cache_get(key) if key else None
+
+
+# ---------------------------------------------------------------- what a worker runs
+
+
+def run_task(what: str, smiles: str, tier: str) -> dict:
+    """Runs on a worker: compute and return, never touch a notebook.
+
+    A chemistry failure comes back as {"ok": False, "reason", "hint"} so the client records
+    it on its candidate (an exception object would have to survive pickling between processes).
+    """
+    try:
+        if what == "strain":
+            from .chemistry.strain import compute_strain
+
+            result = compute_strain(smiles, tier)
+        else:
+            from .chemistry.alignment import precursor_alignment
+
+            result = precursor_alignment(smiles, temperature_c=ALIGN_TEMPERATURE_C)
+    except TrapbookError as exc:
+        return {"ok": False, "reason": exc.message, "hint": exc.hint}
+    return {"ok": True, "result": result}
+
+
+# ---------------------------------------------------------------- the cluster
+
+
+def open_client(scheduler: str | None = None, n_workers: int | None = None):
+    """A client on the scheduler at `scheduler`, else on a new LocalCluster of this machine."""
+    from distributed import Client, LocalCluster
+
+    if scheduler:
+        try:
+            return Client(scheduler, timeout="20s")
+        except (OSError, TimeoutError) as exc:
+            raise TrapbookError(f"cannot reach the Dask scheduler at {scheduler} ({exc})",
+                                "check the address (tcp://host:8786) and that the scheduler is running") from None
+    workers = n_workers or os.cpu_count() or 1
+    cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=":0",
+                           silence_logs=logging.ERROR)
+    client = Client(cluster)
+    client._trapbook_cluster = cluster  # closed with the client (see close_client)
+    return client
+
+
+def close_client(client) -> None:
+    cluster = getattr(client, "_trapbook_cluster", None)
+    client.close()
+    if cluster is not None:
+        cluster.close()
+
+
+def stream_results(client, tasks: list[Task]):
+    """(task, outcome) pairs as the workers finish them, in finishing order; nothing is stored here."""
+    from distributed import as_completed
+
+    futures = {client.submit(run_task, t.what, t.smiles, t.tier, key=t.key, pure=False): t for t in tasks}
+    for fut in as_completed(futures):
+        task = futures[fut]
+        try:
+            outcome = fut.result()
+        except Exception as exc:  # noqa: BLE001 - a lost worker or a bug on it: recorded on the candidate
+            outcome = {"ok": False, "reason": f"the worker failed ({type(exc).__name__}: {exc})",
+                       "hint": "re-run the campaign: it computes only what is missing"}
+        fut.release()
+        yield task, outcome
+
+
+# ---------------------------------------------------------------- the client stores
+
+
+def store_outcome(nb, task: Task, outcome: dict) -> None:
+    """The one place a campaign writes a result: the notebook's cache, as `strain` would."""
+    from .strain_link import store_alignment, store_result
+
+    if not outcome.get("ok"):
+        return
+    if task.what == "strain":
+        store_result(nb, task.smiles, task.tier, outcome["result"])
+    else:
+        store_alignment(nb, task.smiles, outcome["result"], ALIGN_TEMPERATURE_C)
+
+
+def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int | None = None,
+                 progress: Progress | None = None, client=None) -> dict:
+    """Compute what the cache lacks, store each result as it arrives, and keep the campaign's record.
+
+    Returns {id, computed, from_cache, failed: [{candidate, smiles, what, reason, hint}]}.
+    """
+    if nb is not None and nb.read_only:
+        raise TrapbookError("this notebook is open read-only here", "run the campaign where the notebook can be written")
+    tasks = tasks_of(record)
+    todo = [t for t in tasks if cached(nb, t) is None]
+    failed: list[dict] = []
+    done = len(tasks) - len(todo)
+    _save_record(nb, record, failed=None)
+    _tell(progress, done, 0, len(todo))
+    if todo:
+        own = client is None
+        client = client or open_client(scheduler, n_workers)
+        try:
+            for left, (task, outcome) in enumerate(stream_results(client, todo), 1):
+                if outcome.get("ok"):
+                    store_outcome(nb, task, outcome)
+                    done += 1
+                else:
+                    failed.append({"candidate": task.candidate, "smiles": task.smiles, "what": task.what,
+                                   "reason": outcome.get("reason"), "hint": outcome.get("hint")})
+                _tell(progress, done, len(failed), len(todo) - left)
+        finally:
+            if own:
+                close_client(client)
+    _save_record(nb, record, failed=failed)
+    return {"id": record["id"], "tasks": len(tasks), "computed": len(todo) - len(failed),
+            "from_cache": len(tasks) - len(todo), "failed": failed}
+
+
+def _tell(progress: Progress | None, done: int, failed: int, left: int) -> None:
+    if progress is not None:
+        progress(done, failed, left)
+
+
+def _save_record(nb, record: dict, failed: list[dict] | None) -> None:
+    """The campaign as a versioned notebook setting: its candidates and what failed last time.
+
+    No time in the value, so a re-run that changes nothing adds no version (idempotent).
+    """
+    if nb is None:
+        return
+    value = dict(record)
+    unreadable = [{"candidate": c["name"], "smiles": c["smiles"], "what": "structure", "reason": c["origin"], "hint":
+                   "correct the SMILES in the file"} for c in record["candidates"] if c["kind"] == "unreadable"]
+    value["failed"] = unreadable + (failed or []) if failed is not None else (load_record(nb, record["id"]) or {}).get("failed", unreadable)
+    nb.set_setting(RECORD_PREFIX + record["id"], value, reason=f"campaign {record['id']} on {record['source']}")
+
+
+def load_record(nb, campaign: str) -> dict | None:
+    return nb.get_setting(RECORD_PREFIX + campaign)
+
+
+def campaigns(nb) -> list[str]:
+    rows = nb.conn.execute("SELECT key FROM settings WHERE key LIKE ?", (RECORD_PREFIX + "%",)).fetchall()
+    return sorted(r[0][len(RECORD_PREFIX):] for r in rows)
+
+
+# ---------------------------------------------------------------- the map
+
+
+def real_diastereomers(sides: list[dict]) -> list[dict]:
+    """Drop diastereomers of one precursor lying far above its best one (an impossible ring
+    fusion that embedding forced into shape), by the alignment's own limit."""
+    from .chemistry.alignment import IMPOSSIBLE_ABOVE_KCAL
+
+    if not sides:
+        return []
+    low = min(s["mmff_energy_kcal_mol"] for s in sides)
+    return [s for s in sides if s["mmff_energy_kcal_mol"] - low <= IMPOSSIBLE_ABOVE_KCAL]
+
+
+def best_diastereomer(sides: list[dict]) -> dict | None:
+    """The precursor diastereomer most ready to fire: largest aligned share, then cheapest alignment."""
+    if not sides:
+        return None
+
+    def readiness(side: dict) -> tuple:
+        best = side.get("best_aligned")
+        return (side.get("aligned_fraction") or 0.0, -(best["delta_kcal_mol"] if best else 1e9))
+
+    top = max(sides, key=readiness)
+    return {"smiles": top.get("smiles"), "verdict": top.get("verdict_short"), "aligned_fraction": top.get("aligned_fraction"),
+            "dihedral_deg": top.get("dihedral_deg"), "diastereomers_judged": len(sides)}
+
+
+def campaign_table(nb, record: dict) -> list[dict]:
+    """One row per candidate from the cache, ranked: least strained first, then unclassed and failed ones."""
+    from .stability import judge
+
+    failed = {(f["candidate"], f["what"]): f for f in record.get("failed") or []}
+    rows = []
+    for cand in record["candidates"]:
+        res = cached(nb, Task("strain", cand["smiles"], record["tier"], cand["name"])) if cand["kind"] != "unreadable" else None
+        aligns = []
+        for p in cand["precursors"]:
+            aligns += real_diastereomers([a for d in p["diastereomers"]
+                                          if (a := cached(nb, Task("alignment", d, "alignment", cand["name"])))])
+        verdict = judge(res)
+        problem = failed.get((cand["name"], "strain")) or failed.get((cand["name"], "structure"))
+        rows.append({
+            "name": cand["name"], "smiles": cand["smiles"], "kind": (res or {}).get("kind") or cand["kind"],
+            "s_value": (res or {}).get("s_value"), "trans_ring_size": (res or {}).get("trans_ring_size"),
+            "ring_size": (res or {}).get("ring_size"),
+            "strain_kcal_mol": (res or {}).get("strain_kcal_mol"), "strain_quantity": (res or {}).get("strain_quantity"),
+            "stability_class": verdict.stability if verdict else None,
+            "needs_trap": verdict.needs_trap if verdict else None,
+            "twist_deg": (res or {}).get("twist_deg"), "pyramidalization_deg": (res or {}).get("pyramidalization_deg"),
+            "tier": record["tier"], "status": "done" if res else ("failed" if problem else "not computed"),
+            "reason": problem["reason"] if problem else None,
+            "precursors": len(cand["precursors"]), "diastereomers_aligned": len(aligns),
+            "best_precursor": best_diastereomer(aligns),
+        })
+    rows.sort(key=lambda r: (r["strain_kcal_mol"] is None, r["strain_kcal_mol"] if r["strain_kcal_mol"] is not None else 0.0,
+                             r["name"]))
+    for rank, row in enumerate(rows, 1):
+        row["rank"] = rank
+    return rows
