@@ -91,7 +91,9 @@ def main() -> None:
     t0 = time.perf_counter()
     full = integrity.verify_path(paths[0], check_files=False)
     full_s = time.perf_counter() - t0
-    assert full.ok, full.problems[:3]
+    # bulk_add skips the bench checks, so the full verify reports every summary row as different; only its time counts here
+    chain_problems = [p for p in full.problems if p.code != "index-mismatch"]
+    assert not chain_problems, chain_problems[:3]
     print(f"open the group (chains of every member checked): {opened:.2f} s for {args.members} members; "
           f"full verify of one member: {full_s:.2f} s (× {args.members} would be {full_s * args.members:.0f} s)")
 

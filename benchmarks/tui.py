@@ -151,6 +151,8 @@ async def in_process(path: Path, repeats: int) -> dict:
         # core's search in its worker, then the table refilled with the rows it names
         times = []
         for word in ["furan", "anthracene", "trap:furan", "TBAF", "Iyer"][:max(repeats, 3)]:
+            await app.workers.wait_for_complete()  # the last answer's preview drawn, as before a new text
+            await pilot.pause()
             box.value = word
             t = time.perf_counter()
             screen.apply()

@@ -26,10 +26,8 @@ CHROMIUM = "/usr/bin/chromium"
 CHROMEDRIVER = "/usr/bin/chromedriver"
 ROOT = Path(__file__).resolve().parents[1]
 
-pytestmark = [
-    pytest.mark.skipif(not (Path(CHROMIUM).exists() and Path(CHROMEDRIVER).exists()),
-                       reason="needs Debian's chromium and chromium-driver (apt-get install chromium chromium-driver)"),
-]
+needs_chromium = pytest.mark.skipif(not (Path(CHROMIUM).exists() and Path(CHROMEDRIVER).exists()),
+                                    reason="needs Debian's chromium and chromium-driver (apt-get install chromium chromium-driver)")
 
 #: Records every websocket message the page receives, as text, in window.__trapbookScreen.
 RECORD_SOCKET = r"""
@@ -89,6 +87,7 @@ def _screen_text(driver) -> str:
     return ANSI.sub("", driver.execute_script("return window.__trapbookScreen || '';"))
 
 
+@needs_chromium
 def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
     webdriver = pytest.importorskip("selenium.webdriver", reason="needs selenium (pip install -e .[test])")
     pytest.importorskip("textual_serve", reason="needs textual-serve")
@@ -146,3 +145,39 @@ def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
     assert not any(p.name.startswith("demo.sqlite") and p.suffix == ".part" for p in tmp_path.iterdir())
     if os.environ.get("TRAPBOOK_KEEP_SCREENSHOT"):
         shutil.copy(tmp_path / "logbook.png", os.environ["TRAPBOOK_KEEP_SCREENSHOT"])
+
+
+def test_serve_listens_on_loopback_unless_told_and_warns_when_told(tmp_path, monkeypatch):
+    """Which addresses count as this computer only (RFC 1122 §3.2.1.3: 127.0.0.0/8; RFC 4291: ::1),
+    and the warning printed for any other; the server itself is replaced by a recorder."""
+    pytest.importorskip("textual_serve", reason="needs textual-serve")
+    import textual_serve.server
+    from click.testing import CliRunner
+
+    from trapbook.cli import main
+    from trapbook.cli.serve import is_loopback
+
+    assert is_loopback("127.0.0.1") and is_loopback("127.8.9.10") and is_loopback("::1") and is_loopback("localhost")
+    assert not is_loopback("0.0.0.0") and not is_loopback("192.168.1.20") and not is_loopback("::")
+    started = []
+
+    class Recorder:
+        def __init__(self, command, host, port, title=None):
+            started.append({"command": command, "host": host, "port": port})
+
+        def serve(self):
+            return None
+
+    monkeypatch.setattr(textual_serve.server, "Server", Recorder)
+    db = tmp_path / "nb.sqlite"
+    assert CliRunner().invoke(main, ["init", str(db)]).exit_code == 0
+    quiet = CliRunner().invoke(main, ["--db", str(db), "serve", "--read-only", "--port", "8123"])
+    assert quiet.exit_code == 0, quiet.output
+    assert started[-1]["host"] == "127.0.0.1" and started[-1]["port"] == 8123 and "WARNING" not in quiet.output
+    assert started[-1]["command"].endswith("open --read-only") and str(db) in started[-1]["command"]
+    loud = CliRunner().invoke(main, ["--db", str(db), "serve", "--host", "0.0.0.0"])
+    assert loud.exit_code == 0 and started[-1]["host"] == "0.0.0.0"
+    assert "WARNING: listening on 0.0.0.0: anyone who can reach this address" in loud.output
+    assert not started[-1]["command"].endswith("--read-only")
+    grouped = CliRunner().invoke(main, ["--group", str(db), "serve"])  # a group is always read-only
+    assert grouped.exit_code == 0 and started[-1]["command"].endswith("open --read-only") and "--group" in started[-1]["command"]

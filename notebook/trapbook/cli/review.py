@@ -86,7 +86,8 @@ def screens_cmd(ctx: Ctx, as_json: bool) -> None:
         return
     for s in screens:
         varied = "; ".join(f"{k}: {', '.join(v)}" for k, v in s.factors.items())
-        say(f"{s.id:8} {s.name}\n         {len(s.runs)} run(s) · {varied}")
+        say(f"{s.id:8} {s.name}")
+        say(f"         {len(s.runs)} run(s) · {varied}")
 
 
 @main.command("review")
@@ -115,12 +116,14 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     say(f"{rv['screen_id']}  {rv['name']}")
     names = list(rv["factors"])
     head = "  ".join(f"{n[:16]:16}" for n in names)
-    say(f"\n{'run':8} {head}  {'status':8} {'isolated':>8} {'NMR':>6} {'dr':>7} {'ee':>5}")
+    click.echo()
+    say(f"{'run':8} {head}  {'status':8} {'isolated':>8} {'NMR':>6} {'dr':>7} {'ee':>5}")
     for r in rv["rows"]:
         cells = "  ".join(f"{(r['factors'].get(n) or '—')[:16]:16}" for n in names)
         say(f"{r['run_id']:8} {cells}  {r['status']:8} {_pct(r['isolated_yield_pct']):>8} {_pct(r['nmr_yield_pct']):>6} "
                    f"{(r['dr'] or '—'):>7} {_pct(r['ee_pct']):>5}")
-    say("\nper level (headline yield: isolated, else NMR):")
+    click.echo()
+    say("per level (headline yield: isolated, else NMR):")
     for n, lv in rv["levels"].items():
         for level, s in lv.items():
             h = s["headline"]
@@ -128,17 +131,20 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
                        + (f" ({h['best_run']})" if h["best_run"] else ""))
     b = rv["best"]
     if b:
-        say(f"\nbest: {b['run_id']} — " + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
+        click.echo()
+        say(f"best: {b['run_id']} — " + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
                    + f": {_pct(b['yield_pct'])} ({b['yield_kind']})")
         if b.get("note"):
             say(f"  note: {b['note']}")
     if rv["failed"]:
-        say("\nfailed:")
+        click.echo()
+        say("failed:")
         for f in rv["failed"]:
             why = "; ".join(f"{x['severity']} {x['code']}" for x in f["findings"]) or "no bench check explains it"
             say(f"  {f['run_id']} {f['title']}: {why}")
     if rv["not_done"]:
-        say(f"\nnot done yet: {', '.join(rv['not_done'])}")
+        click.echo()
+        say(f"not done yet: {', '.join(rv['not_done'])}")
 
 
 @main.command("strain-map")
@@ -169,7 +175,8 @@ def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
         for t in x["traps"]:
             say(f"    {t['trap'][:32]:32} {_pct(t['yield_pct']):>5} {t['yield_kind'] or '':10} {t['run_id']}")
     rk = sm["ranking"]
-    say(f"\nranking: {rk['method']}")
+    click.echo()
+    say(f"ranking: {rk['method']}")
     say(f"  rho = {rk['spearman_rho']:.2f} over {rk['n']} intermediates" if rk["spearman_rho"] is not None else f"  {rk['note']}")
     if sm["missing_strain"]:
         say(f"  strain not computed for {len(sm['missing_strain'])}: run 'trapbook strain SMILES' for each")

@@ -148,7 +148,7 @@ class LogbookScreen(Screen):
         self.apply()
 
     def repaint_colours(self) -> None:
-        self.apply()
+        self.apply(force=True)
 
     def action_toggle_preview(self) -> None:
         """Hide or show the preview: hidden, the table takes the whole screen."""
@@ -200,12 +200,21 @@ class LogbookScreen(Screen):
         self.filter_text = None  # runs may have changed since the last answer
         self.apply(select=select)
 
-    def apply(self, select: str | None = None) -> None:
-        """Filter and sort `rows` into the table, keeping the cursor on the same run (or on `select`)."""
+    def apply(self, select: str | None = None, force: bool = False) -> None:
+        """Filter and sort `rows` into the table, keeping the cursor on the same run (or on `select`).
+
+        While a new filter text is being searched the old answer stays; the table is refilled
+        only when the rows it would list differ (a refill and its redraw slow the search).
+        """
         text = self.query_one("#filter", Input).value.strip()
         if text != self.filter_text:
             self.start_filter(text)
         self.shown = shown = self.filtered_rows()
+        filled = (id(self.rows), self.columns, tuple(r["id"] for r in shown))
+        if not force and select is None and filled == getattr(self, "_filled", None):
+            self.show_status()
+            return
+        self._filled = filled
         table = self.query_one("#runs", DataTable)
         current = select or self.current_id()
         table.clear()
