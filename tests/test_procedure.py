@@ -262,3 +262,20 @@ def test_screen_report_draws_the_adducts_and_lists_raw_masses(demo_notebook):
     for r in runs:
         mass = r.outcome.products[0].isolated_mass.magnitude
         assert f"{r.id} {r.outcome.products[0].product} {mass:.1f}" in text
+
+
+def test_screen_report_gives_each_runs_version_reason_escaped(tmp_path, demo_notebook_path):
+    import shutil
+
+    from trapbook import reports
+    from trapbook.store import Notebook
+
+    path = tmp_path / "demo.sqlite"
+    shutil.copy(demo_notebook_path, path)
+    with Notebook.open(path) as nb:
+        run = nb.get_run("TB-0014")
+        nb.save_run(run, nb.run_meta("TB-0014")["version"], author="tester", reason="mass re-weighed <dry> & checked")
+        page = _Page()
+        page.feed(reports.screen_report_html(nb, "SC-0001"))
+    text = " ".join(" ".join(page.text).split())
+    assert "v2: mass re-weighed <dry> & checked" in text and "dry" not in page.tags

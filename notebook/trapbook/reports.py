@@ -361,7 +361,7 @@ def screen_report_html(nb, screen_id: str) -> str:
                     f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
                     f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>")
     body.append("</table>")
-    body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs)]
+    body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs, nb)]
     return _page(f"{rv['screen_id']} {rv['name']}", body)
 
 

@@ -97,15 +97,25 @@ def screen_products(runs) -> list[tuple[str, str, str]]:
     return [("product", ln.name, ln.smiles) for run in runs for ln in run.lines if ln.role == "product" and ln.smiles]
 
 
-def screen_raw_rows_html(runs) -> str:
-    """One row per run: isolated mass, qNMR integrals, dr, er and HRMS found/calcd/ppm of each product."""
+def _version_words(nb, run_id: str | None) -> str:
+    """'v2: integrals re-read' — the run's current version and why it was saved."""
+    if nb is None or run_id is None:
+        return DASH
+    v = nb.history(run_id)[-1]
+    return f"v{v.version}: {v.reason or DASH}"
+
+
+def screen_raw_rows_html(runs, nb=None) -> str:
+    """One row per product of each run: isolated mass, qNMR integrals, dr, er, HRMS found/calcd/ppm,
+    and the run's version with the reason it was saved."""
     from .trapping import run_hrms
 
     out = ["<table><tr><th>run</th><th>product</th><th>isolated mass (mg)</th><th>qNMR integrals</th><th>dr</th><th>er</th>"
-           "<th>HRMS found / calcd (ppm)</th></tr>"]
+           "<th>HRMS found / calcd (ppm)</th><th>version: reason</th></tr>"]
     for run in runs:
         if run.outcome is None:
             continue
+        version = e(_version_words(nb, run.id))
         try:
             hrms = {r["product"].casefold(): r for r in run_hrms(run)}
         except TrapbookError as exc:
@@ -122,7 +132,7 @@ def screen_raw_rows_html(runs) -> str:
                 ms = e(f"{row['ion']} {row['found_mz']:.4f} / {row['calcd_mz']:.4f} ({row['ppm']:+.1f})")
             out.append(f"<tr><td>{e(run.id or '')}</td><td>{e(res.product)}</td>"
                        f"<td class='n'>{_q(res.isolated_mass, 'mass', fmt_mg)}</td>{_qnmr_cells(res)}"
-                       f"<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td><td>{ms}</td></tr>")
+                       f"<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td><td>{ms}</td><td>{version}</td></tr>")
     out.append("</table>")
     return "\n".join(out)
 

@@ -55,6 +55,7 @@ def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[Produ
         head.append(printable(f"  intermediate: {run.intermediate_name or ''} {run.intermediate}".rstrip()))
     body = [""]
     body.append(amounts_text(table) if table else f"amounts: {printable(problem)}")
+    body.extend(weighed_text(run))
     body.append("")
     body.append("steps:")
     body.extend(steps_text(run) or ["  (no steps recorded)"])
@@ -63,9 +64,41 @@ def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[Produ
         body.extend(yields_text(yields))
         if run.outcome.observations:
             body.append(f"  observations: {printable(run.outcome.observations, multiline=True)}")
+        body.extend(outcome_words_text(run.outcome))
     if run.notes:
         body.append(f"notes: {printable(run.notes, multiline=True)}")
     return "\n".join(head + body)
+
+
+def weighed_text(run: Run) -> list[str]:
+    """Planned against weighed for each line that records what went in (numbers above are from what was weighed)."""
+    from .errors import TrapbookError
+    from .weighed import planned_vs_weighed
+
+    try:
+        rows = planned_vs_weighed(run)
+    except TrapbookError as exc:
+        return [f"planned against weighed: cannot be compared ({printable(exc.message)})"]
+    fmt = {"mg": fmt_mg, "µL": fmt_ul, "mmol": fmt_mmol}
+    out = ["weighed (equiv, concentration and yields above are worked out from these):"] if rows else []
+    for w in rows:
+        diff = f"{w.difference_pct:+.1f} %" if w.difference_pct is not None else "—"
+        out.append(f"  {cell(w.name, 28)} planned {fmt[w.unit](w.planned)} {w.unit}, weighed {fmt[w.unit](w.weighed)} {w.unit} ({diff})")
+    return out
+
+
+def outcome_words_text(outcome) -> list[str]:
+    """Work-up, eluent and each product's appearance, Rf and NMR text, as recorded."""
+    out = [f"  work-up: {printable(outcome.workup, multiline=True)}"] if outcome.workup else []
+    if outcome.eluent:
+        out.append(f"  eluent: {printable(outcome.eluent)}")
+    for res in outcome.products:
+        bits = [printable(res.appearance) if res.appearance else "", f"Rf {res.rf:.2f}" if res.rf is not None else ""]
+        if any(bits):
+            out.append(f"  {printable(res.product)}: " + ", ".join(b for b in bits if b))
+        if res.nmr_text:
+            out.append(f"  NMR of {printable(res.product)}: {printable(res.nmr_text, multiline=True)}")
+    return out
 
 
 def run_rows_text(rows: list[dict]) -> str:
