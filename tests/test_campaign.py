@@ -201,3 +201,20 @@ def test_classes_of_enumerated_alkenes_match_the_bench():
     (octene,) = intermediates_of_skeleton(BICYCLO_222)
     assert judge(compute_strain(non.smiles, "accurate")).stability == "isolable"
     assert judge(compute_strain(octene.smiles, "accurate")).stability == "unstable"
+
+
+def test_only_the_campaign_module_imports_dask():
+    # common practice, no source: one module owns the cluster, so the rest of the core stays light
+    import ast
+
+    import trapbook
+
+    root = Path(trapbook.__file__).parent
+    users = []
+    for path in root.rglob("*.py"):
+        tree = ast.parse(path.read_text(encoding="utf-8"))
+        names = {a.name.split(".")[0] for n in ast.walk(tree) if isinstance(n, ast.Import) for a in n.names}
+        names |= {(n.module or "").split(".")[0] for n in ast.walk(tree) if isinstance(n, ast.ImportFrom) and n.level == 0}
+        if names & {"dask", "distributed"}:
+            users.append(path.relative_to(root).as_posix())
+    assert users == ["campaign.py"]

@@ -347,6 +347,29 @@ def test_screen_uses_one_set_of_regions_for_every_vial(cli, tmp_path, bruker_byt
     assert all(not r["saved"] for r in again["integrated"])
 
 
+def test_screen_with_a_refused_vial_does_not_exit_as_done(cli, tmp_path, bruker_bytes):
+    from trapbook.cli.nmr import REFUSED_EXIT
+    from trapbook.store import Notebook
+
+    run_file = tmp_path / "run.json"
+    run_file.write_text(json.dumps(QNMR_RUN))
+    for _ in range(2):
+        cli("add", str(run_file))
+    good, junk = tmp_path / "v.zip", tmp_path / "junk.zip"
+    good.write_bytes(bruker_bytes)
+    junk.write_bytes(np.random.default_rng(5).bytes(2048))
+    cli("attach", "TB-0001", str(good))
+    cli("attach", "TB-0002", str(junk))
+    with Notebook.open(tmp_path / "nb.sqlite") as nb:
+        sid = nb.add_screen({"name": "trap screen", "runs": ["TB-0001", "TB-0002"]})
+    res = cli("nmr", sid, "--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3",
+              "--product-protons", "1", "--json")
+    out = json.loads(res.output)
+    assert [r["run_id"] for r in out["integrated"]] == ["TB-0001"]
+    assert [r["run_id"] for r in out["refused"]] == ["TB-0002"]
+    assert res.exit_code == REFUSED_EXIT != 0
+
+
 def test_only_the_spectra_package_reads_raw_nmr_data():
     # one place owns the reading library, as chemistry/ owns RDKit
     import ast

@@ -6,8 +6,10 @@ stored once, a changed byte is noticed on every read, and nothing in the store c
 overwritten by a different file. Attaching records the file (name, hash, size, media
 type) in a new version of the run, with a reason, like any other edit.
 
-Stored files are written read-only and are only ever read as bytes: never executed,
-never unpacked, never opened with another program by Trapbook.
+Stored files are written read-only and never executed or opened with another program by
+Trapbook. The one reader of their content is `trapbook nmr` (trapbook.spectra), which
+unpacks a zipped FID into a temporary folder after judging every member, and only when
+asked.
 """
 
 from __future__ import annotations

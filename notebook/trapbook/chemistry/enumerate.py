@@ -31,7 +31,8 @@ KIND_WORDS = {"bridgehead": bh.BRIDGEHEAD, "allene": bh.ALLENE, "alkyne": bh.ALK
 #: leaving groups a precursor may carry, as SMILES fragments bonded through their first atom
 LEAVING_GROUPS = {"OTf": "OS(=O)(=O)C(F)(F)F", "Cl": "Cl", "Br": "Br", "I": "I"}
 DEFAULT_LEAVING_GROUPS = ("OTf",)
-SILYL = "TMS"
+#: short names of the candidates of a skeleton: BH1, BH2 ... (bridgehead), AL1 (allene), YN1 (alkyne)
+_NAME_STEM = {bh.BRIDGEHEAD: "BH", bh.ALLENE: "AL", bh.ALKYNE: "YN"}
 #: cyclic allenes and cycloalkynes are listed in rings up to this size (larger ones are unstrained)
 MAX_SMALL_RING = 9
 MAX_CANDIDATES = 500
@@ -150,8 +151,10 @@ def intermediates_of_skeleton(smiles: str, kinds: tuple[str, ...] = (bh.BRIDGEHE
         seen.add(smi)
         out.append(Candidate("", smi, bh.perceive_mol(inter).kind, f"from the skeleton {Chem.MolToSmiles(mol)}"))
     out.sort(key=lambda c: (KINDS.index(c.kind) if c.kind in KINDS else 9, _s_value(c.smiles), c.smiles))
-    for n, cand in enumerate(out, 1):
-        cand.name = f"C{n}"
+    counts: dict[str, int] = {}
+    for cand in out:
+        counts[cand.kind] = counts.get(cand.kind, 0) + 1
+        cand.name = f"{_NAME_STEM.get(cand.kind, 'X')}{counts[cand.kind]}"
     return out
 
 

@@ -24,8 +24,8 @@ def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | Non
     """Attach FILE (spectrum, photo, raw NMR data) to RUN_ID.
 
     The file is copied into the store beside the notebook under its SHA-256 and
-    recorded in a new version of the run. It is only ever read back as bytes, checked
-    against its hash — never opened or run by Trapbook.
+    recorded in a new version of the run. It is read back as bytes, checked against its
+    hash, and never run; only 'trapbook nmr' reads raw NMR data inside it, when asked.
     """
     from ..attachments import attach as do_attach
 

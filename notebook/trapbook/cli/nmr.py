@@ -9,6 +9,9 @@ import click
 from ..errors import NotFoundError, SpectrumError
 from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
+#: Exit code of `nmr SCREEN` when some vials were refused (the rest were saved).
+REFUSED_EXIT = 3
+
 #: How far around the standard's region the reference signal is looked for. Common practice, no source.
 REFERENCE_SEARCH_PPM = 0.2
 
@@ -106,7 +109,7 @@ def _check_png_path(png: str) -> None:
               help="Flip the transformed spectrum end to end, so high ppm comes first (right for Bruker data).")
 @click.option("--png", type=click.Path(dir_okay=False), help="Also write the spectrum with its regions shaded (one run only).")
 @json_option(help="Print {run_id, version, standard_integral, product_integral, ratio, yield_pct, processing: {...}, "
-                  "warnings: [...]}; for a screen {screen, regions, integrated: [...], refused: [...], skipped: [...]}.")
+                  "warnings: [...]}; for a screen {screen, regions, integrated: [...], refused: [...], skipped: [...]} (exit code 3 when any vial was refused).")
 @pass_ctx
 def nmr(ctx: Ctx, target: str, standard, product, standard_protons, product_protons, product_line, attachment, lb,
         phase0, phase1, phase_method, baseline_order, reference, reference_region, reverse, png, as_json: bool) -> None:
@@ -145,13 +148,15 @@ def nmr(ctx: Ctx, target: str, standard, product, standard_protons, product_prot
         _write_png(ctx, target, regions, attachment, png)
     if as_json:
         emit_json(res)
-        return
-    if not screen:
+    elif not screen:
         _print_run(res)
-        return
-    for r in res["integrated"]:
-        _print_run(r)
-    for r in res["refused"]:
-        say(f"{r['run_id']}: refused: {r['error']}")
-    if res["skipped"]:
-        say(f"no raw data attached: {', '.join(res['skipped'])}")
+    else:
+        for r in res["integrated"]:
+            _print_run(r)
+        for r in res["refused"]:
+            say(f"{r['run_id']}: refused: {r['error']}")
+        if res["skipped"]:
+            say(f"no raw data attached: {', '.join(res['skipped'])}")
+    if screen and res["refused"]:
+        # Some vials were not integrated: a script must not read the screen as done.
+        raise click.exceptions.Exit(REFUSED_EXIT)
