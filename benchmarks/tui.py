@@ -4,7 +4,8 @@ Builds the notebook at run time in a temporary folder (nothing is committed): th
 lab's 18 runs go in through `Notebook.add_run` (so they are validated, checked and
 indexed), then each is cloned to 10 000 runs in one transaction with its own id, title,
 version hash (the store's own `version_hash`) and a copy of its index row — the index
-row depends only on the run's content, which the clone keeps.
+row and the search rows (full text, structures used) depend only on the run's content,
+which the clone keeps, save the title.
 
 Prints:
   * the floor: a fresh Python process doing nothing, and one that imports Textual and draws
@@ -52,9 +53,11 @@ def build(path: Path, n: int) -> float:
                 data = json.loads(nb.conn.execute("SELECT data FROM runs WHERE id = ?", (rid,)).fetchone()[0])
                 cols = [d[1] for d in nb.conn.execute("PRAGMA table_info(run_index)")]
                 idx = nb.conn.execute(f"SELECT {', '.join(cols)} FROM run_index WHERE run_id = ?", (rid,)).fetchone()
-                templates.append((data, cols, idx))
+                text_row = nb.conn.execute("SELECT notes, observations, tags FROM run_text WHERE run_id = ?", (rid,)).fetchone()
+                parts = nb.conn.execute("SELECT part, name, structure_id FROM run_structures WHERE run_id = ?", (rid,)).fetchall()
+                templates.append((data, cols, idx, text_row, parts))
             for i in range(len(ids), n):
-                data, cols, idx = templates[i % len(templates)]
+                data, cols, idx, text_row, parts = templates[i % len(templates)]
                 rid = f"TB-{i + 1:05d}"
                 d = dict(data, id=rid, title=f"{data['title']} #{i + 1}")
                 text = canonical_json(d)
@@ -71,7 +74,16 @@ def build(path: Path, n: int) -> float:
                 row = list(idx)
                 row[cols.index("run_id")] = rid
                 nb.conn.execute(f"INSERT INTO run_index ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})", row)
+                # the search rows a save writes (full text, structures used, what was indexed)
+                nb.conn.execute("INSERT INTO search_state (run_id, hash) VALUES (?, ?)", (rid, h))
+                nb.conn.execute("INSERT INTO run_text (run_id, title, notes, observations, tags) VALUES (?,?,?,?,?)",
+                                (rid, d["title"], *text_row))
+                nb.conn.executemany("INSERT INTO run_structures (run_id, part, name, structure_id) VALUES (?,?,?,?)",
+                                    [(rid, *p) for p in parts])
         count = nb.count_runs()
+        from trapbook import search
+
+        assert not search.pending(nb), "every run has its search rows"
     assert count == n, count
     return time.perf_counter() - t0
 

@@ -142,6 +142,17 @@ RUNS = [
     run(12, "[2.2.2] bridgehead alkene, furan, TBAF", "S. Iyer", "2026-09-24", "P222", "furan", "tbaf", "-78 °C", "2 h", 18, page="SI-1-044", observations="mostly dimer"),
 ]
 
+# TB-0009, the clean [4.3.1] anthracene run, written up for the paper: how it was worked up and
+# characterised (all invented), so `trapbook write TB-0009` shows a whole experimental paragraph.
+RUNS[8]["outcome"].update(workup="The cooled mixture was diluted with Et2O (5 mL), filtered through a short pad of "
+                                 "Celite and concentrated under reduced pressure.",
+                          eluent="hexanes")
+RUNS[8]["outcome"]["products"][0].update(
+    appearance="white solid", rf=0.48,
+    nmr_text="1H NMR (400 MHz, CDCl3) δ 7.36–7.28 (m, 4H), 7.14–7.07 (m, 4H), 4.24 (s, 1H), 3.98 (d, J = 2.4 Hz, 1H), "
+             "2.12–1.02 (m, 16H).",
+    hrms={"ion": "[M+Na]+", "found_mz": 337.1931})
+
 SCREEN_ID = "SC-0001"
 TEMPS = ["80 °C", "120 °C"]
 SCREEN_YIELDS = {("furan", "80 °C"): 38, ("furan", "120 °C"): 55, ("dmfuran", "80 °C"): 44, ("dmfuran", "120 °C"): 63,

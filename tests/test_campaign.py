@@ -218,3 +218,16 @@ def test_only_the_campaign_module_imports_dask():
         if names & {"dask", "distributed"}:
             users.append(path.relative_to(root).as_posix())
     assert users == ["campaign.py"]
+
+
+def test_an_existing_scheduler_by_address(notebook, client):
+    record = cp.plan("one.txt", tier="fast", precursors=False, lines=["C12=CCC(CC1)CC2 bicyclo[2.2.2]oct-1-ene"])
+    out = cp.run_campaign(notebook, record, scheduler=client.scheduler.address)
+    assert (out["computed"], out["failed"]) == (1, [])
+
+
+def test_a_scheduler_address_is_checked_before_anything_is_written(notebook):
+    record = cp.plan("one.txt", tier="fast", precursors=False, lines=["C12=CCC(CC1)CC2"])
+    with pytest.raises(cp.TrapbookError, match="not a scheduler address"):
+        cp.run_campaign(notebook, record, scheduler="foo\x1b[2J")
+    assert cp.campaigns(notebook) == []  # no record was kept

@@ -279,3 +279,15 @@ def test_screen_report_gives_each_runs_version_reason_escaped(tmp_path, demo_not
         page.feed(reports.screen_report_html(nb, "SC-0001"))
     text = " ".join(" ".join(page.text).split())
     assert "v2: mass re-weighed <dry> & checked" in text and "dry" not in page.tags
+
+
+@pytest.mark.parametrize("odd", ["\ufffe", "\uffff"])
+def test_docx_shows_characters_xml_cannot_hold(odd, tmp_path):
+    # Source: XML 1.0 (Fifth Edition), section 2.2, the Char production excludes U+FFFE and U+FFFF.
+    data = json.loads((DEMO / "runs" / "TB-0009.json").read_text(encoding="utf-8"))
+    data["steps"][0]["note"] = f"vial{odd}A"
+    blob = render(run_procedure(load_run(data)), "docx")
+    out = tmp_path / "odd.docx"
+    out.write_bytes(blob)
+    text = "\n".join(p.text for p in docx.Document(str(out)).paragraphs)
+    assert f"vial\\u{ord(odd):04x}A" in text

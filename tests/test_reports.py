@@ -94,7 +94,7 @@ def test_screen_report_plot_uses_cached_strain(demo_notebook_path, tmp_path):
         svg = reports.strain_plot_svg(smap)
         p = _parse(svg)
         # One marker path per (intermediate, trap) point with a yield, drawn by scatter as <use> elements.
-        points = sum(1 for x in smap["intermediates"] if x["olefin_strain_kcal_mol"] is not None
+        points = sum(1 for x in smap["intermediates"] if x["strain_kcal_mol"] is not None
                      for t in x["traps"] if t["yield_pct"] is not None)
         assert p.tags.get("use", 0) >= points > 0
         run_page = reports.run_report_html(nb, "TB-0001")

@@ -194,13 +194,14 @@ def test_strain_map_reads_the_cache_and_never_computes(demo_notebook_path, tmp_p
         assert all(x["strain_status"] == "cached" for x in cached.values())
         for x in cached.values():
             hit = nb.cache_get(strain.cache_key(x["smiles"], "fast"))
-            assert x["olefin_strain_kcal_mol"] == hit["olefin_strain_kcal_mol"]
-        pairs = [(x["olefin_strain_kcal_mol"], x["best_yield_pct"]) for x in sm["intermediates"]]
+            assert x["kind"] == hit["kind"] and x["strain_kcal_mol"] == hit["olefin_strain_kcal_mol"]
+            assert x["stability_class"] is None  # a fast-tier prescreen is never classed
+        pairs = [(x["strain_kcal_mol"], x["best_yield_pct"]) for x in sm["intermediates"]]
         from scipy.stats import spearmanr
 
         assert sm["ranking"]["n"] == 4
         assert sm["ranking"]["spearman_rho"] == pytest.approx(spearmanr(*zip(*pairs)).statistic, abs=1e-9)
-        os_sorted = [x["olefin_strain_kcal_mol"] for x in sm["intermediates"]]
+        os_sorted = [x["strain_kcal_mol"] for x in sm["intermediates"]]
         assert os_sorted == sorted(os_sorted)
 
 

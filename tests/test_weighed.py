@@ -121,3 +121,23 @@ def test_run_report_shows_planned_and_weighed(notebook):
     row = f"<tr><td>furan</td><td class='n'>{planned:.0f} µL</td><td class='n'>80 µL</td>"
     assert row in page
     assert f"{100 * (80 - planned) / planned:+.1f} %" in page and "weighed-off-plan" in page
+
+
+def test_editing_a_result_in_the_workbench_keeps_the_characterisation():
+    """A form that does not show a recorded field must not drop it (the record is the chemist's)."""
+    from trapbook.tui.outcome_form import PRODUCT_FIELDS, product_entry
+
+    old = {"product": "furan adduct", "isolated_mass": "11.8 mg", "appearance": "colourless oil", "rf": 0.42,
+           "nmr_text": "1H NMR δ 6.3", "hrms": {"ion": "[M+Na]+", "found_mz": 213.1250}}
+    values = {k: "" for k, *_ in PRODUCT_FIELDS}
+    values.update(product="furan adduct", isolated_mass="12.0 mg")
+    entry, problem = product_entry(values, ["furan adduct"], [old], 0)
+    assert problem is None and entry["isolated_mass"] == "12.0 mg"
+    assert {k: entry[k] for k in ("appearance", "rf", "nmr_text", "hrms")} == {k: old[k] for k in ("appearance", "rf", "nmr_text", "hrms")}
+
+
+def test_a_solvent_weighed_without_its_density_is_refused_not_dropped_from_the_volume():
+    data = json.loads(json.dumps(BASE))
+    data["lines"][3]["actual"] = "890 mg"  # THF by mass: without a density its volume, and so c, is unknown
+    with pytest.raises(RecordError, match="needs its volume"):
+        amounts.compute(load_run(data))

@@ -219,8 +219,12 @@ def as_weighed(line: Line) -> Line:
         return line
     from .units import measured_kind
 
+    kind = measured_kind(line.actual)
+    if line.role == "solvent" and kind != "volume" and line.density is None:
+        raise RecordError(f"solvent '{line.name}' records a weighed {kind}, but the run's concentration needs its volume",
+                          "record the volume measured, or give the solvent's density", field="actual")
     cleared = dict.fromkeys(AMOUNT_FIELDS)
-    return line.model_copy(update={**cleared, measured_kind(line.actual): line.actual})
+    return line.model_copy(update={**cleared, kind: line.actual})
 
 
 def compute(run: Run, planned: bool = False) -> AmountTable:

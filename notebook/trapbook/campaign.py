@@ -20,6 +20,7 @@ import hashlib
 import json
 import logging
 import os
+import re
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -29,6 +30,7 @@ from .errors import ChemistryError, TrapbookError
 ALIGN_TEMPERATURE_C = 25.0
 RECORD_PREFIX = "campaign:"
 Progress = Callable[[int, int, int], None]
+SCHEDULER_ADDRESS = re.compile(r"^(tcp|tls)://[A-Za-z0-9.\-\[\]:]{1,253}:\d{1,5}$")
 
 
 # ---------------------------------------------------------------- the plan
@@ -143,8 +145,12 @@ def open_client(scheduler: str | None = None, n_workers: int | None = None):
     from distributed import Client, LocalCluster
 
     if scheduler:
+        if not SCHEDULER_ADDRESS.match(scheduler):
+            raise TrapbookError(f"{scheduler!r} is not a scheduler address",
+                                "write it as tcp://host:8786 (the address the Dask scheduler prints)",
+                                field="scheduler", got=scheduler[:80])
         try:
-            return Client(scheduler, timeout="20s")
+            return Client(scheduler, timeout="15s")
         except (OSError, TimeoutError) as exc:
             raise TrapbookError(f"cannot reach the Dask scheduler at {scheduler} ({exc})",
                                 "check the address (tcp://host:8786) and that the scheduler is running") from None
@@ -206,23 +212,23 @@ def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int 
     todo = [t for t in tasks if cached(nb, t) is None]
     failed: list[dict] = []
     done = len(tasks) - len(todo)
-    _save_record(nb, record, failed=None)
-    _tell(progress, done, 0, len(todo))
-    if todo:
-        own = client is None
-        client = client or open_client(scheduler, n_workers)
-        try:
-            for left, (task, outcome) in enumerate(stream_results(client, todo), 1):
-                if outcome.get("ok"):
-                    store_outcome(nb, task, outcome)
-                    done += 1
-                else:
-                    failed.append({"candidate": task.candidate, "smiles": task.smiles, "what": task.what,
-                                   "reason": outcome.get("reason"), "hint": outcome.get("hint")})
-                _tell(progress, done, len(failed), len(todo) - left)
-        finally:
-            if own:
-                close_client(client)
+    own = client is None and bool(todo)
+    if own:
+        client = open_client(scheduler, n_workers)  # before anything is written: a bad address changes nothing
+    try:
+        _save_record(nb, record, failed=None)
+        _tell(progress, done, 0, len(todo))
+        for left, (task, outcome) in enumerate(stream_results(client, todo) if todo else [], 1):
+            if outcome.get("ok"):
+                store_outcome(nb, task, outcome)  # as each arrives: a stopped campaign keeps what it has
+                done += 1
+            else:
+                failed.append({"candidate": task.candidate, "smiles": task.smiles, "what": task.what,
+                               "reason": outcome.get("reason"), "hint": outcome.get("hint")})
+            _tell(progress, done, len(failed), len(todo) - left)
+    finally:
+        if own:
+            close_client(client)
     _save_record(nb, record, failed=failed)
     return {"id": record["id"], "tasks": len(tasks), "computed": len(todo) - len(failed),
             "from_cache": len(tasks) - len(todo), "failed": failed}

@@ -199,6 +199,7 @@ def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: s
 
 
 def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
+    from .stability import reading
     from .strain_link import get_strain
 
     smiles = sorted({r.intermediate for r in runs if r.intermediate})
@@ -206,9 +207,9 @@ def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
     for i, smi in enumerate(smiles):
         if progress:
             progress(f"strain of {smi} ({tier})", i / len(smiles))
-        res = get_strain(nb, smi, tier=tier)
-        out.append({"smiles": smi, "olefin_strain_kcal_mol": res.get("olefin_strain_kcal_mol"),
-                    "stability_class": res.get("stability_class"), "tier": tier})
+        seen = reading(get_strain(nb, smi, tier=tier))  # the kind's own quantity and the one class (stability.judge)
+        out.append({"smiles": smi, "kind": seen["kind"], "strain_quantity": seen["strain_quantity"],
+                    "strain_kcal_mol": seen["strain_kcal_mol"], "stability_class": seen["stability_class"], "tier": tier})
     if progress:
         progress("done", 1.0)
     return out

@@ -29,13 +29,18 @@ def precursor_of(run: "Run") -> str | None:
 
 
 def cached_alignment(nb, run: "Run") -> dict | None:
-    """The precursor's Si–C–C–X alignment from the notebook's cache; never computed here."""
+    """The precursor's Si–C–C–X alignment from the notebook's cache at the run's temperature
+    (that of the step adding the fluoride source: populations depend on it); never computed here.
+
+    `trapbook alignment SMILES --temperature T` stores under the same key, so a run at −78 °C
+    reads the −78 °C entry and never a room-temperature one.
+    """
     smiles = precursor_of(run)
     if nb is None or not smiles:
         return None
-    from .strain_link import get_alignment
+    from .strain_link import get_alignment, run_temperature_c
 
-    return get_alignment(nb, smiles, compute=False)
+    return get_alignment(nb, smiles, compute=False, temperature_c=run_temperature_c(run))
 
 
 def findings_for(nb, run: "Run", *, strain: Any = _UNSET, alignment: Any = _UNSET) -> list["Finding"]:

@@ -302,7 +302,7 @@ class Group:
     def strain_map(self) -> dict:
         """Strain against outcome over every member's runs: intermediates merged by structure,
         each run labelled MEMBER:ID, the best yield per trap across the group."""
-        from .review import RANKING_METHOD, spearman, strain_map
+        from .review import STRAIN_FIELDS, map_order, rank_by_kind, strain_map
 
         merged: dict[str, dict] = {}
         for m in self.readable():
@@ -310,8 +310,9 @@ class Group:
                 g = merged.setdefault(x["smiles"], {**x, "runs": [], "traps": {}})
                 g["name"] = g["name"] or x["name"]
                 g["runs"].extend(m.label + REF_SEPARATOR + r for r in x["runs"])
-                if g["olefin_strain_kcal_mol"] is None and x["olefin_strain_kcal_mol"] is not None:
-                    g.update({k: x[k] for k in ("olefin_strain_kcal_mol", "stability_class", "strain_method", "strain_status")})
+                if x["strain_kcal_mol"] is not None and (g["strain_kcal_mol"] is None or (
+                        g["strain_tier"] != "accurate" and x["strain_tier"] == "accurate")):  # a member's accurate result wins
+                    g.update({k: x[k] for k in STRAIN_FIELDS})
                 for t in x["traps"]:
                     entry = {**t, "run_id": m.label + REF_SEPARATOR + t["run_id"]}
                     cur = g["traps"].get(t["trap"])
@@ -321,14 +322,10 @@ class Group:
         for g in merged.values():
             ys = [t["yield_pct"] for t in g["traps"].values() if t["yield_pct"] is not None]
             out.append({**g, "best_yield_pct": max(ys) if ys else None, "traps": [g["traps"][k] for k in sorted(g["traps"])]})
-        out.sort(key=lambda e: (e["olefin_strain_kcal_mol"] is None, e["olefin_strain_kcal_mol"] or 0.0, e["smiles"]))
-        pairs = [(e["olefin_strain_kcal_mol"], e["best_yield_pct"]) for e in out
-                 if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
-        rho = spearman([p[0] for p in pairs], [p[1] for p in pairs])
+        out.sort(key=map_order)
         return {
             "intermediates": out,
-            "ranking": {"method": RANKING_METHOD, "n": len(pairs), "spearman_rho": rho,
-                        "note": None if rho is not None else "needs at least 3 intermediates with both a cached strain and a yield, and not all tied"},
+            "ranking": rank_by_kind(out),
             "missing_strain": [e["smiles"] for e in out if e["strain_status"] == "not computed"],
         }
 

@@ -37,7 +37,7 @@ def _block(parts: list[str]) -> str:
 def run_html(run, nb=None) -> str:
     """A run as HTML: structures, amounts, outcome, bench findings (with `nb`: its settings and cached strain)."""
     from .findings import findings_for
-    from .reports import _amounts_table, _findings_html, _outcome, _run_structures, _strain_card, _structures
+    from .reports import _amounts_table, _findings_html, _intermediate, _outcome, _run_structures, _strain_card, _structures
 
     findings, problem = [], None
     try:
@@ -52,7 +52,7 @@ def run_html(run, nb=None) -> str:
     if nb is not None:
         from .review import shown_strain
 
-        parts += ["<h4>Strain</h4>", _strain_card(shown_strain(nb, run))]
+        parts += ["<h4>Strain</h4>", _strain_card(shown_strain(nb, run), _intermediate(run))]
     return _block(parts)
 
 

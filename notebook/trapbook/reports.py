@@ -12,13 +12,13 @@ from __future__ import annotations
 
 import datetime as _dt
 import html
-import io
 from pathlib import Path
 
 from .errors import ExchangeError, NotFoundError, TrapbookError
 from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
 from .files import write_atomic
 from .reports_outcome import outcome_data_html, screen_products, screen_raw_rows_html, version_html, weighed_html
+from .reports_strain import strain_plot_svg
 
 e = html.escape
 
@@ -88,10 +88,18 @@ def _structures(items: list[tuple[str, str, str]]) -> str:
     return "\n".join(out)
 
 
+def _intermediate(run) -> tuple[str, str] | None:
+    """The run's intermediate and how it was found, as `strain_link.intermediate_of_run` decides."""
+    from .strain_link import intermediate_of_run
+
+    return intermediate_of_run(run)
+
+
 def _run_structures(run) -> list[tuple[str, str, str]]:
     items = [(ln.role, ln.name, ln.smiles) for ln in run.lines if ln.role == "precursor" and ln.smiles]
-    if run.intermediate:
-        items.append(("intermediate", run.intermediate_name or "intermediate", run.intermediate))
+    found = _intermediate(run)
+    if found:
+        items.append(("intermediate", run.intermediate_name or ("intermediate" if run.intermediate else "intermediate (derived)"), found[0]))
     items += [(ln.role, ln.name, ln.smiles) for ln in run.lines if ln.role in ("trap", "product") and ln.smiles]
     return items
 
@@ -159,20 +167,30 @@ def _outcome(run) -> str:
     return "\n".join(out)
 
 
-def _strain_card(strain: dict | None) -> str:
-    if not strain:
-        return "<p class='meta'>Strain not computed for this intermediate (run <code>trapbook strain</code> to add it).</p>"
-    from .stability import judge
+def _strain_card(strain: dict | None, intermediate: tuple[str, str] | None = None) -> str:
+    """The intermediate (and how it was found), its strain in its kind's own quantity, and the class
+    from `stability.judge` (read through `stability.reading`); a prescreen is never classed."""
+    from .stability import reading
 
-    os_val = strain.get("olefin_strain_kcal_mol")
-    verdict = judge(strain)
-    bits = [f"OS {os_val:.1f} kcal/mol" if os_val is not None else "OS not available",
-            f"class: {verdict.stability}" if verdict else "class: not judged (fast-tier prescreen or no class for this kind)"]
+    where = (f"<p>Intermediate: <code>{e(intermediate[0])}</code> — {e(intermediate[1])}</p>" if intermediate else "")
+    if not strain:
+        return where + "<p class='meta'>Strain not computed for this intermediate (run <code>trapbook strain</code> to add it).</p>"
+    seen = reading(strain)
+    value = (f"{seen['strain_quantity']} {seen['strain_kcal_mol']:.1f} kcal/mol" if seen["strain_kcal_mol"] is not None
+             else "no strain number")
+    if seen["stability_class"]:
+        cls = f"class: {seen['stability_class']} — {'needs a trap' if seen['needs_trap'] else 'may survive without a trap'}"
+    elif seen["prescreen"]:
+        cls = "class: not judged (fast-tier prescreen; compute the accurate tier to class it)"
+    else:
+        cls = "class: not judged (no class for this result)"
+    bits = [seen["kind"] or "no strained unit found", value, cls]
     if strain.get("s_value") is not None:
         bits.append(f"S value {strain['s_value']}")
     if strain.get("twist_deg") is not None:
         bits.append(f"twist {strain['twist_deg']:.0f}°")
-    return (f"<div class='card'><b>{e(' · '.join(bits))}</b><br><span class='meta'>method: "
+    words = f"<br><span>{e(seen['judgement_words'])}</span>" if seen["judgement_words"] else ""
+    return (f"{where}<div class='card'><b>{e(' · '.join(bits))}</b>{words}<br><span class='meta'>method: "
             f"{e(str(strain.get('method') or strain.get('tier') or 'not stated'))}</span></div>")
 
 
@@ -200,7 +218,7 @@ def run_report_html(nb, run_id: str) -> str:
             "<h2>Bench checks</h2>", _findings_html(findings, problem),
             "<h2>Outcome</h2>", _outcome(run), outcome_data_html(run), run_spectra_html(nb, run),
             "<h2>Version</h2>", version_html(nb, run_id),
-            "<h2>Strain</h2>", _strain_card(strain)]
+            "<h2>Strain</h2>", _strain_card(strain, _intermediate(run))]
     if run.notes:
         body += ["<h2>Notes</h2>", f"<p>{e(run.notes)}</p>"]
     body.append(f"<p class='meta'>Record hash {e(meta['hash'])}</p>")
@@ -232,73 +250,6 @@ def heat_map_html(mx: dict | None) -> str:
     out.append(f"<p class='legend meta'>0 % {legend} 100 % &nbsp; headline yield: isolated where recorded, else NMR"
                + (f"; mean over {e(', '.join(mx['averaged_over']))}" if mx.get("averaged_over") else "") + "</p>")
     return "\n".join(out)
-
-
-#: Shades of the stability classes, from no trap needed (green) to trapping only (red).
-_CLASS_SHADES = ("#dfeedd", "#e8f0e0", "#f6ebcf", "#f3dede")
-
-
-def _shade_classes(ax, lo: float, hi: float) -> None:
-    """The olefin-strain classes of bridgehead alkenes as bands, with limits from `stability.class_limits`."""
-    from .stability import BRIDGEHEAD, class_limits
-
-    bands = class_limits(BRIDGEHEAD)
-    for k, (low, high, name) in enumerate(bands):
-        x0, x1 = max(lo, low if low is not None else lo), min(hi, high if high is not None else hi)
-        if x1 <= x0:
-            continue
-        ax.axvspan(x0, x1, color=_CLASS_SHADES[min(k + len(_CLASS_SHADES) - len(bands), len(_CLASS_SHADES) - 1)], zorder=0)
-        ax.text(x0 + 0.3, 102, name, fontsize=7, color="#555", va="bottom")
-
-
-def strain_plot_svg(smap: dict, highlight: str | None = None) -> str:
-    """Best yield against olefin strain per intermediate and trap, with the stability classes shaded."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
-
-    fig = Figure(figsize=(6.4, 3.6), dpi=100)
-    ax = fig.add_subplot(1, 1, 1)
-    entries = smap["intermediates"]
-    have = [x for x in entries if x["olefin_strain_kcal_mol"] is not None]
-    markers = "osD^vP*X"
-    if have:
-        xs = [x["olefin_strain_kcal_mol"] for x in have]
-        lo, hi = min(xs + [10.0]) - 3, max(xs + [25.0]) + 3
-        _shade_classes(ax, lo, hi)
-        traps = sorted({t["trap"] for x in have for t in x["traps"]})
-        for k, trap in enumerate(traps):
-            pts = [(x["olefin_strain_kcal_mol"], t["yield_pct"]) for x in have for t in x["traps"]
-                   if t["trap"] == trap and t["yield_pct"] is not None]
-            if pts:
-                ax.scatter([p[0] for p in pts], [p[1] for p in pts], marker=markers[k % len(markers)], s=36,
-                           color=["#5c2d6e", "#c0892f", "#3f6f5a", "#8a3b3b", "#2f4f7a"][k % 5], label=trap, zorder=3)
-        for x in have:
-            if x["best_yield_pct"] is not None:
-                ax.annotate(x["name"] or x["smiles"], (x["olefin_strain_kcal_mol"], x["best_yield_pct"]), fontsize=6,
-                            xytext=(3, 3), textcoords="offset points",
-                            fontweight="bold" if highlight and x["smiles"] == highlight else "normal")
-        ax.set_xlim(lo, hi)
-        ax.set_xlabel("olefin strain OS (kcal/mol, cached method)")
-        rho = smap["ranking"]["spearman_rho"]
-        ax.set_title("Best yield vs strain" + (f" — Spearman ρ = {rho:.2f} (n = {smap['ranking']['n']})" if rho is not None else ""), fontsize=9)
-        if traps:
-            ax.legend(fontsize=6, loc="lower left")
-    else:
-        names = [x["name"] or x["smiles"] for x in entries]
-        ys = [x["best_yield_pct"] or 0.0 for x in entries]
-        ax.bar(range(len(names)), ys, color="#c0892f")
-        ax.set_xticks(range(len(names)))
-        ax.set_xticklabels(names, rotation=20, fontsize=6, ha="right")
-        ax.set_title("Best yield per intermediate — strain not computed yet (run 'trapbook strain')", fontsize=8)
-    ax.set_ylim(0, 110)
-    ax.set_ylabel("best yield (%)")
-    fig.tight_layout()
-    buf = io.StringIO()
-    fig.savefig(buf, format="svg")
-    svg = buf.getvalue()
-    return svg[svg.index("<svg"):]
 
 
 def screen_report_html(nb, screen_id: str) -> str:
@@ -347,9 +298,10 @@ def screen_report_html(nb, screen_id: str) -> str:
     smap = review.strain_map(nb)
     highlight = None
     for run in runs[:1]:
-        if run.intermediate:
+        found = _intermediate(run)
+        if found:
             try:
-                highlight = molecules.canonical(run.intermediate)
+                highlight = molecules.canonical(found[0])
             except TrapbookError:
                 highlight = None
     body += ["<h2>Strain against outcome (whole notebook)</h2>", f"<figure>{strain_plot_svg(smap, highlight)}</figure>",

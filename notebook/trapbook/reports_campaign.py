@@ -53,6 +53,7 @@ def map_svg(rows: list[dict], group: list[dict], tier: str) -> str:
 
     matplotlib.use("Agg")
     from matplotlib.figure import Figure
+    from matplotlib.ticker import MaxNLocator
 
     from .stability import class_limits
 
@@ -68,7 +69,8 @@ def map_svg(rows: list[dict], group: list[dict], tier: str) -> str:
             y0, y1 = max(lo, low if low is not None else lo), min(hi, high if high is not None else hi)
             if y1 > y0:
                 ax.axhspan(y0, y1, color=_BAND_SHADES[k % len(_BAND_SHADES)], zorder=0)
-                ax.text(1.01, (y0 + y1) / 2, name, transform=ax.get_yaxis_transform(), fontsize=7, color="#555", va="center")
+                ax.text(0.99, (y0 + y1) / 2, name, transform=ax.get_yaxis_transform(), fontsize=7, color="#555",
+                        va="center", ha="right")
     for r in pts:
         colour = _CLASS_COLOURS.get(r["stability_class"], _NO_CLASS)
         ax.scatter([r["s_value"] or r["ring_size"]], [r["strain_kcal_mol"]], s=40, color=colour, zorder=3)
@@ -78,6 +80,9 @@ def map_svg(rows: list[dict], group: list[dict], tier: str) -> str:
         ax.scatter([g["s_value"]], [g["strain_kcal_mol"]], marker="*", s=110, color="#5c2d6e", zorder=4)
         ax.annotate(f"{g['name']}: {g['best_yield_pct']:.0f} %", (g["s_value"], g["strain_kcal_mol"]), fontsize=7,
                     xytext=(4, -9), textcoords="offset points", color="#5c2d6e")
+    xs = [r["s_value"] or r["ring_size"] for r in pts] + [g["s_value"] for g in theirs] or [5, 9]
+    ax.set_xlim(min(xs) - 0.5, max(xs) + 1.5)  # room on the right for the labels and class names
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True))
     ax.set_ylim(lo, hi)
     ax.set_xlabel("S (sum of the bridges; ring size for allenes and alkynes)")
     ax.set_ylabel(f"strain (kcal/mol, {tier} tier)")

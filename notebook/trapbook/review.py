@@ -17,12 +17,17 @@ from statistics import mean
 from . import amounts
 from .errors import TrapbookError
 from .findings import findings_for
+from .stability import BRIDGEHEAD, quantity_of, reading
+
+#: The quantity bridgehead and ring alkenes are classed by (`stability.quantity_of`).
+OLEFIN_QUANTITY = quantity_of(BRIDGEHEAD)
 
 #: How the strain-vs-outcome ranking is computed; returned with every strain map.
 RANKING_METHOD = (
-    "Spearman rank correlation between olefin strain (OS, kcal/mol) and each intermediate's best yield "
-    "over all its runs; ties get their average rank; computed by hand (no fit is assumed). "
-    "Negative rho: yields fall as strain rises."
+    "Spearman rank correlation between each intermediate's strain (the quantity of its kind, kcal/mol: olefin "
+    "strain for alkenes, ring strain for cycloalkynes and cyclic allenes, aryne strain for arynes) and its best "
+    "yield over all its runs, within one kind only (the quantities of different kinds are not comparable); ties "
+    "get their average rank; computed by hand (no fit is assumed). Negative rho: yields fall as strain rises."
 )
 
 
@@ -193,8 +198,8 @@ def shown_strain(nb, run) -> dict | None:
 
 
 def strain_map(nb) -> dict:
-    """For each intermediate of the notebook: its cached strain and class, and the best yield per trap."""
-    from .stability import judge
+    """For each intermediate of the notebook: its cached strain (its kind's own quantity) and class,
+    and the best yield per trap."""
     from .strain_link import intermediate_of
 
     groups: dict[str, dict] = {}
@@ -223,27 +228,63 @@ def strain_map(nb) -> dict:
                 g["traps"][tname] = {"yield_pct": None, "yield_kind": None, "run_id": run.id}
     out = []
     for g in groups.values():
-        st = g["strain"] or {}
-        os_val = st.get("olefin_strain_kcal_mol")
+        seen = reading(g["strain"])
         ys = [t["yield_pct"] for t in g["traps"].values() if t["yield_pct"] is not None]
         out.append({
             "smiles": g["smiles"],
             "name": g["name"],
             "runs": g["runs"],
-            "olefin_strain_kcal_mol": os_val,
-            "stability_class": verdict.stability if (verdict := judge(g["strain"])) else None,
-            "strain_method": st.get("method") or st.get("tier"),
+            "kind": seen["kind"],
+            "strain_quantity": seen["strain_quantity"],
+            "strain_kcal_mol": seen["strain_kcal_mol"],
+            "strain_tier": seen["tier"],
+            # kept for views that have not moved to strain_kcal_mol yet: the olefin strain of alkenes only
+            "olefin_strain_kcal_mol": seen["strain_kcal_mol"] if seen["strain_quantity"] == OLEFIN_QUANTITY else None,
+            "stability_class": seen["stability_class"],
+            "needs_trap": seen["needs_trap"],
+            "strain_method": (g["strain"] or {}).get("method") or seen["tier"],
             "strain_status": "cached" if g["strain"] else "not computed",
             "best_yield_pct": max(ys) if ys else None,
             "traps": [{"trap": k, **v} for k, v in sorted(g["traps"].items())],
         })
-    out.sort(key=lambda e: (e["olefin_strain_kcal_mol"] is None, e["olefin_strain_kcal_mol"] or 0.0, e["smiles"]))
-    pairs = [(e["olefin_strain_kcal_mol"], e["best_yield_pct"]) for e in out
-             if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
-    rho = spearman([p[0] for p in pairs], [p[1] for p in pairs])
+    out.sort(key=map_order)
     return {
         "intermediates": out,
-        "ranking": {"method": RANKING_METHOD, "n": len(pairs), "spearman_rho": rho,
-                    "note": None if rho is not None else "needs at least 3 intermediates with both a cached strain and a yield, and not all tied"},
+        "ranking": rank_by_kind(out),
         "missing_strain": [e["smiles"] for e in out if e["strain_status"] == "not computed"],
     }
+
+
+#: The fields of a strain-map entry that come from its intermediate's cached strain (merged as one).
+STRAIN_FIELDS = ("kind", "strain_quantity", "strain_kcal_mol", "strain_tier", "olefin_strain_kcal_mol", "stability_class",
+                 "needs_trap", "strain_method", "strain_status")
+
+
+def map_order(entry: dict) -> tuple:
+    """Intermediates with a strain first, grouped by kind, least strained first."""
+    value = entry["strain_kcal_mol"]
+    return (value is None, entry["kind"] or "", value if value is not None else 0.0, entry["smiles"])
+
+
+def rank_by_kind(entries: list[dict]) -> dict:
+    """Spearman's rho of strain against best yield for each kind, and overall only when one kind has points.
+
+    Numbers of different kinds measure different things (an aryne's strain is not an olefin
+    strain), so they are never ranked together.
+    """
+    by_kind: dict[str, list[tuple[float, float]]] = {}
+    for e in entries:
+        if e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None:
+            by_kind.setdefault(e["kind"], []).append((e["strain_kcal_mol"], e["best_yield_pct"]))
+    kinds = [{"kind": k, "strain_quantity": quantity_of(k), "n": len(p),
+              "spearman_rho": spearman([x for x, _ in p], [y for _, y in p])} for k, p in sorted(by_kind.items())]
+    only = kinds[0] if len(kinds) == 1 else None
+    rho = only["spearman_rho"] if only else None
+    if rho is not None:
+        note = None
+    elif len(kinds) > 1:
+        note = "intermediates of different kinds carry different strain quantities: rho is given per kind"
+    else:
+        note = "needs at least 3 intermediates with both a cached strain and a yield, and not all tied"
+    return {"method": RANKING_METHOD, "n": only["n"] if only else sum(k["n"] for k in kinds), "spearman_rho": rho,
+            "kind": only["kind"] if only else None, "by_kind": kinds, "note": note}

@@ -213,3 +213,26 @@ def class_of(kind: str, value_kcal: float | None) -> str | None:
     if rule is None or value is None:
         return None
     return next(b.name for b in rule.bands if b.below_top(value))
+
+
+def reading(result: dict | None) -> dict:
+    """What a strain result says, in the fields every view shows: the kind, its own quantity and
+    number, the tier, and the class from `judge` (None for a prescreen or an unclassed result).
+
+    Views read a result through here so an aryne's strain is never shown as an olefin strain,
+    and no view picks its own key or class.
+    """
+    result = result if isinstance(result, dict) else {}
+    kind = result.get("kind") if isinstance(result.get("kind"), str) else None
+    key = value_key(kind)
+    verdict = judge(result)
+    return {
+        "kind": kind,
+        "strain_quantity": quantity_of(kind),
+        "strain_kcal_mol": _number(result.get(key)) if key else None,
+        "tier": result.get("tier"),
+        "prescreen": result.get("tier") not in (None, ACTIONABLE_TIER),
+        "stability_class": verdict.stability if verdict else None,
+        "needs_trap": verdict.needs_trap if verdict else None,
+        "judgement_words": verdict.words if verdict else None,
+    }

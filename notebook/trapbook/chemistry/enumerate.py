@@ -36,6 +36,7 @@ _NAME_STEM = {bh.BRIDGEHEAD: "BH", bh.ALLENE: "AL", bh.ALKYNE: "YN"}
 #: cyclic allenes and cycloalkynes are listed in rings up to this size (larger ones are unstrained)
 MAX_SMALL_RING = 9
 MAX_CANDIDATES = 500
+MAX_SKELETON_ATOMS = 60
 
 
 @dataclass
@@ -63,6 +64,9 @@ def _skeleton(smiles: str) -> Chem.Mol:
     if any(b.GetBondType() != Chem.BondType.SINGLE for b in mol.GetBonds()):
         raise ChemistryError("the skeleton has double, triple or aromatic bonds",
                              "give the saturated skeleton (e.g. C1CC2CCCC(C1)C2); the campaign places the unsaturation")
+    if mol.GetNumAtoms() > MAX_SKELETON_ATOMS:
+        raise ChemistryError(f"the skeleton has {mol.GetNumAtoms()} heavy atoms, more than {MAX_SKELETON_ATOMS}",
+                             "give the polycyclic core alone; substituents do not change which bridgehead bonds exist")
     if mol.GetRingInfo().NumRings() == 0:
         raise ChemistryError("the skeleton has no ring", "give a polycyclic skeleton, e.g. C1CC2CCCC(C1)C2")
     return mol

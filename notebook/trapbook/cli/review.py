@@ -149,12 +149,14 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
 
 @main.command("strain-map")
 @json_option(
-              help="Print {intermediates: [{smiles, name, runs, olefin_strain_kcal_mol, stability_class, strain_method, "
-                   "strain_status, best_yield_pct, traps: [{trap, yield_pct, yield_kind, run_id}]}], ranking: {method, n, "
-                   "spearman_rho, note}, missing_strain}.")
+              help="Print {intermediates: [{smiles, name, runs, kind, strain_quantity, strain_kcal_mol, strain_tier, "
+                   "olefin_strain_kcal_mol, stability_class, needs_trap, strain_method, strain_status, best_yield_pct, "
+                   "traps: [{trap, yield_pct, yield_kind, run_id}]}], ranking: {method, n, spearman_rho, kind, "
+                   "by_kind: [{kind, strain_quantity, n, spearman_rho}], note}, missing_strain}.")
 @pass_ctx
 def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
-    """Strain against outcome: each intermediate's cached OS and class beside its best yield per trap."""
+    """Strain against outcome: each intermediate's cached strain (its kind's own quantity) and class
+    beside its best yield per trap."""
     from ..review import strain_map
 
     if ctx.group:  # every member's runs; intermediates merged by structure, runs as MEMBER:ID
@@ -170,16 +172,29 @@ def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
         emit_json(sm)
         return
     for x in sm["intermediates"]:
-        os_txt = f"OS {x['olefin_strain_kcal_mol']:.1f} kcal/mol ({x['stability_class']})" if x["olefin_strain_kcal_mol"] is not None else "strain not computed"
-        say(f"{(x['name'] or x['smiles'])[:34]:34} {os_txt:40} best {_pct(x['best_yield_pct'])}")
+        say(f"{(x['name'] or x['smiles'])[:34]:34} {_strain_text(x):58} best {_pct(x['best_yield_pct'])}")
         for t in x["traps"]:
             say(f"    {t['trap'][:32]:32} {_pct(t['yield_pct']):>5} {t['yield_kind'] or '':10} {t['run_id']}")
     rk = sm["ranking"]
     click.echo()
     say(f"ranking: {rk['method']}")
-    say(f"  rho = {rk['spearman_rho']:.2f} over {rk['n']} intermediates" if rk["spearman_rho"] is not None else f"  {rk['note']}")
+    if rk["spearman_rho"] is not None:
+        say(f"  rho = {rk['spearman_rho']:.2f} over {rk['n']} intermediates ({rk['kind']})")
+    else:
+        say(f"  {rk['note']}")
+        for k in rk.get("by_kind") or []:
+            rho = f"rho = {k['spearman_rho']:.2f}" if k["spearman_rho"] is not None else "no rho"
+            say(f"    {k['kind']}: {rho} over {k['n']}")
     if sm["missing_strain"]:
         say(f"  strain not computed for {len(sm['missing_strain'])}: run 'trapbook strain SMILES' for each")
+
+
+def _strain_text(x: dict) -> str:
+    """An entry's strain in its kind's own words; a prescreen says so and has no class."""
+    if x["strain_kcal_mol"] is None:
+        return "strain not computed" if x["strain_status"] == "not computed" else "no strain number (see 'trapbook strain')"
+    cls = x["stability_class"] or ("fast prescreen, not classed" if x["strain_tier"] != "accurate" else "not classed")
+    return f"{x['kind']}: {x['strain_quantity'].split(' (')[0]} {x['strain_kcal_mol']:.1f} kcal/mol ({cls})"
 
 
 @main.command("report")

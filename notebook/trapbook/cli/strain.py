@@ -161,9 +161,10 @@ def _number_lines(r: dict) -> list[str]:
 
 
 @main.command()
-@click.argument("smiles")
-@click.option("--temperature", "temperature_c", type=float, default=25.0, show_default=True,
-              help="Temperature (°C) for the Boltzmann populations: the run's temperature at the fluoride addition.")
+@click.argument("smiles", metavar="SMILES_OR_RUN")
+@click.option("--temperature", "temperature_c", type=float, default=None,
+              help="Temperature (°C) for the Boltzmann populations. Default: for a run id, the run's temperature at the "
+                   "fluoride addition (the entry its checks read); for a SMILES, 25 °C.")
 @json_option(
               help="Print {verdict, dihedral_deg, dihedral_words, best_aligned {dihedral_deg, words, delta_kcal_mol, population}, "
                    "aligned_fraction, conformer_table, temperature_c, stereo_warning, diastereomers, ...}.")
@@ -179,11 +180,15 @@ def alignment(ctx: Ctx, smiles: str, temperature_c: float, as_json: bool) -> Non
     in a rigid ring); an aligned conformer within 3 kcal/mol of the lowest counts as
     reachable ("aligns after a ring flip, +1.4 kcal/mol, 7 % at 25 °C"). Unassigned
     stereocentres are enumerated and each diastereomer is judged side by side.
+
+    SMILES_OR_RUN is the precursor's SMILES or a stored run id (TB-0002): then its first
+    precursor is aligned at the run's temperature, so the run's checks find the result.
     """
     from ..strain_link import get_alignment
 
     nb = _open_optional(ctx)
     try:
+        smiles, temperature_c = _alignment_target(nb, smiles, temperature_c)
         result = get_alignment(nb, smiles, temperature_c=temperature_c)
     finally:
         if nb is not None:
@@ -199,6 +204,30 @@ def alignment(ctx: Ctx, smiles: str, temperature_c: float, as_json: bool) -> Non
             say(_alignment_lines(side, "    "), multiline=True)
         return
     say(_alignment_lines(result, "  "), multiline=True)
+
+
+def _alignment_target(nb, target: str, temperature_c: float | None) -> tuple[str, float]:
+    """(precursor SMILES, temperature): a run id gives its first precursor and, unless one is
+    given, the temperature its checks read the alignment at (`strain_link.run_temperature_c`)."""
+    import math
+
+    from ..findings import precursor_of
+    from ..strain_link import run_temperature_c
+
+    if temperature_c is not None and not (math.isfinite(temperature_c) and temperature_c >= -273.15):
+        raise TrapbookError(f"--temperature {temperature_c} is not a temperature in °C",
+                            "give a finite number at or above −273.15, e.g. --temperature -78")
+    run = _stored_run(nb, target)
+    if run is None:
+        if _RUN_ID.match(target):
+            raise TrapbookError(f"no run {target} in this notebook, and {target!r} is not a SMILES either",
+                                "list the runs with 'trapbook list', or give the precursor's SMILES")
+        return target, 25.0 if temperature_c is None else temperature_c
+    smiles = precursor_of(run)
+    if smiles is None:
+        raise TrapbookError(f"run {target} has no precursor line with a SMILES",
+                            f"add the precursor's SMILES to its line, then run 'trapbook alignment {target}'")
+    return smiles, run_temperature_c(run) if temperature_c is None else temperature_c
 
 
 def _alignment_lines(r: dict, pad: str) -> str:

@@ -12,7 +12,13 @@ def _document(ctx: Ctx, ref: str):
     from ..procedure import procedure_for
 
     if ref == "-" or _names_a_file(ref) or ref.endswith(".json"):
-        return procedure_for(ctx.optional_notebook(), read_run_file(ref))
+        run = read_run_file(ref)
+        nb = ctx.optional_notebook()  # its check settings, for the cautions; none is needed
+        try:
+            return procedure_for(nb, run)
+        finally:
+            if nb is not None:
+                nb.close()
     with ctx.notebook() as nb:
         return procedure_for(nb, ref)
 

@@ -79,7 +79,8 @@ class StepWriter:
         items = self._names(step)
         verb = "were" if len(items) > 1 else "was"
         t_words = self._temperature(step)
-        t_new = step.temperature is not None and _change_verb(self.temp_c, step.min_temp_c() or 0.0) != ""
+        t_new = (step.temperature is not None and step.temperature_end is None  # a ramp is said by the stirring
+                 and _change_verb(self.temp_c, to_canonical(step.temperature, "temperature")) != "")
         atmosphere = f" under {clean(step.atmosphere)}" if step.atmosphere and step.atmosphere != self.atmosphere else ""
         over = f" over {paper_quantity(step.over)}" if step.over is not None else ""
         if not self.charged:

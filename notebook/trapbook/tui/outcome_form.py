@@ -24,7 +24,7 @@ PRODUCT_FIELDS = (
 )
 QNMR_KEYS = ("standard_integral", "standard_protons", "integral", "protons")
 #: Kept from the row being changed: parts of a result the form does not show.
-KEPT = ("note",)
+KEPT = ("note", "hrms", "appearance", "rf", "nmr_text")
 KEPT_QNMR = ("standard", "standard_amount")
 
 

@@ -65,7 +65,7 @@ class LinesTabMixin:
             if v[k]:
                 line[k] = v[k]
         old = self.data["lines"][self.line_index] if self.line_index is not None else {}
-        for k in ("molar_mass", "lot", "note"):
+        for k in ("molar_mass", "lot", "note", "actual"):  # recorded, not shown in this form: kept
             if k in old:
                 line[k] = old[k]
         if self.query_one("#line-limiting", Checkbox).value:

@@ -187,7 +187,7 @@ class OutcomeTabMixin:
 
     def tidy_outcome(self) -> None:
         out = self.data.get("outcome")
-        if out is not None and not out.get("products") and not any(out.get(k) for k, *_ in OUTCOME_FIELDS):
+        if out is not None and not out.get("products") and not any(v for k, v in out.items() if k != "products"):
             self.data.pop("outcome", None)
 
     def refresh_yields(self) -> None:
