@@ -39,8 +39,7 @@ from pathlib import Path
 def build(path: Path, n: int) -> float:
     from trapbook.demo import load_demo_files
     from trapbook.records import canonical_json
-    from trapbook.store import Notebook
-    from trapbook.store import chain
+    from trapbook.store import Notebook, chain
     from trapbook.store.notebook import now_utc, version_hash
 
     t0 = time.perf_counter()

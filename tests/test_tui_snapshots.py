@@ -63,7 +63,7 @@ async def settle(pilot) -> None:
     """Let timers and workers finish; stop cursor blinking, which would make the picture depend on timing."""
     from textual.widgets import Input
 
-    await pilot.pause(0.3)
+    await pilot.pause(0.5)  # the Logbook's first preview starts 0.4 s after the table is drawn
     await pilot.app.workers.wait_for_complete()
     for box in pilot.app.screen.query(Input):
         box.cursor_blink = False

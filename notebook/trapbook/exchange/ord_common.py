@@ -36,9 +36,15 @@ _ROLE_FROM_ORD = {"REACTANT": "trap", "REAGENT": "additive", "SOLVENT": "solvent
 _RUN_ID_DETAILS = "trapbook run id"
 _TITLE_DETAILS = "trapbook title"
 
+#: A line that records what was weighed has the weighed quantity as the ORD amount (the
+#: ORD describes what was done); the feature "weighed" says so, and the plan travels as
+#: "equiv" or as one of these, each the stored form of the planned quantity as JSON.
+WEIGHED_FEATURE = "weighed"
+PLANNED_FEATURES = {"amount": "planned_amount", "mass": "planned_mass", "volume": "planned_volume"}
+
 #: Compound features a Trapbook export writes on an input component.
 COMPONENT_FEATURES = frozenset({"trapbook_role", "equiv", "molarity_M", "density_g_mL", "molar_mass_g_mol", "purity",
-                                "water_fraction", "marked_limiting", "note"})
+                                "water_fraction", "marked_limiting", "note", WEIGHED_FEATURE, *PLANNED_FEATURES.values()})
 
 #: ``provenance.reaction_metadata`` keys: run fields kept as text, run fields kept as JSON,
 #: and the step sequence and line order (the ORD has one temperature and time per reaction).
@@ -50,6 +56,25 @@ LINE_ORDER_METADATA = "trapbook_line_order"
 #: are derived, so the import reads past them: the receiving notebook judges the run anew.
 FINDINGS_METADATA = "trapbook_findings"
 METADATA_KEYS = PLAIN_METADATA + JSON_METADATA + (STEPS_METADATA, LINE_ORDER_METADATA, FINDINGS_METADATA)
+
+#: Product features: the appearance as written (the ORD colour and texture hold its parts),
+#: and the marks for a product's note and the recovered precursor.
+PRODUCT_FEATURES = frozenset({"molar_mass_g_mol", "note", "appearance", "recovered_precursor"})
+#: ``data`` key of a qNMR analysis holding how its integrals were made from an attached FID
+#: (``QNMR.spectrum``) as JSON; the ORD has no field for a processing record.
+SPECTRUM_DATA = "trapbook_spectrum"
+#: The flash-chromatography workup writes its eluent after this, so it reads back as ``Outcome.eluent``.
+ELUENT_PREFIX = "eluent: "
+#: Details of the ORD vessel when Trapbook knows only its volume.
+VESSEL_DETAILS = "reaction vessel (inner volume as recorded; type not recorded)"
+
+#: ORD unit name <-> the unit a Trapbook record writes, so a quantity keeps the unit it was
+#: written in (2.0 mL comes back as 2.0 mL, not 2000 µL).
+ORD_UNIT_TEXT = {"MOLE": "mol", "MILLIMOLE": "mmol", "MICROMOLE": "µmol", "NANOMOLE": "nmol",
+                 "KILOGRAM": "kg", "GRAM": "g", "MILLIGRAM": "mg", "MICROGRAM": "µg",
+                 "LITER": "L", "MILLILITER": "mL", "MICROLITER": "µL", "NANOLITER": "nL"}
+#: The ORD amount field for each Trapbook quantity kind, and the ORD unit of its canonical unit.
+AMOUNT_SLOTS = {"amount": ("moles", "MILLIMOLE"), "mass": ("mass", "MILLIGRAM"), "volume": ("volume", "MICROLITER")}
 
 #: ORD unit name -> factor to Trapbook's canonical unit (mmol, mg, µL, min); the export
 #: writes the units whose factor is 1.
@@ -108,6 +133,28 @@ def _num(v) -> float | None:
     return f if math.isfinite(f) else None
 
 
+def set_quantity(msg, q, kind: str) -> None:
+    """An ORD Mass/Volume/Moles message from a Trapbook quantity, in its own unit when the ORD has it."""
+    from ..units import to_canonical, unit_text
+
+    text = unit_text(q)
+    unit = next((name for name, t in ORD_UNIT_TEXT.items() if t == text and msg.DESCRIPTOR.enum_types[0].values_by_name.get(name)),
+                None)
+    if unit is None:
+        msg.value, unit = to_canonical(q, kind), AMOUNT_SLOTS[kind][1]
+    else:
+        msg.value = float(q.magnitude)
+    msg.units = msg.DESCRIPTOR.enum_types[0].values_by_name[unit].number
+
+
+def quantity_of(msg, table: dict) -> dict | None:
+    """A Trapbook stored quantity ({"value", "unit"}) from an ORD unit message, in the unit it was written in."""
+    unit = type(msg).DESCRIPTOR.enum_types[0].values_by_number.get(msg.units)
+    if unit is None or unit.name not in table or not math.isfinite(msg.value):
+        return None
+    return {"value": _f32(msg.value), "unit": ORD_UNIT_TEXT[unit.name]}
+
+
 def _unit_value(msg, table: dict) -> float | None:
     unit = type(msg).DESCRIPTOR.enum_types[0].values_by_number.get(msg.units)
     factor = table.get(unit.name) if unit is not None else None
@@ -128,6 +175,21 @@ def _celsius(msg) -> float | None:
     if unit == "FAHRENHEIT":
         return (v - 32.0) * 5.0 / 9.0
     return None
+
+
+def identifiers(msg) -> tuple[str | None, str | None, list[str]]:
+    """(name, SMILES, every other identifier as text) of an ORD compound or product."""
+    name = smiles = None
+    other = []
+    for ident in msg.identifiers:
+        tname = type(ident).CompoundIdentifierType.Name(ident.type)
+        if tname == "NAME" and name is None:
+            name = ident.value.strip() or None
+        elif tname in ("SMILES", "CXSMILES") and smiles is None:
+            smiles = ident.value.strip() or None
+        else:
+            other.append(f"{tname} {ident.value[:40]}")
+    return name, smiles, other
 
 
 def digest(message) -> str:

@@ -29,9 +29,11 @@ from ..phrases import step_phrases
 from ..errors import ExchangeError, TrapbookError
 from ..files import write_atomic
 from ..records import Run
-from ..units import to_canonical
-from .ord_common import (FINDINGS_METADATA, LINE_ORDER_METADATA, PLAIN_METADATA, ROLE_TO_ORD, STEPS_METADATA, _RUN_ID_DETAILS,
-                         _TITLE_DETAILS, _data, _pb)
+from ..units import dump_quantity, to_canonical
+from .ord_common import (AMOUNT_SLOTS, FINDINGS_METADATA, LINE_ORDER_METADATA, PLAIN_METADATA, PLANNED_FEATURES, ROLE_TO_ORD,
+                         STEPS_METADATA, VESSEL_DETAILS, WEIGHED_FEATURE, _RUN_ID_DETAILS, _TITLE_DETAILS, _data, _pb,
+                         set_quantity)
+from .ord_outcome import add_names, write_outcome
 
 #: Namespace for the deterministic ORD ids made from Trapbook ids (a fixed UUID of our own).
 _ID_NAMESPACE = uuid.UUID("6f1c2a52-8f0e-4c55-9d57-3a2b3f6e1d10")
@@ -47,17 +49,17 @@ def ord_dataset_id(key: str) -> str:
 
 
 def _set_amount(comp, line, row) -> str | None:
-    """Fill comp.amount from the line's given amount (computed mmol for equiv lines)."""
+    """Fill comp.amount with what went into the flask: the weighed quantity when the line
+    records one, else the plan (the computed mmol for an equiv line)."""
+    from ..units import measured_kind
+
+    if line.actual is not None:
+        kind = measured_kind(line.actual)
+        set_quantity(getattr(comp.amount, AMOUNT_SLOTS[kind][0]), line.actual, kind)
+        return None
     given = line.given
-    if given == "amount":
-        comp.amount.moles.value = to_canonical(line.amount, "amount")
-        comp.amount.moles.units = comp.amount.moles.MILLIMOLE
-    elif given == "mass":
-        comp.amount.mass.value = to_canonical(line.mass, "mass")
-        comp.amount.mass.units = comp.amount.mass.MILLIGRAM
-    elif given == "volume":
-        comp.amount.volume.value = to_canonical(line.volume, "volume")
-        comp.amount.volume.units = comp.amount.volume.MICROLITER
+    if given in AMOUNT_SLOTS:
+        set_quantity(getattr(comp.amount, AMOUNT_SLOTS[given][0]), getattr(line, given), given)
     elif given == "equiv":
         if row is not None and row.mmol is not None and math.isfinite(row.mmol):
             comp.amount.moles.value = row.mmol
@@ -69,28 +71,28 @@ def _set_amount(comp, line, row) -> str | None:
     return None
 
 
-def _add_names(msg, name: str, smiles: str | None) -> None:
-    """A NAME identifier on a compound or product, and a SMILES one when there is a SMILES."""
-    ident = msg.identifiers.add()
-    ident.type = ident.NAME
-    ident.value = name
-    if smiles:
-        ident = msg.identifiers.add()
-        ident.type = ident.SMILES
-        ident.value = smiles
+def _plan_features(comp, line) -> None:
+    """The plan beside a weighed amount: the ORD amount is what was weighed, so the plan is Trapbook's own."""
+    if line.equiv is not None:
+        comp.features["equiv"].CopyFrom(_data(to_canonical(line.equiv, "equiv")))
+    if line.actual is None:
+        return
+    comp.features[WEIGHED_FEATURE].CopyFrom(_data(True))
+    if line.given in PLANNED_FEATURES:
+        planned = dump_quantity(getattr(line, line.given))
+        comp.features[PLANNED_FEATURES[line.given]].CopyFrom(_data(json.dumps(planned, ensure_ascii=False)))
 
 
 def _compound(line, row, limiting_name: str | None):
     r, _ = _pb()
     comp = r.Compound()
-    _add_names(comp, line.name, line.smiles)
+    add_names(comp, line.name, line.smiles)
     comp.reaction_role = r.ReactionRole.ReactionRoleType.Value(ROLE_TO_ORD[line.role])
     if limiting_name is not None and line.name.casefold() == limiting_name.casefold():
         comp.is_limiting = True
     note = _set_amount(comp, line, row)
     comp.features["trapbook_role"].CopyFrom(_data(line.role))
-    if line.equiv is not None:
-        comp.features["equiv"].CopyFrom(_data(to_canonical(line.equiv, "equiv")))
+    _plan_features(comp, line)
     for field, kind, key in (("molarity", "molarity", "molarity_M"), ("density", "density", "density_g_mL"),
                              ("purity", "fraction", "purity"), ("water", "fraction", "water_fraction"),
                              ("molar_mass", "molar_mass", "molar_mass_g_mol")):
@@ -204,110 +206,14 @@ def _add_conditions(rxn, run: Run) -> None:
         cond.details = "; ".join(_step_words(i, s) for i, s in enumerate(run.steps, 1))
 
 
-def _add_outcome(rxn, run: Run, table, notes: list[str]) -> None:
-    """Products with isolated mass, isolated and NMR yields (with their integrals) and selectivities."""
-    from .. import amounts
-
-    r, _ = _pb()
-    out = rxn.outcomes.add()
-    hold = sum(to_canonical(s.hold, "duration") for s in run.steps if s.hold is not None)
-    if hold > 0:
-        out.reaction_time.value = hold
-        out.reaction_time.units = out.reaction_time.MINUTE
-    yields = {}
-    if run.outcome is not None:
-        try:
-            yields = {y.product.casefold(): y for y in amounts.product_yields(run, table)} if table else {}
-        except TrapbookError as exc:
-            notes.append(f"yields could not be computed ({exc.message}); written without yields")
-    if run.outcome is not None and run.outcome.observations:
-        obs = rxn.observations.add()
-        obs.comment = run.outcome.observations
-    results = {p.product.casefold(): p for p in (run.outcome.products if run.outcome else [])}
-    first = True
-    for line in run.lines_by_role("product"):
-        prod = out.products.add()
-        _add_names(prod, line.name, line.smiles)
-        prod.reaction_role = r.ReactionRole.PRODUCT
-        prod.is_desired_product = first
-        first = False
-        if line.molar_mass is not None:
-            prod.features["molar_mass_g_mol"].CopyFrom(_data(to_canonical(line.molar_mass, "molar_mass")))
-        if line.note:
-            prod.features["note"].CopyFrom(_data(line.note))
-        res = results.get(line.name.casefold())
-        if res is None:
-            continue
-        y = yields.get(line.name.casefold())
-        if res.isolated_mass is not None:
-            out.analyses["isolated"].type = r.Analysis.WEIGHT
-            m = prod.measurements.add()
-            m.type = m.AMOUNT
-            m.analysis_key = "isolated"
-            m.amount.mass.value = to_canonical(res.isolated_mass, "mass")
-            m.amount.mass.units = m.amount.mass.MILLIGRAM
-            if y is not None and y.isolated_yield_pct is not None:
-                m = prod.measurements.add()
-                m.type = m.YIELD
-                m.analysis_key = "isolated"
-                m.percentage.value = y.isolated_yield_pct
-        if res.qnmr is not None:
-            key = f"qnmr {line.name}"
-            an = out.analyses[key]
-            an.type = r.Analysis.NMR_1H
-            q = res.qnmr
-            an.details = "internal standard " + (q.standard or "(the run's internal standard)")
-            for k in ("standard_integral", "standard_protons", "integral", "protons"):
-                an.data[k].CopyFrom(_data(getattr(q, k)))
-            if q.standard:
-                an.data["standard"].CopyFrom(_data(q.standard))
-            if q.standard_amount is not None:
-                an.data["standard_amount_mmol"].CopyFrom(_data(to_canonical(q.standard_amount, "amount")))
-            if y is not None and y.nmr_yield_pct is not None:
-                m = prod.measurements.add()
-                m.type = m.YIELD
-                m.analysis_key = key
-                m.uses_internal_standard = True
-                m.percentage.value = y.nmr_yield_pct
-            elif not run.lines_by_role("internal standard"):
-                notes.append(f"product '{line.name}': qNMR integrals kept, but without an internal standard line no NMR yield")
-        for kind, text in (("DR", res.dr), ("ER", res.er)):
-            if text:  # written as recorded (major:minor); the record has checked it parses
-                m = prod.measurements.add()
-                m.type = m.SELECTIVITY
-                m.selectivity.type = m.selectivity.SelectivityType.Value(kind)
-                m.string_value = text
-                m.details = "major:minor as recorded"
-                key = "selectivity"
-                out.analyses[key].type = r.Analysis.CUSTOM
-                out.analyses[key].details = "as recorded in the notebook"
-                m.analysis_key = key
-        ee = y.ee_pct if (y is not None and y.ee_pct is not None) else res.ee
-        if ee is not None:
-            m = prod.measurements.add()
-            m.type = m.SELECTIVITY
-            m.selectivity.type = m.selectivity.EE
-            m.percentage.value = ee
-            m.details = "from er" if res.er else "as recorded"
-            out.analyses["selectivity"].type = r.Analysis.CUSTOM
-            out.analyses["selectivity"].details = "as recorded in the notebook"
-            m.analysis_key = "selectivity"
-            if not 0 <= ee <= 100:
-                notes.append(f"product '{line.name}': ee {ee:g} % lies outside 0-100 %")
-        if res.note:
-            prod.features["note"].CopyFrom(_data(res.note))
-    if run.outcome is not None and run.outcome.recovered_precursor is not None:
-        lim = next(iter(run.lines_by_role("precursor")), None)
-        prod = out.products.add()
-        _add_names(prod, lim.name if lim else "recovered precursor", lim.smiles if lim is not None else None)
-        prod.reaction_role = r.ReactionRole.REACTANT
-        prod.features["recovered_precursor"].CopyFrom(_data(True))
-        out.analyses["isolated"].type = r.Analysis.WEIGHT
-        m = prod.measurements.add()
-        m.type = m.AMOUNT
-        m.analysis_key = "isolated"
-        m.amount.mass.value = to_canonical(run.outcome.recovered_precursor, "mass")
-        m.amount.mass.units = m.amount.mass.MILLIGRAM
+def _add_vessel(rxn, run: Run) -> None:
+    """The vessel's inner volume (what the pressure and fill checks use); Trapbook records no vessel type."""
+    if run.vessel is None:
+        return
+    vessel = rxn.setup.vessel
+    vessel.type = vessel.CUSTOM
+    vessel.details = VESSEL_DETAILS
+    set_quantity(vessel.volume, run.vessel, "volume")
 
 
 def _add_provenance(rxn, run: Run, email: str | None, record_time: str | None) -> None:
@@ -366,6 +272,7 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
 
     _add_inputs(rxn, run, table, limiting_name, notes)
     _add_conditions(rxn, run)
+    _add_vessel(rxn, run)
 
     # Notes, with the cautions that apply; the stop and warn findings travel in the metadata.
     from ..findings import findings_for
@@ -380,7 +287,7 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
     if run.notes:
         rxn.notes.procedure_details = run.notes
 
-    _add_outcome(rxn, run, table, notes)
+    write_outcome(rxn, run, table, notes)
     _add_provenance(rxn, run, email, record_time)
     return rxn, notes
 

@@ -76,8 +76,8 @@ class TrapbookApp(App):
             return
         self.push_screen(LogbookScreen())
         self.ready_seconds = time.perf_counter() - self.started
-        if self.warm:
-            self.warm_up()
+        if self.warm:  # after the first frame: the import must not hold up the rows being drawn
+            self.call_after_refresh(self.warm_up)
 
     def open_notebook(self):
         """The notebook this session shows: read-only when asked, the group's first readable member under --group."""
@@ -110,9 +110,11 @@ class TrapbookApp(App):
     @work(thread=True, group="warm", exit_on_error=False)
     def warm_up(self) -> None:
         """Import the RDKit-backed core off the UI thread, before the user needs it."""
-        from .. import amounts  # noqa: F401
-        from .. import checks  # noqa: F401
-        from .. import strain_link  # noqa: F401
+        from .. import (
+            amounts,  # noqa: F401
+            checks,  # noqa: F401
+            strain_link,  # noqa: F401
+        )
 
     # --- who saves ---------------------------------------------------------------
     def author_and_source(self) -> tuple[str, str]:

@@ -17,15 +17,14 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import Screen
-from textual.widgets import Checkbox, DataTable, Header, Input, ProgressBar, Static, TabbedContent, TabPane
+from textual.widgets import Checkbox, DataTable, Header, Input, Static, TabbedContent, TabPane
 
 from ...errors import StaleVersionError, TrapbookError
+from ..messages import StrainDone
 from ..outcome_form import PRODUCT_FIELDS
 from ..rundata import form_data, plan_from
+from ..widgets.bench_side import BenchSide
 from ..widgets.field import Field, FormCheck
-from ..widgets.findings import ChecksPanel
-from ..widgets.strain_card import StrainCard
-from ..widgets.timeline import AdditionTrack
 from ..widgets.keybar import KeyBar
 from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
@@ -133,16 +132,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                             for key, label, ph, check, sugg in OUTCOME_FIELDS:
                                 yield Field(label, f"out-{key}", ph, check, sugg)
                         yield Static("", id="yields")
-            with Vertical(id="bench-side"):
-                yield Static("Order of additions", classes="side-head")
-                yield AdditionTrack(id="track")
-                yield Static("Strain card", classes="side-head")
-                yield StrainCard(id="strain")
-                yield ProgressBar(id="strain-progress", show_eta=False)
-                yield Static("", id="strain-stage")
-                yield Static("Bench checks", classes="side-head")
-                with VerticalScroll(id="checks-scroll"):
-                    yield ChecksPanel(id="checks")
+            yield BenchSide(id="bench-side")
         yield Static("", id="status")
         yield KeyBar()
 
@@ -153,7 +143,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         products = self.query_one("#products", DataTable)
         for label, width in PRODUCT_COLUMNS:
             products.add_column(label, width=width)
-        self.query_one("#strain-progress").display = False
         self.fit_name_column()
         self.load()
         self.query_one("#line-role", Input).focus()
@@ -178,6 +167,15 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                 self.action_tab(self._active())
         self.call_after_refresh(self.fit_name_column)
         self.call_after_refresh(self.recompute)
+
+    def on_strain_done(self, message: StrainDone) -> None:
+        """The side panel's strain computation finished: keep what it found and rebuild."""
+        if message.strain is not None:
+            self.strain = message.strain
+        if message.alignment is not None:
+            self.alignment = message.alignment
+        self.strain_note = message.note
+        self.recompute()
 
     def repaint_colours(self) -> None:
         """After a change of theme: every panel drawn again in the new colours."""

@@ -10,6 +10,7 @@ from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Static
+
 from ..theme import tone
 
 # Keys of the forms that are not bindings (Textual's own widgets handle them).
@@ -41,13 +42,13 @@ def _key_text(b: Binding) -> str:
 
 
 def key_table() -> Group:
+    from ...search_query import help_rows as filter_help_rows
     from ..app import TrapbookApp
     from .dialogs import LeaveDialog, ReasonDialog
     from .editor import WorkbenchScreen
     from .history import TrailScreen
     from .review import BoardScreen
     from .runs import LogbookScreen
-    from ...search_query import help_rows as filter_help_rows
 
     screens = [("Everywhere", TrapbookApp), ("Logbook (runs)", LogbookScreen), ("Workbench (run editor)", WorkbenchScreen),
                ("Screen board (review)", BoardScreen), ("Version trail (history)", TrailScreen),

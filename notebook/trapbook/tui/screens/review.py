@@ -18,8 +18,8 @@ from textual.widgets import Header, ProgressBar, Static
 
 from ...errors import TrapbookError
 from ..text import shown
-from ..widgets.heatgrid import grid
 from ..theme import tone
+from ..widgets.heatgrid import grid
 from ..widgets.keybar import KeyBar
 
 

@@ -20,6 +20,7 @@ from textual.widgets import DataTable, Header, Input, Static
 
 from ...errors import TrapbookError
 from ...search_query import Query, parse_query
+from ..messages import FilterAnswered, PreviewReady
 from ..text import clip, minutes_text, temp_text, worst_text, yield_text
 from ..text import shown as stored_text
 from ..theme import tone
@@ -304,18 +305,18 @@ class LogbookScreen(Screen):
                 with (open_member(self.nb.path) if self.app.read_only else Notebook.open(self.nb.path)) as nb:
                     ids = {h.run_id for h in search.search(nb, query)}
         except TrapbookError as exc:
-            self.app.call_from_thread(self._filter_done, text, None, exc)
+            self.post_message(FilterAnswered(text, None, exc))
             return
         except Exception as exc:  # shown in the status line as the failure it is, never as "no runs"
             failure = TrapbookError(f"the search failed ({type(exc).__name__}: {exc})", "please report it")
-            self.app.call_from_thread(self._filter_done, text, None, failure)
+            self.post_message(FilterAnswered(text, None, failure))
             return
-        self.app.call_from_thread(self._filter_done, text, ids, None)
+        self.post_message(FilterAnswered(text, ids))
 
-    def _filter_done(self, text: str, ids: set[str] | None, error: TrapbookError | None) -> None:
-        if text != self.filter_text:
+    def on_filter_answered(self, message: FilterAnswered) -> None:
+        if message.text != self.filter_text:
             return  # the text changed meanwhile; its own answer is on the way
-        self.found_ids, self.answered, self.filter_error = ids, text, error
+        self.found_ids, self.answered, self.filter_error = message.run_ids, message.text, message.error
         self.apply()
 
     # --- preview ----------------------------------------------------------------
@@ -337,7 +338,11 @@ class LogbookScreen(Screen):
     def schedule_preview(self) -> None:
         if getattr(self, "_preview_timer", None) is not None:
             self._preview_timer.stop()
-        self._preview_timer = self.set_timer(0.08, self.show_preview)
+        # the first preview waits for the table to be on the screen (it loads RDKit, in a worker
+        # but on the same interpreter); later ones only for the cursor to settle
+        first = not getattr(self, "_previewed", False)
+        self._previewed = True
+        self._preview_timer = self.set_timer(0.4 if first else 0.08, self.show_preview)
 
     def show_preview(self) -> None:
         self._preview_timer = None
@@ -359,11 +364,11 @@ class LogbookScreen(Screen):
             shown_now = preview(nb, run_id)
         except TrapbookError as exc:
             shown_now = Text(exc.message, style="italic")
-        self.app.call_from_thread(self._preview_done, rid, shown_now)
+        self.post_message(PreviewReady(rid, shown_now))
 
-    def _preview_done(self, rid: str, content) -> None:
-        if self.is_mounted and rid == self.current_id():  # the cursor may have moved on meanwhile
-            self.query_one("#preview", Static).update(content)
+    def on_preview_ready(self, message: PreviewReady) -> None:
+        if message.row_key == self.current_id():  # the cursor may have moved on meanwhile
+            self.query_one("#preview", Static).update(message.content)
 
     # --- filter -----------------------------------------------------------------
     @on(Input.Changed, "#filter")

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 from rich.table import Table
 from rich.text import Text
-
 from textual.color import Color
 
 from ..text import clip, shown

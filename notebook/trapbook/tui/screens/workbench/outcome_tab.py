@@ -17,8 +17,8 @@ from ....errors import TrapbookError
 from ... import forms
 from ...outcome_form import PRODUCT_FIELDS, form_values, product_entry
 from ...text import clip, qtext
-from ...widgets.field import Field
 from ...theme import tone
+from ...widgets.field import Field
 
 PRODUCT_CHECKS = {
     "isolated_mass": forms.check_kind("mass", "a mass"),

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from rich.text import Text
 from textual.widgets import Checkbox, DataTable, Input
+
 from ...theme import tone
 
 

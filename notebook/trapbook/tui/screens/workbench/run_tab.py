@@ -12,8 +12,8 @@ from textual.widgets import Input, Label
 
 from ... import forms
 from ...text import clip
-from ...widgets.field import Field
 from ...theme import tone
+from ...widgets.field import Field
 
 RUN_FIELDS = (
     # (data key, label, placeholder, check, suggestions)

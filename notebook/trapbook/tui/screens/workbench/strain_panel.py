@@ -1,18 +1,13 @@
 """The Workbench's strain card: cached strain shown live, a computation only on ctrl+g.
 
 Strain and precursor alignment are read from the notebook's cache on every rebuild; the
-slow computation runs in a worker thread that reports its progress to the bar under the
-card, and the card follows once it is done.
+slow computation is the side panel's (widgets/bench_side.py), which reports its progress on
+its bar and posts the result to the screen, and the card follows once it is done.
 """
 
 from __future__ import annotations
 
-from rich.text import Text
-from textual import work
-from textual.widgets import ProgressBar, Static
-
 from ....errors import TrapbookError
-from ...theme import tone
 
 
 class StrainPanelMixin:
@@ -56,39 +51,6 @@ class StrainPanelMixin:
         if not smiles:
             self.notify("Give the intermediate's SMILES on the Run tab first.", severity="warning")
             return
-        bar = self.query_one("#strain-progress", ProgressBar)
-        bar.display = True
-        bar.update(total=100, progress=0)
-        self.compute_strain(smiles, self.precursor_smiles())
+        from ...widgets.bench_side import BenchSide
 
-    @work(thread=True, exclusive=True, group="strain", exit_on_error=False)
-    def compute_strain(self, smiles: str, precursor: str | None) -> None:
-        from ...strainwork import strain_and_alignment
-
-        def progress(stage: str, fraction: float) -> None:
-            self.app.call_from_thread(self._strain_progress, stage, fraction)
-
-        try:
-            strain, alignment, note = strain_and_alignment(self.nb.path, smiles, precursor, progress)
-        except TrapbookError as exc:
-            self.app.call_from_thread(self._strain_done, None, None, exc.message)
-            return
-        self.app.call_from_thread(self._strain_done, strain, alignment, note)
-
-    def _strain_progress(self, stage: str, fraction: float) -> None:
-        if not self.is_mounted:
-            return
-        self.query_one("#strain-progress", ProgressBar).update(progress=round(100 * fraction))
-        self.query_one("#strain-stage", Static).update(Text(stage, style=f"italic {tone('muted')}"))
-
-    def _strain_done(self, strain: dict | None, alignment: dict | None, note: str | None) -> None:
-        if not self.is_mounted:
-            return
-        self.query_one("#strain-progress", ProgressBar).display = False
-        self.query_one("#strain-stage", Static).update("")
-        if strain is not None:
-            self.strain = strain
-        if alignment is not None:
-            self.alignment = alignment
-        self.strain_note = note
-        self.recompute()
+        self.query_one(BenchSide).start_strain(self.nb.path, smiles, self.precursor_smiles())
