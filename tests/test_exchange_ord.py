@@ -8,6 +8,7 @@ import molmass
 import pytest
 from google.protobuf import json_format, text_format
 from ord_schema import message_helpers, validations
+from ord_schema import units as ord_units
 from ord_schema.proto import dataset_pb2, reaction_pb2
 
 from trapbook import amounts
@@ -68,7 +69,8 @@ def test_roles_amounts_and_order(minimal_run):
     assert furan.amount.moles.value == pytest.approx(2.0, rel=1e-6)
     assert furan.amount.moles.units == reaction_pb2.Moles.MILLIMOLE
     assert tbaf.amount.moles.value == pytest.approx(0.6, rel=1e-6)  # Source: as above, 3.0 equiv on 0.200 mmol
-    assert thf.amount.volume.value == pytest.approx(2000.0) and thf.amount.volume.units == reaction_pb2.Volume.MICROLITER
+    # Source: ord_schema.units.UnitResolver (the ORD's own unit parser) reads the run file's "2.0 mL" as this
+    assert thf.amount.volume == ord_units.UnitResolver().resolve("2.0 mL")
     # The trap is in the flask before the fluoride (addition_order), as the run file says.
     assert inp_pre is inp_furan and inp_furan.addition_order < inp_tbaf.addition_order
     # Source: ORD schema, ReactionInput.addition_temperature is the temperature of the addition
@@ -137,6 +139,7 @@ def test_trapbook_to_ord_and_back_keeps_amounts_yields_and_steps(demo_notebook, 
         ya = [y.best_yield_pct for y in amounts.product_yields(orig)]
         yb = [y.best_yield_pct for y in amounts.product_yields(back)]
         assert yb == pytest.approx(ya, rel=1e-6)
+        assert back.to_json_dict() == orig.to_json_dict()  # and every field as written
 
 
 def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
@@ -233,3 +236,130 @@ def test_a_lone_reaction_file_imports(notebook, tmp_path, minimal_run, suffix):
     report = import_path(notebook, path)
     assert report["imported"] == ["TB-0077"]
     assert notebook.get_run("TB-0077").title == minimal_run["title"]
+
+
+# A run that records every field the ORD exchange must carry: weighed amounts beside the plan,
+# the vessel, bench words and a ramp, the work-up and eluent, appearance, Rf, NMR text, HRMS
+# and the processing record of an integrated FID. Its numbers are test inputs, not chemistry.
+def _weighed_run(minimal_run) -> dict:
+    data = copy.deepcopy(minimal_run)
+    data.update(id="TB-0099", vessel="15 mL", tags=["weighed"], factors={"fluoride": "TBAF"})
+    for line, actual in zip(data["lines"], ("52.1 mg", "610 µL", "0.145 mL", "2.1 mL")):
+        line["actual"] = actual
+    data["lines"][0]["purity"] = "97 %"
+    data["lines"][1]["molarity"] = "1000 mM"  # written otherwise than the canonical 1.0 M
+    data["lines"] += [
+        {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "mass": "16.8 mg", "actual": "16.9 mg"},
+        {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12", "note": "the expected cycloadduct"},
+    ]
+    data["steps"] = [
+        {"add": ["aryne precursor A", "furan", "THF"], "temperature": "-78 °C", "atmosphere": "Ar"},
+        {"add": ["TBAF 1.0 M in THF"], "temperature": "-78 °C to rt", "over": "10 min"},
+        {"hold": "overnight", "temperature": "rt"},
+    ]
+    spectrum = {"attachment_sha256": "0" * 64, "attachment_name": "crude-1H.fid.zip", "standard_region": [6.0, 6.2],
+                "product_region": [5.6, 5.8], "processing": {"line_broadening_hz": 0.3, "phase_deg": [12.5, -3.0]}}
+    data["outcome"] = {
+        "workup": "filtered through a silica plug (Et2O), concentrated",
+        "eluent": "pentane/Et2O 20:1",
+        "observations": "turned yellow on warming",
+        "recovered_precursor": "5.0 mg",
+        "products": [{"product": "adduct", "isolated_mass": "0.0200 g", "dr": "3:1", "er": "95:5",
+                      "appearance": "pale yellow oil", "rf": 0.35, "nmr_text": "1H NMR (400 MHz, CDCl3) δ 7.25 (m, 2H)",
+                      "hrms": {"ion": "[M+Na]+", "found_mz": 1234.56789}, "note": "one spot by TLC",
+                      "qnmr": {"standard": "TMB", "standard_integral": 3.0, "standard_protons": 3, "integral": 0.771,
+                               "protons": 1, "spectrum": spectrum}}],
+    }
+    return data
+
+
+@pytest.mark.parametrize("suffix", [".pb", ".pbtxt", ".json"])
+def test_a_run_with_every_field_comes_back_identical(minimal_run, tmp_path, suffix):
+    run = load_run(_weighed_run(minimal_run))
+    ds, report = ordx.build_dataset([run], email="ada@example.org")
+    # Source: ord_schema.validations.validate_message, the ORD's own validator
+    assert validations.validate_message(ds, raise_on_error=False).errors == []
+    path = tmp_path / f"run{suffix}"
+    payload = ordx.serialise(ds, path)
+    path.write_bytes(payload) if isinstance(payload, bytes) else path.write_text(payload, encoding="utf-8")
+    runs, notes = ordx.read_path(path)
+    assert notes == []  # nothing Trapbook wrote is reported as not kept
+    assert runs[0].to_json_dict() == run.to_json_dict()
+
+
+def test_weighed_amounts_and_outcome_are_where_ord_readers_look(minimal_run):
+    run = load_run(_weighed_run(minimal_run))
+    rxn, _ = ordx.run_to_reaction(run, email="ada@example.org")
+    resolve = ord_units.UnitResolver().resolve  # Source: ord_schema.units, the ORD's own unit parser
+    pre, _ = _component(rxn, "aryne precursor A")
+    tbaf, _ = _component(rxn, "TBAF 1.0 M in THF")
+    assert pre.amount.mass == resolve("52.1 mg")  # the ORD amount is what went into the flask
+    assert tbaf.amount.volume == resolve("610 uL")  # the resolver spells µL as uL
+    assert tbaf.features["equiv"].float_value == pytest.approx(3.0)  # the plan rides along
+    assert rxn.setup.vessel.volume == resolve("15 mL")
+    prod = rxn.outcomes[0].products[0]
+    # Source: ORD schema, ProductCompound.isolated_color and Texture.TextureType
+    assert prod.isolated_color == "pale yellow" and prod.texture.type == reaction_pb2.Texture.OIL
+    assert prod.measurements[0].amount.mass == resolve("0.0200 g")
+    analyses = rxn.outcomes[0].analyses
+    A = reaction_pb2.Analysis
+    assert analyses["hrms adduct"].type == A.HRMS and "[M+Na]+" in analyses["hrms adduct"].details
+    assert analyses["tlc adduct"].type == A.TLC and analyses["tlc adduct"].data["rf"].float_value == pytest.approx(0.35)
+    assert analyses["nmr adduct"].type == A.NMR_1H
+    W = reaction_pb2.ReactionWorkup
+    assert [(w.type, w.details) for w in rxn.workups if not w.input.components] == [
+        (W.CUSTOM, "filtered through a silica plug (Et2O), concentrated"),
+        (W.FLASH_CHROMATOGRAPHY, "eluent: pentane/Et2O 20:1")]
+    # the ramp and the bench words reach a reader of the ORD fields alone
+    assert "-78 °C to rt" in rxn.conditions.details and "overnight" in rxn.conditions.details
+
+
+def test_weighed_amounts_keep_the_yields_they_give(minimal_run, notebook, tmp_path):
+    run = load_run(_weighed_run(minimal_run))
+    path = tmp_path / "weighed.pb"
+    ds, _ = ordx.build_dataset([run])
+    path.write_bytes(ordx.serialise(ds, path))
+    back = notebook.get_run(import_path(notebook, path)["imported"][0])
+    # Source: yield = n_product / n_theoretical (IUPAC Gold Book "yield"); C10H8O by molmass; the
+    # limiting amount is what was weighed: 52.1 mg of C10H13F3O3SSi (97 %)
+    n_lim = 52.1 * 0.97 / molmass.Formula("C10H13F3O3SSi").mass
+    expected = 100.0 * (20.0 / molmass.Formula("C10H8O").mass) / n_lim
+    assert amounts.product_yields(back)[0].isolated_yield_pct == pytest.approx(expected, rel=1e-5)
+    assert back.to_json_dict() == run.to_json_dict()
+
+
+def test_foreign_workups_appearance_and_vessel_are_kept_or_reported(notebook, tmp_path):
+    rxn = reaction_pb2.Reaction()
+    rxn.inputs["precursor"].components.add().CopyFrom(
+        message_helpers.build_compound(smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", name="aryne precursor",
+                                       role="reactant", amount="0.5 mmol", is_limiting=True))
+    rxn.setup.vessel.type = reaction_pb2.Vessel.ROUND_BOTTOM_FLASK
+    rxn.setup.vessel.volume.CopyFrom(ord_units.UnitResolver().resolve("25 mL"))
+    for kind, details in (("CONCENTRATION", "rotary evaporator"), ("FLASH_CHROMATOGRAPHY", "silica, hexanes")):
+        wk = rxn.workups.add()
+        wk.type = reaction_pb2.ReactionWorkup.ReactionWorkupType.Value(kind)
+        wk.details = details
+    prod = rxn.outcomes.add().products.add()
+    prod.CopyFrom(reaction_pb2.ProductCompound(isolated_color="colourless", texture={"type": "CRYSTAL"}))
+    prod.identifiers.add(type=reaction_pb2.CompoundIdentifier.NAME, value="adduct")
+    path = tmp_path / "other.pbtxt"
+    path.write_text(text_format.MessageToString(rxn), encoding="utf-8")
+    report = import_path(notebook, path)
+    run = notebook.get_run(report["imported"][0])
+    assert run.vessel.to("mL").magnitude == pytest.approx(25.0)
+    assert run.outcome.workup == "concentration: rotary evaporator\nflash chromatography: silica, hexanes"
+    assert run.outcome.eluent is None  # not written as Trapbook writes an eluent, so kept in the work-up text
+    assert run.outcome.products[0].appearance == "colourless crystals"
+    assert any("ROUND_BOTTOM_FLASK" in n for n in report["notes"])
+
+
+def test_an_unreadable_plan_is_reported_and_the_weighed_amount_kept(minimal_run, notebook, tmp_path):
+    rxn, _ = ordx.run_to_reaction(load_run(_weighed_run(minimal_run)))
+    pre, _ = _component(rxn, "aryne precursor A")
+    pre.features["planned_amount"].string_value = "[" * 10_000
+    path = tmp_path / "bad-plan.pb"
+    path.write_bytes(rxn.SerializeToString())
+    report = import_path(notebook, path)
+    run = notebook.get_run(report["imported"][0])
+    assert any("planned amount is not readable" in n for n in report["notes"])
+    assert run.line("aryne precursor A").mass.to("mg").magnitude == pytest.approx(52.1)

@@ -89,7 +89,10 @@ def check_member(nb: Notebook) -> list[dict]:
     conn = nb.conn
     try:
         tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
-        if not {"runs", "versions", "saves", "head", "run_index"} <= tables or schema.pending(conn):
+        if "runs" not in tables or "versions" not in tables:
+            rep.add("not-a-notebook", "file", "not a Trapbook notebook (its tables are missing)")
+            return [p.to_dict() for p in rep.problems]
+        if not {"saves", "head", "run_index"} <= tables or schema.pending(conn):
             if newer_schema_problem(conn, nb.path) is None:
                 rep.add("old-schema", "file", "the notebook predates this Trapbook's layout: open it once on its own "
                                               "(trapbook --db FILE list) to upgrade it")
@@ -150,6 +153,10 @@ def notebook_paths(given: Iterable[str | Path]) -> list[Path]:
     out: list[Path] = []
     for item in given:
         p = Path(item).expanduser()
+        try:
+            p.exists()
+        except (OSError, ValueError):  # a NUL byte, a name too long for the system
+            raise NotFoundError(f"--group {str(item)[:80]!r} cannot be a file name", "give the path of a notebook file or a folder") from None
         if p.is_dir():
             found = sorted(p.glob("*.sqlite"))
             if not found:

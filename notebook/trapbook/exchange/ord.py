@@ -2,8 +2,9 @@
 
 This module only gathers the names: the export (run or screen to a validated ORD
 ``Reaction``/``Dataset``) lives in ``ord_export``, the import (ORD to runs, with notes on
-what did not map) in ``ord_import``, and what both must agree on (role maps, metadata
-keys, units) in ``ord_common``. It stays so that ``trapbook.exchange.ord:export`` and
+what did not map) in ``ord_import``, the outcome both ways (products, analyses, work-up)
+in ``ord_outcome``, and what all must agree on (role maps, feature and metadata keys,
+units) in ``ord_common``. It stays so that ``trapbook.exchange.ord:export`` and
 ``trapbook.exchange.ord:import_path`` in the format registry, and ``from
 trapbook.exchange import ord``, keep working unchanged.
 """

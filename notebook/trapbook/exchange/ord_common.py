@@ -42,9 +42,18 @@ _TITLE_DETAILS = "trapbook title"
 WEIGHED_FEATURE = "weighed"
 PLANNED_FEATURES = {"amount": "planned_amount", "mass": "planned_mass", "volume": "planned_volume"}
 
+#: Line quantities kept as number features in the canonical unit: (line field, unit kind,
+#: feature, the unit the number is read back in).
+QUANTITY_FEATURES = (("molarity", "molarity", "molarity_M", "M"), ("density", "density", "density_g_mL", "g/mL"),
+                     ("purity", "fraction", "purity", ""), ("water", "fraction", "water_fraction", ""),
+                     ("molar_mass", "molar_mass", "molar_mass_g_mol", "g/mol"))
+#: Those of them written otherwise than the number feature gives back ('97 %', '1000 mM', more
+#: digits than single precision holds), as {field: stored form} JSON, so they return as written.
+AS_WRITTEN_FEATURE = "as_written"
+
 #: Compound features a Trapbook export writes on an input component.
-COMPONENT_FEATURES = frozenset({"trapbook_role", "equiv", "molarity_M", "density_g_mL", "molar_mass_g_mol", "purity",
-                                "water_fraction", "marked_limiting", "note", WEIGHED_FEATURE, *PLANNED_FEATURES.values()})
+COMPONENT_FEATURES = frozenset({"trapbook_role", "equiv", "marked_limiting", "note", WEIGHED_FEATURE, AS_WRITTEN_FEATURE,
+                                *PLANNED_FEATURES.values(), *(q[2] for q in QUANTITY_FEATURES)})
 
 #: ``provenance.reaction_metadata`` keys: run fields kept as text, run fields kept as JSON,
 #: and the step sequence and line order (the ORD has one temperature and time per reaction).
@@ -58,8 +67,8 @@ FINDINGS_METADATA = "trapbook_findings"
 METADATA_KEYS = PLAIN_METADATA + JSON_METADATA + (STEPS_METADATA, LINE_ORDER_METADATA, FINDINGS_METADATA)
 
 #: Product features: the appearance as written (the ORD colour and texture hold its parts),
-#: and the marks for a product's note and the recovered precursor.
-PRODUCT_FEATURES = frozenset({"molar_mass_g_mol", "note", "appearance", "recovered_precursor"})
+#: the product line's note and the result's note, and the mark of the recovered precursor.
+PRODUCT_FEATURES = frozenset({"molar_mass_g_mol", "note", "result_note", "appearance", "recovered_precursor"})
 #: ``data`` key of a qNMR analysis holding how its integrals were made from an attached FID
 #: (``QNMR.spectrum``) as JSON; the ORD has no field for a processing record.
 SPECTRUM_DATA = "trapbook_spectrum"

@@ -9,9 +9,13 @@ has a single temperature and time per reaction while a trapping run is a sequenc
 steps, so the main block temperature (the hottest, or the only one) and the total hold
 time go into the structured fields and every step is also written out in the
 conditions' details, with ``addition_order`` on the inputs telling what went in when.
-What Trapbook knows and ORD has no field for (the role word, the given equiv, stock
-molarity, density, purity, water content) travels as compound *features*, and run fields
-as ``provenance.reaction_metadata``.
+A line's ORD amount is what went into the flask: the weighed quantity when the line
+records one (``Line.actual``), else the plan, each in the unit it was written in where the
+ORD has that unit. What Trapbook knows and ORD has no field for (the role word, the plan
+beside a weighed amount, the given equiv, stock molarity, density, purity, water content)
+travels as compound *features*, and run fields as ``provenance.reaction_metadata``; the
+vessel's volume goes in ``setup.vessel``. The outcome (products, analyses, work-up) is
+written by ``ord_outcome``, beside the code that reads it back.
 
 Every exported message is checked with ``ord_schema.validations.validate_message``; an
 error stops the export (nothing is written), warnings are returned in the report.
@@ -25,14 +29,30 @@ import math
 import uuid
 from pathlib import Path
 
-from ..phrases import step_phrases
 from ..errors import ExchangeError, TrapbookError
 from ..files import write_atomic
+from ..phrases import step_phrases
 from ..records import Run
 from ..units import dump_quantity, to_canonical
-from .ord_common import (AMOUNT_SLOTS, FINDINGS_METADATA, LINE_ORDER_METADATA, PLAIN_METADATA, PLANNED_FEATURES, ROLE_TO_ORD,
-                         STEPS_METADATA, VESSEL_DETAILS, WEIGHED_FEATURE, _RUN_ID_DETAILS, _TITLE_DETAILS, _data, _pb,
-                         set_quantity)
+from .ord_common import (
+    _RUN_ID_DETAILS,
+    _TITLE_DETAILS,
+    AMOUNT_SLOTS,
+    AS_WRITTEN_FEATURE,
+    FINDINGS_METADATA,
+    LINE_ORDER_METADATA,
+    PLAIN_METADATA,
+    PLANNED_FEATURES,
+    QUANTITY_FEATURES,
+    ROLE_TO_ORD,
+    STEPS_METADATA,
+    VESSEL_DETAILS,
+    WEIGHED_FEATURE,
+    _data,
+    _f32,
+    _pb,
+    set_quantity,
+)
 from .ord_outcome import add_names, write_outcome
 
 #: Namespace for the deterministic ORD ids made from Trapbook ids (a fixed UUID of our own).
@@ -83,6 +103,21 @@ def _plan_features(comp, line) -> None:
         comp.features[PLANNED_FEATURES[line.given]].CopyFrom(_data(json.dumps(planned, ensure_ascii=False)))
 
 
+def _quantity_features(comp, line) -> None:
+    """Molarity, density, purity, water and molar mass as canonical numbers, and as written when that differs."""
+    written = {}
+    for field, kind, key, unit in QUANTITY_FEATURES:
+        q = getattr(line, field)
+        if q is None:
+            continue
+        value = to_canonical(q, kind)
+        comp.features[key].CopyFrom(_data(value))
+        if dump_quantity(q) != {"value": _f32(value), "unit": unit}:
+            written[field] = dump_quantity(q)
+    if written:
+        comp.features[AS_WRITTEN_FEATURE].CopyFrom(_data(json.dumps(written, ensure_ascii=False, sort_keys=True)))
+
+
 def _compound(line, row, limiting_name: str | None):
     r, _ = _pb()
     comp = r.Compound()
@@ -93,12 +128,7 @@ def _compound(line, row, limiting_name: str | None):
     note = _set_amount(comp, line, row)
     comp.features["trapbook_role"].CopyFrom(_data(line.role))
     _plan_features(comp, line)
-    for field, kind, key in (("molarity", "molarity", "molarity_M"), ("density", "density", "density_g_mL"),
-                             ("purity", "fraction", "purity"), ("water", "fraction", "water_fraction"),
-                             ("molar_mass", "molar_mass", "molar_mass_g_mol")):
-        q = getattr(line, field)
-        if q is not None:
-            comp.features[key].CopyFrom(_data(to_canonical(q, kind)))
+    _quantity_features(comp, line)
     if line.limiting:
         comp.features["marked_limiting"].CopyFrom(_data(True))
     if line.note:

@@ -4,9 +4,11 @@ Split from the exporter because reading has to take reactions written by any too
 units, roles and measurements Trapbook never writes, and must say what it leaves out
 rather than drop it; the vocabulary it shares with the export is in ``ord_common``.
 
-A reaction written by a Trapbook export comes back as written (roles, equiv, stock
-molarity, density, purity and water content from the compound features, steps and line
-order from ``provenance.reaction_metadata``). A reaction made by another tool is read
+A reaction written by a Trapbook export comes back as written (roles, equiv, the plan
+beside a weighed amount, stock molarity, density, purity and water content from the
+compound features, steps with their bench words and ramps and the line order from
+``provenance.reaction_metadata``, the vessel from ``setup``, the outcome through
+``ord_outcome``). A reaction made by another tool is read
 from the ORD fields alone; whatever cannot be placed in a run is listed in the import
 report's notes, never silently dropped. Import is all or nothing.
 """
@@ -19,16 +21,47 @@ from typing import Any
 
 from ..errors import ExchangeError, RecordError, TrapbookError
 from ..records import Run, load_run
-from .ord_common import (COMPONENT_FEATURES, JSON_METADATA, LINE_ORDER_METADATA, METADATA_KEYS, PLAIN_METADATA,
-                         ROLE_TO_ORD, STEPS_METADATA, _MASS, _MOLES, _ROLE_FROM_ORD, _RUN_ID_DETAILS, _TIME,
-                         _TITLE_DETAILS, _VOLUME, _celsius, _data_value, _f32, _num, _pb, _unit_value)
+from .ord_common import (
+    _MASS,
+    _MOLES,
+    _ROLE_FROM_ORD,
+    _RUN_ID_DETAILS,
+    _TIME,
+    _TITLE_DETAILS,
+    _VOLUME,
+    AMOUNT_SLOTS,
+    AS_WRITTEN_FEATURE,
+    COMPONENT_FEATURES,
+    JSON_METADATA,
+    LINE_ORDER_METADATA,
+    METADATA_KEYS,
+    PLAIN_METADATA,
+    PLANNED_FEATURES,
+    QUANTITY_FEATURES,
+    ROLE_TO_ORD,
+    STEPS_METADATA,
+    VESSEL_DETAILS,
+    WEIGHED_FEATURE,
+    _celsius,
+    _data_value,
+    _num,
+    _pb,
+    _unit_value,
+    identifiers,
+    quantity_of,
+)
+from .ord_outcome import read_products, read_workups
+
+#: ORD amount field -> its unit table.
+_TABLES = {"moles": _MOLES, "mass": _MASS, "volume": _VOLUME}
 
 MAX_IMPORT_BYTES = 200 * 1024 * 1024
 
 
 def parse_bytes(raw: bytes, name: str):
     """A Dataset (a lone Reaction is wrapped in one) from the bytes of a .pb, .pbtxt or .json file."""
-    from google.protobuf import json_format, message as pbmessage, text_format
+    from google.protobuf import json_format, text_format
+    from google.protobuf import message as pbmessage
 
     r, d = _pb()
     lower = name.lower()
@@ -69,20 +102,6 @@ def parse_bytes(raw: bytes, name: str):
                         "give an ORD file written as binary (.pb), text (.pbtxt) or JSON (.json); nothing was imported")
 
 
-def _identifiers(msg) -> tuple[str | None, str | None, list[str]]:
-    name = smiles = None
-    other = []
-    for ident in msg.identifiers:
-        tname = type(ident).CompoundIdentifierType.Name(ident.type)
-        if tname == "NAME" and name is None:
-            name = ident.value.strip() or None
-        elif tname in ("SMILES", "CXSMILES") and smiles is None:
-            smiles = ident.value.strip() or None
-        else:
-            other.append(f"{tname} {ident.value[:40]}")
-    return name, smiles, other
-
-
 def _trapbook_steps(meta: dict, lines: list[dict], where: str, notes: list[str]) -> list[dict] | None:
     """The step sequence written by a Trapbook export, if it is there and fits the lines."""
     raw = meta.get(STEPS_METADATA)
@@ -118,24 +137,47 @@ def _in_order(lines: list[dict], meta: dict) -> list[dict]:
 
 
 def _amount_fields(amount, where: str, notes: list[str]) -> dict:
+    """{"amount" | "mass" | "volume": quantity} from an ORD Amount, in the unit it was written in."""
     kind = amount.WhichOneof("kind")
-    if kind == "moles":
-        v = _unit_value(amount.moles, _MOLES)
-        if v is not None:
-            return {"amount": {"value": v, "unit": "mmol"}}
-    elif kind == "mass":
-        v = _unit_value(amount.mass, _MASS)
-        if v is not None:
-            return {"mass": {"value": v, "unit": "mg"}}
-    elif kind == "volume":
-        v = _unit_value(amount.volume, _VOLUME)
-        if v is not None:
-            return {"volume": {"value": v, "unit": "µL"}}
-    elif kind == "unmeasured":
+    for field, (slot, _) in AMOUNT_SLOTS.items():
+        if kind == slot:
+            q = quantity_of(getattr(amount, slot), _TABLES[slot])
+            if q is not None:
+                return {field: q}
+    if kind == "unmeasured":
         notes.append(f"{where}: unmeasured amount ({amount.unmeasured.details or 'no detail'}) has no Trapbook form")
         return {}
     notes.append(f"{where}: amount missing or in a unit Trapbook does not read")
     return {}
+
+
+def _planned(features: dict, where: str, notes: list[str]) -> dict:
+    """The plan of a line whose ORD amount is what was weighed: {"amount" | "mass" | "volume": quantity}."""
+    for field, key in PLANNED_FEATURES.items():
+        raw = features.get(key)
+        if not isinstance(raw, str):
+            continue
+        try:
+            q = json.loads(raw)
+        except (ValueError, RecursionError):
+            q = None
+        if isinstance(q, dict):
+            return {field: q}
+        notes.append(f"{where}: the planned {field} is not readable; the weighed amount is kept as the plan")
+    return {}
+
+
+def _line_amounts(comp, features: dict, where: str, notes: list[str]) -> dict:
+    """The given amount and, for a line Trapbook wrote as weighed, what was weighed (`actual`)."""
+    measured = _amount_fields(comp.amount, where, notes)
+    equiv = _num(features.get("equiv"))
+    plan = {"equiv": equiv} if equiv is not None and not comp.is_limiting else {}
+    if features.get(WEIGHED_FEATURE) != "true":
+        return plan or measured
+    plan = plan or _planned(features, where, notes)
+    if not plan:
+        return measured
+    return {**plan, "actual": next(iter(measured.values()))} if measured else plan
 
 
 def _role_of(comp, smiles: str | None) -> str:
@@ -151,8 +193,28 @@ def _role_of(comp, smiles: str | None) -> str:
     return _ROLE_FROM_ORD.get(rname, "additive")
 
 
+def _quantities(features: dict, where: str, notes: list[str]) -> dict:
+    """Molarity, density, purity, water and molar mass: as written where the export kept that, else the numbers."""
+    out = {}
+    for field, _kind, key, unit in QUANTITY_FEATURES:
+        v = _num(features.get(key))
+        if v is not None:
+            out[field] = {"value": v, "unit": unit}
+    raw = features.get(AS_WRITTEN_FEATURE)
+    if isinstance(raw, str):
+        try:
+            written = json.loads(raw)
+        except (ValueError, RecursionError):
+            written = None
+        if not isinstance(written, dict):
+            notes.append(f"{where}: the quantities as written are not readable; kept as numbers in their base units")
+            written = {}
+        out.update({field: q for field, q in written.items() if field in out and isinstance(q, dict)})
+    return out
+
+
 def _line_from_component(comp, where: str, notes: list[str]) -> dict:
-    name, smiles, other = _identifiers(comp)
+    name, smiles, other = identifiers(comp)
     if other:
         notes.append(f"{where}: identifiers not kept: {', '.join(other)}")
     features = {k: _data_value(v) for k, v in comp.features.items()}
@@ -160,20 +222,8 @@ def _line_from_component(comp, where: str, notes: list[str]) -> dict:
     line: dict[str, Any] = {"role": role, "name": name or smiles or where}
     if smiles:
         line["smiles"] = smiles
-    equiv = _num(features.get("equiv"))
-    if equiv is not None and not comp.is_limiting:
-        line["equiv"] = equiv
-    else:
-        line.update(_amount_fields(comp.amount, where, notes))
-    for key, field, unit in (("molarity_M", "molarity", "M"), ("density_g_mL", "density", "g/mL"),
-                             ("molar_mass_g_mol", "molar_mass", "g/mol")):
-        v = _num(features.get(key))
-        if v is not None:
-            line[field] = {"value": v, "unit": unit}
-    for key, field in (("purity", "purity"), ("water_fraction", "water")):
-        v = _num(features.get(key))
-        if v is not None:
-            line[field] = {"value": v, "unit": ""}
+    line.update(_line_amounts(comp, features, where, notes))
+    line.update(_quantities(features, where, notes))
     if features.get("marked_limiting") == "true":
         line["limiting"] = True
     if isinstance(features.get("note"), str):
@@ -198,9 +248,8 @@ def _unique_name(line: dict, taken: set[str]) -> None:
     taken.add(name.casefold())
 
 
-def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
-    """A run file dict from an ORD Reaction and notes on what did not map."""
-    notes: list[str] = []
+def _run_fields(rxn, where: str, notes: list[str]) -> tuple[dict, dict]:
+    """(run fields from identifiers, provenance and setup; the reaction metadata as read)."""
     data: dict[str, Any] = {}
     title = run_id = None
     for ident in rxn.identifiers:
@@ -231,9 +280,40 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
     start = rxn.provenance.experiment_start.value
     if start:
         data["date"] = start[:10]
+    data.update(_vessel(rxn, where, notes))
+    return data, meta
 
+
+def _vessel(rxn, where: str, notes: list[str]) -> dict:
+    if not rxn.HasField("setup") or not rxn.setup.HasField("vessel"):
+        if rxn.HasField("setup"):
+            notes.append(f"{where}: reaction setup (other than the vessel volume) not kept")
+        return {}
+    vessel = rxn.setup.vessel
+    if vessel.type != vessel.CUSTOM or vessel.details != VESSEL_DETAILS:
+        kind = type(vessel).VesselType.Name(vessel.type)
+        notes.append(f"{where}: vessel type {kind}{' (' + vessel.details + ')' if vessel.details else ''} not kept; "
+                     "a run records the vessel's volume only")
+    q = quantity_of(vessel.volume, _VOLUME) if vessel.HasField("volume") else None
+    return {"vessel": q} if q is not None else {}
+
+
+def _input_step(inp, names: list[str]) -> dict:
+    step: dict[str, Any] = {"add": names}
+    if inp.HasField("addition_temperature"):
+        c = _celsius(inp.addition_temperature)
+        if c is not None:
+            step["temperature"] = {"value": c, "unit": "°C"}
+    if inp.HasField("addition_duration"):
+        v = _unit_value(inp.addition_duration, _TIME)
+        if v is not None:
+            step["over"] = {"value": v, "unit": "min"}
+    return step
+
+
+def _input_lines(rxn, where: str, taken: set[str], notes: list[str]) -> tuple[list[dict], list[dict]]:
+    """(lines, one step per ordered input) from the reaction inputs, in addition order."""
     lines: list[dict] = []
-    taken: set[str] = set()
     steps: list[dict] = []
     ordered = sorted(rxn.inputs.items(), key=lambda kv: (kv[1].addition_order or 10**9, kv[0]))
     for key, inp in ordered:
@@ -246,16 +326,14 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
         if inp.crude_components:
             notes.append(f"{where} input '{key}': crude components (from another reaction) not kept")
         if inp.addition_order and step_names:
-            step: dict[str, Any] = {"add": step_names}
-            if inp.HasField("addition_temperature"):
-                c = _celsius(inp.addition_temperature)
-                if c is not None:
-                    step["temperature"] = {"value": c, "unit": "°C"}
-            if inp.HasField("addition_duration"):
-                v = _unit_value(inp.addition_duration, _TIME)
-                if v is not None:
-                    step["over"] = {"value": v, "unit": "min"}
-            steps.append(step)
+            steps.append(_input_step(inp, step_names))
+    return lines, steps
+
+
+def _workups(rxn, where: str, taken: set[str], notes: list[str]) -> tuple[list[dict], dict]:
+    """(lines from workup materials, the work-up text and eluent) from the reaction workups."""
+    lines: list[dict] = []
+    outcome: dict[str, Any] = {}
     for k, wk in enumerate(rxn.workups):
         for j, comp in enumerate(wk.input.components):
             line = _line_from_component(comp, f"{where} workup {k + 1} component {j + 1}", notes)
@@ -265,11 +343,14 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
             _unique_name(line, taken)
             lines.append(line)
         if not wk.input.components:
-            notes.append(f"{where}: workup {k + 1} ({type(wk).ReactionWorkupType.Name(wk.type)}) not kept")
+            read_workups(wk, k, where, outcome, notes)
+    return lines, outcome
 
+
+def _final_step(rxn, steps: list[dict]) -> dict:
+    """The reaction-wide setpoint, time, seal and atmosphere as one last step (the first step takes the atmosphere)."""
     cond = rxn.conditions
     main_t = _celsius(cond.temperature.setpoint) if cond.temperature.HasField("setpoint") else None
-    sealed = cond.pressure.control.type == cond.pressure.control.SEALED
     atm_type = cond.pressure.atmosphere.type
     atm = None
     if atm_type:
@@ -283,15 +364,23 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
         final["temperature"] = {"value": main_t, "unit": "°C"}
     if hold is not None and hold > 0:
         final["hold"] = {"value": hold, "unit": "min"}
-    if sealed:
+    if cond.pressure.control.type == cond.pressure.control.SEALED:
         final["sealed"] = True
     if atm:
         if steps:
             steps[0]["atmosphere"] = atm
         else:
             final["atmosphere"] = atm
+    return final
+
+
+def _steps_and_notes(rxn, meta: dict, lines: list[dict], steps: list[dict], where: str, notes: list[str]) -> tuple[list, str]:
+    """The Trapbook step list when the export wrote one, else the steps rebuilt from the ORD fields;
+    and the run notes (the ORD step text joins them when the steps had to be rebuilt)."""
+    final = _final_step(rxn, steps)
     if final:
         steps.append(final)
+    cond = rxn.conditions
     kept_steps = _trapbook_steps(meta, lines, where, notes)
     if kept_steps is not None:
         steps = kept_steps
@@ -302,82 +391,46 @@ def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
         notes_text.append(rxn.notes.procedure_details)
     if cond.details and kept_steps is None:
         notes_text.append("ORD conditions: " + cond.details)
-    if notes_text:
-        data["notes"] = "\n".join(notes_text)
+    return steps, "\n".join(notes_text)
+
+
+def _outcome(rxn, where: str, lines: list[dict], taken: set[str], workup: dict, notes: list[str]) -> dict | None:
+    """The run's outcome: products (their lines join `lines`), recovered precursor, observations, work-up."""
     if len(rxn.outcomes) > 1:
         notes.append(f"{where}: only the first of {len(rxn.outcomes)} outcomes kept")
-
-    products: list[dict] = []
-    recovered = None
-    if rxn.outcomes:
-        outc = rxn.outcomes[0]
-        for j, prod in enumerate(outc.products):
-            pwhere = f"{where} product {j + 1}"
-            name, smiles, other = _identifiers(prod)
-            features = {k: _data_value(v) for k, v in prod.features.items()}
-            masses = [m for m in prod.measurements if m.type == m.AMOUNT and m.amount.WhichOneof("kind") == "mass"]
-            if features.get("recovered_precursor") == "true":
-                if masses:
-                    v = _unit_value(masses[0].amount.mass, _MASS)
-                    if v is not None:
-                        recovered = {"value": v, "unit": "mg"}
-                continue
-            line: dict[str, Any] = {"role": "product", "name": name or smiles or pwhere}
-            if smiles:
-                line["smiles"] = smiles
-            v = _num(features.get("molar_mass_g_mol"))
-            if v is not None:
-                line["molar_mass"] = {"value": v, "unit": "g/mol"}
-            _unique_name(line, taken)
-            lines.append(line)
-            res: dict[str, Any] = {"product": line["name"]}
-            if masses:
-                v = _unit_value(masses[0].amount.mass, _MASS)
-                if v is not None:
-                    res["isolated_mass"] = {"value": v, "unit": "mg"}
-            for m in prod.measurements:
-                mtype = type(m).ProductMeasurementType.Name(m.type)
-                if mtype == "SELECTIVITY":
-                    stype = type(m.selectivity).SelectivityType.Name(m.selectivity.type)
-                    if stype in ("DR", "ER") and m.string_value:
-                        res[stype.lower()] = m.string_value
-                    elif stype in ("DR", "ER") and m.WhichOneof("value") == "float_value":
-                        res[stype.lower()] = f"{_f32(m.float_value.value):g}:1"
-                    elif stype == "EE" and m.WhichOneof("value") == "percentage":
-                        if "er" not in res and (m.details != "from er"):
-                            res["ee"] = _f32(m.percentage.value)
-                    else:
-                        notes.append(f"{pwhere}: selectivity {stype} not kept")
-                elif mtype == "YIELD":
-                    an = outc.analyses[m.analysis_key] if m.analysis_key in outc.analyses else None
-                    d = {k: _data_value(x) for k, x in an.data.items()} if an is not None else {}
-                    if all(_num(d.get(k)) is not None for k in ("standard_integral", "standard_protons", "integral", "protons")):
-                        q: dict[str, Any] = {k: _num(d[k]) for k in ("standard_integral", "integral")}
-                        q.update({k: int(_num(d[k])) for k in ("standard_protons", "protons")})
-                        if isinstance(d.get("standard"), str):
-                            q["standard"] = d["standard"]
-                        if _num(d.get("standard_amount_mmol")) is not None:
-                            q["standard_amount"] = {"value": _num(d["standard_amount_mmol"]), "unit": "mmol"}
-                        res["qnmr"] = q
-                    elif not masses or m.uses_internal_standard:
-                        shown = f"{_f32(m.percentage.value):g} % " if m.WhichOneof("value") == "percentage" else ""
-                        notes.append(f"{pwhere}: a {shown}yield without the data behind it "
-                                     "(isolated mass or NMR integrals) is not kept; Trapbook recomputes yields")
-                elif mtype != "AMOUNT":
-                    notes.append(f"{pwhere}: {mtype} measurement not kept")
-            if isinstance(features.get("note"), str):
-                res["note"] = features["note"]
-            if len(res) > 1:
-                products.append(res)
-        if outc.HasField("conversion"):
-            notes.append(f"{where}: conversion {outc.conversion.value:g} % not kept")
-    if products or recovered is not None:
-        data["outcome"] = {"products": products}
-        if recovered is not None:
-            data["outcome"]["recovered_precursor"] = recovered
+    product_lines, results, recovered = read_products(rxn, where, notes)
+    products = []
+    for line, res in zip(product_lines, results):
+        _unique_name(line, taken)
+        lines.append(line)
+        if res:
+            products.append({"product": line["name"], **res})
+    outcome: dict[str, Any] = {"products": products} if products or recovered is not None else {}
+    if recovered is not None:
+        outcome["recovered_precursor"] = recovered
     obs = [o.comment for o in rxn.observations if o.comment]
     if obs:
-        data.setdefault("outcome", {"products": []})["observations"] = "\n".join(obs)
+        outcome["observations"] = "\n".join(obs)
+    outcome.update(workup)
+    if outcome:
+        outcome.setdefault("products", [])
+    return outcome or None
+
+
+def reaction_to_run(rxn, where: str) -> tuple[dict, list[str]]:
+    """A run file dict from an ORD Reaction and notes on what did not map."""
+    notes: list[str] = []
+    data, meta = _run_fields(rxn, where, notes)
+    taken: set[str] = set()
+    lines, steps = _input_lines(rxn, where, taken, notes)
+    workup_lines, workup = _workups(rxn, where, taken, notes)
+    lines += workup_lines
+    steps, notes_text = _steps_and_notes(rxn, meta, lines, steps, where, notes)
+    if notes_text:
+        data["notes"] = notes_text
+    outcome = _outcome(rxn, where, lines, taken, workup, notes)
+    if outcome is not None:
+        data["outcome"] = outcome
     data["lines"] = _in_order(lines, meta)
     data["steps"] = steps
     if not data.get("limiting"):

@@ -17,8 +17,20 @@ from typing import Any
 
 from ..errors import TrapbookError
 from ..units import to_canonical
-from .ord_common import (_MASS, ELUENT_PREFIX, PRODUCT_FEATURES, SPECTRUM_DATA, _data, _data_value, _f32, _num, _pb,
-                         identifiers, quantity_of, set_quantity)
+from .ord_common import (
+    _MASS,
+    ELUENT_PREFIX,
+    PRODUCT_FEATURES,
+    SPECTRUM_DATA,
+    _data,
+    _data_value,
+    _f32,
+    _num,
+    _pb,
+    identifiers,
+    quantity_of,
+    set_quantity,
+)
 
 #: The last word of an appearance -> ORD texture ("white solid" is colour "white", texture SOLID).
 _TEXTURES = {"solid": "SOLID", "oil": "OIL", "powder": "POWDER", "crystals": "CRYSTAL", "foam": "FOAM", "wax": "WAX",
@@ -291,14 +303,15 @@ def _read_identity(m, outc, res: dict, pwhere: str, notes: list[str]) -> None:
         return
     kind = type(an).AnalysisType.Name(an.type)
     d = {k: _data_value(x) for k, x in an.data.items()}
-    if kind == "TLC" and _num(d.get("rf")) is not None:
+    if kind == "TLC" and _num(d.get("rf")) is not None and "rf" not in res:
         res["rf"] = _num(d["rf"])
-    elif kind.startswith("NMR") and an.details:
-        res["nmr_text"] = an.details
-    elif kind == "HRMS" and isinstance(d.get("ion"), str) and _num(d.get("found_mz")) is not None:
+    elif kind.startswith("NMR") and an.details:  # several NMR analyses (1H, 13C) join one text
+        res["nmr_text"] = f"{res['nmr_text']}\n{an.details}" if res.get("nmr_text") else an.details
+    elif kind == "HRMS" and isinstance(d.get("ion"), str) and _num(d.get("found_mz")) is not None and "hrms" not in res:
         res["hrms"] = {"ion": d["ion"], "found_mz": _num(d["found_mz"])}
     else:
-        notes.append(f"{pwhere}: {kind} analysis '{m.analysis_key}' not kept")
+        notes.append(f"{pwhere}: {kind} analysis '{m.analysis_key}' not kept (a product holds one Rf, NMR text "
+                     "and one HRMS ion with a finite m/z; this one is missing, unreadable or a second)")
 
 
 def _read_measurements(prod, outc, res: dict, pwhere: str, notes: list[str]) -> None:

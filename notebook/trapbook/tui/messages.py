@@ -56,3 +56,12 @@ class SidePanelToggled(Message):
     def __init__(self, in_sight: bool) -> None:
         super().__init__()
         self.in_sight = in_sight
+
+
+class RowCommand(Message):
+    """A row key on a Workbench table tab: 'blank' (a new row), 'remove', 'move' (by delta) or 'limiting'."""
+
+    def __init__(self, command: str, delta: int = 0) -> None:
+        super().__init__()
+        self.command = command
+        self.delta = delta

@@ -20,12 +20,13 @@ from textual.screen import Screen
 from textual.widgets import Checkbox, DataTable, Header, Input, Static, TabbedContent, TabPane
 
 from ...errors import StaleVersionError, TrapbookError
-from ..messages import StrainDone
+from ..messages import RowCommand, StrainDone
 from ..outcome_form import PRODUCT_FIELDS
 from ..rundata import form_data, plan_from
 from ..widgets.bench_side import BenchSide
 from ..widgets.field import Field, FormCheck
 from ..widgets.keybar import KeyBar
+from ..widgets.row_tabs import LinesTab, RowsTab
 from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
 from .workbench.outcome_tab import OUTCOME_FIELDS, PRODUCT_CHECKS, PRODUCT_COLUMNS, OutcomeTabMixin
@@ -54,13 +55,9 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         Binding("f3", "tab('tab-lines')", "Lines tab", show=False),
         Binding("f4", "tab('tab-steps')", "Steps tab", show=False),
         Binding("f5", "tab('tab-outcome')", "Outcome tab", show=False),
-        Binding("ctrl+n", "blank", "New row"),
-        Binding("ctrl+r", "remove", "Remove"),
-        Binding("ctrl+l", "limiting", "Limiting"),
         Binding("ctrl+g", "strain", "Strain"),
-        Binding("ctrl+up", "move(-1)", "Move", key_display="^↑/^↓"),
-        Binding("ctrl+down", "move(1)", "Move row down", show=False),
         Binding("f6", "history", "History"),
+        # the row keys (new, remove, move, limiting) belong to the table tabs: widgets/row_tabs.py
     ]
 
     def __init__(self, run_id: str | None = None, copy_of: str | None = None):
@@ -103,7 +100,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                                     yield Field("", f"fac-{i}", "", None, None)
                             else:
                                 yield Field(label, f"run-{key}", ph, check, sugg)
-                with TabPane("Lines F3", id="tab-lines"):
+                with LinesTab("Lines F3", id="tab-lines"):
                     yield DataTable(id="lines", cursor_type="row", cell_padding=0)
                     yield Static("", id="line-head", classes="form-head")
                     with Vertical(classes="form"):
@@ -111,7 +108,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                             yield Field(label, f"line-{key}", ph, check, sugg)
                         yield FormCheck("limiting line: the other lines' equiv refer to it", id="line-limiting")
                     yield Static("", id="line-msg", classes="form-msg")
-                with TabPane("Steps F4", id="tab-steps"):
+                with RowsTab("Steps F4", id="tab-steps"):
                     yield DataTable(id="steps", cursor_type="row", cell_padding=0)
                     yield Static("", id="step-head", classes="form-head")
                     with Vertical(classes="form"):
@@ -119,7 +116,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                             yield Field(label, f"step-{key}", ph, check, sugg)
                         yield FormCheck("sealed vessel (pressure builds on heating)", id="step-sealed")
                     yield Static("", id="step-msg", classes="form-msg")
-                with TabPane("Outcome F5", id="tab-outcome"):
+                with RowsTab("Outcome F5", id="tab-outcome"):
                     with VerticalScroll(id="outcome-scroll"):
                         yield DataTable(id="products", cursor_type="row", cell_padding=0)
                         yield Static("", id="prod-head", classes="form-head")
@@ -167,6 +164,18 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                 self.action_tab(self._active())
         self.call_after_refresh(self.fit_name_column)
         self.call_after_refresh(self.recompute)
+
+    def on_row_command(self, message: RowCommand) -> None:
+        """A table tab's row key: done here, on the run the screen holds (rows.py, lines_tab.py)."""
+        message.stop()
+        if message.command == "blank":
+            self.action_blank()
+        elif message.command == "remove":
+            self.action_remove()
+        elif message.command == "move":
+            self.action_move(message.delta)
+        elif message.command == "limiting":
+            self.action_limiting()
 
     def on_strain_done(self, message: StrainDone) -> None:
         """The side panel's strain computation finished: keep what it found and rebuild."""
@@ -309,18 +318,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
     @on(TabbedContent.TabActivated)
     def _tab_activated(self) -> None:
         self.refresh_bindings()  # the footer shows only the keys that work on this tab
-
-    def check_action(self, action: str, parameters: tuple) -> bool | None:
-        """Row keys only where there are rows; the limiting mark only on the Lines tab."""
-        if action not in ("blank", "remove", "move", "limiting"):
-            return True
-        try:
-            tab = self._active()
-        except Exception:  # not composed yet
-            return True
-        if action == "limiting":
-            return tab == "tab-lines"
-        return tab in ("tab-lines", "tab-steps", "tab-outcome")
 
     # --- saving and leaving -----------------------------------------------------
     def keep_pending(self) -> str | None:

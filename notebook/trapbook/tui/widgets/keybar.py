@@ -9,11 +9,14 @@ are left to the f1 list, and f1 closes the row.
 from __future__ import annotations
 
 from textual.app import ComposeResult
+from textual.binding import Binding
 from textual.widgets import Footer
 from textual.widgets._footer import FooterKey
 
 #: The binding that lists every key (TrapbookApp.action_keys); it is never dropped.
 ALL_KEYS_ACTION = "app.keys"
+#: How many of the screen's keys come before those of the widget in focus.
+SCREEN_LEADS = 3
 
 
 class KeyBar(Footer):
@@ -26,7 +29,8 @@ class KeyBar(Footer):
         narrow = width < 120
         keys, help_key = [], None
         seen: set[str] = set()
-        for _, binding, enabled, tooltip in self.screen.active_bindings.values():
+        active = sorted(self.screen.active_bindings.values(), key=self.rank)
+        for _, binding, enabled, tooltip in active:
             if not binding.show or binding.action in seen:
                 continue
             seen.add(binding.action)
@@ -49,6 +53,18 @@ class KeyBar(Footer):
         for binding, enabled, tooltip in fitted + ([help_key] if help_key else []):
             yield FooterKey(binding.key, self.app.get_key_display(binding), binding.description, binding.action,
                             disabled=not enabled, tooltip=tooltip).data_bind(compact=Footer.compact)
+
+    def rank(self, item) -> tuple[int, int]:
+        """The screen's first keys lead (listed by importance), then those of the widget in
+        focus (a tab's row keys), then the rest of the screen's, the app's last."""
+        node, binding = item[0], item[1]
+        if node is self.app:
+            return (3, 0)
+        if node is not self.screen:
+            return (1, 0)
+        shown = [b.action for b in type(self.screen).BINDINGS if isinstance(b, Binding) and b.show]
+        at = shown.index(binding.action) if binding.action in shown else len(shown)
+        return (0 if at < SCREEN_LEADS else 2, at)
 
     def on_resize(self) -> None:
         width = self.size.width
