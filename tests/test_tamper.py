@@ -394,7 +394,7 @@ def test_a_new_alignment_result_rejudges_the_runs_so_verify_stays_clean(tmp_path
     or the list would show stale findings (and verify would rightly say so)."""
     from samples import MINIMAL_RUN
     from trapbook.chemistry import alignment
-    from trapbook.strain_link import get_alignment
+    from trapbook.strain_link import get_alignment, run_temperature_c
 
     # a stand-in result in the engine's own shape: the check reads only the verdict and the angle
     monkeypatch.setattr(alignment, "precursor_alignment",
@@ -402,7 +402,8 @@ def test_a_new_alignment_result_rejudges_the_runs_so_verify_stays_clean(tmp_path
     path = tmp_path / "nb.sqlite"
     with Notebook.create(path) as nb:
         rid = nb.add_run(MINIMAL_RUN, author="A. Trial").run_id
-        get_alignment(nb, MINIMAL_RUN["lines"][0]["smiles"])
+        # the checks read the alignment at the temperature the run releases its intermediate
+        get_alignment(nb, MINIMAL_RUN["lines"][0]["smiles"], temperature_c=run_temperature_c(nb.get_run(rid)))
         codes = json.loads(nb.conn.execute("SELECT findings FROM run_index WHERE run_id = ?", (rid,)).fetchone()[0])
     assert "precursor-misaligned" in codes
     assert integrity.verify_path(path).ok

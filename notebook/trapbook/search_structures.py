@@ -44,10 +44,32 @@ class _Memo:
 
 _MEMOS: dict[str, _Memo] = {}
 
+#: Whether a stored SMILES contains a query, by query text. A match depends on nothing but the
+#: two strings, so it holds for every notebook: a group of members' notebooks (group.py), whose
+#: files each store their own copy of the structures they share, matches each one once.
+_CONTAINS: dict[str, dict[str, bool]] = {}
+
 
 def clear_caches() -> None:
     """Forget all kept work (what a fresh process starts with); never needed for correct answers."""
     _MEMOS.clear()
+    _CONTAINS.clear()
+
+
+def _matching(smiles: list[str], query_text: str, time_limit_s: float) -> list[int]:
+    """Positions of the SMILES that contain the query; only those never matched against it go to the matcher."""
+    from .chemistry import fingerprints
+
+    known = _CONTAINS.get(query_text)
+    if known is None:
+        if len(_CONTAINS) >= _KEEP:
+            _CONTAINS.pop(next(iter(_CONTAINS)))
+        known = _CONTAINS[query_text] = {}
+    todo = [smi for smi in dict.fromkeys(smiles) if smi not in known]
+    if todo:
+        found = {todo[i] for i in fingerprints.matching_indices(todo, query_text, time_limit_s)}  # a timeout raises: nothing kept
+        known.update((smi, smi in found) for smi in todo)
+    return [i for i, smi in enumerate(smiles) if known[smi]]
 
 
 def memo_for(nb) -> _Memo:
@@ -108,13 +130,14 @@ def substructure_ids(nb, query_text: str, screen: bool = True, reuse: bool = Tru
     """
     memo = memo_for(nb)
     if not reuse:
-        return _substructure(nb, memo, query_text, screen, time_limit_s)
+        return _substructure(nb, memo, query_text, screen, time_limit_s, keep_matches=False)
     key = ("substructure", query_text.strip() if isinstance(query_text, str) else query_text, screen)
     found, stats = remember(memo, key, lambda: _substructure(nb, memo, query_text, screen, time_limit_s))
     return dict(found), dict(stats)
 
 
-def _substructure(nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: float) -> tuple[dict[int, float], dict]:
+def _substructure(nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: float,
+                  keep_matches: bool = True) -> tuple[dict[int, float], dict]:
     from .chemistry import fingerprints, molecules
 
     query = molecules.substructure_query(query_text)
@@ -124,7 +147,9 @@ def _substructure(nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: 
         rows = np.flatnonzero(np.all((bits & q) == q, axis=1)).tolist()
     else:
         rows = list(range(len(ids)))
-    hits = fingerprints.matching_indices([smiles[i] for i in rows], query_text, time_limit_s)
+    candidates = [smiles[i] for i in rows]
+    hits = (_matching(candidates, query_text, time_limit_s) if keep_matches
+            else fingerprints.matching_indices(candidates, query_text, time_limit_s))
     found: dict[int, float] = {int(ids[rows[i]]): 1.0 for i in hits}
     stats = {"structures": len(ids), "screened_in": len(rows), "matched": len(found)}
     return found, stats
