@@ -159,9 +159,12 @@ def test_campaign_maps_records_failures_and_resumes(notebook, client):
     assert rows["no force field for uranium"]["status"] == "failed"
     versions = len(notebook.setting_history(cp.RECORD_PREFIX + record["id"]))
     again = cp.run_campaign(notebook, record, client=client)
-    assert again["from_cache"] == 3 and again["computed"] == 0  # only the failed one was tried again
+    assert (again["from_cache"], again["computed"], again["kept_failed"]) == (3, 0, 1)  # nothing computed
     assert [f["candidate"] for f in again["failed"]] == ["no force field for uranium"]
     assert len(notebook.setting_history(cp.RECORD_PREFIX + record["id"])) == versions  # nothing new to record
+    retried = cp.run_campaign(notebook, record, client=client, retry_failed=True)
+    assert (retried["computed"], retried["kept_failed"]) == (0, 0)
+    assert [f["candidate"] for f in retried["failed"]] == ["no force field for uranium"]  # tried, failed again
 
 
 def test_cli_campaign_json_and_report(tmp_path, notebook):

@@ -35,8 +35,9 @@ def f1_in_sight(app, width: int) -> bool:
 
 async def footer_drawn(pilot) -> None:
     """The footer is laid out after the screen's first refresh; on a busy machine that takes a while."""
-    for _ in range(40):
-        if list(pilot.app.screen.query("FooterKey")):
+    for _ in range(60):
+        keys = list(pilot.app.screen.query("FooterKey"))
+        if keys and all(k.region.width > 0 for k in keys):
             return
         await pilot.pause(0.05)
 
@@ -110,7 +111,11 @@ async def test_every_screen_keeps_f1_in_the_footer(demo_path, size):
             await footer_drawn(pilot)
             assert f1_in_sight(app, size[0]), name
             await pilot.press("escape")
-            await pilot.pause(0.2)
+            for _ in range(60):  # back on the Logbook before the next key
+                if type(app.screen).__name__ == "LogbookScreen":
+                    break
+                await pilot.pause(0.05)
+            assert type(app.screen).__name__ == "LogbookScreen"
 
 
 def _relative_luminance(hex_colour: str) -> float:

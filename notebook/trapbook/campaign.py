@@ -123,6 +123,7 @@ def run_task(what: str, smiles: str, tier: str) -> dict:
     A chemistry failure comes back as {"ok": False, "reason", "hint"} so the client records
     it on its candidate (an exception object would have to survive pickling between processes).
     """
+    _one_thread_per_worker()
     try:
         if what == "strain":
             from .chemistry.strain import compute_strain
@@ -135,6 +136,14 @@ def run_task(what: str, smiles: str, tier: str) -> dict:
     except TrapbookError as exc:
         return {"ok": False, "reason": exc.message, "hint": exc.hint}
     return {"ok": True, "result": result}
+
+
+def _one_thread_per_worker() -> None:
+    """A worker is one core: conformer embedding and MMFF94 would otherwise start a thread per
+    core inside every worker, and N workers would fight over N cores."""
+    from .chemistry import conformers
+
+    conformers.THREADS = 1
 
 
 # ---------------------------------------------------------------- the cluster
@@ -201,23 +210,29 @@ def store_outcome(nb, task: Task, outcome: dict) -> None:
 
 
 def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int | None = None,
-                 progress: Progress | None = None, client=None) -> dict:
+                 progress: Progress | None = None, client=None, retry_failed: bool = False) -> dict:
     """Compute what the cache lacks, store each result as it arrives, and keep the campaign's record.
 
-    Returns {id, computed, from_cache, failed: [{candidate, smiles, what, reason, hint}]}.
+    A task that failed in an earlier run keeps its recorded reason and is not tried again
+    unless `retry_failed`, so a re-run of a finished campaign computes nothing.
+    Returns {id, tasks, computed, from_cache, kept_failed, failed: [{candidate, smiles, what, reason, hint}]}.
     """
     if nb is not None and nb.read_only:
         raise TrapbookError("this notebook is open read-only here", "run the campaign where the notebook can be written")
     tasks = tasks_of(record)
-    todo = [t for t in tasks if cached(nb, t) is None]
-    failed: list[dict] = []
-    done = len(tasks) - len(todo)
+    earlier = {} if retry_failed or nb is None else {
+        (f["what"], f["smiles"]): f for f in (load_record(nb, record["id"]) or {}).get("failed") or [] if f["what"] != "structure"}
+    missing = [t for t in tasks if cached(nb, t) is None]
+    todo = [t for t in missing if (t.what, t.smiles) not in earlier]
+    failed: list[dict] = [earlier[(t.what, t.smiles)] for t in missing if (t.what, t.smiles) in earlier]
+    kept_failed = len(failed)
+    done = len(tasks) - len(missing)
     own = client is None and bool(todo)
     if own:
         client = open_client(scheduler, n_workers)  # before anything is written: a bad address changes nothing
     try:
         _save_record(nb, record, failed=None)
-        _tell(progress, done, 0, len(todo))
+        _tell(progress, done, len(failed), len(todo))
         for left, (task, outcome) in enumerate(stream_results(client, todo) if todo else [], 1):
             if outcome.get("ok"):
                 store_outcome(nb, task, outcome)  # as each arrives: a stopped campaign keeps what it has
@@ -230,8 +245,8 @@ def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int 
         if own:
             close_client(client)
     _save_record(nb, record, failed=failed)
-    return {"id": record["id"], "tasks": len(tasks), "computed": len(todo) - len(failed),
-            "from_cache": len(tasks) - len(todo), "failed": failed}
+    return {"id": record["id"], "tasks": len(tasks), "computed": len(todo) - (len(failed) - kept_failed),
+            "from_cache": len(tasks) - len(missing), "kept_failed": kept_failed, "failed": failed}
 
 
 def _tell(progress: Progress | None, done: int, failed: int, left: int) -> None:
@@ -249,7 +264,10 @@ def _save_record(nb, record: dict, failed: list[dict] | None) -> None:
     value = dict(record)
     unreadable = [{"candidate": c["name"], "smiles": c["smiles"], "what": "structure", "reason": c["origin"], "hint":
                    "correct the SMILES in the file"} for c in record["candidates"] if c["kind"] == "unreadable"]
-    value["failed"] = unreadable + (failed or []) if failed is not None else (load_record(nb, record["id"]) or {}).get("failed", unreadable)
+    if failed is None:
+        value["failed"] = (load_record(nb, record["id"]) or {}).get("failed", unreadable)
+    else:  # in a fixed order, so the same outcome is the same value
+        value["failed"] = unreadable + sorted(failed, key=lambda f: (f["candidate"], f["what"], f["smiles"]))
     nb.set_setting(RECORD_PREFIX + record["id"], value, reason=f"campaign {record['id']} on {record['source']}")
 
 

@@ -31,8 +31,8 @@ REF_SEPARATOR = ":"
 
 
 def read_only_problem(path: Path) -> StoreError:
-    """Why a save to a member's notebook is refused in a group view."""
-    return StoreError(f"the group view only reads: nothing is written to {path}",
+    """Why a save is refused in a group view or a read-only session (trapbook open/serve --read-only)."""
+    return StoreError(f"this view only reads: nothing is written to {path}",
                       f"to change it, open that notebook on its own: trapbook --db {path} ...")
 
 

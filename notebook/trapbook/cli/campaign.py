@@ -57,13 +57,14 @@ def _kinds(text: str) -> tuple[str, ...]:
 @click.option("--no-precursors", is_flag=True, help="Strain only: skip the precursors and their alignment.")
 @click.option("--scheduler", metavar="ADDR", help="An existing Dask scheduler (tcp://host:8786); default: a local cluster.")
 @click.option("--workers", type=click.IntRange(1, 256), help="Workers of the local cluster (default: one per core).")
+@click.option("--retry-failed", is_flag=True, help="Try again the tasks that failed in an earlier run (kept with their reason otherwise).")
 @click.option("--report", "report_path", metavar="FILE.html", help="Also write the campaign's HTML map.")
 @json_option(help="Print {id, source, tier, tasks, computed, from_cache, failed: [{candidate, smiles, what, reason}], "
                   "rows: [{rank, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
                   "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, status, reason}]}.")
 @pass_ctx
 def campaign_cmd(ctx: Ctx, source: str, tier: str, kinds: str, leaving_groups: tuple[str, ...], no_precursors: bool,
-                 scheduler: str | None, workers: int | None, report_path: str | None, as_json: bool) -> None:
+                 scheduler: str | None, workers: int | None, retry_failed: bool, report_path: str | None, as_json: bool) -> None:
     """Map the strain of every candidate intermediate of a skeleton, or of a file's list.
 
     SKELETON is a saturated polycycle's SMILES: every symmetry-unique bridgehead alkene is
@@ -81,7 +82,8 @@ def campaign_cmd(ctx: Ctx, source: str, tier: str, kinds: str, leaving_groups: t
     record = plan(source if lines is None else str(path), tier=tier, kinds=_kinds(kinds),
                   leaving_groups=leaving_groups or ("OTf",), precursors=not no_precursors, lines=lines)
     with ctx.notebook() as nb:
-        summary = run_campaign(nb, record, scheduler=scheduler, n_workers=workers, progress=_progress_line(as_json))
+        summary = run_campaign(nb, record, scheduler=scheduler, n_workers=workers, progress=_progress_line(as_json),
+                               retry_failed=retry_failed)
         rows = campaign_table(nb, load_record(nb, record["id"]))
         if report_path:
             from ..reports import write_report
@@ -112,5 +114,7 @@ def _print_table(record: dict, summary: dict, rows: list[dict]) -> None:
         say(f"   {r['smiles']}  {r['kind']}" + (f"  [{r['status']}: {r['reason']}]" if r["status"] != "done" else ""))
     for f in summary["failed"]:
         say(f"failed: {f['candidate']} {f['what']} {f['smiles']}: {f['reason']}")
+    if summary["kept_failed"]:
+        say(f"  {summary['kept_failed']} failure(s) kept from an earlier run; --retry-failed tries them again")
     if summary.get("report"):
         say(f"wrote the campaign's map to {summary['report']['path']}")

@@ -429,7 +429,8 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
 @main.command("list")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
 @click.option("--screen", help="Only runs of this screen.")
-@json_option(help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...}.")
+@json_option(help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...} "
+                  "(under --group: {members: [{member, path, owner, ok, runs, problems}], runs}, each run also with member and ref MEMBER:ID).")
 @pass_ctx
 def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: bool) -> None:
     """List the runs in the notebook (under --group: {members, runs}, each run with member and ref)."""

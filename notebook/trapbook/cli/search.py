@@ -34,7 +34,7 @@ from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 @click.option("--time-limit", "time_limit_s", type=float, default=DEFAULT_TIME_LIMIT_S, show_default=True,
               help="Seconds a substructure match may take before the search stops and says so.")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
-@json_option(help="Print a list of {run_id, title, score, matched}.")
+@json_option(help="Print a list of {run_id, title, score, matched} (under --group: {members, hits}, each hit also with member and ref MEMBER:ID).")
 @pass_ctx
 def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> None:
     """Find runs; all filters given must hold (AND). Results name what matched.
