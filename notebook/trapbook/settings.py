@@ -111,3 +111,14 @@ def notebook_bench_words(nb):
     if (s.room_temperature_c, s.overnight_h) == (BenchWords().room_temperature_c, BenchWords().overnight_h):
         return BenchWords()
     return BenchWords(s.room_temperature_c, s.overnight_h, source="this notebook's setting")
+
+
+def in_lab_words(nb, run):
+    """The run as it is saved into `nb`: 'rt' and 'overnight' read with this notebook's meaning.
+
+    The one step every way of saving a run (the CLI's add and update, the Workbench) takes
+    before the store, so a run saved from the terminal UI and one saved from a file agree.
+    """
+    from .records import with_bench_words
+
+    return with_bench_words(run, notebook_bench_words(nb))

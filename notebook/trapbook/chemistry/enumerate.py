@@ -87,7 +87,11 @@ def _with_bonds(mol: Chem.Mol, changes: dict[tuple[int, int], Chem.BondType]) ->
 
 
 def _rank_key(ranks: list[int], atoms: list[int]) -> tuple:
-    """Symmetry class of a unit: the ranks of its atoms, read in the direction that sorts first."""
+    """Symmetry class of a unit: the ranks of its atoms, read in the direction that sorts first.
+
+    Keyed together with the unit's canonical SMILES, so positions of equal rank merge only
+    when they also give the same structure (equal ranks of two atoms do not by themselves
+    make the bond between them equivalent to another)."""
     seq = [ranks[a] for a in atoms]
     return min(tuple(seq), tuple(reversed(seq)))
 
@@ -98,12 +102,9 @@ def _bridgehead_alkenes(mol: Chem.Mol, ranks: list[int]) -> dict[tuple, Chem.Mol
         i, j = bond.GetBeginAtomIdx(), bond.GetEndAtomIdx()
         if not bond.IsInRing() or mol.GetAtomWithIdx(i).GetAtomicNum() != 6 or mol.GetAtomWithIdx(j).GetAtomicNum() != 6:
             continue
-        key = ("bridgehead",) + _rank_key(ranks, [i, j])
-        if key in found:
-            continue
         alkene = _with_bonds(mol, {(i, j): Chem.BondType.DOUBLE})
         if alkene is not None and bh.perceive_mol(alkene).kind == bh.BRIDGEHEAD:
-            found[key] = alkene
+            found.setdefault(("bridgehead",) + _rank_key(ranks, [i, j]) + (Chem.MolToSmiles(alkene),), alkene)
     return found
 
 
@@ -121,14 +122,11 @@ def _ring_units(mol: Chem.Mol, ranks: list[int], kind: str) -> dict[tuple, Chem.
             atoms = [ring[(k + m) % n] for m in range(span)]
             if any(mol.GetAtomWithIdx(a).GetAtomicNum() != 6 for a in atoms):
                 continue
-            key = (kind,) + _rank_key(ranks, atoms)
-            if key in found:
-                continue
             pairs = list(zip(atoms, atoms[1:]))
             order = Chem.BondType.TRIPLE if kind == bh.ALKYNE else Chem.BondType.DOUBLE
             made = _with_bonds(mol, {p: order for p in pairs})
             if made is not None and bh.perceive_mol(made).kind == kind:
-                found[key] = made
+                found.setdefault((kind,) + _rank_key(ranks, atoms) + (Chem.MolToSmiles(made),), made)
     return found
 
 

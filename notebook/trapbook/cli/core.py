@@ -21,6 +21,7 @@ import click
 from .. import __version__
 from ..errors import TrapbookError
 from ..findings import findings_for
+from ..settings import in_lab_words
 from ..text_safety import json_safe, printable
 
 # --- plumbing ----------------------------------------------------------------------------
@@ -208,14 +209,6 @@ def read_run_file(path: str):
     return load_run_text(text, source)
 
 
-def _in_lab_words(nb, run):
-    """The run with 'rt' and 'overnight' meaning what this notebook says they mean."""
-    from ..records import with_bench_words
-    from ..settings import notebook_bench_words
-
-    return with_bench_words(run, notebook_bench_words(nb))
-
-
 def _names_a_file(ref: str) -> bool:
     """Whether REF is an existing path; a name the system cannot hold as a path (too long, a NUL) is not one."""
     try:
@@ -333,7 +326,7 @@ def add(ctx: Ctx, runfile: str, reason: str, create: bool, as_json: bool) -> Non
     """Validate RUNFILE (JSON, '-' for stdin), store it as a new run and print its id."""
     run = read_run_file(runfile)
     with ctx.notebook(create=create, offer_create=True) as nb:
-        res = nb.add_run(_in_lab_words(nb, run), author=ctx.author, reason=reason)
+        res = nb.add_run(in_lab_words(nb, run), author=ctx.author, reason=reason)
         findings = findings_for(nb, nb.get_run(res.run_id))
     if as_json:
         emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash, "findings": [f.to_dict() for f in findings]})
@@ -354,7 +347,7 @@ def update(ctx: Ctx, run_id: str, runfile: str, reason: str, from_version: int |
     run = read_run_file(runfile).model_copy(update={"id": run_id})
     with ctx.notebook() as nb:
         # without --from-version the current version is read under the write lock (never falsely stale)
-        res = nb.save_run(_in_lab_words(nb, run), from_version, author=ctx.author, reason=reason)
+        res = nb.save_run(in_lab_words(nb, run), from_version, author=ctx.author, reason=reason)
     if as_json:
         emit_json({"run_id": res.run_id, "version": res.version, "hash": res.hash})
     else:

@@ -199,6 +199,21 @@ def row_problem(model, row: dict) -> str | None:
     return None
 
 
+def step_problem(step: dict, lines: list[dict]) -> str | None:
+    """Why a step row is not valid as a step of this run, or None if it is.
+
+    A step is checked in the context of the run's lines, the way `records.Run` checks it:
+    'reflux' means the boiling point of the run's solvent, which a row alone cannot know.
+    """
+    from .. import bench_words
+    from ..records import Step
+
+    temperature = step.get("temperature")
+    if isinstance(temperature, str) and "reflux" in temperature.lower():
+        step = {**step, "_reflux": bench_words.run_reflux(lines)}
+    return row_problem(Step, step)
+
+
 def pydantic_words(exc: ValidationError) -> str:
     """A pydantic error as the words a form's message line shows: "field: what is wrong; ..."."""
     msgs = []

@@ -15,8 +15,13 @@ from ..errors import TrapbookError
 
 
 def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
-                         progress: Callable[[str, float], None]) -> tuple[dict | None, dict | None, str | None]:
-    """(strain, alignment, note): the best strain result reached and the alignment, if any."""
+                         progress: Callable[[str, float], None],
+                         temperature_c: float = 25.0) -> tuple[dict | None, dict | None, str | None]:
+    """(strain, alignment, note): the best strain result reached and the alignment, if any.
+
+    The alignment is computed at `temperature_c`, the run's release temperature
+    (`strain_link.run_temperature_c`): conformer populations, and so the verdict, depend on it.
+    """
     import importlib
 
     importlib.import_module("..chemistry.strain", __package__)  # the engine's heavy parts, before opening anything
@@ -31,7 +36,7 @@ def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
         progress("fast tier done; precursor alignment…", 0.3)
         if precursor:
             try:
-                alignment = get_alignment(nb, precursor)
+                alignment = get_alignment(nb, precursor, temperature_c=temperature_c)
             except TrapbookError as exc:
                 notes.append(f"alignment: {exc.message}")
         progress("accurate tier (GFN2-xTB)…", 0.45)

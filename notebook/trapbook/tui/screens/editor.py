@@ -26,7 +26,7 @@ from ..rundata import form_data, plan_from
 from ..widgets.bench_side import BenchSide
 from ..widgets.field import Field, FormCheck
 from ..widgets.keybar import KeyBar
-from ..widgets.row_tabs import LinesTab, RowsTab
+from ..widgets.row_tabs import LinesTab, OutcomeTab, RowsTab
 from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
 from .workbench.outcome_tab import OUTCOME_FIELDS, PRODUCT_CHECKS, PRODUCT_COLUMNS, OutcomeTabMixin
@@ -116,7 +116,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                             yield Field(label, f"step-{key}", ph, check, sugg)
                         yield FormCheck("sealed vessel (pressure builds on heating)", id="step-sealed")
                     yield Static("", id="step-msg", classes="form-msg")
-                with RowsTab("Outcome F5", id="tab-outcome"):
+                with OutcomeTab("Outcome F5", id="tab-outcome"):
                     with VerticalScroll(id="outcome-scroll"):
                         yield DataTable(id="products", cursor_type="row", cell_padding=0)
                         yield Static("", id="prod-head", classes="form-head")
@@ -176,6 +176,8 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             self.action_move(message.delta)
         elif message.command == "limiting":
             self.action_limiting()
+        elif message.command == "expected":
+            self.action_expected()
 
     def on_strain_done(self, message: StrainDone) -> None:
         """The side panel's strain computation finished: keep what it found and rebuild."""

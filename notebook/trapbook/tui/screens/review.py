@@ -55,6 +55,37 @@ def best_text(review: dict) -> Text:
     return out
 
 
+def plotted_kinds(strain_map: dict) -> list[str]:
+    """The kinds with at least one point (a strain and a yield), in the ranking's order."""
+    with_points = {e["kind"] for e in strain_map["intermediates"]
+                   if e["kind"] and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None}
+    return sorted(with_points)
+
+
+def plot_note(strain_map: dict, kind: str | None, pts: list[dict], n_kinds: int) -> Text:
+    """Under the plot: what is missing, this kind's Spearman rho (never one across kinds), the method."""
+    text = Text()
+    missing = strain_map.get("missing_strain") or []
+    if missing:
+        text.append(f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n",
+                    style=f"{tone('warn')}")
+    if n_kinds > 1:
+        text.append(f"{n_kinds} kinds, one plot each (k for the next): their strain numbers are different "
+                    "quantities.\n", style=f"italic {tone('muted')}")
+    rk = next((k for k in (strain_map.get("ranking") or {}).get("by_kind", []) if k["kind"] == kind), None)
+    if rk and rk.get("spearman_rho") is not None:
+        text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} {kind} intermediates. ", style="bold")
+    elif kind:
+        text.append(f"No ρ for {kind}: needs at least 3 intermediates with a strain and a yield, not all tied. ",
+                    style="italic")
+    if any(e["strain_tier"] != "accurate" for e in pts):
+        text.append("○ = fast-tier prescreen, not classed. ", style=f"italic {tone('warn')}")
+    methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
+    if methods:
+        text.append("Strain method: " + "; ".join(methods), style=f"italic {tone('muted')}")
+    return text
+
+
 class BoardScreen(Screen):
     """Review of one condition screen at a time."""
 
@@ -62,6 +93,7 @@ class BoardScreen(Screen):
         Binding("left_square_bracket", "turn(-1)", "Prev screen", key_display="["),
         Binding("right_square_bracket", "turn(1)", "Next screen", key_display="]"),
         Binding("o", "open_best", "Open best run"),
+        Binding("k", "kind(1)", "Next kind"),
         Binding("g", "fill_strain", "Compute missing strain"),
         Binding("escape", "app.pop_screen", "Back"),
     ]
@@ -77,6 +109,8 @@ class BoardScreen(Screen):
         self.index = 0
         self.review: dict | None = None
         self.map: dict | None = None
+        self.kinds: list[str] = []
+        self.kind_index = 0
 
     def compose(self) -> ComposeResult:
         from textual_plotext import PlotextPlot
@@ -131,50 +165,55 @@ class BoardScreen(Screen):
     def show_plot(self) -> None:
         from ... import review
 
-        plot = self.query_one("#strain-plot")
         note = self.query_one("#plot-note", Static)
         try:
             self.map = review.strain_map(self.app.nb)
         except TrapbookError as exc:
             note.update(Text(exc.message, style=f"{tone('stop')}"))
             return
+        self.kinds = plotted_kinds(self.map)
+        self.kind_index = min(self.kind_index, max(len(self.kinds) - 1, 0))
+        kind = self.kinds[self.kind_index] if self.kinds else None
         pts = [e for e in self.map["intermediates"]
-               if e["olefin_strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
+               if e["kind"] == kind and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
+        self.draw(kind, pts)
+        note.update(plot_note(self.map, kind, pts, len(self.kinds)))
+
+    def draw(self, kind: str | None, pts: list[dict]) -> None:
+        """One kind's points: its own strain quantity on x; a prescreen (fast tier) drawn hollow."""
+        from ...stability import quantity_of
+
+        plot = self.query_one("#strain-plot")
         plt = plot.plt
         plt.clear_data()
         plt.clear_figure()
-        plt.title("best yield vs olefin strain, all runs")
-        plt.xlabel("OS (kcal/mol)")
+        quantity = (quantity_of(kind) if kind else None) or "strain"
+        plt.title(f"best yield vs {quantity}: {kind}" if kind else "best yield vs strain")
+        plt.xlabel(f"{quantity.split(' (')[0]} (kcal/mol)")
         plt.ylabel("best yield %")
         if pts:
-            xs = [e["olefin_strain_kcal_mol"] for e in pts]
-            ys = [e["best_yield_pct"] for e in pts]
-            plt.scatter(xs, ys, marker="●", color="orange")
+            for accurate, marker, label in ((True, "●", "accurate tier"), (False, "○", "prescreen (fast tier)")):
+                some = [e for e in pts if (e["strain_tier"] == "accurate") == accurate]
+                if some:
+                    plt.scatter([e["strain_kcal_mol"] for e in some], [e["best_yield_pct"] for e in some],
+                                marker=marker, color="orange", label=label)
+            xs = [e["strain_kcal_mol"] for e in pts]
             lo, hi = min(xs), max(xs)
             span = (hi - lo) or 1.0
             for e in pts:
                 label = (e.get("name") or e["smiles"]).replace("bicyclo", "")
-                x = e["olefin_strain_kcal_mol"]
+                x = e["strain_kcal_mol"]
                 # the label sits just above its point, so the marker stays visible; near an edge
                 # it grows inwards so it is not cut off by the frame
                 side = "left" if x - lo < 0.25 * span else "right" if hi - x < 0.25 * span else "center"
                 plt.text(label, x, min(e["best_yield_pct"] + 6, 98), color="cyan", alignment=side)
             plt.ylim(0, 100)
         plot.refresh()
-        rk = self.map.get("ranking") or {}
-        text = Text()
-        missing = self.map.get("missing_strain") or []
-        if missing:
-            text.append(f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n",
-                        style=f"{tone('warn')}")
-        if rk.get("spearman_rho") is not None:
-            text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} intermediates. ", style="bold")
-        elif rk.get("note"):
-            text.append(rk["note"] + ". ", style="italic")
-        methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
-        if methods:
-            text.append("Strain method: " + "; ".join(methods), style=f"italic {tone('muted')}")
-        note.update(text)
+
+    def action_kind(self, delta: int) -> None:
+        if len(self.kinds) > 1:
+            self.kind_index = (self.kind_index + delta) % len(self.kinds)
+            self.show_plot()
 
     def action_turn(self, delta: int) -> None:
         if self.ids:

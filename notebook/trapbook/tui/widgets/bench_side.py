@@ -41,22 +41,22 @@ class BenchSide(Vertical):
     def on_mount(self) -> None:
         self.query_one("#strain-progress").display = False
 
-    def start_strain(self, nb_path: Path, smiles: str, precursor: str | None) -> None:
+    def start_strain(self, nb_path: Path, smiles: str, precursor: str | None, temperature_c: float = 25.0) -> None:
         """Compute strain (and the precursor's alignment) in the background; the bar shows how far."""
         bar = self.query_one("#strain-progress", ProgressBar)
         bar.display = True
         bar.update(total=100, progress=0)
-        self.compute_strain(nb_path, smiles, precursor)
+        self.compute_strain(nb_path, smiles, precursor, temperature_c)
 
     @work(thread=True, exclusive=True, group="strain", exit_on_error=False)
-    def compute_strain(self, nb_path: Path, smiles: str, precursor: str | None) -> None:
+    def compute_strain(self, nb_path: Path, smiles: str, precursor: str | None, temperature_c: float) -> None:
         from ..strainwork import strain_and_alignment
 
         def progress(stage: str, fraction: float) -> None:
             self.post_message(StrainProgress(stage, fraction))
 
         try:
-            strain, alignment, note = strain_and_alignment(nb_path, smiles, precursor, progress)
+            strain, alignment, note = strain_and_alignment(nb_path, smiles, precursor, progress, temperature_c)
         except TrapbookError as exc:
             self.post_message(StrainDone(None, None, exc.message))
             return

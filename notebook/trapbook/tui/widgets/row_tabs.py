@@ -34,3 +34,11 @@ class LinesTab(RowsTab):
     BINDINGS = [
         Binding("ctrl+l", "row('limiting')", "Limiting"),
     ]
+
+
+class OutcomeTab(RowsTab):
+    """The Outcome tab: its rows, and the run's expected products to pick a result from."""
+
+    BINDINGS = [
+        Binding("ctrl+t", "row('expected')", "Expected products"),
+    ]

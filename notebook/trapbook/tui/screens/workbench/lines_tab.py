@@ -27,7 +27,10 @@ LINE_FIELDS = (
     ("water", "Water", "e.g. 5 wt%", forms.check_kind("fraction", "a fraction"), None),
 )
 LIMIT_MARK = "◆"
-LINE_COLUMNS = (("#", 3), ("role", 10), ("name", 19), ("given", 7), ("equiv", 6), ("mmol", 7), ("mg", 7), ("µL", 6), ("g/mol", 7))
+#: "given" says which amount the line was given in, or "weighed" once it records what went into the flask;
+#: then "planned" holds the plan in the kind that was measured, beside the amounts worked out from the weighing.
+LINE_COLUMNS = (("#", 3), ("role", 10), ("name", 19), ("given", 7), ("planned", 10), ("equiv", 6), ("mmol", 7),
+                ("mg", 7), ("µL", 6), ("g/mol", 7))
 #: The side panel's width beside the tabs (app.tcss `#bench-side`), and the name column's bounds.
 SIDE_WIDTH = 44
 NAME_MIN, NAME_MAX = 8, 40
@@ -184,18 +187,39 @@ class LinesTabMixin:
         if self.data:
             self.refresh_lines()
 
+    def planned_cells(self) -> dict[str, str]:
+        """Line name (casefolded) -> its planned amount in the kind that was weighed, for lines with one.
+
+        The amount columns are worked out from what was weighed (`amounts.compute`); the plan
+        beside them comes from `weighed.planned_vs_weighed`, the comparison `trapbook show` makes.
+        """
+        if self.run is None or not any(ln.actual is not None for ln in self.run.lines):
+            return {}
+        from ....display import fmt_sig
+        from ....weighed import planned_vs_weighed
+
+        try:
+            compared = planned_vs_weighed(self.run)
+        except TrapbookError:  # the plan alone cannot be worked out: said as unknown, the checks say why
+            return {ln.name.casefold(): "?" for ln in self.run.lines if ln.actual is not None}
+        return {w.name.casefold(): f"{fmt_sig(w.planned, 3)} {w.unit}" if w.planned is not None else "not planned"
+                for w in compared}
+
     def refresh_lines(self) -> None:
         from ....units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
 
         t = self.query_one("#lines", DataTable)
         rows = []
         limiting = (self.table.limiting if self.table else "").casefold()
+        planned = self.planned_cells()
         for i, line in enumerate(self.data.get("lines", [])):
             row = self.table.line(line.get("name", "")) if self.table else None
-            given = next((k for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "—")
+            key = str(line.get("name", "")).casefold()
+            given = "weighed" if key in planned else next((k for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "—")
             role = line.get("role") or ""
-            mark = LIMIT_MARK if limiting and line.get("name", "").casefold() == limiting else ""
-            cells = [f"{i + 1}{mark}", ROLE_SHORT.get(role, role)[:9], clip(line.get("name"), self._name_width - 1), given]
+            mark = LIMIT_MARK if limiting and key == limiting else ""
+            cells = [f"{i + 1}{mark}", ROLE_SHORT.get(role, role)[:9], clip(line.get("name"), self._name_width - 1), given,
+                     clip(planned.get(key, ""), 10)]
             if row is not None:
                 cells += [fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg), fmt_ul(row.volume_ul),
                           f"{row.mw_g_mol:.2f}" if row.mw_g_mol else "—"]

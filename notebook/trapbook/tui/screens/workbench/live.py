@@ -34,9 +34,16 @@ class LiveRunMixin:
         return json.dumps(self.data, sort_keys=True) != self.original
 
     def build(self, data: dict | None = None):
-        from ....records import load_run
+        """The run as typed, with 'rt' and 'overnight' in this notebook's meaning.
 
-        return load_run(clean(data if data is not None else self.data))
+        Saving goes through here, so the Workbench prepares a run for the store with the same
+        core step as the CLI (`settings.in_lab_words`), and the live amounts and checks already
+        show what will be saved.
+        """
+        from ....records import load_run
+        from ....settings import in_lab_words
+
+        return in_lab_words(self.nb, load_run(clean(data if data is not None else self.data)))
 
     def recompute(self) -> None:
         """Rebuild the run from the form and refresh every computed panel."""
@@ -73,14 +80,15 @@ class LiveRunMixin:
             self.put("#checks", Text("Checks start once the run has its lines: " + (self.problem or ""), style=f"italic {tone('warn')}"))
         else:
             self.put("#checks", findings_text(findings, table_problem or (f"not saved yet: {self.problem}" if self.problem else None)))
-        smiles = self.intermediate_smiles()
+        found = self.intermediate_found()
+        smiles, origin = found if found else (None, None)
         derived = smiles if smiles and not (self.data.get("intermediate") or "").strip() else None
         if getattr(self, "_derived_shown", None) != derived:
             self._derived_shown = derived
             self.query_one("#run-intermediate", Input).placeholder = (
                 f"from precursor: {derived}" if derived else "SMILES of the strained intermediate")
-        self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note),
-                 key=(smiles, json.dumps(self.strain, sort_keys=True, default=str),
+        self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note, origin),
+                 key=(smiles, origin, json.dumps(self.strain, sort_keys=True, default=str),
                       json.dumps(self.alignment, sort_keys=True, default=str), self.strain_note))
         self.refresh_status()
 

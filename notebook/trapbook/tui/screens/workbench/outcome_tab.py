@@ -118,6 +118,44 @@ class OutcomeTabMixin:
             self.put("#prod-msg", Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=f"{tone('warn')}"),
                      layout=False)
 
+    def action_expected(self) -> None:
+        """ctrl+t: the run's expected products (worked out in the dialog's worker), one to pick."""
+        if self.run is None:
+            self.notify(f"The expected products need the run's lines first: {self.problem or 'the run is incomplete'}.",
+                        severity="warning")
+            return
+        from ..expected_dialog import ExpectedProductsDialog
+
+        self.app.push_screen(ExpectedProductsDialog(self.run), self.pick_expected)
+
+    def pick_expected(self, product: dict | None) -> None:
+        """The picked product becomes the form's product: its line (added when the run has none
+        with that SMILES) and the result row to write its mass or integrals into."""
+        if not product:
+            return
+        from ..expected_dialog import product_line_name
+
+        lines = self.data.setdefault("lines", [])
+        line = next((ln for ln in lines if ln.get("role") == "product" and ln.get("smiles") == product["smiles"]), None)
+        if line is None:
+            line = {"role": "product", "name": self.free_line_name(product_line_name(product)), "smiles": product["smiles"]}
+            lines.append(line)
+            self.notify(f"Added the product line '{line['name']}' ({product['smiles']}).", title="Product line")
+        self.changed()
+        self.recompute()
+        self.blank_product(focus=False)
+        self.query_one("#prod-product", Input).value = line["name"]
+        self.query_one("#prod-isolated_mass", Input).focus()
+
+    def free_line_name(self, name: str) -> str:
+        """NAME, or NAME 2, 3… when a line already has it (line names are the run's handles)."""
+        taken = {str(ln.get("name", "")).casefold() for ln in self.data.get("lines", [])}
+        n, candidate = 1, name
+        while candidate.casefold() in taken:
+            n += 1
+            candidate = f"{name} {n}"
+        return candidate
+
     def commit_product(self, focus: bool = True) -> bool:
         return self.keep_row(self.product_form, "#prod-msg", self.with_product, self.blank_product, focus)
 

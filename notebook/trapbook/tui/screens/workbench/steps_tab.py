@@ -41,9 +41,7 @@ class StepsTabMixin:
                 step[k] = v[k]
         if sealed:
             step["sealed"] = True
-        from ....records import Step
-
-        invalid = forms.row_problem(Step, step)
+        invalid = forms.step_problem(step, self.data.get("lines", []))
         if invalid is not None:
             return None, invalid
         return step, None
@@ -57,6 +55,10 @@ class StepsTabMixin:
             self.put("#step-msg", Text(why or "", style=f"{tone('stop')}"), layout=False)
         else:
             adds = f"adds {', '.join(step['add'])}" if step["add"] else "nothing added (a hold or temperature change)"
+            if "reflux" in str(step.get("temperature", "")).lower():
+                from .... import bench_words
+
+                adds += f"; {bench_words.run_reflux(self.data.get('lines', [])).basis}"
             self.put("#step-msg", Text(f"→ {adds}   (Enter keeps this step)", style=f"{tone('ok')}"), layout=False)
 
     def commit_step(self, focus: bool = True) -> bool:

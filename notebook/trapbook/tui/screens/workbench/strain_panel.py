@@ -2,7 +2,8 @@
 
 Strain and precursor alignment are read from the notebook's cache on every rebuild; the
 slow computation is the side panel's (widgets/bench_side.py), which reports its progress on
-its bar and posts the result to the screen, and the card follows once it is done.
+its bar and posts the result to the screen, and the card follows once it is done. The
+alignment is read and computed at the run's release temperature, the one the checks use.
 """
 
 from __future__ import annotations
@@ -13,38 +14,48 @@ from ....errors import TrapbookError
 class StrainPanelMixin:
     """The intermediate and precursor of the run, their cached strain, and ctrl+g to compute it."""
 
-    def intermediate_smiles(self) -> str | None:
+    def intermediate_found(self) -> tuple[str, str] | None:
+        """(SMILES, how it was found) of the run's intermediate, from the one core rule."""
         if self.run is not None:
-            from ....strain_link import intermediate_of
+            from ....strain_link import intermediate_of_run
 
             try:
-                return intermediate_of(self.run)
+                return intermediate_of_run(self.run)
             except TrapbookError:
-                return self.run.intermediate
-        return (self.data.get("intermediate") or "").strip() or None
+                pass
+        typed = (self.data.get("intermediate") or "").strip()
+        return (typed, "as typed on the Run tab") if typed else None
+
+    def intermediate_smiles(self) -> str | None:
+        found = self.intermediate_found()
+        return found[0] if found else None
 
     def look_up_strain(self) -> None:
         """Cached strain and alignment for the current structures (never computed here)."""
+        from ....findings import cached_alignment
         from ....strain_link import strain_for_run
 
         try:
             self.strain = strain_for_run(self.nb, self.run)
         except TrapbookError:
             self.strain = None
-        self.alignment = None
-        pre = self.precursor_smiles()
-        if pre:
-            from ....strain_link import get_alignment
-
-            try:
-                self.alignment = get_alignment(self.nb, pre, compute=False)
-            except TrapbookError:
-                self.alignment = None
+        try:
+            self.alignment = cached_alignment(self.nb, self.run)
+        except TrapbookError:
+            self.alignment = None
 
     def precursor_smiles(self) -> str | None:
         if self.run is None:
             return None
-        return next((ln.smiles for ln in self.run.lines_by_role("precursor") if ln.smiles), None)
+        from ....findings import precursor_of
+
+        return precursor_of(self.run)
+
+    def release_temperature_c(self) -> float:
+        """The run's release temperature (°C), at which the precursor's alignment is judged."""
+        from ....strain_link import run_temperature_c
+
+        return run_temperature_c(self.run) if self.run is not None else 25.0
 
     def action_strain(self) -> None:
         smiles = self.intermediate_smiles()
@@ -53,4 +64,5 @@ class StrainPanelMixin:
             return
         from ...widgets.bench_side import BenchSide
 
-        self.query_one(BenchSide).start_strain(self.nb.path, smiles, self.precursor_smiles())
+        self.query_one(BenchSide).start_strain(self.nb.path, smiles, self.precursor_smiles(),
+                                               self.release_temperature_c())
