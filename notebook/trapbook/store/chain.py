@@ -16,13 +16,13 @@ import hashlib
 import json
 import sqlite3
 
-from ..records import canonical_json
-
 #: The kinds of record a save log entry can name, with the table holding their versions.
 LOGGED_KINDS = {"run": "versions", "screen": "screen_versions", "setting": "setting_versions"}
 
 
 def _sha(obj: dict) -> str:
+    from ..records import canonical_json  # the records' one canonical form; imported when a hash is made
+
     return hashlib.sha256(canonical_json(obj).encode()).hexdigest()
 
 

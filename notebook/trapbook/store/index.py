@@ -10,10 +10,9 @@ import json
 from typing import TYPE_CHECKING
 
 from ..errors import TrapbookError
-from ..records import Run
-from ..units import to_canonical
 
 if TYPE_CHECKING:  # pragma: no cover
+    from ..records import Run
     from .notebook import Notebook
 
 _SEVERITY_RANK = {"stop": 0, "warn": 1, "note": 2}
@@ -30,6 +29,8 @@ def _temps(run: Run) -> tuple[float | None, float | None]:
 
 
 def _time(run: Run) -> float | None:
+    from ..units import to_canonical
+
     hs = [to_canonical(s.hold, "duration") for s in run.steps if s.hold is not None]
     return sum(hs) if hs else None
 

@@ -5,11 +5,16 @@ the previous version) and an entry in the notebook's log of saves (store/chain.p
 one SQLite transaction, so a crash leaves either the whole save or none of it. A save
 made from a stale version is refused, never merged. Runs are withdrawn, never deleted.
 Opening and locking live in store/connect.py.
+
+Listing runs reads only the index rows (plain SQLite), so the records module (pydantic and
+pint behind it) is imported where a run or screen is read or written, and sqlite-utils on
+the first write: a Logbook is drawn without either.
 """
 
 from __future__ import annotations
 
 import contextlib
+import functools
 import datetime as _dt
 import json
 import os
@@ -17,18 +22,18 @@ import sqlite3
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
-
-import sqlite_utils
+from typing import TYPE_CHECKING, Any
 
 from .. import attachments
 from ..errors import NotFoundError, RecordError, StaleVersionError, StoreError
-from ..records import Run, Screen, canonical_json, load_run, load_screen, stored_run, stored_screen
 from ..settings import login_name
 from . import chain, connect
 from . import index as run_index
 from .chain import version_hash
 from .diff import diff_runs
+
+if TYPE_CHECKING:  # pragma: no cover - typing only
+    from ..records import Run, Screen
 
 APP_NAME = "trapbook"
 
@@ -88,10 +93,16 @@ class Notebook:
     def __init__(self, path: Path, conn: sqlite3.Connection, write_problem: StoreError | None = None):
         self.path = path
         self.conn = conn
-        self.db = sqlite_utils.Database(conn)
         #: Why saves are refused here (read-only place, newer notebook), None when they are not.
         self.write_problem = write_problem
         self._hashed_cache: bool | None = None
+
+    @functools.cached_property
+    def db(self):
+        """sqlite-utils over this connection, for the writes; imported on the first one."""
+        import sqlite_utils
+
+        return sqlite_utils.Database(self.conn)
 
     # --- opening -------------------------------------------------------------------
     @classmethod
@@ -174,6 +185,8 @@ class Notebook:
     # --- runs ----------------------------------------------------------------------
     def add_run(self, run: Run | dict, author: str | None = None, reason: str = "created", keep_id: bool = False) -> SaveResult:
         """Store a new run (version 1). With keep_id, the run's own id is kept if it is free."""
+        from ..records import Run, load_run
+
         run = load_run(run) if not isinstance(run, Run) else run
         attachments.require_stored(self, run)  # named by the id or title it arrived with
         with self.transaction():
@@ -194,6 +207,8 @@ class Notebook:
         `expected_version=None` the edit is taken as made from whatever version is current
         when the write lock is held (read inside the transaction, so never falsely stale).
         """
+        from ..records import Run, load_run
+
         run = load_run(run) if not isinstance(run, Run) else run
         if not run.id:
             raise RecordError("the run has no id", "use add for a new run")
@@ -224,12 +239,16 @@ class Notebook:
                 if restore:
                     raise RecordError(f"run {run_id} is not withdrawn", "nothing to bring back; see 'trapbook history RUN_ID'")
                 raise RecordError(f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'")
+            from ..records import stored_run
+
             run = stored_run(row[2])
             action = "restore" if restore else "withdraw"
             return self._write_version(run, default_author(self, author), reason.strip(), action, row[1], row[0] + 1)
 
     def _write_version(self, run: Run, author: str, reason: str, action: str, prev: str | None, version: int = 1) -> SaveResult:
         """Append the version, log the save, move the current row and rebuild the summary: one transaction."""
+        from ..records import canonical_json
+
         data = canonical_json(run.to_json_dict())
         t = now_utc()
         h = version_hash(run.id, version, author, t, reason, action, prev, data)
@@ -260,6 +279,8 @@ class Notebook:
             if version is not None and self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run_id,)).fetchone():
                 hint = f"see the versions of {run_id} with 'trapbook history {run_id}'"
             raise NotFoundError(f"no {what} in this notebook", hint)
+        from ..records import stored_run
+
         return stored_run(row[0])
 
     def run_meta(self, run_id: str) -> dict:
@@ -304,6 +325,8 @@ class Notebook:
         return out
 
     def iter_runs(self, include_withdrawn: bool = True) -> Iterator[Run]:
+        from ..records import stored_run
+
         q = "SELECT data FROM runs" + ("" if include_withdrawn else " WHERE withdrawn = 0") + " ORDER BY id"
         for (data,) in self.conn.execute(q).fetchall():
             yield stored_run(data)
@@ -330,6 +353,8 @@ class Notebook:
 
     # --- screens -------------------------------------------------------------------
     def add_screen(self, screen: Screen | dict, author: str | None = None, reason: str = "created") -> str:
+        from ..records import Screen, load_screen
+
         screen = load_screen(screen) if not isinstance(screen, Screen) else screen
         with self.transaction():
             sid = screen.id
@@ -370,9 +395,13 @@ class Notebook:
         row = self.conn.execute("SELECT data FROM screens WHERE id = ? OR name = ? ORDER BY id LIMIT 1", (key, key)).fetchone()
         if row is None:
             raise NotFoundError(f"no screen '{key}' in this notebook", "list screens with 'trapbook screens'")
+        from ..records import stored_screen
+
         return stored_screen(row[0])
 
     def list_screens(self) -> list[Screen]:
+        from ..records import stored_screen
+
         return [stored_screen(r[0]) for r in self.conn.execute("SELECT data FROM screens ORDER BY id")]
 
     def screen_runs(self, screen: Screen) -> list[Run]:
@@ -441,7 +470,8 @@ class Notebook:
 
     def _cache_is_hashed(self) -> bool:
         if self._hashed_cache is None:
-            self._hashed_cache = "content_sha256" in self.db["strain_cache"].columns_dict
+            columns = {row[1] for row in self.conn.execute("PRAGMA table_info(strain_cache)")}
+            self._hashed_cache = "content_sha256" in columns
         return self._hashed_cache
 
     def cache_put(self, key: str, smiles: str, tier: str, engine: str, result: dict) -> None:

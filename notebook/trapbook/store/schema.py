@@ -1,12 +1,14 @@
-"""Tables of a notebook file and the migrations that build them, each recorded once."""
+"""Tables of a notebook file and the migrations that build them, each recorded once.
+
+sqlite-utils is imported by the migrations that write, not here: opening a notebook that
+is up to date needs only sqlite3.
+"""
 
 from __future__ import annotations
 
 import datetime as _dt
 import sqlite3
 from collections.abc import Callable
-
-import sqlite_utils
 
 
 def _statements(conn: sqlite3.Connection, statements: tuple[str, ...]) -> None:
@@ -217,6 +219,8 @@ def _v5_integrity(conn: sqlite3.Connection) -> None:
     reason, screens hash-chained like runs, and a content hash on every cache entry (an
     edited entry is never served). Records already in the notebook enter the log and the
     chains as they stand now."""
+    import sqlite_utils
+
     from . import chain
 
     db = sqlite_utils.Database(conn)
@@ -329,6 +333,8 @@ def migrate(conn: sqlite3.Connection, begin: Callable[[], None]) -> list[int]:
                 conn.execute("COMMIT")
                 continue
             fn(conn)
+            import sqlite_utils
+
             row = {"version": version, "applied": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
                    "description": description}
             if "app_version" in {c[1] for c in conn.execute("PRAGMA table_info(migrations)")}:

@@ -57,6 +57,8 @@ class TrapbookApp(App):
         self.nb = None
         self.started = time.perf_counter()
         self.ready_seconds: float | None = None
+        #: When the Logbook's first rows were painted (time.perf_counter); benchmarks/tui.py reads it.
+        self.rows_drawn_at: float | None = None
         #: The run last saved or left in the Workbench: the Logbook's cursor goes back to it.
         self.last_run: str | None = None
 
@@ -79,10 +81,15 @@ class TrapbookApp(App):
         if self.warm:  # after the first frame: the import must not hold up the rows being drawn
             self.call_after_refresh(self.warm_up)
 
+    def rows_on_screen(self) -> None:
+        """The Logbook's first rows are on the screen: for the chemist, the start is over."""
+        if self.rows_drawn_at is None:
+            self.rows_drawn_at = time.perf_counter()
+
     def open_notebook(self):
         """The notebook this session shows: read-only when asked, the group's first readable member under --group."""
-        Notebook = store_class()  # first: the group module imports the store too
         from ..group import Group, open_member
+        from ..store import Notebook
 
         if self.group_paths:
             self.group = Group.open(self.group_paths)
@@ -109,7 +116,10 @@ class TrapbookApp(App):
 
     @work(thread=True, group="warm", exit_on_error=False)
     def warm_up(self) -> None:
-        """Import the RDKit-backed core off the UI thread, before the user needs it."""
+        """Import the RDKit-backed core, and sqlite-utils for the first save, off the UI thread,
+        before the user needs them (the store reads a notebook without sqlite-utils)."""
+        import sqlite_utils  # noqa: F401
+
         from .. import (
             amounts,  # noqa: F401
             checks,  # noqa: F401
@@ -200,24 +210,3 @@ def run_app(path: str | Path | None, author: str | None = None, group: tuple[str
     """Entry point used by `trapbook`, `trapbook open [DB]`, `trapbook demo` and `trapbook serve`."""
     TrapbookApp(path, author=author, group=group, read_only=read_only).run()
 
-
-def store_class():
-    """The store's Notebook class, imported without sqlite-utils' optional pandas support.
-
-    sqlite-utils imports pandas, when it is installed, only to accept DataFrames and pandas
-    values in inserts; the store never hands it one, and that import is about a third of a
-    cold start. While sqlite-utils loads, pandas is marked absent (sqlite-utils reads that
-    as "not installed"); afterwards pandas imports as usual for whoever needs it.
-    """
-    import sys
-
-    if "sqlite_utils" in sys.modules or "pandas" in sys.modules:
-        from ..store import Notebook
-
-        return Notebook
-    sys.modules["pandas"] = None  # an import of pandas raises ImportError meanwhile
-    try:
-        from ..store import Notebook
-    finally:
-        del sys.modules["pandas"]
-    return Notebook

@@ -135,6 +135,8 @@ class LogbookScreen(Screen):
             table.add_column(label, key=key, width=width)
         self.reload()
         table.focus()
+        if hasattr(self.app, "rows_on_screen"):
+            self.call_after_refresh(self.app.rows_on_screen)
 
     def on_resize(self) -> None:
         """A new width may take or give back columns: the table is laid out again, rows and all."""
@@ -338,11 +340,13 @@ class LogbookScreen(Screen):
     def schedule_preview(self) -> None:
         if getattr(self, "_preview_timer", None) is not None:
             self._preview_timer.stop()
-        # the first preview waits for the table to be on the screen (it loads RDKit, in a worker
-        # but on the same interpreter); later ones only for the cursor to settle
-        first = not getattr(self, "_previewed", False)
-        self._previewed = True
-        self._preview_timer = self.set_timer(0.4 if first else 0.08, self.show_preview)
+        # the first preview waits for the table to be on the screen (it loads RDKit and the units,
+        # in a worker but on the same interpreter); later ones only for the cursor to settle
+        if not getattr(self, "_previewed", False):
+            self._previewed = True
+            self.call_after_refresh(self.show_preview)
+            return
+        self._preview_timer = self.set_timer(0.08, self.show_preview)
 
     def show_preview(self) -> None:
         self._preview_timer = None
