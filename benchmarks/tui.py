@@ -138,13 +138,13 @@ asyncio.run(main())
 
 def cold_start(path: Path, repeats: int = 3) -> tuple[float, float, int]:
     """(to the first rows painted, to the first preview shown), medians in s, and the rows."""
-    drawn, idle, rows = [], [], 0
+    drawn, previewed, rows = [], [], 0
     for _ in range(repeats):
         out = subprocess.run([sys.executable, "-c", COLD, str(path)], capture_output=True, text=True, check=True)
         d, i, rows = out.stdout.split()
         drawn.append(float(d))
-        idle.append(float(i))
-    return statistics.median(drawn), statistics.median(idle), int(rows)
+        previewed.append(float(i))
+    return statistics.median(drawn), statistics.median(previewed), int(rows)
 
 
 def floors(rows: int, repeats: int = 3) -> tuple[float, float]:
@@ -238,10 +238,10 @@ def main() -> None:
 
         print("load average (1, 5, 15 min): " + ", ".join(f"{x:.2f}" for x in os.getloadavg())
               + f" on {os.cpu_count()} cores")
-        cold, idle, rows = cold_start(path)
+        cold, previewed, rows = cold_start(path)
         bare, floor = floors(rows)
         print(f"cold start (new process, imports included, to {rows} rows drawn): {cold:.2f} s (median of 3)")
-        print(f"  and on to the first run's preview shown (it loads RDKit and the units): {idle:.2f} s")
+        print(f"  and on to the first run's preview shown (it loads RDKit and the units): {previewed:.2f} s")
         print(f"  floor: Python alone {bare:.2f} s; Python + Textual drawing a bare table of {rows} rows {floor:.2f} s")
         res = asyncio.run(in_process(path, args.repeats))
         print(f"warm start (in process): {res['warm_start_s']:.2f} s")

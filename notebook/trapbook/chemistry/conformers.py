@@ -160,7 +160,13 @@ def _minimise(mol_h: Chem.Mol) -> tuple[list[float], str]:
         )
     for _ in range(_MMFF_ROUNDS):
         with rdBase.BlockLogs():
-            results = run(mol_h, numThreads=THREADS, maxIters=2000)
+            try:
+                results = run(mol_h, numThreads=THREADS, maxIters=2000)
+            except (RuntimeError, ValueError) as exc:  # e.g. "Bad Conformer Id": nothing usable was built
+                raise ChemistryError(
+                    "Could not build a usable 3D structure for this isomer; in this ring system it may not exist.",
+                    "Check the stereo marks (an in/out bridgehead cannot close), or leave them open to see the isomers that exist.",
+                ) from exc
         if all(flag == 0 for flag, _ in results):
             break
     return [e for _, e in results], name
