@@ -32,7 +32,9 @@ def candidate_lines(n: int) -> list[str]:
     """n distinct intermediates: every bridgehead alkene, cyclic allene and cycloalkyne of the
     bridged bicycles, smallest S first."""
     seen: dict[str, str] = {}
-    triples = sorted(((a, b, c) for a in range(1, 9) for b in range(1, a + 1) for c in range(1, b + 1)), key=lambda t: (sum(t), t))
+    triples = sorted(
+        ((a, b, c) for a in range(1, 9) for b in range(1, a + 1) for c in range(1, b + 1)), key=lambda t: (sum(t), t)
+    )
     for a, b, c in triples:
         for cand in intermediates_of_skeleton(bicyclo(a, b, c), KINDS):
             seen.setdefault(cand.smiles, f"[{a}.{b}.{c}]-{len(seen) + 1}")
@@ -84,8 +86,13 @@ def killed_half_way(lines: list[str], folder: Path) -> dict:
     listing.write_text("\n".join(lines) + "\n", encoding="utf-8")
     script = folder / "child.py"
     script.write_text(_CHILD, encoding="utf-8")
-    proc = subprocess.Popen([sys.executable, str(script), str(db), str(listing)], stdout=subprocess.PIPE,
-                            stderr=subprocess.DEVNULL, text=True, start_new_session=True)
+    proc = subprocess.Popen(
+        [sys.executable, str(script), str(db), str(listing)],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.DEVNULL,
+        text=True,
+        start_new_session=True,
+    )
     done_at_kill = 0
     for line in proc.stdout:
         done_at_kill = int(line.split()[0])
@@ -98,9 +105,14 @@ def killed_half_way(lines: list[str], folder: Path) -> dict:
     cached_now = sum(cp.cached(nb, t) is not None for t in cp.tasks_of(record))
     summary = cp.run_campaign(nb, record, n_workers=2)
     nb.close()
-    return {"tasks": len(lines), "reported_done_at_kill": done_at_kill, "in_cache_after_kill": cached_now,
-            "computed_on_rerun": summary["computed"], "from_cache_on_rerun": summary["from_cache"],
-            "failed_on_rerun": len(summary["failed"])}
+    return {
+        "tasks": len(lines),
+        "reported_done_at_kill": done_at_kill,
+        "in_cache_after_kill": cached_now,
+        "computed_on_rerun": summary["computed"],
+        "from_cache_on_rerun": summary["from_cache"],
+        "failed_on_rerun": len(summary["failed"]),
+    }
 
 
 def main() -> None:
@@ -118,18 +130,24 @@ def main() -> None:
         for workers in (1, 2):
             start, wall, summary = timed_run(fast, "fast", workers, folder)
             walls[workers] = wall
-            print(f"fast tier, {len(fast)} candidates, {workers} worker(s): {wall:.1f} s "
-                  f"(+ {start:.1f} s cluster start), {summary['computed']} computed, {len(summary['failed'])} failed; {load()}")
+            print(
+                f"fast tier, {len(fast)} candidates, {workers} worker(s): {wall:.1f} s "
+                f"(+ {start:.1f} s cluster start), {summary['computed']} computed, {len(summary['failed'])} failed; {load()}"
+            )
         print(f"speed-up on 2 workers: {walls[1] / walls[2]:.2f}x (target >= 1.7 on 2 free cores)")
         if args.accurate:
             start, wall, summary = timed_run(lines[: args.accurate], "accurate", 2, folder)
-            print(f"accurate tier, {args.accurate} candidates, 2 workers: {wall:.1f} s (+ {start:.1f} s cluster start), "
-                  f"{summary['computed']} computed, {len(summary['failed'])} failed; {load()}")
+            print(
+                f"accurate tier, {args.accurate} candidates, 2 workers: {wall:.1f} s (+ {start:.1f} s cluster start), "
+                f"{summary['computed']} computed, {len(summary['failed'])} failed; {load()}"
+            )
         if args.kill:
             k = killed_half_way(lines[: args.kill], folder)
-            print(f"killed half-way: {k['tasks']} tasks, {k['reported_done_at_kill']} reported done at the kill, "
-                  f"{k['in_cache_after_kill']} in the cache; the re-run computed {k['computed_on_rerun']} "
-                  f"(+ {k['failed_on_rerun']} failed) and took {k['from_cache_on_rerun']} from the cache; {load()}")
+            print(
+                f"killed half-way: {k['tasks']} tasks, {k['reported_done_at_kill']} reported done at the kill, "
+                f"{k['in_cache_after_kill']} in the cache; the re-run computed {k['computed_on_rerun']} "
+                f"(+ {k['failed_on_rerun']} failed) and took {k['from_cache_on_rerun']} from the cache; {load()}"
+            )
 
 
 if __name__ == "__main__":

@@ -94,8 +94,10 @@ def main() -> None:
     # bulk_add skips the bench checks, so the full verify reports every summary row as different; only its time counts here
     chain_problems = [p for p in full.problems if p.code != "index-mismatch"]
     assert not chain_problems, chain_problems[:3]
-    print(f"open the group (chains of every member checked): {opened:.2f} s for {args.members} members; "
-          f"full verify of one member: {full_s:.2f} s (× {args.members} would be {full_s * args.members:.0f} s)")
+    print(
+        f"open the group (chains of every member checked): {opened:.2f} s for {args.members} members; "
+        f"full verify of one member: {full_s:.2f} s (× {args.members} would be {full_s * args.members:.0f} s)"
+    )
 
     nb = Notebook.open(single)
     print(f"\n{'query':46} {'hits':>6} {'single cold':>12} {'group cold':>11} {'ratio':>6} {'single rep':>11} {'group rep':>10}")
@@ -110,10 +112,21 @@ def main() -> None:
         ratios.append(grp_s / one_s if one_s else float("nan"))
         print(f"{name:46} {len(hits):6d} {one_s:12.3f} {grp_s:11.3f} {ratios[-1]:6.2f} {one_r:11.3f} {grp_r:10.3f}")
     worst = max(ratios)
-    print(f"\nworst cold ratio group/single: {worst:.2f} (target: about 1, i.e. ≤ 1.5)  median ratio {statistics.median(ratios):.2f}")
-    print(json.dumps({"members": args.members, "runs_per_member": args.runs, "open_group_s": round(opened, 3),
-                      "full_verify_one_member_s": round(full_s, 3), "worst_cold_ratio": round(worst, 3),
-                      "median_cold_ratio": round(statistics.median(ratios), 3)}))
+    print(
+        f"\nworst cold ratio group/single: {worst:.2f} (target: about 1, i.e. ≤ 1.5)  median ratio {statistics.median(ratios):.2f}"
+    )
+    print(
+        json.dumps(
+            {
+                "members": args.members,
+                "runs_per_member": args.runs,
+                "open_group_s": round(opened, 3),
+                "full_verify_one_member_s": round(full_s, 3),
+                "worst_cold_ratio": round(worst, 3),
+                "median_cold_ratio": round(statistics.median(ratios), 3),
+            }
+        )
+    )
     nb.close()
     group.close()
 

@@ -59,8 +59,10 @@ def main() -> None:
         took = time.perf_counter() - start
         nb.close()
     yields = [r["yield_pct"] for r in res["integrated"]]
-    print(f"{len(yields)} vials integrated in {took:.2f} s ({took / max(1, len(yields)):.3f} s per vial); "
-          f"refused {len(res['refused'])}")
+    print(
+        f"{len(yields)} vials integrated in {took:.2f} s ({took / max(1, len(yields)):.3f} s per vial); "
+        f"refused {len(res['refused'])}"
+    )
     print(f"NMR yield (known 62 %): mean {statistics.mean(yields):.2f} %, min {min(yields):.2f}, max {max(yields):.2f}")
 
 

@@ -39,8 +39,10 @@ def main() -> None:
             report = products_report(inter, trap)
             times.append(time.perf_counter() - t0)
         kinds = [p["kind"] for p in report["products"]]
-        print(f"{label:<55} {min(times):7.2f} {kinds.count('adduct'):8d} {kinds.count('by-product'):8d} {len(report['notes']):6d}"
-              + ("  (cut short)" if report["truncated"] else ""))
+        print(
+            f"{label:<55} {min(times):7.2f} {kinds.count('adduct'):8d} {kinds.count('by-product'):8d} {len(report['notes']):6d}"
+            + ("  (cut short)" if report["truncated"] else "")
+        )
 
 
 if __name__ == "__main__":

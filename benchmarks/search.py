@@ -41,30 +41,90 @@ from trapbook import search as S  # noqa: E402
 from trapbook.amounts import headline_yield  # noqa: E402
 from trapbook.errors import TrapbookError  # noqa: E402
 from trapbook.records import Run, canonical_json  # noqa: E402
-from trapbook.store import Notebook  # noqa: E402
+from trapbook.store import (
+    Notebook,  # noqa: E402
+    chain,  # noqa: E402
+)
 from trapbook.store import index as run_index  # noqa: E402
-from trapbook.store import chain  # noqa: E402
 from trapbook.store.notebook import now_utc, version_hash  # noqa: E402
 
 CORES = [(2, 2, 1), (2, 2, 2), (3, 2, 1), (3, 3, 1), (4, 3, 1), (3, 2, 2), (3, 3, 2), (4, 2, 1), (4, 4, 1), (5, 3, 1), (4, 2, 2)]
-GROUPS = ["", "C", "CC", "OC", "F", "Cl", "C(=O)OC", "c1ccccc1", "C(C)C", "O[Si](C)(C)C(C)(C)C", "C#N", "OC(C)=O",
-          "N(C)C", "C(F)(F)F", "OCc1ccccc1", "C=C", "CO", "c1ccc(OC)cc1", "c1ccncc1", "SC", "Br", "CC=C", "C1CC1",
-          "OC(=O)c1ccccc1", "C(C)(C)C"]
+GROUPS = [
+    "",
+    "C",
+    "CC",
+    "OC",
+    "F",
+    "Cl",
+    "C(=O)OC",
+    "c1ccccc1",
+    "C(C)C",
+    "O[Si](C)(C)C(C)(C)C",
+    "C#N",
+    "OC(C)=O",
+    "N(C)C",
+    "C(F)(F)F",
+    "OCc1ccccc1",
+    "C=C",
+    "CO",
+    "c1ccc(OC)cc1",
+    "c1ccncc1",
+    "SC",
+    "Br",
+    "CC=C",
+    "C1CC1",
+    "OC(=O)c1ccccc1",
+    "C(C)(C)C",
+]
 SILYL = ["C[Si](C)(C)", "CC[Si](CC)(CC)", "C[Si](C)(c3ccccc3)"]
 LEAVING = ["OS(=O)(=O)C(F)(F)F", "OS(=O)(=O)C(F)(F)C(F)(F)C(F)(F)C(F)(F)F", "I", "Br"]
-TRAPS = [("furan", "c1ccoc1", {"density": "0.951 g/mL"}), ("2,5-dimethylfuran", "Cc1ccc(C)o1", {"density": "0.903 g/mL"}),
-         ("anthracene", "c1ccc2cc3ccccc3cc2c1", {}), ("1,3-diphenylisobenzofuran", "c1ccc(cc1)-c1oc(-c2ccccc2)c2ccccc12", {}),
-         ("cyclopentadiene", "C1C=CC=C1", {"density": "0.802 g/mL"}),
-         ("N-tert-butyl-alpha-phenylnitrone", "CC(C)(C)[N+]([O-])=Cc1ccccc1", {})]
+TRAPS = [
+    ("furan", "c1ccoc1", {"density": "0.951 g/mL"}),
+    ("2,5-dimethylfuran", "Cc1ccc(C)o1", {"density": "0.903 g/mL"}),
+    ("anthracene", "c1ccc2cc3ccccc3cc2c1", {}),
+    ("1,3-diphenylisobenzofuran", "c1ccc(cc1)-c1oc(-c2ccccc2)c2ccccc12", {}),
+    ("cyclopentadiene", "C1C=CC=C1", {"density": "0.802 g/mL"}),
+    ("N-tert-butyl-alpha-phenylnitrone", "CC(C)(C)[N+]([O-])=Cc1ccccc1", {}),
+]
 FLUORIDE = [
-    [{"role": "fluoride source", "name": "TBAF 1.0 M in THF", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "molarity": "1.0 M", "equiv": 1.5}],
-    [{"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 5},
-     {"role": "additive", "name": "TBAB", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[Br-]", "equiv": 1}],
-    [{"role": "fluoride source", "name": "TBAT", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1", "equiv": 1.5}],
+    [
+        {
+            "role": "fluoride source",
+            "name": "TBAF 1.0 M in THF",
+            "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]",
+            "molarity": "1.0 M",
+            "equiv": 1.5,
+        }
+    ],
+    [
+        {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 5},
+        {"role": "additive", "name": "TBAB", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[Br-]", "equiv": 1},
+    ],
+    [
+        {
+            "role": "fluoride source",
+            "name": "TBAT",
+            "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1",
+            "equiv": 1.5,
+        }
+    ],
 ]
 SOLVENTS = [("THF", "C1CCOC1"), ("MeCN", "CC#N"), ("toluene", "Cc1ccccc1"), ("1,4-dioxane", "C1COCCO1")]
 CHEMISTS = ["A. Rossi", "B. Chen", "C. Novak", "D. Mensah", "E. Larsen", "F. Haddad"]
-WORDS = ["clean", "messy", "oligomers", "dimer", "slow", "colourless oil", "yellow", "TLC", "crude NMR", "recovered", "sealed", "glovebox"]
+WORDS = [
+    "clean",
+    "messy",
+    "oligomers",
+    "dimer",
+    "slow",
+    "colourless oil",
+    "yellow",
+    "TLC",
+    "crude NMR",
+    "recovered",
+    "sealed",
+    "glovebox",
+]
 
 
 def _skeleton(a: int, b: int, c: int, pos: int, group: str, head: str, second: str) -> str:
@@ -101,8 +161,12 @@ def adduct(inter: str, trap_smiles: str, cache: dict) -> str | None:
     from rdkit import Chem
     from rdkit.Chem import AllChem
 
-    rxn = cache.setdefault("_rxn", AllChem.ReactionFromSmarts(
-        "[C:1]=[C:2].[#6:3]1~[#6:4]~[#6:5]~[#6:6]~[#8,#6;!$([#8,#6]=*):7]1>>[C:1]1[C:2][#6:3]2[#6:4]=[#6:5][#6:6]1[*:7]2"))
+    rxn = cache.setdefault(
+        "_rxn",
+        AllChem.ReactionFromSmarts(
+            "[C:1]=[C:2].[#6:3]1~[#6:4]~[#6:5]~[#6:6]~[#8,#6;!$([#8,#6]=*):7]1>>[C:1]1[C:2][#6:3]2[#6:4]=[#6:5][#6:6]1[*:7]2"
+        ),
+    )
     prods = rxn.RunReactants((Chem.MolFromSmiles(inter), Chem.MolFromSmiles(trap_smiles)))
     smi = None
     for p in prods:
@@ -126,16 +190,21 @@ def make_run(i: int, rng: random.Random, pool, cache) -> dict:
     hold = rng.choice(["30 min", "2 h", "6 h", "16 h", "24 h"])
     scale = rng.choice([0.05, 0.1, 0.2, 0.5])
     prod = adduct(inter, tsmi, cache) if tname in ("furan", "2,5-dimethylfuran", "cyclopentadiene") else None
-    lines = [{"role": "precursor", "name": f"precursor {label}", "smiles": prec, "amount": f"{scale} mmol"},
-             {"role": "trap", "name": tname, "smiles": tsmi, "equiv": rng.choice([3, 5, 10, 20]), **textra},
-             *fl, {"role": "solvent", "name": sname, "smiles": ssmi, "volume": f"{scale * 10:g} mL"}]
+    lines = [
+        {"role": "precursor", "name": f"precursor {label}", "smiles": prec, "amount": f"{scale} mmol"},
+        {"role": "trap", "name": tname, "smiles": tsmi, "equiv": rng.choice([3, 5, 10, 20]), **textra},
+        *fl,
+        {"role": "solvent", "name": sname, "smiles": ssmi, "volume": f"{scale * 10:g} mL"},
+    ]
     outcome = None
     status = rng.choice(["done"] * 8 + ["failed", "planned"])
     if prod:
         lines.append({"role": "product", "name": f"{tname} adduct", "smiles": prod})
         if status != "planned":
-            outcome = {"products": [{"product": f"{tname} adduct", "isolated_mass": f"{rng.uniform(0, 0.9) * scale * 250:.1f} mg"}],
-                       "observations": " ".join(rng.sample(WORDS, 2))}
+            outcome = {
+                "products": [{"product": f"{tname} adduct", "isolated_mass": f"{rng.uniform(0, 0.9) * scale * 250:.1f} mg"}],
+                "observations": " ".join(rng.sample(WORDS, 2)),
+            }
     day = 1 + i % 28
     return {
         "id": f"BM-{i:06d}",
@@ -146,9 +215,11 @@ def make_run(i: int, rng: random.Random, pool, cache) -> dict:
         "intermediate": inter,
         "tags": rng.sample(["anti-Bredt", "screen", "scale-up", "repeat"], 1),
         "lines": lines,
-        "steps": [{"add": [lines[0]["name"], tname, sname], "temperature": "23 °C"},
-                  {"add": [x["name"] for x in fl], "temperature": f"{temp} °C"},
-                  {"temperature": f"{temp} °C", "hold": hold, "sealed": temp > 60}],
+        "steps": [
+            {"add": [lines[0]["name"], tname, sname], "temperature": "23 °C"},
+            {"add": [x["name"] for x in fl], "temperature": f"{temp} °C"},
+            {"temperature": f"{temp} °C", "hold": hold, "sealed": temp > 60},
+        ],
         "outcome": outcome,
         "notes": rng.choice(WORDS) if rng.random() < 0.3 else None,
     }
@@ -174,20 +245,49 @@ def bulk_add(nb: Notebook, dicts, author: str = "benchmark") -> int:
             h = version_hash(run.id, 1, author, t, "benchmark", "create", None, data)
             nb.conn.execute(
                 "INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) VALUES (?,?,?,?,?,?,?,?,?)",
-                (run.id, 1, author, t, "benchmark", "create", None, h, data))
+                (run.id, 1, author, t, "benchmark", "create", None, h, data),
+            )
             chain.append_save(nb.conn, "run", run.id, 1, h)  # the notebook's log of saves, as a save keeps it
             nb.conn.execute(
                 "INSERT INTO runs (id, title, chemist, date, status, screen, withdrawn, version, hash, created, updated, data) "
                 "VALUES (?,?,?,?,?,?,0,1,?,?,?,?)",
-                (run.id, run.title, run.chemist, run.date.isoformat() if run.date else None, run.status, run.screen, h, t, t, data))
+                (
+                    run.id,
+                    run.title,
+                    run.chemist,
+                    run.date.isoformat() if run.date else None,
+                    run.status,
+                    run.screen,
+                    h,
+                    t,
+                    t,
+                    data,
+                ),
+            )
             tmin, tmax = run_index._temps(run)
             y, kind = _headline_yield(run)
             nb.conn.execute(
                 "INSERT INTO run_index (run_id, precursor, intermediate, trap, trap_smiles, fluoride, additive, solvent, temp_min_c, "
                 "temp_max_c, time_min, sealed, yield_pct, yield_kind, worst, findings) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-                (run.id, run.lines[0].smiles, run.intermediate, run_index._names(run, "trap"), None,
-                 run_index._names(run, "fluoride source"), run_index._names(run, "additive"), run_index._names(run, "solvent"),
-                 tmin, tmax, run_index._time(run), int(any(s.sealed for s in run.steps)), y, kind, None, "[]"))
+                (
+                    run.id,
+                    run.lines[0].smiles,
+                    run.intermediate,
+                    run_index._names(run, "trap"),
+                    None,
+                    run_index._names(run, "fluoride source"),
+                    run_index._names(run, "additive"),
+                    run_index._names(run, "solvent"),
+                    tmin,
+                    tmax,
+                    run_index._time(run),
+                    int(any(s.sealed for s in run.steps)),
+                    y,
+                    kind,
+                    None,
+                    "[]",
+                ),
+            )
             run_index.index_search(nb.conn, run, h)
             n += 1
     return n
@@ -251,26 +351,41 @@ def main() -> None:
     worst_repeat = {"structure": 0.0, "condition": 0.0}
     for kind, queries, target in (("structure", structure_queries, 0.5), ("condition", condition_queries, 0.1)):
         for name, kw in queries.items():
-            cold, hits = timed(lambda: S.search(nb, **kw), args.repeat, cold=True)
-            again, hits2 = timed(lambda: S.search(nb, **kw), args.repeat)
+            cold, hits = timed(lambda kw=kw: S.search(nb, **kw), args.repeat, cold=True)
+            again, hits2 = timed(lambda kw=kw: S.search(nb, **kw), args.repeat)
             assert [h.to_dict() for h in hits] == [h.to_dict() for h in hits2], "a kept answer differs from a fresh one"
             worst[kind] = max(worst[kind], cold)
             worst_repeat[kind] = max(worst_repeat[kind], again)
             print(f"{name:52} {len(hits):7d} {cold:8.3f} {again:9.3f} {'ok' if cold <= target else 'MISSED'} (≤ {target} s)")
 
-    print("\nfingerprint screen vs matching every stored molecule (substructure step only, no kept answers; fingerprints in memory):")
+    print(
+        "\nfingerprint screen vs matching every stored molecule (substructure step only, no kept answers; fingerprints in memory):"
+    )
     for name in ("substructure nitrile C#N", "substructure bicyclo[2.2.2]oct-1-ene", "substructure [3.3.1] core (generic bonds)"):
         q = structure_queries[name]["substructure"]
-        with_screen, (found, stats) = timed(lambda: S.substructure_ids(nb, q, screen=True, reuse=False), 3)
-        without, (found2, _) = timed(lambda: S.substructure_ids(nb, q, screen=False, reuse=False), 1)
+        with_screen, (found, stats) = timed(lambda q=q: S.substructure_ids(nb, q, screen=True, reuse=False), 3)
+        without, (found2, _) = timed(lambda q=q: S.substructure_ids(nb, q, screen=False, reuse=False), 1)
         assert set(found) == set(found2), "screen lost a match"
-        print(f"  {name:46} screened in {stats['screened_in']:6d}/{stats['structures']} matched {stats['matched']:6d}  "
-              f"{with_screen:6.3f} s vs {without:6.3f} s  → ×{without / with_screen:.1f}")
-    print(f"\nworst cold median: structure {worst['structure']:.3f} s (target 0.5), condition {worst['condition']:.3f} s (target 0.1)")
+        print(
+            f"  {name:46} screened in {stats['screened_in']:6d}/{stats['structures']} matched {stats['matched']:6d}  "
+            f"{with_screen:6.3f} s vs {without:6.3f} s  → ×{without / with_screen:.1f}"
+        )
+    print(
+        f"\nworst cold median: structure {worst['structure']:.3f} s (target 0.5), condition {worst['condition']:.3f} s (target 0.1)"
+    )
     print(f"worst repeat median: structure {worst_repeat['structure']:.3f} s, condition {worst_repeat['condition']:.3f} s")
-    print(json.dumps({"runs": nb.count_runs(), "structures": n_struct, "worst_structure_s": worst["structure"],
-                      "worst_condition_s": worst["condition"], "worst_structure_repeat_s": worst_repeat["structure"],
-                      "worst_condition_repeat_s": worst_repeat["condition"]}))
+    print(
+        json.dumps(
+            {
+                "runs": nb.count_runs(),
+                "structures": n_struct,
+                "worst_structure_s": worst["structure"],
+                "worst_condition_s": worst["condition"],
+                "worst_structure_repeat_s": worst_repeat["structure"],
+                "worst_condition_repeat_s": worst_repeat["condition"],
+            }
+        )
+    )
     nb.close()
 
 

@@ -58,11 +58,18 @@ SERIES = {
     ],
 }
 EXPECTED = {  # the class the bench knows for each molecule (docs/sources.md, "Strain"); None = not stated
-    "bicyclo[2.2.1]hept-1-ene": "unstable", "bicyclo[2.2.2]oct-1-ene": "unstable",
-    "bicyclo[3.2.1]oct-1-ene": "unstable", "bicyclo[3.3.1]non-1-ene": "isolable",
-    "cyclohexyne": "trapping only", "cycloheptyne": "cold and dilute only", "cyclooctyne": "isolable",
-    "cyclononyne": "isolable", "1,2-cyclohexadiene": "trapping only", "1,2-cycloheptadiene": "trapping only",
-    "1,2-cyclooctadiene": "observable", "1,2-cyclononadiene": "isolable",
+    "bicyclo[2.2.1]hept-1-ene": "unstable",
+    "bicyclo[2.2.2]oct-1-ene": "unstable",
+    "bicyclo[3.2.1]oct-1-ene": "unstable",
+    "bicyclo[3.3.1]non-1-ene": "isolable",
+    "cyclohexyne": "trapping only",
+    "cycloheptyne": "cold and dilute only",
+    "cyclooctyne": "isolable",
+    "cyclononyne": "isolable",
+    "1,2-cyclohexadiene": "trapping only",
+    "1,2-cycloheptadiene": "trapping only",
+    "1,2-cyclooctadiene": "observable",
+    "1,2-cyclononadiene": "isolable",
 }
 
 
@@ -104,8 +111,10 @@ def _cell(v, spec: str) -> str:
 def table(kind: str, tier: str, repeat: bool) -> tuple[list[float], int, int]:
     quantity = stability.quantity_of(kind)
     print(f"\n-- {kind} ({tier}; classed by {quantity})")
-    print(f"{'molecule':32s} {'value':>7s} {'OS':>6s} {'ring':>6s} {'excess':>6s} {'class':>22s} {'known':>22s} "
-          f"{'WBO':>5s} {'conf':>4s} {'s':>6s} {'cpu s':>6s}" + ("  rerun d" if repeat else ""))
+    print(
+        f"{'molecule':32s} {'value':>7s} {'OS':>6s} {'ring':>6s} {'excess':>6s} {'class':>22s} {'known':>22s} "
+        f"{'WBO':>5s} {'conf':>4s} {'s':>6s} {'cpu s':>6s}" + ("  rerun d" if repeat else "")
+    )
     times, cpus, agree, known = [], [], 0, 0
     for name, smiles in SERIES[kind]:
         r, dt, cpu = run_one(smiles, tier)
@@ -116,16 +125,20 @@ def table(kind: str, tier: str, repeat: bool) -> tuple[list[float], int, int]:
         if expected is not None and tier == "accurate":
             known += 1
             agree += cls == expected or (expected == "observable" and r.get("needs_trap"))
-        line = (f"{name:32s} {_cell(r['strain_kcal_mol'], '7.2f')} {_cell(r['olefin_strain_kcal_mol'], '6.1f')} "
-                f"{_cell(r.get('ring_strain_kcal_mol'), '6.1f')} {_cell(r.get('excess_strain_kcal_mol'), '6.1f')} "
-                f"{cls or 'no class (prescreen)':>22s} {expected or '':>22s} {_cell(r['wiberg_bond_order'], '5.2f')} "
-                f"{r['conformers']:>4d} {dt:6.2f} {cpu:6.2f}")
+        line = (
+            f"{name:32s} {_cell(r['strain_kcal_mol'], '7.2f')} {_cell(r['olefin_strain_kcal_mol'], '6.1f')} "
+            f"{_cell(r.get('ring_strain_kcal_mol'), '6.1f')} {_cell(r.get('excess_strain_kcal_mol'), '6.1f')} "
+            f"{cls or 'no class (prescreen)':>22s} {expected or '':>22s} {_cell(r['wiberg_bond_order'], '5.2f')} "
+            f"{r['conformers']:>4d} {dt:6.2f} {cpu:6.2f}"
+        )
         if repeat:
             again, _, _ = run_one(smiles, tier)
             line += f"  {again['strain_kcal_mol'] - r['strain_kcal_mol']:+.3f}"
         print(line, flush=True)
-    print(f"{kind}: median {statistics.median(times):.2f} s (cpu {statistics.median(cpus):.2f} s), "
-          f"max {max(times):.2f} s, n = {len(times)}")
+    print(
+        f"{kind}: median {statistics.median(times):.2f} s (cpu {statistics.median(cpus):.2f} s), "
+        f"max {max(times):.2f} s, n = {len(times)}"
+    )
     return list(zip(times, cpus)), agree, known
 
 
@@ -133,8 +146,7 @@ def cyclooctene_gap(tier: str) -> None:
     t0 = time.perf_counter()
     trans = strain.conformer_energy("C1=C/CCCCCC/1", tier)["energy_kcal_mol"]
     cis = strain.conformer_energy("C1=C\\CCCCCC/1", tier)["energy_kcal_mol"]
-    print(f"trans - cis cyclooctene ({tier}): {trans - cis:.2f} kcal/mol "
-          f"(measured 9.3) [{time.perf_counter() - t0:.1f} s]")
+    print(f"trans - cis cyclooctene ({tier}): {trans - cis:.2f} kcal/mol (measured 9.3) [{time.perf_counter() - t0:.1f} s]")
 
 
 def main(argv: list[str]) -> int:
@@ -154,13 +166,17 @@ def main(argv: list[str]) -> int:
             pairs += timed
             agree, known = agree + a, known + k
         all_times = [t for t, _ in pairs]
-        print(f"\nall kinds ({tier}): median {statistics.median(all_times):.2f} s "
-              f"(cpu {statistics.median(c for _, c in pairs):.2f} s), max {max(all_times):.2f} s, "
-              f"n = {len(all_times)}" + (f"; class agrees with the bench on {agree}/{known}" if known else ""))
+        print(
+            f"\nall kinds ({tier}): median {statistics.median(all_times):.2f} s "
+            f"(cpu {statistics.median(c for _, c in pairs):.2f} s), max {max(all_times):.2f} s, "
+            f"n = {len(all_times)}" + (f"; class agrees with the bench on {agree}/{known}" if known else "")
+        )
         cyclooctene_gap(tier)
     if os.getloadavg()[0] > (os.cpu_count() or 1):
-        print(f"note: load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores; wall times are inflated, "
-              "the cpu column is closer to an unshared machine")
+        print(
+            f"note: load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores; wall times are inflated, "
+            "the cpu column is closer to an unshared machine"
+        )
     hit = measure_cache_hit()
     print(f"cache hit (notebook lookup, median of 20): {hit:.4f} s")
     strain.shutdown()

@@ -65,21 +65,27 @@ def build(path: Path, n: int) -> float:
                 h = version_hash(rid, 1, "bench", t, "benchmark", "create", None, text)
                 nb.conn.execute(
                     "INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) "
-                    "VALUES (?,?,?,?,?,?,?,?,?)", (rid, 1, "bench", t, "benchmark", "create", None, h, text))
+                    "VALUES (?,?,?,?,?,?,?,?,?)",
+                    (rid, 1, "bench", t, "benchmark", "create", None, h, text),
+                )
                 chain.append_save(nb.conn, "run", rid, 1, h)  # the notebook's log of saves, as a save keeps it
                 nb.conn.execute(
                     "INSERT INTO runs (id, title, chemist, date, status, screen, withdrawn, version, hash, created, updated, data) "
                     "VALUES (?,?,?,?,?,?,?,?,?,?,?,?)",
-                    (rid, d["title"], d.get("chemist"), d.get("date"), d.get("status"), None, 0, 1, h, t, t, text))
+                    (rid, d["title"], d.get("chemist"), d.get("date"), d.get("status"), None, 0, 1, h, t, t, text),
+                )
                 row = list(idx)
                 row[cols.index("run_id")] = rid
                 nb.conn.execute(f"INSERT INTO run_index ({', '.join(cols)}) VALUES ({', '.join('?' * len(cols))})", row)
                 # the search rows a save writes (full text, structures used, what was indexed)
                 nb.conn.execute("INSERT INTO search_state (run_id, hash) VALUES (?, ?)", (rid, h))
-                nb.conn.execute("INSERT INTO run_text (run_id, title, notes, observations, tags) VALUES (?,?,?,?,?)",
-                                (rid, d["title"], *text_row))
-                nb.conn.executemany("INSERT INTO run_structures (run_id, part, name, structure_id) VALUES (?,?,?,?)",
-                                    [(rid, *p) for p in parts])
+                nb.conn.execute(
+                    "INSERT INTO run_text (run_id, title, notes, observations, tags) VALUES (?,?,?,?,?)",
+                    (rid, d["title"], *text_row),
+                )
+                nb.conn.executemany(
+                    "INSERT INTO run_structures (run_id, part, name, structure_id) VALUES (?,?,?,?)", [(rid, *p) for p in parts]
+                )
         count = nb.count_runs()
         from trapbook import search
 
@@ -173,7 +179,7 @@ async def in_process(path: Path, repeats: int) -> dict:
         # filter: the work done once the typing pause ends (debounce is 0.12 s on top): the
         # core's search in its worker, then the table refilled with the rows it names
         times = []
-        for word in ["furan", "anthracene", "trap:furan", "TBAF", "Iyer"][:max(repeats, 3)]:
+        for word in ["furan", "anthracene", "trap:furan", "TBAF", "Iyer"][: max(repeats, 3)]:
             await app.workers.wait_for_complete()  # the last answer's preview drawn, as before a new text
             await pilot.pause()
             box.value = word
@@ -236,8 +242,7 @@ def main() -> None:
         print(f"notebook: {args.runs} runs built in {built:.1f} s")
         import os
 
-        print("load average (1, 5, 15 min): " + ", ".join(f"{x:.2f}" for x in os.getloadavg())
-              + f" on {os.cpu_count()} cores")
+        print("load average (1, 5, 15 min): " + ", ".join(f"{x:.2f}" for x in os.getloadavg()) + f" on {os.cpu_count()} cores")
         cold, previewed, rows = cold_start(path)
         bare, floor = floors(rows)
         print(f"cold start (new process, imports included, to {rows} rows drawn): {cold:.2f} s (median of 3)")
@@ -245,11 +250,15 @@ def main() -> None:
         print(f"  floor: Python alone {bare:.2f} s; Python + Textual drawing a bare table of {rows} rows {floor:.2f} s")
         res = asyncio.run(in_process(path, args.repeats))
         print(f"warm start (in process): {res['warm_start_s']:.2f} s")
-        print(f"filter work, typing pause to rows shown (core search + table): {res['filter_apply_ms']:.0f} ms median "
-              f"(+120 ms pause; {res['rows_after_filter']} rows at the end)")
+        print(
+            f"filter work, typing pause to rows shown (core search + table): {res['filter_apply_ms']:.0f} ms median "
+            f"(+120 ms pause; {res['rows_after_filter']} rows at the end)"
+        )
         print(f"cursor move in the run table, with preview: {res['cursor_move_ms']:.0f} ms median (pilot round trip)")
-        print(f"keystroke in the editor's amount field (check + live amounts): {res['editor_key_ms']:.0f} ms median "
-              f"(pilot round trip; a bare key costs about {res['pilot_overhead_hint_ms']:.0f} ms of pilot waiting)")
+        print(
+            f"keystroke in the editor's amount field (check + live amounts): {res['editor_key_ms']:.0f} ms median "
+            f"(pilot round trip; a bare key costs about {res['pilot_overhead_hint_ms']:.0f} ms of pilot waiting)"
+        )
 
 
 if __name__ == "__main__":

@@ -28,8 +28,9 @@ GRPDLY = 68
 WORKED = [(6.10, 3.00, 1.0), (5.30, 0.62, 1.0), (7.26, 0.2, 1.0)]
 
 
-def fid(signals=WORKED, phase_deg: float = 35.0, slope: float = 0.05, noise: float = 0.002, seed: int = 1,
-        delay: int = GRPDLY) -> np.ndarray:
+def fid(
+    signals=WORKED, phase_deg: float = 35.0, slope: float = 0.05, noise: float = 0.002, seed: int = 1, delay: int = GRPDLY
+) -> np.ndarray:
     t = np.arange(POINTS) / SW_HZ
     x = np.zeros(POINTS, complex)
     for ppm, area, width in signals:
@@ -90,16 +91,27 @@ def jcamp_fid(x: np.ndarray) -> bytes:
     n = x.size
     o1 = CARRIER_PPM * BF1_MHZ
     head = [
-        "##TITLE= synthetic 1H FID", "##JCAMP-DX= 5.01", "##DATA TYPE= NMR FID", "##DATA CLASS= NTUPLES",
-        f"##.OBSERVE FREQUENCY= {BF1_MHZ + o1 / 1e6:.6f}", "##.OBSERVE NUCLEUS= ^1H", f"##$O1= {o1}", f"##$BF1= {BF1_MHZ}",
-        f"##$SW_h= {SW_HZ}", "##NTUPLES= NMR FID", "##VAR_NAME= TIME, FID/REAL, FID/IMAG, PAGE NUMBER",
-        "##SYMBOL= X, R, I, N", "##VAR_TYPE= INDEPENDENT, DEPENDENT, DEPENDENT, PAGE", "##VAR_FORM= AFFN, AFFN, AFFN, AFFN",
-        f"##VAR_DIM= {n}, {n}, {n}, 2", "##UNITS= SECONDS, ARBITRARY UNITS, ARBITRARY UNITS,",
+        "##TITLE= synthetic 1H FID",
+        "##JCAMP-DX= 5.01",
+        "##DATA TYPE= NMR FID",
+        "##DATA CLASS= NTUPLES",
+        f"##.OBSERVE FREQUENCY= {BF1_MHZ + o1 / 1e6:.6f}",
+        "##.OBSERVE NUCLEUS= ^1H",
+        f"##$O1= {o1}",
+        f"##$BF1= {BF1_MHZ}",
+        f"##$SW_h= {SW_HZ}",
+        "##NTUPLES= NMR FID",
+        "##VAR_NAME= TIME, FID/REAL, FID/IMAG, PAGE NUMBER",
+        "##SYMBOL= X, R, I, N",
+        "##VAR_TYPE= INDEPENDENT, DEPENDENT, DEPENDENT, PAGE",
+        "##VAR_FORM= AFFN, AFFN, AFFN, AFFN",
+        f"##VAR_DIM= {n}, {n}, {n}, 2",
+        "##UNITS= SECONDS, ARBITRARY UNITS, ARBITRARY UNITS,",
         f"##FACTOR= {1 / SW_HZ}, {scale}, {scale}, 1",
     ]
     body = []
     for page, symbol, values in ((1, "R", re_i), (2, "I", im_i)):
         body += [f"##PAGE= N={page}", f"##DATA TABLE= (X++({symbol}..{symbol})), XYDATA"]
-        body += [" ".join([str(i)] + [str(v) for v in values[i:i + 8]]) for i in range(0, n, 8)]
+        body += [" ".join([str(i)] + [str(v) for v in values[i : i + 8]]) for i in range(0, n, 8)]
     tail = ["##END NTUPLES= NMR FID", "##END="]
     return ("\n".join(head + body + tail) + "\n").encode()

@@ -39,8 +39,13 @@ def test_minimal_run_amounts(minimal_run):
 def test_mass_given_with_purity_gives_mmol(minimal_run):
     # Source: purity as mass fraction, n = m x purity / M (docs/sources.md qNMR relation); M by molmass:
     # 59.67 mg at 95 % purity of a 298.36 g/mol solid = 0.190 mmol
-    minimal_run["lines"][0] = {"role": "precursor", "name": "aryne precursor A",
-                               "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "mass": "59.67 mg", "purity": "95 %"}
+    minimal_run["lines"][0] = {
+        "role": "precursor",
+        "name": "aryne precursor A",
+        "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F",
+        "mass": "59.67 mg",
+        "purity": "95 %",
+    }
     table = amounts.compute(load_run(minimal_run))
     mw = molmass.Formula("C10H13F3O3SSi").mass
     assert table.limiting_mmol == pytest.approx(59.67 * 0.95 / mw, rel=1e-4)
@@ -50,8 +55,12 @@ def test_mass_given_with_purity_gives_mmol(minimal_run):
 
 def test_hydrate_weighed_by_its_own_molar_mass(minimal_run):
     # Source: docs/sources.md, TBAF trihydrate 315.51 g/mol; 3.0 equiv on 0.200 mmol = 189.3 mg
-    minimal_run["lines"][1] = {"role": "fluoride source", "name": "TBAF·3H2O",
-                               "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "equiv": 3.0}
+    minimal_run["lines"][1] = {
+        "role": "fluoride source",
+        "name": "TBAF·3H2O",
+        "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O",
+        "equiv": 3.0,
+    }
     minimal_run["steps"][1]["add"] = ["TBAF·3H2O"]
     table = amounts.compute(load_run(minimal_run))
     row = _line(table, "TBAF·3H2O")
@@ -71,15 +80,24 @@ def test_qnmr_worked_example():
     # Source: docs/sources.md worked check (qNMR practice, Pauli et al. 2014, from memory):
     # 0.100 mmol standard (3H, I = 3.00), product 1H with I = 0.62 -> 0.0620 mmol; 62 % at 0.100 mmol
     assert amounts.nmr_mmol(0.100, 0.62, 1, 3.00, 3) == pytest.approx(0.0620)
-    run = load_run({
-        "title": "qNMR check",
-        "lines": [
-            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.100 mmol"},
-            {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
-            {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
-        ],
-        "outcome": {"products": [{"product": "adduct", "qnmr": {"standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1}}]},
-    })
+    run = load_run(
+        {
+            "title": "qNMR check",
+            "lines": [
+                {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.100 mmol"},
+                {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
+                {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
+            ],
+            "outcome": {
+                "products": [
+                    {
+                        "product": "adduct",
+                        "qnmr": {"standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1},
+                    }
+                ]
+            },
+        }
+    )
     (y,) = amounts.product_yields(run)
     assert y.nmr_yield_pct == pytest.approx(62.0)
     assert y.isolated_yield_pct is None
@@ -89,15 +107,19 @@ def test_isolated_yield_and_mass_balance():
     # Source: yield = n_product / n_theoretical (IUPAC Gold Book, "yield"); 1,4-epoxy-1,4-dihydronaphthalene C10H8O, M by molmass
     m_adduct = molmass.Formula("C10H8O").mass
     m_pre = molmass.Formula("C10H13F3O3SSi").mass
-    run = load_run({
-        "title": "yield check",
-        "lines": [
-            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.200 mmol"},
-            {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
-        ],
-        "outcome": {"products": [{"product": "adduct", "isolated_mass": f"{0.124 * m_adduct:.4f} mg", "dr": "1:4", "er": "19:1"}],
-                    "recovered_precursor": f"{0.040 * m_pre:.4f} mg"},
-    })
+    run = load_run(
+        {
+            "title": "yield check",
+            "lines": [
+                {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.200 mmol"},
+                {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
+            ],
+            "outcome": {
+                "products": [{"product": "adduct", "isolated_mass": f"{0.124 * m_adduct:.4f} mg", "dr": "1:4", "er": "19:1"}],
+                "recovered_precursor": f"{0.040 * m_pre:.4f} mg",
+            },
+        }
+    )
     (y,) = amounts.product_yields(run)
     assert y.isolated_yield_pct == pytest.approx(62.0, abs=0.01)  # 0.124 / 0.200 mmol, by the definition above
     # Source: ee = (er - 1)/(er + 1); er 19:1 -> 90 % ee (IUPAC Gold Book E02070)
@@ -132,11 +154,14 @@ def _solid_by_volume_run(fluoride_line):
     }
 
 
-@pytest.mark.parametrize("line", [
-    {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "volume": "5 mL"},
-    {"role": "fluoride source", "name": "CsF", "volume": "5 mL"},  # known by name
-    {"role": "additive", "name": "KF", "smiles": "[K+].[F-]", "volume": "0.5 mL"},
-])
+@pytest.mark.parametrize(
+    "line",
+    [
+        {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "volume": "5 mL"},
+        {"role": "fluoride source", "name": "CsF", "volume": "5 mL"},  # known by name
+        {"role": "additive", "name": "KF", "smiles": "[K+].[F-]", "volume": "0.5 mL"},
+    ],
+)
 def test_a_solid_given_by_volume_is_refused_not_counted_as_liquid(line):
     with pytest.raises(RecordError) as err:
         amounts.compute(load_run(_solid_by_volume_run(line)))
@@ -145,16 +170,27 @@ def test_a_solid_given_by_volume_is_refused_not_counted_as_liquid(line):
 
 
 def test_the_same_solid_by_mass_gives_the_concentration_of_the_liquid_alone():
-    table = amounts.compute(load_run(_solid_by_volume_run(
-        {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3})))
+    table = amounts.compute(
+        load_run(_solid_by_volume_run({"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3}))
+    )
     # Source: c = n / V (IUPAC Green Book, amount concentration): 0.100 mmol in 1.0 mL = 0.100 M
     assert table.concentration_M == pytest.approx(0.100)
 
 
 def test_a_stock_solution_by_volume_is_still_fine():
-    table = amounts.compute(load_run(_solid_by_volume_run(
-        {"role": "fluoride source", "name": "TBAF", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]", "volume": "0.30 mL",
-         "molarity": "1.0 M"})))
+    table = amounts.compute(
+        load_run(
+            _solid_by_volume_run(
+                {
+                    "role": "fluoride source",
+                    "name": "TBAF",
+                    "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]",
+                    "volume": "0.30 mL",
+                    "molarity": "1.0 M",
+                }
+            )
+        )
+    )
     # Source: n = c V (IUPAC Green Book): 0.30 mL x 1.0 M = 0.30 mmol = 3.0 equiv on 0.100 mmol
     assert table.line("TBAF").equiv == pytest.approx(3.0)
 

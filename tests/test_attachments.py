@@ -22,8 +22,11 @@ from trapbook.errors import TrapbookError
 from trapbook.integrity import verify
 from trapbook.store import Notebook
 
-RUN = {"title": "furan trap of the C7 bridgehead alkene", "chemist": "A. Trial",
-       "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}]}
+RUN = {
+    "title": "furan trap of the C7 bridgehead alkene",
+    "chemist": "A. Trial",
+    "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}],
+}
 
 
 def _fake_record(data: bytes, name: str = "1H.fid") -> dict:

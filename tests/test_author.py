@@ -16,8 +16,11 @@ from click.testing import CliRunner
 from trapbook.cli import main
 from trapbook.store import Notebook
 
-RUN = {"title": "furan trap of the C7 bridgehead alkene", "chemist": "A. Trial",
-       "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}]}
+RUN = {
+    "title": "furan trap of the C7 bridgehead alkene",
+    "chemist": "A. Trial",
+    "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}],
+}
 
 
 @pytest.fixture
@@ -84,6 +87,7 @@ def test_a_bad_author_option_saves_nothing(db, tmp_path):
 
 
 # --- the terminal UI ---------------------------------------------------------------------
+
 
 @pytest.fixture
 def demo_path(tmp_path):

@@ -38,20 +38,23 @@ def _rdkit_bridgehead_bond_classes(smiles: str) -> int:
     return len(pairs)
 
 
-@pytest.mark.parametrize(("skeleton", "expected"), [
-    # Source: docs/sources.md "Campaigns" — bicyclo[2.2.2]octane: both bridgeheads and all three
-    # two-carbon bridges are alike, so every bridgehead C=C is the same bicyclo[2.2.2]oct-1-ene.
-    (BICYCLO_222, 1),
-    # Source: docs/sources.md "Campaigns" — adamantane (Td): four equivalent CH bridgeheads, each
-    # bonded to three equivalent CH2, so one bridgehead alkene (adamant-1-ene).
-    (ADAMANTANE, 1),
-    # Source: docs/sources.md "Campaigns" — bicyclo[3.3.1]nonane: toward a three-carbon bridge
-    # (non-1-ene) or toward the one-carbon bridge (non-1(9)-ene): two.
-    (BICYCLO_331, 2),
-    # Source: docs/sources.md "Campaigns" — bicyclo[3.2.1]octane: toward the three-, the two- or the
-    # one-carbon bridge (oct-1-ene, oct-1(7)-ene, oct-1(8)-ene): three.
-    (BICYCLO_321, 3),
-])
+@pytest.mark.parametrize(
+    ("skeleton", "expected"),
+    [
+        # Source: docs/sources.md "Campaigns" — bicyclo[2.2.2]octane: both bridgeheads and all three
+        # two-carbon bridges are alike, so every bridgehead C=C is the same bicyclo[2.2.2]oct-1-ene.
+        (BICYCLO_222, 1),
+        # Source: docs/sources.md "Campaigns" — adamantane (Td): four equivalent CH bridgeheads, each
+        # bonded to three equivalent CH2, so one bridgehead alkene (adamant-1-ene).
+        (ADAMANTANE, 1),
+        # Source: docs/sources.md "Campaigns" — bicyclo[3.3.1]nonane: toward a three-carbon bridge
+        # (non-1-ene) or toward the one-carbon bridge (non-1(9)-ene): two.
+        (BICYCLO_331, 2),
+        # Source: docs/sources.md "Campaigns" — bicyclo[3.2.1]octane: toward the three-, the two- or the
+        # one-carbon bridge (oct-1-ene, oct-1(7)-ene, oct-1(8)-ene): three.
+        (BICYCLO_321, 3),
+    ],
+)
 def test_bridgehead_alkenes_of_a_skeleton(skeleton, expected):
     found = intermediates_of_skeleton(skeleton)
     assert len(found) == expected
@@ -173,8 +176,23 @@ def test_cli_campaign_json_and_report(tmp_path, notebook):
     listing = tmp_path / "cands.txt"
     listing.write_text("\n".join(CANDIDATES[:4]) + "\n", encoding="utf-8")
     report = tmp_path / "map.html"
-    res = CliRunner().invoke(main, ["--db", str(notebook.path), "campaign", str(listing), "--tier", "fast",
-                                    "--no-precursors", "--workers", "2", "--report", str(report), "--json"])
+    res = CliRunner().invoke(
+        main,
+        [
+            "--db",
+            str(notebook.path),
+            "campaign",
+            str(listing),
+            "--tier",
+            "fast",
+            "--no-precursors",
+            "--workers",
+            "2",
+            "--report",
+            str(report),
+            "--json",
+        ],
+    )
     assert res.exit_code == 0, res.output
     data = json.loads(res.output)
     assert [r["rank"] for r in data["rows"]] == [1, 2, 3]

@@ -7,12 +7,11 @@ import json
 
 import pytest
 
+from samples import MINIMAL_RUN as MIN  # the minimal run file
 from trapbook.checks import CHECK_CODES, CheckSettings, Finding, run_checks
 from trapbook.chemistry import molecules
 from trapbook.errors import TrapbookError
 from trapbook.records import load_run
-
-from samples import MINIMAL_RUN as MIN  # the minimal run file
 
 PRECURSOR = "aryne precursor A"
 TBAF = "TBAF 1.0 M in THF"
@@ -69,8 +68,11 @@ def test_sample_run_gets_no_stop():
 
 def test_findings_sorted_most_severe_first_and_keys_exact():
     d = base()
-    d["steps"] = [{"add": [PRECURSOR, "THF"], "temperature": "-78 °C"}, {"add": [TBAF], "temperature": "-78 °C"},
-                  {"add": ["furan"], "temperature": "23 °C", "hold": "2 h"}]
+    d["steps"] = [
+        {"add": [PRECURSOR, "THF"], "temperature": "-78 °C"},
+        {"add": [TBAF], "temperature": "-78 °C"},
+        {"add": ["furan"], "temperature": "23 °C", "hold": "2 h"},
+    ]
     found = check(d)
     ranks = [("stop", "warn", "note").index(f.severity) for f in found]
     assert ranks == sorted(ranks)
@@ -115,17 +117,21 @@ def test_trap_before_fluoride_is_clean():
 
 def test_trap_added_with_fluoride_in_one_step_is_fine():
     d = late_trap()
-    d["steps"] = [{"add": [PRECURSOR, "THF"], "temperature": "-78 °C"},
-                  {"add": [TBAF, "furan"], "temperature": "-78 °C"},
-                  {"temperature": "23 °C", "hold": "2 h"}]
+    d["steps"] = [
+        {"add": [PRECURSOR, "THF"], "temperature": "-78 °C"},
+        {"add": [TBAF, "furan"], "temperature": "-78 °C"},
+        {"temperature": "23 °C", "hold": "2 h"},
+    ]
     assert not {"trap-late", "trap-order-unknown"} & set(codes(d))
 
 
 def test_fluoride_first_then_precursor_then_trap_is_late():
     d = base()
-    d["steps"] = [{"add": [TBAF, "THF"], "temperature": "0 °C"},
-                  {"add": [PRECURSOR], "temperature": "0 °C"},
-                  {"add": ["furan"], "temperature": "0 °C", "hold": "1 h"}]
+    d["steps"] = [
+        {"add": [TBAF, "THF"], "temperature": "0 °C"},
+        {"add": [PRECURSOR], "temperature": "0 °C"},
+        {"add": ["furan"], "temperature": "0 °C", "hold": "1 h"},
+    ]
     assert only(d, "trap-late").steps == [2, 3]
 
 
@@ -275,8 +281,12 @@ def test_fluoride_low_counts_every_silicon_on_the_precursor():
 def test_tbat_delivers_one_fluoride_not_two():
     # TBAT gives one fluoride per formula (from memory), though the salt carries two F
     d = base()
-    d["lines"][1] = {"role": "fluoride source", "name": "TBAT",
-                     "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1", "equiv": 0.8}
+    d["lines"][1] = {
+        "role": "fluoride source",
+        "name": "TBAT",
+        "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1",
+        "equiv": 0.8,
+    }
     d["steps"][1]["add"] = ["TBAT"]
     assert molecules.fluoride_count(d["lines"][1]["smiles"]) == 2  # Source: formula C34H51F2NSi (docs/sources.md), two F
     assert "fluoride-low" in codes(d)
@@ -342,8 +352,12 @@ def test_anhydrous_csf_brings_no_water():
 
 def test_hydrate_water_from_smiles():
     d = base()
-    d["lines"][1] = {"role": "fluoride source", "name": "TBAF trihydrate",
-                     "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O", "equiv": 1.5}
+    d["lines"][1] = {
+        "role": "fluoride source",
+        "name": "TBAF trihydrate",
+        "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-].O.O.O",
+        "equiv": 1.5,
+    }
     d["steps"][1]["add"] = ["TBAF trihydrate"]
     f = only(d, "water-brought")
     assert "4.5 mmol per mmol" in f.message  # Source: formula C16H42FNO3 (docs/sources.md): 3 H2O per formula × 1.5 equiv
@@ -454,8 +468,10 @@ def test_line_never_added():
 
 def test_internal_standard_and_product_need_no_step():
     d = base()
-    d["lines"] += [{"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
-                   {"role": "product", "name": "adduct", "smiles": ADDUCT}]
+    d["lines"] += [
+        {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
+        {"role": "product", "name": "adduct", "smiles": ADDUCT},
+    ]
     assert "line-never-added" not in codes(d)
 
 
@@ -603,8 +619,9 @@ def test_settings_round_trip_and_unknown_keys():
         CheckSettings.from_dict({"trap_min_equv": 3})
 
 
-@pytest.mark.parametrize("bad", [{"trap_min_equiv": "two"}, {"trap_min_equiv": -1},
-                                 {"concentration_low_M": 2.0}, {"yield_max_pct": float("nan")}])
+@pytest.mark.parametrize(
+    "bad", [{"trap_min_equiv": "two"}, {"trap_min_equiv": -1}, {"concentration_low_M": 2.0}, {"yield_max_pct": float("nan")}]
+)
 def test_settings_bad_values_are_clear_errors(bad):
     with pytest.raises(TrapbookError):
         CheckSettings.from_dict(bad)
@@ -617,6 +634,7 @@ def test_settings_from_non_dict():
 
 def test_every_setting_has_a_documented_source():
     from trapbook.checks import SETTING_SOURCES
+
     assert set(SETTING_SOURCES) == set(CheckSettings().to_dict())
     assert all(SETTING_SOURCES.values())
 

@@ -13,13 +13,13 @@ from trapbook.materials import DATA_DIR, find
 # Chemical Laboratory Safety and Security (2016), App. D unless marked.
 REFERENCE_SOLVENTS = [
     # key, bp, mp, density
-    ("acetonitrile", 81.6, -46, 0.786),      # Source: NASEM 2016 App. D
-    ("dmf", 153, -61, 0.9445),               # Source: NASEM 2016 App. D
-    ("dmso", 189, 18.4, 1.092),              # Source: NASEM 2016 App. D
-    ("1,4-dioxane", 101.1, 11.8, 1.033),     # Source: NASEM 2016 App. D
-    ("thf", 66, -108.4, 0.8876),             # Source: NASEM 2016 App. D; density CRC
-    ("toluene", 110.6, -95, 0.867),          # Source: NASEM 2016 App. D; density CRC, from memory
-    ("furan", 31.4, -86, 0.951),             # Source: NASEM 2016 App. D; density CRC, from memory
+    ("acetonitrile", 81.6, -46, 0.786),  # Source: NASEM 2016 App. D
+    ("dmf", 153, -61, 0.9445),  # Source: NASEM 2016 App. D
+    ("dmso", 189, 18.4, 1.092),  # Source: NASEM 2016 App. D
+    ("1,4-dioxane", 101.1, 11.8, 1.033),  # Source: NASEM 2016 App. D
+    ("thf", 66, -108.4, 0.8876),  # Source: NASEM 2016 App. D; density CRC
+    ("toluene", 110.6, -95, 0.867),  # Source: NASEM 2016 App. D; density CRC, from memory
+    ("furan", 31.4, -86, 0.951),  # Source: NASEM 2016 App. D; density CRC, from memory
 ]
 
 
@@ -54,8 +54,9 @@ def test_antoine_for_solvents_outside_reference(key, bp):
     assert materials.by_key(key).antoine.pressure_bar(bp) == pytest.approx(1.01325, rel=0.03)
 
 
-@pytest.mark.parametrize("key, bp, _mp, _d", [r for r in REFERENCE_SOLVENTS
-                                              if materials.by_key(r[0]).antoine and not _fitted_at_bp(r)])
+@pytest.mark.parametrize(
+    "key, bp, _mp, _d", [r for r in REFERENCE_SOLVENTS if materials.by_key(r[0]).antoine and not _fitted_at_bp(r)]
+)
 def test_antoine_constants_fitted_below_the_bp_stay_near_one_atmosphere_there(key, bp, _mp, _d):
     # Source: NIST Chemistry WebBook Antoine parameters for DMF (303-363 K) and DMSO (293-323 K);
     # bp NASEM 2016 App. D. Outside the fitted range the figure is rough: 15 % is allowed and the
@@ -100,37 +101,41 @@ def test_hazard_texts_exist_for_every_hazard_named():
     assert "calcium gluconate" in known["fluoride"].caution
 
 
-@pytest.mark.parametrize("name, smiles, key", [
-    ("THF", None, "thf"),
-    ("THF (dry)", None, "thf"),
-    ("anhydrous THF", None, "thf"),
-    ("solvent X", "C1CCOC1", "thf"),
-    ("furan", None, "furan"),
-    (None, "c1ccoc1", "furan"),
-    ("toluene", None, "toluene"),
-    ("MeCN", None, "acetonitrile"),
-    ("DMF", None, "dmf"),
-    ("DMSO", None, "dmso"),
-    ("dioxane", None, "1,4-dioxane"),
-    ("Et2O", None, "diethyl ether"),
-    ("DCM", None, "dichloromethane"),
-    ("benzene", None, "benzene"),
-    ("TBAF 1.0 M in THF", None, "tbaf"),
-    ("fluoride", "[F-].CCCC[N+](CCCC)(CCCC)CCCC.O.O.O", "tbaf"),  # hydrate matches its salt
-    ("CsF", None, "csf"),
-    (None, "[Cs+].[F-]", "csf"),
-    ("KF (spray-dried)", None, "kf"),
-    ("TBAT", None, "tbat"),
-    ("Me3SiF", None, "tmsf"),
-    (None, "C[Si](C)(C)F", "tmsf"),
-])
+@pytest.mark.parametrize(
+    "name, smiles, key",
+    [
+        ("THF", None, "thf"),
+        ("THF (dry)", None, "thf"),
+        ("anhydrous THF", None, "thf"),
+        ("solvent X", "C1CCOC1", "thf"),
+        ("furan", None, "furan"),
+        (None, "c1ccoc1", "furan"),
+        ("toluene", None, "toluene"),
+        ("MeCN", None, "acetonitrile"),
+        ("DMF", None, "dmf"),
+        ("DMSO", None, "dmso"),
+        ("dioxane", None, "1,4-dioxane"),
+        ("Et2O", None, "diethyl ether"),
+        ("DCM", None, "dichloromethane"),
+        ("benzene", None, "benzene"),
+        ("TBAF 1.0 M in THF", None, "tbaf"),
+        ("fluoride", "[F-].CCCC[N+](CCCC)(CCCC)CCCC.O.O.O", "tbaf"),  # hydrate matches its salt
+        ("CsF", None, "csf"),
+        (None, "[Cs+].[F-]", "csf"),
+        ("KF (spray-dried)", None, "kf"),
+        ("TBAT", None, "tbat"),
+        ("Me3SiF", None, "tmsf"),
+        (None, "C[Si](C)(C)F", "tmsf"),
+    ],
+)
 def test_recognition(name, smiles, key):
     m = find(name, smiles)
     assert m is not None and m.key == key
 
 
-@pytest.mark.parametrize("name, smiles", [("benzofuran", None), ("2-methylfuran", None), (None, "c1ccc2occc2c1"),
-                                          ("THF-d8 adduct", "CC")])
+@pytest.mark.parametrize(
+    "name, smiles", [("benzofuran", None), ("2-methylfuran", None), (None, "c1ccc2occc2c1"), ("THF-d8 adduct", "CC")]
+)
 def test_near_names_are_not_recognised(name, smiles):
     assert find(name, smiles) is None
 
@@ -144,6 +149,7 @@ def test_solution_solvent_from_name():
         name = "TBAF 1.0 M in THF"
         smiles = None
         molarity = 1.0
+
     assert materials.solution_solvent(_Line()).key == "thf"
     _Line.molarity = None
     assert materials.solution_solvent(_Line()) is None

@@ -7,19 +7,21 @@ import copy
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from test_checks import MIN
 from trapbook.checks import CHECK_CODES, run_checks
 from trapbook.records import load_run
 
-from test_checks import MIN
-
 LINE_NAMES = [ln["name"] for ln in MIN["lines"]]
 SOLVENTS = ["THF", "toluene", "DMSO", "1,4-dioxane", "MeCN", "DCM", "Et2O", "benzene"]
-STRAIN = st.none() | st.fixed_dictionaries({
-    "stability_class": st.sampled_from(["hyperstable", "isolable", "observable", "unstable", "odd"]),
-    "olefin_strain_kcal_mol": st.floats(-5, 60) | st.none(),
-})
-ALIGN = st.none() | st.fixed_dictionaries({"verdict": st.sampled_from(["well aligned", "poorly aligned", "unclear"]),
-                                           "dihedral_deg": st.floats(0, 180)})
+STRAIN = st.none() | st.fixed_dictionaries(
+    {
+        "stability_class": st.sampled_from(["hyperstable", "isolable", "observable", "unstable", "odd"]),
+        "olefin_strain_kcal_mol": st.floats(-5, 60) | st.none(),
+    }
+)
+ALIGN = st.none() | st.fixed_dictionaries(
+    {"verdict": st.sampled_from(["well aligned", "poorly aligned", "unclear"]), "dihedral_deg": st.floats(0, 180)}
+)
 
 
 @st.composite

@@ -5,11 +5,10 @@ from __future__ import annotations
 
 import pytest
 
+from test_checks import toluene_run
 from trapbook.checks import run_checks
 from trapbook.errors import TrapbookError
 from trapbook.records import load_run
-
-from test_checks import toluene_run
 
 # Source: CODATA 2018, R = 8.314462618 J/(mol K); ideal gas p = nRT/V.
 R = 8.314462618

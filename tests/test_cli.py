@@ -113,8 +113,13 @@ def test_demo_no_ui_builds_the_demo(tmp_path):
 
 def test_console_script_prints_no_traceback(tmp_path):
     env = dict(os.environ, TRAPBOOK_DB=str(tmp_path / "none.sqlite"))
-    proc = subprocess.run([sys.executable, "-m", "trapbook", "amounts", str(tmp_path / "nope.json")],
-                          capture_output=True, text=True, env=env, timeout=120)
+    proc = subprocess.run(
+        [sys.executable, "-m", "trapbook", "amounts", str(tmp_path / "nope.json")],
+        capture_output=True,
+        text=True,
+        env=env,
+        timeout=120,
+    )
     assert proc.returncode == 2
     assert "no file" in proc.stderr and "Traceback" not in proc.stderr
 
@@ -193,8 +198,20 @@ def test_no_command_module_carries_its_own_error_decorator():
 # --- a mistyped --db never creates a notebook ------------------------------------------------
 
 
-@pytest.mark.parametrize("args", [["list"], ["show", "TB-0001"], ["settings"], ["open"], ["add", "{run}"],
-                                  ["import", "{run}"], ["screens"], ["search", "--text", "furan"], ["verify"]])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["list"],
+        ["show", "TB-0001"],
+        ["settings"],
+        ["open"],
+        ["add", "{run}"],
+        ["import", "{run}"],
+        ["screens"],
+        ["search", "--text", "furan"],
+        ["verify"],
+    ],
+)
 def test_mistyped_db_says_no_notebook_and_creates_nothing(tmp_path, minimal_run_file, args):
     missing = tmp_path / "no-such-folder" / "typo.sqlite"
     res = CliRunner().invoke(main, ["--db", str(missing), *[a.format(run=minimal_run_file) for a in args]])

@@ -8,8 +8,10 @@ import pytest
 
 from trapbook import integrity
 
-_RUN = {"title": "shared run", "lines": [{"role": "precursor", "name": "precursor", "amount": "0.1 mmol"},
-                                         {"role": "trap", "name": "furan", "equiv": 10}]}
+_RUN = {
+    "title": "shared run",
+    "lines": [{"role": "precursor", "name": "precursor", "amount": "0.1 mmol"}, {"role": "trap", "name": "furan", "equiv": 10}],
+}
 
 
 def _edit_from_v1(path, who, barrier, queue):

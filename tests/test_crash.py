@@ -21,9 +21,14 @@ import pytest
 
 from trapbook import integrity
 
-_RUN = {"title": "crash test", "lines": [{"role": "precursor", "name": "precursor", "amount": "0.1 mmol"},
-                                          {"role": "trap", "name": "furan", "equiv": 10},
-                                          {"role": "solvent", "name": "THF", "volume": "1 mL"}]}
+_RUN = {
+    "title": "crash test",
+    "lines": [
+        {"role": "precursor", "name": "precursor", "amount": "0.1 mmol"},
+        {"role": "trap", "name": "furan", "equiv": 10},
+        {"role": "solvent", "name": "THF", "volume": "1 mL"},
+    ],
+}
 
 
 def _writer(path: str, fd: int, seed: int, attach_dir: str) -> None:
@@ -50,8 +55,7 @@ def _writer(path: str, fd: int, seed: int, attach_dir: str) -> None:
             with open(f, "wb") as fh:
                 fh.write(os.urandom(2048))
             out = attachments.attach(nb, rid, f, author="crash")
-            res = type("R", (), {"run_id": out["run_id"], "version": out["version"],
-                                 "hash": nb.run_meta(rid)["hash"]})
+            res = type("R", (), {"run_id": out["run_id"], "version": out["version"], "hash": nb.run_meta(rid)["hash"]})
         else:
             res = nb.add_run(dict(_RUN, title=f"crash {seed}-{i}"), author="crash")
             mine.append(res.run_id)

@@ -19,8 +19,11 @@ from trapbook.cli import main
 from trapbook.demo import demo_lab_dir
 from trapbook.store import Notebook
 
-FIRST_RUN = {"title": "first real run: furan trap of the C7 bridgehead alkene", "chemist": "A. Trial",
-             "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}]}
+FIRST_RUN = {
+    "title": "first real run: furan trap of the C7 bridgehead alkene",
+    "chemist": "A. Trial",
+    "lines": [{"name": "furan", "role": "trap", "amount": "1 mmol"}],
+}
 
 
 def _demo(db: Path, *extra: str):

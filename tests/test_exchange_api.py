@@ -46,15 +46,21 @@ def test_exporter_plugin_through_entry_points(tmp_path, monkeypatch, demo_notebo
     # A fake installed distribution offering the format "titles" in the trapbook.exporters group.
     site = tmp_path / "site"
     (site / "tb_titles_plugin-1.0.dist-info").mkdir(parents=True)
-    (site / "tb_titles_plugin-1.0.dist-info" / "METADATA").write_text("Metadata-Version: 2.1\nName: tb-titles-plugin\nVersion: 1.0\n")
-    (site / "tb_titles_plugin-1.0.dist-info" / "entry_points.txt").write_text("[trapbook.exporters]\ntitles = tb_titles_plugin:Exporter\n")
-    (site / "tb_titles_plugin.py").write_text(textwrap.dedent('''
+    (site / "tb_titles_plugin-1.0.dist-info" / "METADATA").write_text(
+        "Metadata-Version: 2.1\nName: tb-titles-plugin\nVersion: 1.0\n"
+    )
+    (site / "tb_titles_plugin-1.0.dist-info" / "entry_points.txt").write_text(
+        "[trapbook.exporters]\ntitles = tb_titles_plugin:Exporter\n"
+    )
+    (site / "tb_titles_plugin.py").write_text(
+        textwrap.dedent("""
         class Exporter:
             suffixes = (".titles",)
             @staticmethod
             def export(nb, runs, screen=None, output=None):
                 return "".join(r.title + "\\n" for r in runs)
-    '''))
+    """)
+    )
     monkeypatch.syspath_prepend(str(site))
     assert "titles" in registry.known_formats()
     text = trapbook.export(demo_notebook, "titles", screen="SC-0001")
@@ -106,7 +112,9 @@ def test_cli_export_import_formats(tmp_path, demo_notebook_path):
     runner = CliRunner()
     for fmt, name in (("ord", "s.pb"), ("rocrate", "s.zip"), ("jsonl", "s.jsonl")):
         out = tmp_path / name
-        r = runner.invoke(main, ["--db", str(demo_notebook_path), "export", "--format", fmt, "--screen", "SC-0001", "-o", str(out)])
+        r = runner.invoke(
+            main, ["--db", str(demo_notebook_path), "export", "--format", fmt, "--screen", "SC-0001", "-o", str(out)]
+        )
         assert r.exit_code == 0, r.output
         assert runner.invoke(main, ["init", str(tmp_path / f"in-{fmt}.sqlite")]).exit_code == 0  # only init creates
         r = runner.invoke(main, ["--db", str(tmp_path / f"in-{fmt}.sqlite"), "import", str(out), "--json"])

@@ -111,11 +111,14 @@ def test_metadata_pointing_outside_a_folder_crate_is_refused(notebook, tmp_path,
     outside.write_text(json.dumps(minimal_run), encoding="utf-8")
     crate = tmp_path / "crate"
     crate.mkdir()
-    meta = {"@context": "https://w3id.org/ro/crate/1.1/context", "@graph": [
-        {"@id": "ro-crate-metadata.json", "@type": "CreativeWork", "about": {"@id": "./"}},
-        {"@id": "./", "@type": "Dataset", "hasPart": [{"@id": "runs/../../secret.json"}]},
-        {"@id": "runs/../../secret.json", "@type": "File"},
-    ]}
+    meta = {
+        "@context": "https://w3id.org/ro/crate/1.1/context",
+        "@graph": [
+            {"@id": "ro-crate-metadata.json", "@type": "CreativeWork", "about": {"@id": "./"}},
+            {"@id": "./", "@type": "Dataset", "hasPart": [{"@id": "runs/../../secret.json"}]},
+            {"@id": "runs/../../secret.json", "@type": "File"},
+        ],
+    }
     (crate / "ro-crate-metadata.json").write_text(json.dumps(meta), encoding="utf-8")
     with pytest.raises(ExchangeError):
         import_path(notebook, crate)
@@ -194,8 +197,9 @@ def test_a_changed_reason_in_the_history_is_refused_whole(edited_copy, tmp_path)
     out = tmp_path / "crate.zip"
     export_runs(edited_copy, "rocrate", output=str(out))
     forged = tmp_path / "forged.zip"
-    _rewrite_zip(out, forged, "runs/TB-0005.history.jsonl",
-                 lambda b: b.replace(b"page number corrected", b"nothing changed, honest"))
+    _rewrite_zip(
+        out, forged, "runs/TB-0005.history.jsonl", lambda b: b.replace(b"page number corrected", b"nothing changed, honest")
+    )
     target = Notebook.create(tmp_path / "t.sqlite")
     with pytest.raises(ExchangeError) as exc:
         import_path(target, forged)
@@ -263,14 +267,30 @@ def _forge(run_id, versions):
     return versions
 
 
-@pytest.mark.parametrize("case", ["gap", "escape-in-author", "newline-in-reason", "path-id", "unknown-action",
-                                  "not-a-time", "not-canonical", "other-run", "empty"])
+@pytest.mark.parametrize(
+    "case",
+    [
+        "gap",
+        "escape-in-author",
+        "newline-in-reason",
+        "path-id",
+        "unknown-action",
+        "not-a-time",
+        "not-canonical",
+        "other-run",
+        "empty",
+    ],
+)
 def test_crafted_histories_are_refused_with_words(demo_copy, tmp_path, case):
     from trapbook.errors import RecordError
 
-    rows = [dict(zip(["version", "author", "time", "reason", "action", "prev_hash", "hash", "data"], r)) for r in
-            demo_copy.conn.execute("SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions "
-                                   "WHERE run_id = 'TB-0003' ORDER BY version")]
+    rows = [
+        dict(zip(["version", "author", "time", "reason", "action", "prev_hash", "hash", "data"], r))
+        for r in demo_copy.conn.execute(
+            "SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions "
+            "WHERE run_id = 'TB-0003' ORDER BY version"
+        )
+    ]
     run_id = "TB-0003"
     if case == "gap":
         rows[1]["version"] = 3

@@ -111,7 +111,9 @@ def test_isolated_yield_dr_and_ee(minimal_run):
     expected = 100.0 * (20.0 / molmass.Formula("C10H8O").mass) / 0.200
     assert by_type["YIELD"][0].percentage.value == pytest.approx(expected, rel=1e-4)
     assert by_type["AMOUNT"][0].amount.mass.value == pytest.approx(20.0)
-    sel = {reaction_pb2.ProductMeasurement.Selectivity.SelectivityType.Name(m.selectivity.type): m for m in by_type["SELECTIVITY"]}
+    sel = {
+        reaction_pb2.ProductMeasurement.Selectivity.SelectivityType.Name(m.selectivity.type): m for m in by_type["SELECTIVITY"]
+    }
     assert sel["DR"].string_value == "3:1"
     # Source: IUPAC Gold Book E02070, ee = (er - 1)/(er + 1); 95:5 -> 90 % ee
     assert sel["EE"].percentage.value == pytest.approx(90.0)
@@ -146,17 +148,26 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     # A reaction made with ord_schema's own builders, as another tool would write it.
     rxn = reaction_pb2.Reaction()
     rxn.inputs["precursor"].components.add().CopyFrom(
-        message_helpers.build_compound(smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", name="aryne precursor",
-                                       role="reactant", amount="0.5 mmol", is_limiting=True))
+        message_helpers.build_compound(
+            smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F",
+            name="aryne precursor",
+            role="reactant",
+            amount="0.5 mmol",
+            is_limiting=True,
+        )
+    )
     rxn.inputs["precursor"].addition_order = 1
     rxn.inputs["furan"].components.add().CopyFrom(
-        message_helpers.build_compound(smiles="c1ccoc1", name="furan", role="reactant", amount="5 mmol"))
+        message_helpers.build_compound(smiles="c1ccoc1", name="furan", role="reactant", amount="5 mmol")
+    )
     rxn.inputs["furan"].addition_order = 1
     rxn.inputs["CsF"].components.add().CopyFrom(
-        message_helpers.build_compound(smiles="[Cs+].[F-]", name="CsF", role="reagent", amount="228 mg"))
+        message_helpers.build_compound(smiles="[Cs+].[F-]", name="CsF", role="reagent", amount="228 mg")
+    )
     rxn.inputs["CsF"].addition_order = 2
     rxn.inputs["MeCN"].components.add().CopyFrom(
-        message_helpers.build_compound(smiles="CC#N", name="MeCN", role="solvent", amount="5 mL"))
+        message_helpers.build_compound(smiles="CC#N", name="MeCN", role="solvent", amount="5 mL")
+    )
     rxn.conditions.temperature.setpoint.CopyFrom(reaction_pb2.Temperature(value=353.15, units=reaction_pb2.Temperature.KELVIN))
     out = rxn.outcomes.add()
     out.reaction_time.CopyFrom(reaction_pb2.Time(value=2, units=reaction_pb2.Time.HOUR))
@@ -174,8 +185,13 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     report = import_path(notebook, path)
     run = notebook.get_run(report["imported"][0])
     roles = {ln.name: ln.role for ln in run.lines}
-    assert roles == {"aryne precursor": "precursor", "furan": "trap", "CsF": "fluoride source", "MeCN": "solvent",
-                     "oxabenzonorbornadiene": "product"}
+    assert roles == {
+        "aryne precursor": "precursor",
+        "furan": "trap",
+        "CsF": "fluoride source",
+        "MeCN": "solvent",
+        "oxabenzonorbornadiene": "product",
+    }
     assert run.line("CsF").mass.to("mg").magnitude == pytest.approx(228.0)
     assert run.line("MeCN").volume.to("mL").magnitude == pytest.approx(5.0)
     # Source: 353.15 K = 80 °C (definition of the Celsius scale)
@@ -187,12 +203,15 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     assert amounts.compute(run).line("furan").equiv == pytest.approx(10.0)
 
 
-@pytest.mark.parametrize("payload,name", [
-    (b"\x00\x01garbage\xff", "bad.pb"),
-    (b"reactions { inputs { key: 1 } }", "bad.pbtxt"),
-    (b'{"reactions": [{"inputs": 5}]}', "bad.json"),
-    (b"", "empty.pb"),
-])
+@pytest.mark.parametrize(
+    "payload,name",
+    [
+        (b"\x00\x01garbage\xff", "bad.pb"),
+        (b"reactions { inputs { key: 1 } }", "bad.pbtxt"),
+        (b'{"reactions": [{"inputs": 5}]}', "bad.json"),
+        (b"", "empty.pb"),
+    ],
+)
 def test_malformed_ord_files_write_nothing(notebook, tmp_path, payload, name):
     path = tmp_path / name
     path.write_bytes(payload)
@@ -257,18 +276,39 @@ def _weighed_run(minimal_run) -> dict:
         {"add": ["TBAF 1.0 M in THF"], "temperature": "-78 °C to rt", "over": "10 min"},
         {"hold": "overnight", "temperature": "rt"},
     ]
-    spectrum = {"attachment_sha256": "0" * 64, "attachment_name": "crude-1H.fid.zip", "standard_region": [6.0, 6.2],
-                "product_region": [5.6, 5.8], "processing": {"line_broadening_hz": 0.3, "phase_deg": [12.5, -3.0]}}
+    spectrum = {
+        "attachment_sha256": "0" * 64,
+        "attachment_name": "crude-1H.fid.zip",
+        "standard_region": [6.0, 6.2],
+        "product_region": [5.6, 5.8],
+        "processing": {"line_broadening_hz": 0.3, "phase_deg": [12.5, -3.0]},
+    }
     data["outcome"] = {
         "workup": "filtered through a silica plug (Et2O), concentrated",
         "eluent": "pentane/Et2O 20:1",
         "observations": "turned yellow on warming",
         "recovered_precursor": "5.0 mg",
-        "products": [{"product": "adduct", "isolated_mass": "0.0200 g", "dr": "3:1", "er": "95:5",
-                      "appearance": "pale yellow oil", "rf": 0.35, "nmr_text": "1H NMR (400 MHz, CDCl3) δ 7.25 (m, 2H)",
-                      "hrms": {"ion": "[M+Na]+", "found_mz": 1234.56789}, "note": "one spot by TLC",
-                      "qnmr": {"standard": "TMB", "standard_integral": 3.0, "standard_protons": 3, "integral": 0.771,
-                               "protons": 1, "spectrum": spectrum}}],
+        "products": [
+            {
+                "product": "adduct",
+                "isolated_mass": "0.0200 g",
+                "dr": "3:1",
+                "er": "95:5",
+                "appearance": "pale yellow oil",
+                "rf": 0.35,
+                "nmr_text": "1H NMR (400 MHz, CDCl3) δ 7.25 (m, 2H)",
+                "hrms": {"ion": "[M+Na]+", "found_mz": 1234.56789},
+                "note": "one spot by TLC",
+                "qnmr": {
+                    "standard": "TMB",
+                    "standard_integral": 3.0,
+                    "standard_protons": 3,
+                    "integral": 0.771,
+                    "protons": 1,
+                    "spectrum": spectrum,
+                },
+            }
+        ],
     }
     return data
 
@@ -309,7 +349,8 @@ def test_weighed_amounts_and_outcome_are_where_ord_readers_look(minimal_run):
     W = reaction_pb2.ReactionWorkup
     assert [(w.type, w.details) for w in rxn.workups if not w.input.components] == [
         (W.CUSTOM, "filtered through a silica plug (Et2O), concentrated"),
-        (W.FLASH_CHROMATOGRAPHY, "eluent: pentane/Et2O 20:1")]
+        (W.FLASH_CHROMATOGRAPHY, "eluent: pentane/Et2O 20:1"),
+    ]
     # the ramp and the bench words reach a reader of the ORD fields alone
     assert "-78 °C to rt" in rxn.conditions.details and "overnight" in rxn.conditions.details
 
@@ -331,8 +372,14 @@ def test_weighed_amounts_keep_the_yields_they_give(minimal_run, notebook, tmp_pa
 def test_foreign_workups_appearance_and_vessel_are_kept_or_reported(notebook, tmp_path):
     rxn = reaction_pb2.Reaction()
     rxn.inputs["precursor"].components.add().CopyFrom(
-        message_helpers.build_compound(smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", name="aryne precursor",
-                                       role="reactant", amount="0.5 mmol", is_limiting=True))
+        message_helpers.build_compound(
+            smiles="C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F",
+            name="aryne precursor",
+            role="reactant",
+            amount="0.5 mmol",
+            is_limiting=True,
+        )
+    )
     rxn.setup.vessel.type = reaction_pb2.Vessel.ROUND_BOTTOM_FLASK
     rxn.setup.vessel.volume.CopyFrom(ord_units.UnitResolver().resolve("25 mL"))
     for kind, details in (("CONCENTRATION", "rotary evaporator"), ("FLASH_CHROMATOGRAPHY", "silica, hexanes")):

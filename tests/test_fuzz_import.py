@@ -22,8 +22,9 @@ from trapbook.exchange import ord as ordx
 from trapbook.records import load_run
 from trapbook.store import Notebook
 
-EXAMPLES = settings(max_examples=1000, deadline=None,
-                    suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+EXAMPLES = settings(
+    max_examples=1000, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture]
+)
 
 BASE = {
     "title": "import fuzz run",
@@ -36,12 +37,21 @@ BASE = {
         {"role": "internal standard", "name": "TMB", "smiles": "COc1cc(OC)cc(OC)c1", "mass": "16.8 mg"},
         {"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"},
     ],
-    "steps": [{"add": ["precursor", "furan", "THF"], "temperature": "-78 °C"},
-              {"add": ["TBAF"], "temperature": "-78 °C", "over": "5 min"},
-              {"temperature": "23 °C", "hold": "1 h"}],
-    "outcome": {"products": [{"product": "adduct", "isolated_mass": "20 mg", "dr": "3:1",
-                              "qnmr": {"standard": "TMB", "standard_integral": 3, "standard_protons": 3,
-                                       "integral": 0.6, "protons": 1}}]},
+    "steps": [
+        {"add": ["precursor", "furan", "THF"], "temperature": "-78 °C"},
+        {"add": ["TBAF"], "temperature": "-78 °C", "over": "5 min"},
+        {"temperature": "23 °C", "hold": "1 h"},
+    ],
+    "outcome": {
+        "products": [
+            {
+                "product": "adduct",
+                "isolated_mass": "20 mg",
+                "dr": "3:1",
+                "qnmr": {"standard": "TMB", "standard_integral": 3, "standard_protons": 3, "integral": 0.6, "protons": 1},
+            }
+        ]
+    },
 }
 
 JSON = st.recursive(
@@ -49,9 +59,24 @@ JSON = st.recursive(
     lambda children: st.lists(children, max_size=4) | st.dictionaries(st.text(max_size=8), children, max_size=4),
     max_leaves=10,
 )
-PATHS = [("title",), ("lines",), ("lines", 0), ("lines", 0, "amount"), ("lines", 1, "equiv"), ("lines", 2, "smiles"),
-         ("lines", 3, "volume"), ("lines", 4, "role"), ("steps",), ("steps", 0, "add"), ("steps", 1, "temperature"),
-         ("outcome",), ("outcome", "products", 0, "qnmr"), ("outcome", "products", 0, "dr"), ("date",), ("extra",)]
+PATHS = [
+    ("title",),
+    ("lines",),
+    ("lines", 0),
+    ("lines", 0, "amount"),
+    ("lines", 1, "equiv"),
+    ("lines", 2, "smiles"),
+    ("lines", 3, "volume"),
+    ("lines", 4, "role"),
+    ("steps",),
+    ("steps", 0, "add"),
+    ("steps", 1, "temperature"),
+    ("outcome",),
+    ("outcome", "products", 0, "qnmr"),
+    ("outcome", "products", 0, "dr"),
+    ("date",),
+    ("extra",),
+]
 
 
 def _set(data, path, value):
@@ -84,8 +109,12 @@ def fuzz_nb(tmp_path_factory):
     nb.close()
 
 
-JSONL_CASE = dict(bad_line=st.integers(min_value=0, max_value=3), path=st.sampled_from(PATHS), value=JSON,
-                  raw=st.one_of(st.none(), st.text(max_size=40)))
+JSONL_CASE = dict(
+    bad_line=st.integers(min_value=0, max_value=3),
+    path=st.sampled_from(PATHS),
+    value=JSON,
+    raw=st.one_of(st.none(), st.text(max_size=40)),
+)
 
 
 def _jsonl_case(fuzz_nb, tmp_path_factory, bad_line, path, value, raw):
@@ -151,7 +180,7 @@ def mutated_bytes(draw, base: bytes):
         elif op == "insert":
             data[i:i] = draw(st.binary(min_size=1, max_size=8))
         else:
-            del data[i:i + draw(st.integers(min_value=1, max_value=16))]
+            del data[i : i + draw(st.integers(min_value=1, max_value=16))]
     return bytes(data)
 
 
@@ -172,7 +201,7 @@ def _leaves(msg, path=()):
     for field, value in msg.ListFields():
         if field.type == field.TYPE_MESSAGE:
             if field.message_type.GetOptions().map_entry:
-                for k, v in value.items():
+                for v in value.values():
                     if hasattr(v, "ListFields"):
                         out += _leaves(v)
             elif field.label == field.LABEL_REPEATED:
@@ -204,7 +233,7 @@ def mutated_dataset(draw):
         elif t == field.TYPE_STRING:
             v = draw(st.one_of(st.text(max_size=30), JSON.map(json.dumps), st.sampled_from(["", "[]", "{}", "[1]"])))
         elif t in (field.TYPE_INT32, field.TYPE_INT64):
-            v = draw(st.integers(min_value=-2**31, max_value=2**31 - 1))
+            v = draw(st.integers(min_value=-(2**31), max_value=2**31 - 1))
         else:
             continue
         setattr(msg, field.name, v)
@@ -258,14 +287,36 @@ def crate_template(tmp_path_factory, demo_notebook_path):
     return out
 
 
-CRATE_TARGETS = st.sampled_from(["ro-crate-metadata.json", "runs/TB-0013.json", "screens/SC-0001.json",
-                                  "runs/TB-0013.history.jsonl"])  # one version: one JSON object on one line
+CRATE_TARGETS = st.sampled_from(
+    ["ro-crate-metadata.json", "runs/TB-0013.json", "screens/SC-0001.json", "runs/TB-0013.history.jsonl"]
+)  # one version: one JSON object on one line
 
 
-CRATE_CASE = dict(target=CRATE_TARGETS, how=st.sampled_from(["json", "field", "bytes"]), value=JSON,
-                  key=st.sampled_from(["@graph", "@context", "lines", "title", "runs", "name", "id", "factors",
-                                       "author", "reason", "time", "version", "hash", "prev_hash", "data"]),
-                  junk=st.binary(max_size=60))
+CRATE_CASE = dict(
+    target=CRATE_TARGETS,
+    how=st.sampled_from(["json", "field", "bytes"]),
+    value=JSON,
+    key=st.sampled_from(
+        [
+            "@graph",
+            "@context",
+            "lines",
+            "title",
+            "runs",
+            "name",
+            "id",
+            "factors",
+            "author",
+            "reason",
+            "time",
+            "version",
+            "hash",
+            "prev_hash",
+            "data",
+        ]
+    ),
+    junk=st.binary(max_size=60),
+)
 
 
 def _damaged_crate(fuzz_nb, tmp_path_factory, crate_template, target, how, value, key, junk):

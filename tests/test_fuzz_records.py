@@ -65,13 +65,39 @@ JSON = st.recursive(
 )
 
 # Places in the run file where a value may be replaced.
-PATHS = [("title",), ("date",), ("status",), ("tags",), ("intermediate",), ("factors",), ("limiting",),
-         ("lines",), ("lines", 0), ("lines", 0, "role"), ("lines", 0, "amount"), ("lines", 1, "equiv"),
-         ("lines", 2, "density"), ("lines", 2, "smiles"), ("lines", 3, "volume"), ("lines", 1, "water"),
-         ("lines", 1, "purity"), ("lines", 0, "name"), ("steps",), ("steps", 0, "add"), ("steps", 0, "temperature"),
-         ("steps", 0, "hold"), ("steps", 0, "sealed"), ("outcome",), ("outcome", "products", 0, "dr"),
-         ("outcome", "products", 0, "isolated_mass"), ("outcome", "products", 0, "product"),
-         ("outcome", "products", 0, "qnmr"), ("attachments",), ("unknown_field",), ("lines", 0, "unknown")]
+PATHS = [
+    ("title",),
+    ("date",),
+    ("status",),
+    ("tags",),
+    ("intermediate",),
+    ("factors",),
+    ("limiting",),
+    ("lines",),
+    ("lines", 0),
+    ("lines", 0, "role"),
+    ("lines", 0, "amount"),
+    ("lines", 1, "equiv"),
+    ("lines", 2, "density"),
+    ("lines", 2, "smiles"),
+    ("lines", 3, "volume"),
+    ("lines", 1, "water"),
+    ("lines", 1, "purity"),
+    ("lines", 0, "name"),
+    ("steps",),
+    ("steps", 0, "add"),
+    ("steps", 0, "temperature"),
+    ("steps", 0, "hold"),
+    ("steps", 0, "sealed"),
+    ("outcome",),
+    ("outcome", "products", 0, "dr"),
+    ("outcome", "products", 0, "isolated_mass"),
+    ("outcome", "products", 0, "product"),
+    ("outcome", "products", 0, "qnmr"),
+    ("attachments",),
+    ("unknown_field",),
+    ("lines", 0, "unknown"),
+]
 
 
 def _set(data, path, value):
@@ -99,8 +125,7 @@ def test_mutated_run_file_gives_a_run_or_a_named_record_error(path, value):
 @EXAMPLES
 @example(text="[" * 100_000)  # found while writing this suite: json.loads raised RecursionError
 @example(text='{"title": "deep", "lines": ' + "[" * 5000 + "]" * 5000 + "}")
-@given(text=st.one_of(st.text(max_size=200), JSON.map(json.dumps),
-                      st.binary(max_size=100).map(lambda b: b.decode("latin-1"))))
+@given(text=st.one_of(st.text(max_size=200), JSON.map(json.dumps), st.binary(max_size=100).map(lambda b: b.decode("latin-1"))))
 def test_any_text_gives_a_run_or_a_record_error(text):
     try:
         run = load_run_text(text, "fuzz.json")
@@ -115,32 +140,87 @@ def test_any_text_gives_a_run_or_a_record_error(text):
 HOSTILE_CHARS = "\x00\x07\x08\t\n\r\x1b\x7f\x85\x9b\u2028\u2029\u202a\u202e\u2066\u2069"
 HOSTILE_TEXT = st.one_of(
     st.text(alphabet=st.sampled_from(list(HOSTILE_CHARS) + list("ab1 .-_:/%°µ−")), max_size=30),
-    st.sampled_from(["\x1b]52;c;aGVsbG8=\x07", "\x1b[2J", "row\nTB-9999  fake", "../../x", "x" * 5000, "\u202etxt.exe",
-                     "TB-0001", "rt", "reflux", "o/n", "−78 °C to rt", "5 mol%", "1e308 mg", "9" * 400 + " mg"]),
+    st.sampled_from(
+        [
+            "\x1b]52;c;aGVsbG8=\x07",
+            "\x1b[2J",
+            "row\nTB-9999  fake",
+            "../../x",
+            "x" * 5000,
+            "\u202etxt.exe",
+            "TB-0001",
+            "rt",
+            "reflux",
+            "o/n",
+            "−78 °C to rt",
+            "5 mol%",
+            "1e308 mg",
+            "9" * 400 + " mg",
+        ]
+    ),
     st.text(max_size=40),
 )
-HOSTILE_NUMBER = st.one_of(st.floats(), st.sampled_from([1e308, -1e308, 5e-324, 10**400, -(10**30), 0, -0.0]),
-                           st.integers(min_value=-10**500, max_value=10**500))
+HOSTILE_NUMBER = st.one_of(
+    st.floats(),
+    st.sampled_from([1e308, -1e308, 5e-324, 10**400, -(10**30), 0, -0.0]),
+    st.integers(min_value=-(10**500), max_value=10**500),
+)
 
-TEXT_PATHS = [("title",), ("chemist",), ("page",), ("id",), ("screen",), ("intermediate_name",), ("limiting",), ("notes",),
-              ("tags", 0), ("lines", 0, "name"), ("lines", 0, "lot"), ("lines", 0, "note"), ("lines", 2, "smiles"),
-              ("steps", 0, "add", 0), ("steps", 0, "atmosphere"), ("steps", 0, "note"), ("steps", 0, "temperature"),
-              ("steps", 0, "hold"), ("outcome", "observations"), ("outcome", "products", 0, "note"),
-              ("outcome", "products", 0, "dr"), ("lines", 1, "equiv"), ("lines", 0, "amount")]
-NUMBER_PATHS = [("lines", 1, "equiv"), ("lines", 0, "amount", "value"), ("lines", 2, "density", "value"),
-                ("outcome", "products", 0, "ee"), ("outcome", "products", 0, "qnmr", "standard_integral"),
-                ("outcome", "products", 0, "qnmr", "integral"), ("outcome", "products", 0, "qnmr", "protons"),
-                ("steps", 0, "hold", "value"), ("steps", 0, "temperature", "value")]
+TEXT_PATHS = [
+    ("title",),
+    ("chemist",),
+    ("page",),
+    ("id",),
+    ("screen",),
+    ("intermediate_name",),
+    ("limiting",),
+    ("notes",),
+    ("tags", 0),
+    ("lines", 0, "name"),
+    ("lines", 0, "lot"),
+    ("lines", 0, "note"),
+    ("lines", 2, "smiles"),
+    ("steps", 0, "add", 0),
+    ("steps", 0, "atmosphere"),
+    ("steps", 0, "note"),
+    ("steps", 0, "temperature"),
+    ("steps", 0, "hold"),
+    ("outcome", "observations"),
+    ("outcome", "products", 0, "note"),
+    ("outcome", "products", 0, "dr"),
+    ("lines", 1, "equiv"),
+    ("lines", 0, "amount"),
+]
+NUMBER_PATHS = [
+    ("lines", 1, "equiv"),
+    ("lines", 0, "amount", "value"),
+    ("lines", 2, "density", "value"),
+    ("outcome", "products", 0, "ee"),
+    ("outcome", "products", 0, "qnmr", "standard_integral"),
+    ("outcome", "products", 0, "qnmr", "integral"),
+    ("outcome", "products", 0, "qnmr", "protons"),
+    ("steps", 0, "hold", "value"),
+    ("steps", 0, "temperature", "value"),
+]
 
-_QUANTITY_PARENTS = {("lines", 0, "amount"): "mmol", ("lines", 2, "density"): "g/mL", ("steps", 0, "hold"): "h",
-                     ("steps", 0, "temperature"): "°C"}
+_QUANTITY_PARENTS = {
+    ("lines", 0, "amount"): "mmol",
+    ("lines", 2, "density"): "g/mL",
+    ("steps", 0, "hold"): "h",
+    ("steps", 0, "temperature"): "°C",
+}
 
 
 def _hostile_base():
     data = copy.deepcopy(BASE)
     data["tags"] = ["t"]
-    data["outcome"]["products"][0]["qnmr"] = {"standard_amount": "0.1 mmol", "standard_integral": 3,
-                                              "standard_protons": 3, "integral": 1, "protons": 1}
+    data["outcome"]["products"][0]["qnmr"] = {
+        "standard_amount": "0.1 mmol",
+        "standard_integral": 3,
+        "standard_protons": 3,
+        "integral": 1,
+        "protons": 1,
+    }
     for parent, unit in _QUANTITY_PARENTS.items():
         _set(data, parent, {"value": 1, "unit": unit})
     return data

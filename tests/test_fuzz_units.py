@@ -13,15 +13,84 @@ from trapbook.units import KINDS, LIMITS, parse_quantity, to_canonical
 
 EXAMPLES = settings(max_examples=1000, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
-_UNITISH = st.sampled_from(["mg", "g", "kg", "µg", "ug", "mL", "µL", "uL", "L", "mmol", "µmol", "mol", "M", "mM",
-                            "°C", "degC", "K", "°F", "min", "h", "hrs", "s", "equiv", "eq", "%", "wt%", "g/mL",
-                            "g/mol", "bar", "", " ", "mg/0", "m**99999", "1/0", "(", "°", "µ", "furan", "NaN",
-                            "mg mg", "e", "e5", "--", "mmol/mL", "mol/L", "degK", "Δ", "\x00"])
+_UNITISH = st.sampled_from(
+    [
+        "mg",
+        "g",
+        "kg",
+        "µg",
+        "ug",
+        "mL",
+        "µL",
+        "uL",
+        "L",
+        "mmol",
+        "µmol",
+        "mol",
+        "M",
+        "mM",
+        "°C",
+        "degC",
+        "K",
+        "°F",
+        "min",
+        "h",
+        "hrs",
+        "s",
+        "equiv",
+        "eq",
+        "%",
+        "wt%",
+        "g/mL",
+        "g/mol",
+        "bar",
+        "",
+        " ",
+        "mg/0",
+        "m**99999",
+        "1/0",
+        "(",
+        "°",
+        "µ",
+        "furan",
+        "NaN",
+        "mg mg",
+        "e",
+        "e5",
+        "--",
+        "mmol/mL",
+        "mol/L",
+        "degK",
+        "Δ",
+        "\x00",
+    ]
+)
 _NUMBERISH = st.one_of(
     st.floats(allow_nan=True, allow_infinity=True),
-    st.integers(min_value=-10**30, max_value=10**30),
-    st.sampled_from(["1e400", "-0", "0x10", "1_000", "½", "١٢", ".", "1.2.3", "inf", "nan", "+5", "1e-400",
-                     "1e308", "5e-324", "9" * 400, "\u221278", "\u2013 5", "1e-320", "-1e308"]),
+    st.integers(min_value=-(10**30), max_value=10**30),
+    st.sampled_from(
+        [
+            "1e400",
+            "-0",
+            "0x10",
+            "1_000",
+            "½",
+            "١٢",
+            ".",
+            "1.2.3",
+            "inf",
+            "nan",
+            "+5",
+            "1e-400",
+            "1e308",
+            "5e-324",
+            "9" * 400,
+            "\u221278",
+            "\u2013 5",
+            "1e-320",
+            "-1e308",
+        ]
+    ),
     st.floats(min_value=1e-320, max_value=1e-300),  # subnormal and near it
 )
 
@@ -36,9 +105,11 @@ ANY_VALUE = st.one_of(
     _NUMBERISH,
     st.booleans(),
     st.none(),
-    st.dictionaries(st.sampled_from(["value", "unit", "units", "magnitude"]),
-                    st.one_of(_NUMBERISH, _UNITISH, st.text(max_size=10), st.none(), st.booleans(),
-                              st.lists(st.integers(), max_size=2)), max_size=3),
+    st.dictionaries(
+        st.sampled_from(["value", "unit", "units", "magnitude"]),
+        st.one_of(_NUMBERISH, _UNITISH, st.text(max_size=10), st.none(), st.booleans(), st.lists(st.integers(), max_size=2)),
+        max_size=3,
+    ),
     st.lists(st.integers(), max_size=3),
 )
 
@@ -72,11 +143,15 @@ _AMOUNT_MMOL = {"mmol": 1.0, "µmol": 1e-3, "mol": 1e3}
 
 
 @EXAMPLES
-@given(x=st.floats(min_value=1e-3, max_value=1e3, allow_nan=False),  # inside units.LIMITS for every prefix
-       pair=st.sampled_from([("mass", u, f) for u, f in _MASS_MG.items()]
-                            + [("volume", u, f) for u, f in _VOLUME_UL.items()]
-                            + [("amount", u, f) for u, f in _AMOUNT_MMOL.items()]),
-       sep=st.sampled_from(["", " "]))
+@given(
+    x=st.floats(min_value=1e-3, max_value=1e3, allow_nan=False),  # inside units.LIMITS for every prefix
+    pair=st.sampled_from(
+        [("mass", u, f) for u, f in _MASS_MG.items()]
+        + [("volume", u, f) for u, f in _VOLUME_UL.items()]
+        + [("amount", u, f) for u, f in _AMOUNT_MMOL.items()]
+    ),
+    sep=st.sampled_from(["", " "]),
+)
 def test_prefixed_units_scale_by_the_si_factor(x, pair, sep):
     kind, unit, factor = pair
     q = parse_quantity(f"{x!r}{sep}{unit}", kind)
@@ -94,8 +169,12 @@ def test_celsius_kelvin_fahrenheit_agree(c):
 
 
 @EXAMPLES
-@given(c=st.floats(min_value=0, max_value=273.15, allow_nan=False).filter(lambda c: c == 0 or c > 1e-6), unit=st.sampled_from(["°C", "ºC", "degC", "˚C"]),
-       minus=st.sampled_from(["\u2212", "\u2013", "-"]), gap=st.sampled_from(["", " "]))
+@given(
+    c=st.floats(min_value=0, max_value=273.15, allow_nan=False).filter(lambda c: c == 0 or c > 1e-6),
+    unit=st.sampled_from(["°C", "ºC", "degC", "˚C"]),
+    minus=st.sampled_from(["\u2212", "\u2013", "-"]),
+    gap=st.sampled_from(["", " "]),
+)
 def test_any_typed_minus_and_degree_sign_read_alike(c, unit, minus, gap):
     # Source: NIST SP 811, 4.2.1.1 (t/°C = T/K − 273.15); U+2212 is the minus sign (Unicode Standard)
     q = parse_quantity(f"{minus}{gap}{c!r} {unit}", "temperature")

@@ -52,8 +52,12 @@ def lab(tmp_path_factory) -> Path:
     """Two members: alice (the demo notebook, one fast-tier strain result cached) and bob (a copy, named)."""
     folder = tmp_path_factory.mktemp("lab")
     alice = folder / "alice.sqlite"
-    subprocess.run([sys.executable, "-m", "trapbook", "--db", str(alice), "demo", "--no-ui", "--strain", "none"],
-                   check=True, capture_output=True, timeout=180)
+    subprocess.run(
+        [sys.executable, "-m", "trapbook", "--db", str(alice), "demo", "--no-ui", "--strain", "none"],
+        check=True,
+        capture_output=True,
+        timeout=180,
+    )
     shutil.copy(alice, folder / "bob.sqlite")
     runner = CliRunner()
     assert runner.invoke(main, ["--db", str(folder / "bob.sqlite"), "whoami", "Bob B."]).exit_code == 0
@@ -69,16 +73,23 @@ def _cli(*args: str):
 
 def test_group_search_labels_every_hit_and_writes_nothing(lab):
     before = _sha_all(lab)
-    res = _cli("--group", str(lab / "alice.sqlite"), "--group", str(lab / "bob.sqlite"), "search", "--trap", "anthracene", "--json")
+    res = _cli(
+        "--group", str(lab / "alice.sqlite"), "--group", str(lab / "bob.sqlite"), "search", "--trap", "anthracene", "--json"
+    )
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
     assert [m["member"] for m in out["members"]] == ["alice", "bob"] and all(m["ok"] for m in out["members"])
     assert next(m for m in out["members"] if m["member"] == "bob")["owner"] == "Bob B."
     # Each member's own anthracene runs, read with plain SQL from its file.
     for member in ("alice", "bob"):
-        expected = {r[0] for r in _sql(lab / f"{member}.sqlite",
-                                       "SELECT run_id FROM run_index i JOIN runs r ON r.id = i.run_id "
-                                       "WHERE r.withdrawn = 0 AND lower(i.trap) LIKE '%anthracene%'")}
+        expected = {
+            r[0]
+            for r in _sql(
+                lab / f"{member}.sqlite",
+                "SELECT run_id FROM run_index i JOIN runs r ON r.id = i.run_id "
+                "WHERE r.withdrawn = 0 AND lower(i.trap) LIKE '%anthracene%'",
+            )
+        }
         got = {h["run_id"] for h in out["hits"] if h["member"] == member}
         assert got == expected and expected
         assert all(h["ref"] == f"{member}:{h['run_id']}" for h in out["hits"] if h["member"] == member)
@@ -91,8 +102,9 @@ def test_a_whole_group_session_leaves_every_member_file_unchanged(lab, tmp_path)
     listed = json.loads(_cli(*group, "list", "--json").output)
     counts = {m: _sql(lab / f"{m}.sqlite", "SELECT count(*) FROM runs WHERE withdrawn = 0")[0][0] for m in ("alice", "bob")}
     assert len(listed["runs"]) == sum(counts.values())
-    assert {r["ref"] for r in listed["runs"]} == {f"{m}:{rid}" for m in counts
-                                                  for (rid,) in _sql(lab / f"{m}.sqlite", "SELECT id FROM runs WHERE withdrawn = 0")}
+    assert {r["ref"] for r in listed["runs"]} == {
+        f"{m}:{rid}" for m in counts for (rid,) in _sql(lab / f"{m}.sqlite", "SELECT id FROM runs WHERE withdrawn = 0")
+    }
     text = _cli(*group, "list").output
     assert text.splitlines()[0].startswith("member") and "bob    TB-0018" in text
 
@@ -177,8 +189,13 @@ def test_a_member_changed_outside_trapbook_is_shown_and_left_out(lab, tmp_path):
 
 
 def test_group_refuses_writes_and_a_second_notebook_option(lab, monkeypatch):
-    for args in (["add", "x.json"], ["withdraw", "TB-0001", "--reason", "x"], ["settings", "--set", "trap_min_equiv=3"],
-                 ["demo", "--no-ui"], ["verify"]):
+    for args in (
+        ["add", "x.json"],
+        ["withdraw", "TB-0001", "--reason", "x"],
+        ["settings", "--set", "trap_min_equiv=3"],
+        ["demo", "--no-ui"],
+        ["verify"],
+    ):
         res = _cli("--group", str(lab), *args)
         assert res.exit_code == 2 and "cannot run under --group" in res.output, (args, res.output)
     both = _cli("--db", str(lab / "alice.sqlite"), "--group", str(lab), "list")
@@ -216,7 +233,13 @@ def test_group_search_matches_each_member_searched_alone(lab):
         with Notebook.open(lab / f"{member}.sqlite") as nb:
             alone |= {(member, h.run_id) for h in search(nb, query)}
     # The same runs from plain SQL over the summary rows (temperature ≥ 100 °C, yield ≥ 50 %).
-    sql = {(m, r[0]) for m in ("alice", "bob") for r in _sql(
-        lab / f"{m}.sqlite", "SELECT i.run_id FROM run_index i JOIN runs r ON r.id = i.run_id "
-                             "WHERE r.withdrawn = 0 AND i.temp_max_c >= 100 AND i.yield_pct >= 50")}
+    sql = {
+        (m, r[0])
+        for m in ("alice", "bob")
+        for r in _sql(
+            lab / f"{m}.sqlite",
+            "SELECT i.run_id FROM run_index i JOIN runs r ON r.id = i.run_id "
+            "WHERE r.withdrawn = 0 AND i.temp_max_c >= 100 AND i.yield_pct >= 50",
+        )
+    }
     assert merged == alone == sql and merged

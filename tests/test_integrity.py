@@ -41,7 +41,7 @@ def test_a_changed_byte_in_a_stored_version_is_caught(nb_path):
     con = sqlite3.connect(nb_path)
     data = con.execute("SELECT data FROM versions WHERE run_id = 'TB-0005' AND version = 1").fetchone()[0]
     i = data.index('"title":"') + 9
-    changed = data[:i] + ("X" if data[i] != "X" else "Y") + data[i + 1:]  # one byte
+    changed = data[:i] + ("X" if data[i] != "X" else "Y") + data[i + 1 :]  # one byte
     con.execute("UPDATE versions SET data = ? WHERE run_id = 'TB-0005' AND version = 1", (changed,))
     con.commit()
     con.close()
@@ -129,7 +129,11 @@ def test_attachment_store_is_content_addressed_and_checked(nb_path, tmp_path):
 
 
 def test_backup_while_another_process_is_saving(nb_path, tmp_path):
-    writer = subprocess.Popen([sys.executable, "-c", f"""
+    writer = subprocess.Popen(
+        [
+            sys.executable,
+            "-c",
+            f"""
 import sys
 from trapbook.store import Notebook
 nb = Notebook.open({str(nb_path)!r})
@@ -137,7 +141,11 @@ for i in range(400):
     nb.add_run({{"title": f"busy {{i}}", "lines": [{{"role": "precursor", "name": "p", "amount": "0.1 mmol"}}]}}, author="w")
     if i == 5:
         print("going", flush=True)
-"""], stdout=subprocess.PIPE, text=True)
+""",
+        ],
+        stdout=subprocess.PIPE,
+        text=True,
+    )
     try:
         assert writer.stdout.readline().strip() == "going"
         results = [backup(nb_path, tmp_path / f"b{i}.sqlite") for i in range(3)]

@@ -62,10 +62,16 @@ def test_worked_check_c13h18o():
     assert round(masses.ion_mz(counts, "[M+Na]+"), 4) == 213.1250
 
 
-@pytest.mark.parametrize("ion,added,charge", [
-    ("[M+H]+", "C13H19O", 1), ("[M+Na]+", "C13H18ONa", 1), ("[M+NH4]+", "C13H22ON", 1),
-    ("[M+K]+", "C13H18OK", 1), ("[M-H]-", "C13H17O", -1),
-])
+@pytest.mark.parametrize(
+    "ion,added,charge",
+    [
+        ("[M+H]+", "C13H19O", 1),
+        ("[M+Na]+", "C13H18ONa", 1),
+        ("[M+NH4]+", "C13H22ON", 1),
+        ("[M+K]+", "C13H18OK", 1),
+        ("[M-H]-", "C13H17O", -1),
+    ],
+)
 def test_every_ion_against_molmass_with_the_electron(ion, added, charge):
     # Source: molmass neutral mass of the ion's atoms, minus (cation) or plus (anion) the
     # electron mass from molmass's own constant (CODATA).

@@ -11,10 +11,9 @@ import sys
 import pytest
 from click.testing import CliRunner
 
-from trapbook.cli import main
-
 from conftest import ROOT
 from samples import MINIMAL_RUN
+from trapbook.cli import main
 
 # The minimal run puts 10 equiv of furan on its limiting line. A lab that asks for 20 equiv
 # must see trap-low everywhere; with the default minimum (2 equiv) nowhere.
@@ -46,8 +45,7 @@ def _views(tmp_path, strict: bool) -> dict[str, bool]:
     rid = cli("add", str(run)).output.split()[0]
     out = {"check": "trap-low" in [f["code"] for f in json.loads(cli("check", rid, "--json").output)]}
     sheet = tmp_path / "sheet.html"
-    plan = json.loads(cli("screen", "plan", rid, "--vary", "temperature=-78 °C,-40 °C", "--sheet", str(sheet),
-                          "--json").output)
+    plan = json.loads(cli("screen", "plan", rid, "--vary", "temperature=-78 °C,-40 °C", "--sheet", str(sheet), "--json").output)
     out["bench sheet"] = "trap-low" in sheet.read_text(encoding="utf-8")
     out["planned runs (plan)"] = all("trap-low" in [f["code"] for f in r["findings"]] for r in plan["runs"])
     stored = json.loads(cli("list", "--json").output)
@@ -88,10 +86,12 @@ def test_check_exits_non_zero_when_the_checks_cannot_load(tmp_path):
     run = tmp_path / "run.json"
     run.write_text(json.dumps(MINIMAL_RUN), encoding="utf-8")
     # A fresh interpreter whose bench checks fail to import, as a broken installation would.
-    code = ("import sys, trapbook.checks.runner as r\n"
-            "def broken(*a, **k):\n    raise ImportError('the checks module is broken')\n"
-            "r.run_checks = broken\nimport trapbook.checks\ntrapbook.checks.run_checks = broken\n"
-            "from trapbook.cli import main\nsys.exit(main(['--db', sys.argv[1], 'check', sys.argv[2]]))\n")
+    code = (
+        "import sys, trapbook.checks.runner as r\n"
+        "def broken(*a, **k):\n    raise ImportError('the checks module is broken')\n"
+        "r.run_checks = broken\nimport trapbook.checks\ntrapbook.checks.run_checks = broken\n"
+        "from trapbook.cli import main\nsys.exit(main(['--db', sys.argv[1], 'check', sys.argv[2]]))\n"
+    )
     proc = subprocess.run([sys.executable, "-c", code, str(db), str(run)], capture_output=True, text=True, cwd=ROOT)
     assert proc.returncode != 0
     assert "nothing to flag" not in proc.stdout
@@ -132,16 +132,27 @@ def yield_run(isolated_pct: float, nmr_pct: float) -> dict:
     d = copy.deepcopy(MINIMAL_RUN)
     d["lines"].append({"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"})
     mass_mg = isolated_pct / 100 * 0.200 * ADDUCT_MW
-    d["outcome"] = {"products": [{"product": "adduct", "isolated_mass": f"{mass_mg:.4f} mg",
-                                  "qnmr": {"standard_amount": "0.200 mmol", "standard_integral": 1.0,
-                                           "standard_protons": 1, "integral": nmr_pct / 100, "protons": 1}}]}
+    d["outcome"] = {
+        "products": [
+            {
+                "product": "adduct",
+                "isolated_mass": f"{mass_mg:.4f} mg",
+                "qnmr": {
+                    "standard_amount": "0.200 mmol",
+                    "standard_integral": 1.0,
+                    "standard_protons": 1,
+                    "integral": nmr_pct / 100,
+                    "protons": 1,
+                },
+            }
+        ]
+    }
     return d
 
 
 def test_headline_yield_is_isolated_in_every_view(tmp_path):
     from trapbook import review
     from trapbook.amounts import headline_yield
-    from trapbook.records import load_run
     from trapbook.store import Notebook
 
     d = yield_run(70.0, 72.0)
@@ -163,8 +174,12 @@ def test_headline_yield_is_isolated_in_every_view(tmp_path):
     mapped = smap["intermediates"][0]["traps"][0]
     shown = json.loads(cli("strain-map", "--json").output)["intermediates"][0]["traps"][0]
     assert core[1] == "isolated" and core[0] == pytest.approx(70.0, abs=0.01)
-    for view in ((index[0], index[1]), (listed["yield_pct"], listed["yield_kind"]),
-                 (mapped["yield_pct"], mapped["yield_kind"]), (shown["yield_pct"], shown["yield_kind"])):
+    for view in (
+        (index[0], index[1]),
+        (listed["yield_pct"], listed["yield_kind"]),
+        (mapped["yield_pct"], mapped["yield_kind"]),
+        (shown["yield_pct"], shown["yield_kind"]),
+    ):
         assert view[1] == "isolated" and view[0] == pytest.approx(70.0, abs=0.01), view
 
 

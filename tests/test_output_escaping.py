@@ -34,10 +34,21 @@ def _no_raw(text: str) -> None:
         assert ch not in text, f"raw {ch!r} reached the output"
 
 
-@pytest.mark.parametrize("raw, shown", [
-    ("\x1b", "\\u001b"), ("\x07", "\\u0007"), ("\x00", "\\u0000"), ("\x7f", "\\u007f"), ("\x9b", "\\u009b"),
-    ("\u202e", "\\u202e"), ("\u2066", "\\u2066"), ("\n", "\\n"), ("\r", "\\r"), ("\t", "\\t"),
-])
+@pytest.mark.parametrize(
+    "raw, shown",
+    [
+        ("\x1b", "\\u001b"),
+        ("\x07", "\\u0007"),
+        ("\x00", "\\u0000"),
+        ("\x7f", "\\u007f"),
+        ("\x9b", "\\u009b"),
+        ("\u202e", "\\u202e"),
+        ("\u2066", "\\u2066"),
+        ("\n", "\\n"),
+        ("\r", "\\r"),
+        ("\t", "\\t"),
+    ],
+)
 def test_printable_shows_each_control_character(raw, shown):
     # Source: docs/sources.md "Output: numbers and text" (C0 0x00-0x1F, DEL 0x7F, C1 0x80-0x9F
     # per ECMA-48; bidi overrides and isolates U+202A-U+202E, U+2066-U+2069 per UAX #9)
@@ -73,8 +84,9 @@ def hostile_db(tmp_path, minimal_run_file):
         data = json.loads(con.execute("SELECT data FROM runs WHERE id = ?", (rid,)).fetchone()[0])
         data.update(title=TITLE, chemist=CHEMIST, notes="note\x1b[31m red")
         con.execute("UPDATE runs SET title = ?, chemist = ?, data = ? WHERE id = ?", (TITLE, CHEMIST, json.dumps(data), rid))
-        con.execute("UPDATE versions SET data = ?, reason = ?, author = ? WHERE run_id = ?",
-                    (json.dumps(data), REASON, AUTHOR, rid))
+        con.execute(
+            "UPDATE versions SET data = ?, reason = ?, author = ? WHERE run_id = ?", (json.dumps(data), REASON, AUTHOR, rid)
+        )
         con.execute("UPDATE run_index SET trap = ? WHERE run_id = ?", ("fu\x1b[8mran", rid))
     con.close()
     return db, rid

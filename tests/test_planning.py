@@ -9,11 +9,10 @@ import json
 import pytest
 from molmass import Formula
 
+from conftest import ROOT
 from trapbook import planning
 from trapbook.errors import TrapbookError
 from trapbook.records import load_run
-
-from conftest import ROOT
 
 BASE = json.loads((ROOT / "demo_lab" / "runs" / "TB-0001.json").read_text(encoding="utf-8"))
 
@@ -23,8 +22,9 @@ def _base():
 
 
 def test_full_grid_and_levels():
-    plan = planning.plan_screen(_base(), {"trap": ["furan", "anthracene"], "temperature": ["23 °C", "60 °C"],
-                                          "fluoride": ["TBAF", "CsF/TBAB"]})
+    plan = planning.plan_screen(
+        _base(), {"trap": ["furan", "anthracene"], "temperature": ["23 °C", "60 °C"], "fluoride": ["TBAF", "CsF/TBAB"]}
+    )
     assert len(plan.runs) == 2 * 2 * 2  # a full factorial grid: the product of the level counts
     combos = {tuple(sorted(pr.run.factors.items())) for pr in plan.runs}
     assert len(combos) == 8
@@ -44,7 +44,10 @@ def test_full_grid_and_levels():
 def test_subset_by_vial_number_and_by_levels():
     factors = {"trap": ["furan", "anthracene"], "temperature": ["23 °C", "60 °C"]}
     a = planning.plan_screen(_base(), factors, subset=[1, 4])
-    assert [pr.run.factors for pr in a.runs] == [{"trap": "furan", "temperature": "23 °C"}, {"trap": "anthracene", "temperature": "60 °C"}]
+    assert [pr.run.factors for pr in a.runs] == [
+        {"trap": "furan", "temperature": "23 °C"},
+        {"trap": "anthracene", "temperature": "60 °C"},
+    ]
     b = planning.plan_screen(_base(), factors, subset=[{"trap": "anthracene"}])
     assert {pr.run.factors["temperature"] for pr in b.runs} == {"23 °C", "60 °C"}
     with pytest.raises(TrapbookError):
@@ -125,8 +128,17 @@ def test_store_plan_is_atomic_and_listed(notebook):
     assert (notebook.count_runs(), len(notebook.list_screens())) == (n_runs, n_screens)
 
 
-@pytest.mark.parametrize("factors", [{"colour": ["red"]}, {"trap": []}, {"trap": ["furan", "Furan"]},
-                                     {"temperature": ["hot"]}, {"fluoride": ["magic"]}, {"trap equiv": ["lots"]}])
+@pytest.mark.parametrize(
+    "factors",
+    [
+        {"colour": ["red"]},
+        {"trap": []},
+        {"trap": ["furan", "Furan"]},
+        {"temperature": ["hot"]},
+        {"fluoride": ["magic"]},
+        {"trap equiv": ["lots"]},
+    ],
+)
 def test_bad_factors_are_trapbook_errors(factors):
     with pytest.raises(TrapbookError) as info:
         planning.plan_screen(_base(), factors)
@@ -135,10 +147,16 @@ def test_bad_factors_are_trapbook_errors(factors):
 
 def test_split_levels_keeps_locant_commas():
     assert planning.split_levels("furan,2,5-dimethylfuran,1,3-diphenylisobenzofuran") == [
-        "furan", "2,5-dimethylfuran", "1,3-diphenylisobenzofuran"]
+        "furan",
+        "2,5-dimethylfuran",
+        "1,3-diphenylisobenzofuran",
+    ]
     assert planning.split_levels("5,10") == ["5", "10"]
     assert planning.split_levels("23 °C,60 °C") == ["23 °C", "60 °C"]
-    assert planning.parse_vary(["temp=23 °C,60 °C", "equiv=5,10"]) == {"temperature": ["23 °C", "60 °C"], "trap equiv": ["5", "10"]}
+    assert planning.parse_vary(["temp=23 °C,60 °C", "equiv=5,10"]) == {
+        "temperature": ["23 °C", "60 °C"],
+        "trap equiv": ["5", "10"],
+    }
 
 
 def test_known_traps_match_reference_masses():
@@ -159,8 +177,24 @@ def test_cli_plan_dry_run_and_store(tmp_path):
 
     db = tmp_path / "nb.sqlite"
     base = ROOT / "demo_lab" / "runs" / "TB-0001.json"
-    r = CliRunner().invoke(main, ["--db", str(db), "screen", "plan", str(base), "--vary", "trap=furan,anthracene",
-                                  "--vary", "temperature=23 °C,60 °C", "--scale", "0.10 mmol", "--dry-run", "--json"])
+    r = CliRunner().invoke(
+        main,
+        [
+            "--db",
+            str(db),
+            "screen",
+            "plan",
+            str(base),
+            "--vary",
+            "trap=furan,anthracene",
+            "--vary",
+            "temperature=23 °C,60 °C",
+            "--scale",
+            "0.10 mmol",
+            "--dry-run",
+            "--json",
+        ],
+    )
     assert r.exit_code == 0, r.output
     data = json.loads(r.output)
     assert data["screen_id"] is None and len(data["runs"]) == 4
@@ -168,8 +202,9 @@ def test_cli_plan_dry_run_and_store(tmp_path):
     assert not db.exists()  # a dry run stores nothing, not even an empty notebook
     assert CliRunner().invoke(main, ["--db", str(db), "init"]).exit_code == 0
     sheet = tmp_path / "sheet.html"
-    r = CliRunner().invoke(main, ["--db", str(db), "screen", "plan", str(base), "--vary", "trap=furan,anthracene",
-                                  "--sheet", str(sheet)])
+    r = CliRunner().invoke(
+        main, ["--db", str(db), "screen", "plan", str(base), "--vary", "trap=furan,anthracene", "--sheet", str(sheet)]
+    )
     assert r.exit_code == 0, r.output
     assert "stored screen SC-0001" in r.output and sheet.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
     r = CliRunner().invoke(main, ["--db", str(db), "screens", "--json"])

@@ -40,8 +40,10 @@ FORMULAS = {
 }
 
 #: Amount of a material in the paragraph: "name (… mg, … mmol, … equiv)", mass and µL optional.
-AMOUNT = re.compile(r"(?P<name>[^,()]+(?:\([^()]*\))?[^,()]*?) \((?:(?P<mg>[\d.]+) mg, )?(?:(?P<ul>\d+) µL, )?"
-                    r"(?P<mmol>[\d.]+) mmol, (?P<equiv>[\d.]+) equiv\)")
+AMOUNT = re.compile(
+    r"(?P<name>[^,()]+(?:\([^()]*\))?[^,()]*?) \((?:(?P<mg>[\d.]+) mg, )?(?:(?P<ul>\d+) µL, )?"
+    r"(?P<mmol>[\d.]+) mmol, (?P<equiv>[\d.]+) equiv\)"
+)
 
 
 def mw(key: str) -> float:
@@ -70,10 +72,13 @@ def sentences(text: str) -> list[str]:
     return re.split(r"(?<=[.])\s+(?=[A-Z])", text)
 
 
-@pytest.mark.parametrize("run_id, precursor_key, adduct_key", [
-    ("TB-0002", "silyl triflate 331 (1-TMS-bicyclo[3.3.1]nonan-2-yl OTf)", "anthracene adduct 331"),
-    ("TB-0009", "silyl triflate 431 (1-TMS-bicyclo[4.3.1]decan-2-yl OTf)", "anthracene adduct 431"),
-])
+@pytest.mark.parametrize(
+    "run_id, precursor_key, adduct_key",
+    [
+        ("TB-0002", "silyl triflate 331 (1-TMS-bicyclo[3.3.1]nonan-2-yl OTf)", "anthracene adduct 331"),
+        ("TB-0009", "silyl triflate 431 (1-TMS-bicyclo[4.3.1]decan-2-yl OTf)", "anthracene adduct 431"),
+    ],
+)
 def test_anthracene_run_paragraph_has_every_reagent_with_its_numbers(run_id, precursor_key, adduct_key):
     data = json.loads((DEMO / "runs" / f"{run_id}.json").read_text(encoding="utf-8"))
     text = paragraph_of(load_run(data))
@@ -113,9 +118,12 @@ def test_furan_run_steps_read_back_in_order():
     data = json.loads((DEMO / "runs" / "TB-0001.json").read_text(encoding="utf-8"))
     text = paragraph_of(load_run(data))
     said = sentences(text)
-    events = ["were combined at 23 °C under N2", "cooled to \u221278 °C and stirred for 5 min",
-              "TBAF 1.0 M in THF (150 µL, 0.150 mmol, 1.5 equiv) was added over 2 min",
-              "warmed to 23 °C and stirred for 2 h"]
+    events = [
+        "were combined at 23 °C under N2",
+        "cooled to \u221278 °C and stirred for 5 min",
+        "TBAF 1.0 M in THF (150 µL, 0.150 mmol, 1.5 equiv) was added over 2 min",
+        "warmed to 23 °C and stirred for 2 h",
+    ]
     where = [next(i for i, s in enumerate(said) if e in s) for e in events]
     assert where == sorted(where) and len(set(where)) == len(where)
     # Furan, a neat liquid: 10 equiv of 0.100 mmol; volume = mass / density (0.951 g/mL in the run file).
@@ -130,9 +138,18 @@ def test_characterisation_block_has_hrms_calcd_found_and_the_record_words():
     data["outcome"] = {
         "workup": "The mixture was concentrated under reduced pressure.",
         "eluent": "pentane/Et2O 20:1",
-        "products": [{"product": "furan adduct", "isolated_mass": "11.8 mg", "dr": "5:1", "appearance": "colourless oil",
-                      "rf": 0.42, "nmr_text": "1H NMR (400 MHz, CDCl3) δ 6.35 (dd, 1H)",
-                      "hrms": {"ion": "[M+Na]+", "found_mz": 213.1252}}]}
+        "products": [
+            {
+                "product": "furan adduct",
+                "isolated_mass": "11.8 mg",
+                "dr": "5:1",
+                "appearance": "colourless oil",
+                "rf": 0.42,
+                "nmr_text": "1H NMR (400 MHz, CDCl3) δ 6.35 (dd, 1H)",
+                "hrms": {"ion": "[M+Na]+", "found_mz": 213.1252},
+            }
+        ],
+    }
     doc = run_procedure(load_run(data))
     text = doc.blocks[1].text
     assert "allowed to warm from \u221278 °C to rt and stirred overnight" in text  # the words as written
@@ -204,6 +221,7 @@ def test_write_refuses_planned_runs_and_docx_to_the_terminal(tmp_path, demo_note
 
 
 # --- reports: the raw data and the version's reason, escaped --------------------------------
+
 
 class _Page(html.parser.HTMLParser):
     """Text and start tags of a page; a stored '<script>' that was escaped stays text."""

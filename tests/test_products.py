@@ -64,7 +64,8 @@ def test_cyclohexyne_and_furan():
     assert found[0]["formula"] == "C10H12O"
     assert found[0]["monoisotopic_mass"] == pytest.approx(molmass.Formula("C10H12O").monoisotopic_mass, abs=1e-5)
     assert found[0]["ions"]["[M+Na]+"] == pytest.approx(
-        molmass.Formula("C10H12ONa").monoisotopic_mass - molmass.ELECTRON.mass, abs=1e-5)
+        molmass.Formula("C10H12ONa").monoisotopic_mass - molmass.ELECTRON.mass, abs=1e-5
+    )
 
 
 def test_furan_and_bicyclononene_give_exo_and_endo(bicyclononene_furan):
@@ -88,8 +89,11 @@ def test_furan_and_bicyclononene_give_exo_and_endo(bicyclononene_furan):
 
 def test_adducts_hold_the_atoms_of_both_partners():
     # Source: molmass formula arithmetic: a cycloadduct's formula is the sum of its partners'.
-    cases = [(BICYCLONONENE, "CC#[N+][O-]", "C9H14", "C2H3NO"), ("C1#CCCCCCC1", "CN=[N+]=[N-]", "C8H12", "CH3N3"),
-             ("C1=C=CCCC1", "C1=CCC=C1", "C6H8", "C5H6")]
+    cases = [
+        (BICYCLONONENE, "CC#[N+][O-]", "C9H14", "C2H3NO"),
+        ("C1#CCCCCCC1", "CN=[N+]=[N-]", "C8H12", "CH3N3"),
+        ("C1=C=CCCC1", "C1=CCC=C1", "C6H8", "C5H6"),
+    ]
     for inter, trap, f_inter, f_trap in cases:
         found = _adducts(inter, trap)
         assert found, (inter, trap)
@@ -199,8 +203,9 @@ def test_hrms_finding_beyond_the_ppm_limit():
     assert "hrms-off" not in _codes(_run_with_product("C1=CC2OC1c1ccccc12", {"ion": "[M+Na]+", "found_mz": within}))
     assert "hrms-off" in _codes(_run_with_product("C1=CC2OC1c1ccccc12", {"ion": "[M+Na]+", "found_mz": beyond}))
     # a lab that accepts 10 ppm sees no finding at 8 ppm
-    assert "hrms-off" not in _codes(_run_with_product("C1=CC2OC1c1ccccc12", {"ion": "[M+Na]+", "found_mz": beyond}),
-                                    hrms_ppm_max=10)
+    assert "hrms-off" not in _codes(
+        _run_with_product("C1=CC2OC1c1ccccc12", {"ion": "[M+Na]+", "found_mz": beyond}), hrms_ppm_max=10
+    )
 
 
 def test_unexpected_formula_is_a_finding_and_a_by_product_is_not():
@@ -212,8 +217,12 @@ def test_unexpected_formula_is_a_finding_and_a_by_product_is_not():
 
 
 def test_hrms_record_refuses_nonsense():
-    for bad in ({"ion": "[M+Li]+", "found_mz": 167.0}, {"ion": "[M+Na]+", "found_mz": float("nan")},
-                {"ion": "[M+Na]+", "found_mz": -1}, {"ion": "[M+Na]+", "found_mz": 1e12}):
+    for bad in (
+        {"ion": "[M+Li]+", "found_mz": 167.0},
+        {"ion": "[M+Na]+", "found_mz": float("nan")},
+        {"ion": "[M+Na]+", "found_mz": -1},
+        {"ion": "[M+Na]+", "found_mz": 1e12},
+    ):
         with pytest.raises(RecordError):
             _run_with_product("C1=CC2OC1c1ccccc12", bad)
 
@@ -235,7 +244,11 @@ def test_cli_products_json_and_errors():
     assert adduct["monoisotopic_mass"] == pytest.approx(molmass.Formula("C10H12O").monoisotopic_mass, abs=1e-5)
     text = runner.invoke(main, ["products", "--intermediate", CYCLOHEXYNE, "--trap", FURAN])
     assert text.exit_code == 0 and "C10H12O" in text.output and "[M+Na]+" in text.output
-    for args in (["products"], ["products", "--intermediate", CYCLOHEXYNE], ["products", "--intermediate", "C1C\x00", "--trap", FURAN]):
+    for args in (
+        ["products"],
+        ["products", "--intermediate", CYCLOHEXYNE],
+        ["products", "--intermediate", "C1C\x00", "--trap", FURAN],
+    ):
         bad = runner.invoke(main, [*args, "--json"])
         assert bad.exit_code == 2 and json.loads(bad.output)["error"]
         assert "Traceback" not in bad.output

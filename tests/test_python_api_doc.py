@@ -18,12 +18,17 @@ PAGE = Path(__file__).resolve().parents[1] / "docs" / "python-api.md"
 
 
 def test_every_example_on_the_python_api_page_runs(tmp_path, monkeypatch):
-    subprocess.run([sys.executable, "-m", "trapbook", "--db", str(tmp_path / "demo.sqlite"), "demo", "--no-ui", "--strain", "none"],
-                   check=True, capture_output=True, timeout=180)
+    subprocess.run(
+        [sys.executable, "-m", "trapbook", "--db", str(tmp_path / "demo.sqlite"), "demo", "--no-ui", "--strain", "none"],
+        check=True,
+        capture_output=True,
+        timeout=180,
+    )
     monkeypatch.chdir(tmp_path)
     monkeypatch.delenv("TRAPBOOK_DB", raising=False)
-    result = doctest.testfile(str(PAGE), module_relative=False, globs={}, report=True,
-                              optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
+    result = doctest.testfile(
+        str(PAGE), module_relative=False, globs={}, report=True, optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE
+    )
     assert result.attempted >= 20, "the page lost its examples"
     assert result.failed == 0, f"{result.failed} example(s) on {PAGE.name} failed (see the output above)"
 
@@ -50,9 +55,26 @@ def test_stored_text_is_escaped_in_the_notebook_display():
     assert "<script>alert(1)" not in html and "&lt;script&gt;alert(1)&lt;/script&gt; &amp; co" in html
     assert "<img src=x" not in html and "&lt;img src=x onerror=alert(2)&gt;" in html
     assert "<svg" in html  # the structures are drawn
-    review = ScreenReview({"screen_id": "SC-9", "name": "<b>x</b>", "factors": {"trap": ["<i>"]}, "matrix": None, "best": None,
-                           "rows": [{"run_id": "TB-1", "factors": {"trap": "<i>"}, "status": "done", "isolated_yield_pct": None,
-                                     "nmr_yield_pct": None, "findings": []}], "not_done": []})
+    review = ScreenReview(
+        {
+            "screen_id": "SC-9",
+            "name": "<b>x</b>",
+            "factors": {"trap": ["<i>"]},
+            "matrix": None,
+            "best": None,
+            "rows": [
+                {
+                    "run_id": "TB-1",
+                    "factors": {"trap": "<i>"},
+                    "status": "done",
+                    "isolated_yield_pct": None,
+                    "nmr_yield_pct": None,
+                    "findings": [],
+                }
+            ],
+            "not_done": [],
+        }
+    )
     assert "<b>x</b>" not in review._repr_html_() and "&lt;b&gt;x&lt;/b&gt;" in review._repr_html_()
     card = StrainResult({"smiles": "C1=CC1", "tier": "fast", "method": "<u>m</u>", "olefin_strain_kcal_mol": None})
     assert "<u>m</u>" not in card._repr_html_() and "&lt;u&gt;m&lt;/u&gt;" in card._repr_html_()

@@ -15,11 +15,10 @@ import shutil
 import pytest
 from click.testing import CliRunner
 
+from conftest import ROOT
 from trapbook.cli import main
 from trapbook.errors import TrapbookError
 from trapbook.search_query import FILTER_KEYS, Query, keys_markdown, parse_query
-
-from conftest import ROOT
 
 pytest.importorskip("textual")
 
@@ -56,8 +55,10 @@ CORPUS = [
     ("sub:C12=CCCC(CC1)C2", ["--substructure", "C12=CCCC(CC1)C2"]),
     ("similar:C12=CCCC(CCC1)C2 min:0.3", ["--similar", "C12=CCCC(CCC1)C2", "--min", "0.3"]),
     ("trap:furan temp:>=80 fluoride:CsF", ["--trap", "furan", "--temp-min", "80", "--fluoride", "CsF"]),
-    ("sub:[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2 screen:SC-0001 trap:anthracene",
-     ["--substructure", "[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2", "--screen", "SC-0001", "--trap", "anthracene"]),
+    (
+        "sub:[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2 screen:SC-0001 trap:anthracene",
+        ["--substructure", "[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2", "--screen", "SC-0001", "--trap", "anthracene"],
+    ),
 ]
 
 
@@ -80,8 +81,13 @@ def _max_temp_c(d: dict) -> float | None:
 
 def _words(d: dict) -> str:
     """The run's own words: title, notes, step notes, observations and tags."""
-    parts = [d.get("title") or "", d.get("notes") or "", *(s.get("note") or "" for s in d["steps"]),
-             (d.get("outcome") or {}).get("observations") or "", " ".join(d.get("tags") or [])]
+    parts = [
+        d.get("title") or "",
+        d.get("notes") or "",
+        *(s.get("note") or "" for s in d["steps"]),
+        (d.get("outcome") or {}).get("observations") or "",
+        " ".join(d.get("tags") or []),
+    ]
     return " ".join(parts).casefold()
 
 
@@ -139,16 +145,20 @@ def test_answers_agree_with_the_run_files(demo_copy):
     assert cli_ids(demo_copy, ["--chemist", "%"]) == sorted(d["id"] for d in recs if "%" in d["chemist"]) == []
     assert cli_ids(demo_copy, ["--solvent", "_"]) == []  # no solvent name holds an underscore
     assert cli_ids(demo_copy, ["--date-from", "2026-10", "--date-to", "2026-10"]) == sorted(
-        d["id"] for d in recs if d["date"].startswith("2026-10"))
+        d["id"] for d in recs if d["date"].startswith("2026-10")
+    )
 
 
-@pytest.mark.parametrize("text,keep", [
-    ("temp:>100", lambda t: t is not None and t > 100),
-    ("temp:<80", lambda t: t is not None and t < 80),
-    ("temp:>=80", lambda t: t is not None and t >= 80),
-    ("temp:80", lambda t: t == 80),
-    ("temp:-78..23", lambda t: t is not None and -78 <= t <= 23),
-])
+@pytest.mark.parametrize(
+    "text,keep",
+    [
+        ("temp:>100", lambda t: t is not None and t > 100),
+        ("temp:<80", lambda t: t is not None and t < 80),
+        ("temp:>=80", lambda t: t is not None and t >= 80),
+        ("temp:80", lambda t: t == 80),
+        ("temp:-78..23", lambda t: t is not None and -78 <= t <= 23),
+    ],
+)
 def test_temperature_comparisons_follow_the_run_files(demo_notebook, text, keep):
     """Source: each run file's highest step temperature (°C), read directly."""
     from trapbook.search import search
@@ -163,8 +173,12 @@ def test_strict_and_inclusive_date_bounds(demo_notebook):
     from trapbook.search import search
 
     recs = _records()
-    for text, keep in (("date:>2026-09", lambda d: d > "2026-09-99"), ("date:<2026-09-12", lambda d: d < "2026-09-12"),
-                       ("date:<=2026-09", lambda d: d[:7] <= "2026-09"), ("date:2026-09-12", lambda d: d == "2026-09-12")):
+    for text, keep in (
+        ("date:>2026-09", lambda d: d > "2026-09-99"),
+        ("date:<2026-09-12", lambda d: d < "2026-09-12"),
+        ("date:<=2026-09", lambda d: d[:7] <= "2026-09"),
+        ("date:2026-09-12", lambda d: d == "2026-09-12"),
+    ):
         want = sorted(r["id"] for r in recs if keep(r["date"]))
         assert sorted(h.run_id for h in search(demo_notebook, parse_query(text))) == want, text
 
@@ -196,8 +210,21 @@ async def test_bracket_atoms_survive_in_the_status_line(demo_copy):
     assert ids == cli_ids(demo_copy, ["--substructure", "c1cc[nH]c1"])
 
 
-@pytest.mark.parametrize("text", ["tmp:100", "trap:furan trap:anthracene", "temp:hot", "yield:80..50", "date:2026-13",
-                                  "trap:", "min:high", "temp:>inf", "min:0.5", "temp:.."])
+@pytest.mark.parametrize(
+    "text",
+    [
+        "tmp:100",
+        "trap:furan trap:anthracene",
+        "temp:hot",
+        "yield:80..50",
+        "date:2026-13",
+        "trap:",
+        "min:high",
+        "temp:>inf",
+        "min:0.5",
+        "temp:..",
+    ],
+)
 def test_unreadable_filters_are_errors_with_a_hint(text):
     with pytest.raises(TrapbookError) as info:
         parse_query(text)

@@ -68,7 +68,7 @@ def test_record_rules(minimal_run, mutate, needle):
 
 def test_bad_json_text_is_a_record_error():
     with pytest.raises(RecordError, match="not valid JSON"):
-        load_run_text("{\"title\": ")
+        load_run_text('{"title": ')
 
 
 def test_committed_schemas_match_models():
@@ -137,11 +137,14 @@ def test_overnight_defaults_to_sixteen_hours(minimal_run):
     assert to_canonical(step.hold, "duration") == 16 * 60  # Source: docs/sources.md (Bench words), common practice, no source
 
 
-@pytest.mark.parametrize("solvent,smiles,low,high", [
-    ("THF", "C1CCOC1", 65.0, 67.0),  # Source: docs/sources.md solvent table, THF bp 66 °C
-    ("toluene", "Cc1ccccc1", 110.0, 111.5),  # Source: docs/sources.md solvent table, toluene bp 110.6 °C
-    ("acetonitrile", None, 81.0, 82.5),  # Source: docs/sources.md solvent table, MeCN bp 81.6 °C
-])
+@pytest.mark.parametrize(
+    "solvent,smiles,low,high",
+    [
+        ("THF", "C1CCOC1", 65.0, 67.0),  # Source: docs/sources.md solvent table, THF bp 66 °C
+        ("toluene", "Cc1ccccc1", 110.0, 111.5),  # Source: docs/sources.md solvent table, toluene bp 110.6 °C
+        ("acetonitrile", None, 81.0, 82.5),  # Source: docs/sources.md solvent table, MeCN bp 81.6 °C
+    ],
+)
 def test_reflux_is_the_solvents_boiling_point_shown_as_computed(minimal_run, solvent, smiles, low, high):
     minimal_run["lines"][3] = {"role": "solvent", "name": solvent, "volume": "2.0 mL", **({"smiles": smiles} if smiles else {})}
     minimal_run["steps"][0]["add"] = ["aryne precursor A", "furan", solvent]
@@ -228,6 +231,7 @@ def test_notes_keep_line_breaks_but_refuse_nul_escape_and_size(minimal_run, wher
             d["lines"][0]["note"] = v
         else:
             d["steps"][0]["note"] = v
+
     put(minimal_run, "first line\n\tsecond line")
     load_run(minimal_run)
     for bad, needle in [("a\x00b", "NUL"), ("a\x1b[2Jb", "escape"), ("a\u202eb", "direction"), ("x" * 20_001, "20,000")]:
@@ -271,13 +275,16 @@ def test_screen_ids_follow_the_same_rule():
     assert load_screen({"id": "SC-0002", "name": "s", "runs": ["TB-0001"]}).runs == ["TB-0001"]
 
 
-@pytest.mark.parametrize("mutate,needle", [
-    (lambda d: d["lines"][0].update(amount="1e308 mmol"), "too large"),
-    (lambda d: d["lines"][2].update(equiv=1e308), "too large"),
-    (lambda d: d["lines"][0].update(amount={"value": 10**400, "unit": "mmol"}), "finite"),
-    (lambda d: d["lines"][0].update(amount="9" * 400 + " mmol"), "finite"),
-    (lambda d: d["steps"][2].update(temperature="nan °C"), "temperature"),
-])
+@pytest.mark.parametrize(
+    "mutate,needle",
+    [
+        (lambda d: d["lines"][0].update(amount="1e308 mmol"), "too large"),
+        (lambda d: d["lines"][2].update(equiv=1e308), "too large"),
+        (lambda d: d["lines"][0].update(amount={"value": 10**400, "unit": "mmol"}), "finite"),
+        (lambda d: d["lines"][0].update(amount="9" * 400 + " mmol"), "finite"),
+        (lambda d: d["steps"][2].update(temperature="nan °C"), "temperature"),
+    ],
+)
 def test_absurd_numbers_in_a_run_are_refused(minimal_run, mutate, needle):
     mutate(minimal_run)
     with pytest.raises(RecordError, match=needle):
@@ -290,22 +297,30 @@ def _with_product(d, **result):
     d["outcome"] = {"products": [{"product": "adduct", **result}]}
 
 
-@pytest.mark.parametrize("result", [
-    {"qnmr": {"standard_integral": 5e-324, "standard_protons": 3, "integral": 1, "protons": 1}},
-    {"qnmr": {"standard_integral": 1e300, "standard_protons": 3, "integral": 1, "protons": 1}},
-    {"ee": 1e308},
-    {"ee": -101},
-    {"dr": "1e400:1"},
-])
+@pytest.mark.parametrize(
+    "result",
+    [
+        {"qnmr": {"standard_integral": 5e-324, "standard_protons": 3, "integral": 1, "protons": 1}},
+        {"qnmr": {"standard_integral": 1e300, "standard_protons": 3, "integral": 1, "protons": 1}},
+        {"ee": 1e308},
+        {"ee": -101},
+        {"dr": "1e400:1"},
+    ],
+)
 def test_absurd_outcome_numbers_are_refused(minimal_run, result):
     _with_product(minimal_run, **result)
     with pytest.raises(RecordError):
         load_run(minimal_run)
 
 
-@pytest.mark.parametrize("text", ['{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": 1e999, "unit": "mmol"}}]}',
-                                  '{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": ' + "9" * 5000 + ', "unit": "mmol"}}]}',
-                                  '{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": NaN, "unit": "mmol"}}]}'])
+@pytest.mark.parametrize(
+    "text",
+    [
+        '{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": 1e999, "unit": "mmol"}}]}',
+        '{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": ' + "9" * 5000 + ', "unit": "mmol"}}]}',
+        '{"title": "x", "lines": [{"role": "precursor", "name": "p", "amount": {"value": NaN, "unit": "mmol"}}]}',
+    ],
+)
 def test_run_file_text_with_unreadable_numbers_is_a_record_error(text):
     with pytest.raises(RecordError):
         load_run_text(text)

@@ -94,8 +94,9 @@ def test_screen_report_plot_uses_cached_strain(demo_notebook_path, tmp_path):
         svg = reports.strain_plot_svg(smap)
         p = _parse(svg)
         # One marker path per (intermediate, trap) point with a yield, drawn by scatter as <use> elements.
-        points = sum(1 for x in smap["intermediates"] if x["strain_kcal_mol"] is not None
-                     for t in x["traps"] if t["yield_pct"] is not None)
+        points = sum(
+            1 for x in smap["intermediates"] if x["strain_kcal_mol"] is not None for t in x["traps"] if t["yield_pct"] is not None
+        )
         assert p.tags.get("use", 0) >= points > 0
         run_page = reports.run_report_html(nb, "TB-0001")
         assert "kcal/mol" in run_page and "MMFF94" in run_page
@@ -104,7 +105,7 @@ def test_screen_report_plot_uses_cached_strain(demo_notebook_path, tmp_path):
 def test_yield_colours_darken_with_yield():
     # common practice, no source: relative luminance (Rec. 709 weights) should fall as the yield rises
     def lum(hex_colour):
-        r, g, b = (int(hex_colour[i:i + 2], 16) for i in (1, 3, 5))
+        r, g, b = (int(hex_colour[i : i + 2], 16) for i in (1, 3, 5))
         return 0.2126 * r + 0.7152 * g + 0.0722 * b
 
     values = [lum(reports.yield_colour(p)[0]) for p in range(0, 101, 5)]

@@ -5,9 +5,9 @@ from __future__ import annotations
 
 import json
 import random
+import warnings
 
 import pytest
-import warnings
 from molmass import Formula
 
 from trapbook import review
@@ -20,11 +20,13 @@ SCALE_MMOL = 0.100
 
 
 def _run(trap: str, temp: str, product, outcome: dict, status: str = "done", late_trap: bool = False) -> dict:
-    trap_line = ({"role": "trap", "name": "furan", "smiles": "c1ccoc1", "density": "0.951 g/mL", "equiv": 10}
-                 if trap == "furan" else {"role": "trap", "name": "anthracene", "smiles": "c1ccc2cc3ccccc3cc2c1", "equiv": 3})
+    trap_line = (
+        {"role": "trap", "name": "furan", "smiles": "c1ccoc1", "density": "0.951 g/mL", "equiv": 10}
+        if trap == "furan"
+        else {"role": "trap", "name": "anthracene", "smiles": "c1ccc2cc3ccccc3cc2c1", "equiv": 3}
+    )
     first = ["precursor", "MeCN"] + ([] if late_trap else [trap_line["name"]])
-    steps = [{"add": first, "temperature": "23 °C"},
-             {"add": ["CsF", "TBAB"], "temperature": "23 °C"}]
+    steps = [{"add": first, "temperature": "23 °C"}, {"add": ["CsF", "TBAB"], "temperature": "23 °C"}]
     if late_trap:
         steps.append({"hold": "30 min", "temperature": "23 °C"})
         steps.append({"add": [trap_line["name"]], "temperature": "23 °C"})
@@ -40,7 +42,12 @@ def _run(trap: str, temp: str, product, outcome: dict, status: str = "done", lat
             {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 5},
             {"role": "additive", "name": "TBAB", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[Br-]", "equiv": 1},
             {"role": "solvent", "name": "MeCN", "smiles": "CC#N", "volume": "1.0 mL"},
-            {"role": "internal standard", "name": "1,3,5-trimethoxybenzene", "smiles": "COc1cc(OC)cc(OC)c1", "amount": "0.100 mmol"},
+            {
+                "role": "internal standard",
+                "name": "1,3,5-trimethoxybenzene",
+                "smiles": "COc1cc(OC)cc(OC)c1",
+                "amount": "0.100 mmol",
+            },
             {"role": "product", "name": product[0], "smiles": product[1]},
         ],
         "steps": steps,
@@ -51,16 +58,39 @@ def _run(trap: str, temp: str, product, outcome: dict, status: str = "done", lat
 
 @pytest.fixture
 def hand_screen(notebook):
-    sid = notebook.add_screen(Screen(name="hand 2x2", factors={"trap": ["furan", "anthracene"], "temperature": ["80 °C", "120 °C"]}))
+    sid = notebook.add_screen(
+        Screen(name="hand 2x2", factors={"trap": ["furan", "anthracene"], "temperature": ["80 °C", "120 °C"]})
+    )
     runs = [
         _run("furan", "80 °C", FURAN_ADDUCT, {"products": [{"product": "furan adduct", "isolated_mass": "9.51 mg"}]}),
         # qNMR worked check of docs/sources.md: 0.100 mmol standard (3H, I = 3.00), product 1H, I = 0.62 → 62 %.
-        _run("furan", "120 °C", FURAN_ADDUCT, {"products": [{"product": "furan adduct", "qnmr": {
-            "standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1}}]}),
-        _run("anthracene", "80 °C", ANTH_ADDUCT, {"products": [{"product": "anthracene adduct", "isolated_mass": "14.4 mg",
-                                                               "dr": "5:1", "er": "19:1"}]}),
-        _run("anthracene", "120 °C", ANTH_ADDUCT, {"products": [{"product": "anthracene adduct", "isolated_mass": "0 mg"}],
-                                                   "observations": "no adduct"}, status="failed", late_trap=True),
+        _run(
+            "furan",
+            "120 °C",
+            FURAN_ADDUCT,
+            {
+                "products": [
+                    {
+                        "product": "furan adduct",
+                        "qnmr": {"standard_integral": 3.00, "standard_protons": 3, "integral": 0.62, "protons": 1},
+                    }
+                ]
+            },
+        ),
+        _run(
+            "anthracene",
+            "80 °C",
+            ANTH_ADDUCT,
+            {"products": [{"product": "anthracene adduct", "isolated_mass": "14.4 mg", "dr": "5:1", "er": "19:1"}]},
+        ),
+        _run(
+            "anthracene",
+            "120 °C",
+            ANTH_ADDUCT,
+            {"products": [{"product": "anthracene adduct", "isolated_mass": "0 mg"}], "observations": "no adduct"},
+            status="failed",
+            late_trap=True,
+        ),
     ]
     ids = []
     for r in runs:

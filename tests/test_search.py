@@ -11,10 +11,9 @@ import pytest
 from rdkit import Chem, DataStructs
 from rdkit.Chem import rdFingerprintGenerator
 
+from conftest import ROOT
 from trapbook.errors import TrapbookError
 from trapbook.search import search
-
-from conftest import ROOT
 
 DEMO_RUNS = sorted((ROOT / "demo_lab" / "runs").glob("*.json"))
 
@@ -24,14 +23,14 @@ CORE_331 = "[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2"
 
 QUERIES = [
     CORE_331,
-    "c1ccoc1",                     # furan ring (aromatic) — only in furan itself
-    "C=C",                         # any C=C
-    "[Si](C)(C)C",                 # trimethylsilyl
-    "OS(=O)(=O)C(F)(F)F",          # triflate
-    "c1ccc2cc3ccccc3cc2c1",        # anthracene
-    "C1OC=CC1",                    # a dihydrofuran ring as SMILES read as SMARTS
-    "[R2;X4]",                     # sp3 ring-fusion atom
-    "C12=CCCC(CC1)C2",             # bicyclo[3.2.1]oct-1-ene given as SMILES
+    "c1ccoc1",  # furan ring (aromatic) — only in furan itself
+    "C=C",  # any C=C
+    "[Si](C)(C)C",  # trimethylsilyl
+    "OS(=O)(=O)C(F)(F)F",  # triflate
+    "c1ccc2cc3ccccc3cc2c1",  # anthracene
+    "C1OC=CC1",  # a dihydrofuran ring as SMILES read as SMARTS
+    "[R2;X4]",  # sp3 ring-fusion atom
+    "C12=CCCC(CC1)C2",  # bicyclo[3.2.1]oct-1-ene given as SMILES
 ]
 
 
@@ -145,21 +144,27 @@ def _max_temp(d: dict) -> float | None:
 
 
 def test_condition_filters_combine_with_and(demo_notebook):
-    want = {d["id"] for d in _demo_records()
-            if any(ln["role"] == "trap" and ln["name"] == "furan" for ln in d["lines"])
-            and (_max_temp(d) or -999) >= 100
-            and any(ln["role"] == "fluoride source" and "CsF" in ln["name"] for ln in d["lines"])}
+    want = {
+        d["id"]
+        for d in _demo_records()
+        if any(ln["role"] == "trap" and ln["name"] == "furan" for ln in d["lines"])
+        and (_max_temp(d) or -999) >= 100
+        and any(ln["role"] == "fluoride source" and "CsF" in ln["name"] for ln in d["lines"])
+    }
     got = {h.run_id for h in search(demo_notebook, trap="furan", temp_min="100 °C", fluoride="csf")}
     assert got == want == {"TB-0014"}
-    assert got == ({h.run_id for h in search(demo_notebook, trap="furan")}
-                   & {h.run_id for h in search(demo_notebook, temp_min=100)}
-                   & {h.run_id for h in search(demo_notebook, fluoride="CsF")})
+    assert got == (
+        {h.run_id for h in search(demo_notebook, trap="furan")}
+        & {h.run_id for h in search(demo_notebook, temp_min=100)}
+        & {h.run_id for h in search(demo_notebook, fluoride="CsF")}
+    )
 
 
 def test_structure_and_condition_and_screen(demo_notebook):
     got = {h.run_id for h in search(demo_notebook, substructure=CORE_331, screen="SC-0001", trap="anthracene")}
-    want = {d["id"] for d in _demo_records() if d.get("screen") == "SC-0001"
-            and any(ln["name"] == "anthracene" for ln in d["lines"])}
+    want = {
+        d["id"] for d in _demo_records() if d.get("screen") == "SC-0001" and any(ln["name"] == "anthracene" for ln in d["lines"])
+    }
     assert got == want == {"TB-0017", "TB-0018"}
 
 
@@ -181,8 +186,11 @@ def test_yield_range_uses_stored_yields(demo_notebook):
 
 
 def test_full_text(demo_notebook):
-    want = {d["id"] for d in _demo_records()
-            if re.search(r"\boligomers\b", " ".join([d.get("notes") or "", (d.get("outcome") or {}).get("observations") or ""]))}
+    want = {
+        d["id"]
+        for d in _demo_records()
+        if re.search(r"\boligomers\b", " ".join([d.get("notes") or "", (d.get("outcome") or {}).get("observations") or ""]))
+    }
     hits = search(demo_notebook, text="oligomers")
     assert {h.run_id for h in hits} == want == {"TB-0010"}
     assert hits[0].matched[-1].startswith("text: ")
@@ -197,10 +205,19 @@ def test_inchikey_exact(demo_notebook):
     assert {h.run_id for h in search(demo_notebook, inchikey=key[:14])} == want
 
 
-@pytest.mark.parametrize("kwargs", [
-    {"substructure": "C1CC("}, {"similar": "not a smiles"}, {"inchikey": "XYZ"}, {"temp_min": "hot"},
-    {"date_from": "last week"}, {"similar": "CC", "min_similarity": 1.5}, {"screen": "SC-9999"}, {"text": "  "},
-])
+@pytest.mark.parametrize(
+    "kwargs",
+    [
+        {"substructure": "C1CC("},
+        {"similar": "not a smiles"},
+        {"inchikey": "XYZ"},
+        {"temp_min": "hot"},
+        {"date_from": "last week"},
+        {"similar": "CC", "min_similarity": 1.5},
+        {"screen": "SC-9999"},
+        {"text": "  "},
+    ],
+)
 def test_bad_queries_are_trapbook_errors(demo_notebook, kwargs):
     with pytest.raises(TrapbookError) as info:
         search(demo_notebook, **kwargs)

@@ -53,9 +53,12 @@ def copy_path(demo_notebook_path, tmp_path):
 
 def test_repeated_search_equals_fresh_search(copy_path):
     with Notebook.open(copy_path) as nb:
-        for kwargs in ({"substructure": "[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2"},
-                       {"similar": "C12=CCCC(CCC1)C2", "min_similarity": 0.3}, {"text": "oligomers"},
-                       {"substructure": FURAN, "trap": "furan"}):
+        for kwargs in (
+            {"substructure": "[#6]1~[#6]~[#6]2~[#6]~[#6]~[#6]~[#6](~[#6]1)~[#6]2"},
+            {"similar": "C12=CCCC(CCC1)C2", "min_similarity": 0.3},
+            {"text": "oligomers"},
+            {"substructure": FURAN, "trap": "furan"},
+        ):
             S.clear_caches()
             fresh = [h.to_dict() for h in search(nb, **kwargs)]
             again = [h.to_dict() for h in search(nb, **kwargs)]
@@ -100,6 +103,7 @@ def test_every_search_source_table_changes_the_token(copy_path):
     from trapbook.store.schema import SEARCH_SOURCES
 
     with Notebook.open(copy_path) as nb:
+
         def token():
             return nb.conn.execute("SELECT token FROM search_token").fetchone()[0]
 

@@ -26,14 +26,17 @@ PATHOLOGICAL = "*" + "~*(~*)(~*)" * 22 + "~[#8]~[#1]"
 SHORT = "[#8]~*" + "~*(~*)(~*)" * 3  # the same kind of pattern, short enough to answer at once
 
 
-@pytest.mark.parametrize("needle,want", [
-    ("%", {"50% aq. HF"}),
-    ("_", {"n_BuLi"}),
-    ("\\", {"a\\b"}),
-    ("50%", {"50% aq. HF"}),
-    ("n_b", {"n_BuLi"}),
-    ("b", {"n_BuLi", "a\\b", "nxbuli"}),
-])
+@pytest.mark.parametrize(
+    "needle,want",
+    [
+        ("%", {"50% aq. HF"}),
+        ("_", {"n_BuLi"}),
+        ("\\", {"a\\b"}),
+        ("50%", {"50% aq. HF"}),
+        ("n_b", {"n_BuLi"}),
+        ("b", {"n_BuLi", "a\\b", "nxbuli"}),
+    ],
+)
 def test_like_wildcards_are_plain_characters(needle, want):
     # Source: SQLite's LIKE ... ESCAPE (sqlite.org/lang_expr.html#like): with an escape character,
     # '%' and '_' after it match themselves; plain Python 'in' is the reference.
@@ -88,8 +91,7 @@ def test_pathological_pattern_stops_at_the_time_limit(hostile_notebook):
 
 
 def test_cli_says_the_query_was_stopped(hostile_notebook):
-    res = CliRunner().invoke(main, ["--db", str(hostile_notebook), "search", "-s", PATHOLOGICAL, "--time-limit", "1",
-                                    "--json"])
+    res = CliRunner().invoke(main, ["--db", str(hostile_notebook), "search", "-s", PATHOLOGICAL, "--time-limit", "1", "--json"])
     assert res.exit_code == 2
     err = json.loads(res.stdout)
     assert "stopped after 1 s" in err["error"] and "Traceback" not in res.output

@@ -26,8 +26,10 @@ CHROMIUM = "/usr/bin/chromium"
 CHROMEDRIVER = "/usr/bin/chromedriver"
 ROOT = Path(__file__).resolve().parents[1]
 
-needs_chromium = pytest.mark.skipif(not (Path(CHROMIUM).exists() and Path(CHROMEDRIVER).exists()),
-                                    reason="needs Debian's chromium and chromium-driver (apt-get install chromium chromium-driver)")
+needs_chromium = pytest.mark.skipif(
+    not (Path(CHROMIUM).exists() and Path(CHROMEDRIVER).exists()),
+    reason="needs Debian's chromium and chromium-driver (apt-get install chromium chromium-driver)",
+)
 
 #: Records every websocket message the page receives, as text, in window.__trapbookScreen.
 RECORD_SOCKET = r"""
@@ -96,12 +98,17 @@ def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
 
     trapbook = [sys.executable, "-m", "trapbook"]
     db = tmp_path / "demo.sqlite"
-    subprocess.run(trapbook + ["--db", str(db), "demo", "--no-ui", "--strain", "none"], check=True, capture_output=True,
-                   timeout=120)
+    subprocess.run(
+        trapbook + ["--db", str(db), "demo", "--no-ui", "--strain", "none"], check=True, capture_output=True, timeout=120
+    )
     before = _sha(db)
     port = _free_port()
-    server = subprocess.Popen(trapbook + ["--db", str(db), "serve", "--read-only", "--port", str(port)],
-                              stdout=subprocess.PIPE, stderr=subprocess.STDOUT, start_new_session=True)
+    server = subprocess.Popen(
+        trapbook + ["--db", str(db), "serve", "--read-only", "--port", str(port)],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.STDOUT,
+        start_new_session=True,
+    )
     driver = None
     try:
         _wait_for(lambda: _listening(port) or server.poll() is not None, 30, "the server to listen")
@@ -109,9 +116,18 @@ def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
         os.environ["SE_OFFLINE"] = "true"  # Selenium Manager: never download a browser or driver
         options = webdriver.ChromeOptions()
         options.binary_location = CHROMIUM
-        for flag in ("--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                     "--disable-background-networking", "--disable-component-update", "--disable-sync",
-                     "--window-size=1280,800", f"--user-data-dir={tmp_path / 'chromium-profile'}"):
+        for flag in (
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--disable-quic",
+            "--no-first-run",
+            "--disable-background-networking",
+            "--disable-component-update",
+            "--disable-sync",
+            "--window-size=1280,800",
+            f"--user-data-dir={tmp_path / 'chromium-profile'}",
+        ):
             options.add_argument(flag)
         driver = webdriver.Chrome(service=Service(executable_path=CHROMEDRIVER), options=options)
         driver.set_page_load_timeout(30)
@@ -119,8 +135,11 @@ def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
         driver.get(f"http://127.0.0.1:{port}/")
 
         # The demo lab's runs (demo_lab/runs: TB-0001 … TB-0018) are listed in the Logbook.
-        text = _wait_for(lambda: (t := _screen_text(driver)) and "TB-0001" in t and "TB-0005" in t and t, 60,
-                         "the Logbook to list the demo runs")
+        text = _wait_for(
+            lambda: (t := _screen_text(driver)) and "TB-0001" in t and "TB-0005" in t and t,
+            60,
+            "the Logbook to list the demo runs",
+        )
         assert "Trapbook" in text and "read-only" in text
         time.sleep(1.0)  # let the canvas paint what was received
         shot = tmp_path / "logbook.png"
@@ -129,8 +148,14 @@ def test_serve_read_only_shows_the_logbook_and_refuses_writes(tmp_path):
         # n would start a new run: in a read-only view it says so and nothing is written.
         seen = len(driver.execute_script("return window.__trapbookScreen;"))
         driver.find_element(By.CSS_SELECTOR, ".xterm-helper-textarea").send_keys("n")
-        _wait_for(lambda: "read-only: this view does not write" in ANSI.sub("", driver.execute_script(
-            "return window.__trapbookScreen;")[seen:]), 20, "the read-only notice")
+        _wait_for(
+            lambda: (
+                "read-only: this view does not write"
+                in ANSI.sub("", driver.execute_script("return window.__trapbookScreen;")[seen:])
+            ),
+            20,
+            "the read-only notice",
+        )
         assert "Workbench" not in ANSI.sub("", driver.execute_script("return window.__trapbookScreen;")[seen:])
     finally:
         if driver is not None:

@@ -74,8 +74,13 @@ def test_same_fid_same_integrals_and_stored_phases_reproduce(bruker_bytes):
     assert (a.standard_area, a.product_area) == (b.standard_area, b.product_area)
     assert a_spec.record == b_spec.record
     # the phases found, given back as an override, give the same integrals again
-    fixed = RegionSet(REGIONS.standard, REGIONS.product, 3, 1,
-                      processing=Processing(phase0_deg=a_spec.record["phase0_deg"], phase1_deg=a_spec.record["phase1_deg"]))
+    fixed = RegionSet(
+        REGIONS.standard,
+        REGIONS.product,
+        3,
+        1,
+        processing=Processing(phase0_deg=a_spec.record["phase0_deg"], phase1_deg=a_spec.record["phase1_deg"]),
+    )
     _, c = analyse(bruker_bytes, "exp.zip", fixed)
     assert c.ratio == pytest.approx(a.ratio, rel=1e-6)
 
@@ -96,8 +101,9 @@ def test_phase_override_is_used_and_a_wrong_phase_is_noticed(bruker_bytes):
 
 def test_referencing_moves_the_standard_to_its_shift(bruker_bytes):
     # 1,3,5-trimethoxybenzene's aromatic H at 6.09 ppm in CDCl3 (from memory); the FID puts it at 6.10
-    ref = RegionSet(REGIONS.standard, REGIONS.product, 3, 1,
-                    processing=Processing(reference_ppm=6.09, reference_region=(5.9, 6.3)))
+    ref = RegionSet(
+        REGIONS.standard, REGIONS.product, 3, 1, processing=Processing(reference_ppm=6.09, reference_region=(5.9, 6.3))
+    )
     spec, _ = analyse(bruker_bytes, "exp.zip", ref)
     assert spec.record["reference_shift_ppm"] == pytest.approx(-0.01, abs=0.001)
     top = spec.ppm[np.argmax(np.where((spec.ppm > 5.9) & (spec.ppm < 6.3), spec.intensity, -np.inf))]
@@ -182,7 +188,7 @@ def test_zip_with_a_symlink_is_refused(tmp_path):
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w") as zf:
         info = zipfile.ZipInfo("exp/fid")
-        info.external_attr = (0o120777 << 16)  # a symbolic link, as zip keeps it
+        info.external_attr = 0o120777 << 16  # a symbolic link, as zip keeps it
         zf.writestr(info, "/etc/passwd")
     with pytest.raises(SpectrumError, match="symbolic link"):
         read_bytes(buf.getvalue(), "link.zip")
@@ -223,8 +229,10 @@ def test_zip_without_an_experiment_is_refused():
 
 
 def test_processed_jcamp_spectrum_is_refused_with_a_hint():
-    text = "##TITLE= test\n##JCAMP-DX= 5.01\n##DATA TYPE= NMR SPECTRUM\n##XUNITS= HZ\n##YUNITS= ARBITRARY UNITS\n" \
-           "##FIRSTX= 0\n##LASTX= 3\n##NPOINTS= 4\n##XYDATA= (X++(Y..Y))\n0 1 2 3 4\n##END=\n"
+    text = (
+        "##TITLE= test\n##JCAMP-DX= 5.01\n##DATA TYPE= NMR SPECTRUM\n##XUNITS= HZ\n##YUNITS= ARBITRARY UNITS\n"
+        "##FIRSTX= 0\n##LASTX= 3\n##NPOINTS= 4\n##XYDATA= (X++(Y..Y))\n0 1 2 3 4\n##END=\n"
+    )
     with pytest.raises(SpectrumError, match="not an NMR FID"):
         read_bytes(text.encode(), "spectrum.jdx")
 
@@ -263,8 +271,21 @@ def test_cli_integrates_an_attached_bruker_zip(cli, tmp_path, bruker_bytes):
     zipped.write_bytes(bruker_bytes)
     assert cli("attach", "TB-0001", str(zipped)).exit_code == 0
     png = tmp_path / "a1.png"
-    res = cli("nmr", "TB-0001", "--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3",
-              "--product-protons", "1", "--png", str(png), "--json")
+    res = cli(
+        "nmr",
+        "TB-0001",
+        "--standard",
+        "6.00..6.20",
+        "--product",
+        "5.20..5.40",
+        "--standard-protons",
+        "3",
+        "--product-protons",
+        "1",
+        "--png",
+        str(png),
+        "--json",
+    )
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
     # Source: worked qNMR example, docs/sources.md: 62 % at 0.100 mmol scale
@@ -295,8 +316,19 @@ def test_stored_findings_are_bench_check_findings_and_the_report_draws_the_spect
     zipped.write_bytes(bruker_bytes)
     cli("attach", "TB-0001", str(zipped))
     # a product region with no peak in it: stored as a finding with the integrals
-    res = cli("nmr", "TB-0001", "--standard", "6.00..6.20", "--product", "3.00..3.20", "--standard-protons", "3",
-              "--product-protons", "1", "--json")
+    res = cli(
+        "nmr",
+        "TB-0001",
+        "--standard",
+        "6.00..6.20",
+        "--product",
+        "3.00..3.20",
+        "--standard-protons",
+        "3",
+        "--product-protons",
+        "1",
+        "--json",
+    )
     assert res.exit_code == 0, res.output
     with Notebook.open(tmp_path / "nb.sqlite") as nb:
         run = nb.get_run("TB-0001")
@@ -313,8 +345,19 @@ def test_cli_refuses_random_bytes_and_changes_nothing(cli, tmp_path):
     junk = tmp_path / "junk.zip"
     junk.write_bytes(np.random.default_rng(3).bytes(2048))
     cli("attach", "TB-0001", str(junk))
-    res = cli("nmr", "TB-0001", "--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3",
-              "--product-protons", "1", "--json")
+    res = cli(
+        "nmr",
+        "TB-0001",
+        "--standard",
+        "6.00..6.20",
+        "--product",
+        "5.20..5.40",
+        "--standard-protons",
+        "3",
+        "--product-protons",
+        "1",
+        "--json",
+    )
     assert res.exit_code == 2
     assert "not raw NMR data" in json.loads(res.output)["error"]
     assert len(json.loads(cli("history", "TB-0001", "--json").output)) == 2
@@ -335,8 +378,19 @@ def test_screen_uses_one_set_of_regions_for_every_vial(cli, tmp_path, bruker_byt
         cli("attach", rid, str(zipped))
     with Notebook.open(tmp_path / "nb.sqlite") as nb:
         sid = nb.add_screen({"name": "trap screen", "runs": ["TB-0001", "TB-0002", "TB-0003"]})
-    res = cli("nmr", sid, "--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3",
-              "--product-protons", "1", "--json")
+    res = cli(
+        "nmr",
+        sid,
+        "--standard",
+        "6.00..6.20",
+        "--product",
+        "5.20..5.40",
+        "--standard-protons",
+        "3",
+        "--product-protons",
+        "1",
+        "--json",
+    )
     out = json.loads(res.output)
     assert [r["run_id"] for r in out["integrated"]] == ["TB-0001", "TB-0002"] and out["skipped"] == ["TB-0003"]
     assert all(r["yield_pct"] == pytest.approx(62.0, abs=1.0) for r in out["integrated"])
@@ -362,8 +416,19 @@ def test_screen_with_a_refused_vial_does_not_exit_as_done(cli, tmp_path, bruker_
     cli("attach", "TB-0002", str(junk))
     with Notebook.open(tmp_path / "nb.sqlite") as nb:
         sid = nb.add_screen({"name": "trap screen", "runs": ["TB-0001", "TB-0002"]})
-    res = cli("nmr", sid, "--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3",
-              "--product-protons", "1", "--json")
+    res = cli(
+        "nmr",
+        sid,
+        "--standard",
+        "6.00..6.20",
+        "--product",
+        "5.20..5.40",
+        "--standard-protons",
+        "3",
+        "--product-protons",
+        "1",
+        "--json",
+    )
     out = json.loads(res.output)
     assert [r["run_id"] for r in out["integrated"]] == ["TB-0001"]
     assert [r["run_id"] for r in out["refused"]] == ["TB-0002"]
@@ -378,16 +443,30 @@ def test_only_the_spectra_package_reads_raw_nmr_data():
     users = set()
     for path in pkg.rglob("*.py"):
         for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
-            names = [a.name for a in node.names] if isinstance(node, ast.Import) else \
-                [node.module or ""] if isinstance(node, ast.ImportFrom) else []
+            names = (
+                [a.name for a in node.names]
+                if isinstance(node, ast.Import)
+                else [node.module or ""]
+                if isinstance(node, ast.ImportFrom)
+                else []
+            )
             if any(n.split(".")[0] == "nmrglue" for n in names):
                 users.add(path.relative_to(pkg).parts[0])
     assert users == {"spectra"}
 
 
-@pytest.mark.parametrize("bad", [{"line_broadening_hz": float("nan")}, {"baseline_order": "3"}, {"zero_fill_factor": True},
-                                 {"reference_ppm": 6.09, "reference_region": ("x", 1.0)}, {"phase_region": (6.0, float("inf"))},
-                                 {"reverse": "yes"}, {"phase_method": ["acme"]}])
+@pytest.mark.parametrize(
+    "bad",
+    [
+        {"line_broadening_hz": float("nan")},
+        {"baseline_order": "3"},
+        {"zero_fill_factor": True},
+        {"reference_ppm": 6.09, "reference_region": ("x", 1.0)},
+        {"phase_region": (6.0, float("inf"))},
+        {"reverse": "yes"},
+        {"phase_method": ["acme"]},
+    ],
+)
 def test_processing_parameters_from_a_hand_written_record_are_refused_in_words(bad):
     with pytest.raises(SpectrumError):
         Processing(**bad)

@@ -40,7 +40,8 @@ def test_version_hashes_chain(notebook, minimal_run):
     d["title"] = "second"
     notebook.save_run(d, 1, reason="retitle")
     rows = notebook.conn.execute(
-        "SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions WHERE run_id = ? ORDER BY version", (res.run_id,)
+        "SELECT version, author, time, reason, action, prev_hash, hash, data FROM versions WHERE run_id = ? ORDER BY version",
+        (res.run_id,),
     ).fetchall()
     prev = None
     for version, author, time, reason, action, prev_hash, h, data in rows:
@@ -48,8 +49,16 @@ def test_version_hashes_chain(notebook, minimal_run):
         # (sorted-key, no-space JSON of the metadata and the data's own SHA-256), not via Trapbook
         assert prev_hash == prev
         assert h == version_hash(res.run_id, version, author, time, reason, action, prev, data)
-        link = {"run": res.run_id, "version": version, "author": author, "time": time, "reason": reason,
-                "action": action, "prev": prev, "data_sha256": hashlib.sha256(data.encode()).hexdigest()}
+        link = {
+            "run": res.run_id,
+            "version": version,
+            "author": author,
+            "time": time,
+            "reason": reason,
+            "action": action,
+            "prev": prev,
+            "data_sha256": hashlib.sha256(data.encode()).hexdigest(),
+        }
         payload = json.dumps(link, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
         assert h == hashlib.sha256(payload.encode()).hexdigest()
         assert json.loads(data) == json.loads(canonical_json(json.loads(data)))
@@ -228,8 +237,10 @@ def test_a_lock_released_while_waiting_lets_the_save_through(tmp_path, minimal_r
 def _from_the_future(path, minimal_run):
     with Notebook.create(path) as nb:
         nb.add_run(minimal_run, author="a")
-        nb.conn.execute("INSERT INTO migrations (version, applied, description, app_version) "
-                        "VALUES (99, '2099-01-01T00:00:00+00:00', 'a later layout', '9.9.0')")
+        nb.conn.execute(
+            "INSERT INTO migrations (version, applied, description, app_version) "
+            "VALUES (99, '2099-01-01T00:00:00+00:00', 'a later layout', '9.9.0')"
+        )
 
 
 def test_a_newer_notebook_is_read_but_not_written(tmp_path, minimal_run):
@@ -294,8 +305,12 @@ def _as_schema_4(path):
     with sqlite3.connect(path) as conn:
         for table in ("saves", "head", "setting_versions"):
             conn.execute(f"DROP TABLE {table}")
-        for table, column in (("screen_versions", "prev_hash"), ("screen_versions", "hash"),
-                              ("strain_cache", "content_sha256"), ("migrations", "app_version")):
+        for table, column in (
+            ("screen_versions", "prev_hash"),
+            ("screen_versions", "hash"),
+            ("strain_cache", "content_sha256"),
+            ("migrations", "app_version"),
+        ):
             conn.execute(f"ALTER TABLE {table} DROP COLUMN {column}")
         conn.execute("DELETE FROM migrations WHERE version = 5")
 

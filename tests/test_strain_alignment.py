@@ -19,11 +19,20 @@ TRANS_CY = "C[Si](C)(C)[C@@H]1CCCC[C@H]1OS(=O)(=O)C(F)(F)F"  # trans-2-(trimethy
 CIS_CY = "C[Si](C)(C)[C@@H]1CCCC[C@@H]1OS(=O)(=O)C(F)(F)F"  # its cis epimer
 
 
-@pytest.mark.parametrize("phi,words", [
-    # Source: docs/sources.md, "Strain" — Klyne & Prelog ranges.
-    (0, "synperiplanar"), (29, "synperiplanar"), (45, "synclinal (gauche)"), (66, "synclinal (gauche)"),
-    (72, "synclinal (gauche)"), (120, "anticlinal"), (-160, "antiperiplanar"), (180, "antiperiplanar"),
-])
+@pytest.mark.parametrize(
+    "phi,words",
+    [
+        # Source: docs/sources.md, "Strain" — Klyne & Prelog ranges.
+        (0, "synperiplanar"),
+        (29, "synperiplanar"),
+        (45, "synclinal (gauche)"),
+        (66, "synclinal (gauche)"),
+        (72, "synclinal (gauche)"),
+        (120, "anticlinal"),
+        (-160, "antiperiplanar"),
+        (180, "antiperiplanar"),
+    ],
+)
 def test_angles_are_named_by_klyne_prelog(phi, words):
     assert alignment.klyne_prelog(phi) == words
 
@@ -81,10 +90,13 @@ def test_norbornyl_diastereomers_are_told_apart():
     assert cis["leaving_group"] == trans["leaving_group"] == "triflate"
 
 
-@pytest.mark.parametrize("smiles,what", [
-    ("C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "aryne"),  # 2-(trimethylsilyl)phenyl triflate
-    ("C[Si](C)(C)C1=C(OS(=O)(=O)C(F)(F)F)CCCC1", "cycloalkyne"),  # 2-silylcyclohexenyl triflate
-])
+@pytest.mark.parametrize(
+    "smiles,what",
+    [
+        ("C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "aryne"),  # 2-(trimethylsilyl)phenyl triflate
+        ("C[Si](C)(C)C1=C(OS(=O)(=O)C(F)(F)F)CCCC1", "cycloalkyne"),  # 2-silylcyclohexenyl triflate
+    ],
+)
 def test_ring_held_precursors_are_synperiplanar(smiles, what):
     # common practice, no source: ortho (aryl) and vicinal (vinyl) substituents on a flat
     # ring unit are coplanar, 0°.
@@ -105,8 +117,19 @@ def test_allene_precursor_is_worded_honestly():
 
 def test_keys_and_atoms():
     r = strain.precursor_alignment(TRANS_CY)  # the old location still works
-    for key in ("dihedral_deg", "weighted_dihedral_deg", "verdict", "conformers", "atoms", "aligned_fraction",
-                "best_aligned", "conformer_table", "temperature_c", "measured", "stereo_warning"):
+    for key in (
+        "dihedral_deg",
+        "weighted_dihedral_deg",
+        "verdict",
+        "conformers",
+        "atoms",
+        "aligned_fraction",
+        "best_aligned",
+        "conformer_table",
+        "temperature_c",
+        "measured",
+        "stereo_warning",
+    ):
         assert key in r
     assert set(r["atoms"]) == {"si", "c_si", "c_x", "x"}
     assert r["conformers"] >= 2  # Source: from memory — a cyclohexane ring has two chairs

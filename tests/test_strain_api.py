@@ -10,10 +10,29 @@ from trapbook.chemistry import strain
 from trapbook.errors import ChemistryError
 
 STABLE_KEYS = {
-    "smiles", "kind", "bridges", "s_value", "trans_ring_size", "olefin_strain_kcal_mol",
-    "stability_class", "twist_deg", "pyramidalization_deg", "bond_length_angstrom",
-    "wiberg_bond_order", "tier", "method", "conformers", "seconds", "engine_version",
-    "reference", "rough", "prescreen", "strain_quantity", "strain_kcal_mol", "needs_trap", "judgement",
+    "smiles",
+    "kind",
+    "bridges",
+    "s_value",
+    "trans_ring_size",
+    "olefin_strain_kcal_mol",
+    "stability_class",
+    "twist_deg",
+    "pyramidalization_deg",
+    "bond_length_angstrom",
+    "wiberg_bond_order",
+    "tier",
+    "method",
+    "conformers",
+    "seconds",
+    "engine_version",
+    "reference",
+    "rough",
+    "prescreen",
+    "strain_quantity",
+    "strain_kcal_mol",
+    "needs_trap",
+    "judgement",
 }
 
 
@@ -22,8 +41,15 @@ STABLE_KEYS = {
     # Source: Maier & Schleyer, JACS 1981, 103, 1891 (docs/sources.md, "Strain"): <=17 isolable,
     # 17-21 observable, >21 unstable; <0 hyperstable, same paper
     # (same paper, not looked up: from memory).
-    [(-3.0, "hyperstable"), (0.0, "isolable"), (17.0, "isolable"), (17.5, "observable"),
-     (21.0, "observable"), (21.1, "unstable"), (None, None)],
+    [
+        (-3.0, "hyperstable"),
+        (0.0, "isolable"),
+        (17.0, "isolable"),
+        (17.5, "observable"),
+        (21.0, "observable"),
+        (21.1, "unstable"),
+        (None, None),
+    ],
 )
 def test_stability_class_boundaries(os_kcal, expected):
     # the old entry point delegates to trapbook.stability (one rule, one place)

@@ -17,17 +17,19 @@ NORBORNENE_1 = "C12=CCC(CC1)C2"  # bicyclo[2.2.1]hept-1-ene
 
 
 def _untrapped_run(**extra):
-    return load_run({
-        "title": "bridgehead alkene without a trap",
-        "intermediate": NORBORNENE_1,
-        "lines": [
-            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)C12CCC(C1)CC2OS(=O)(=O)C(F)(F)F", "amount": "0.10 mmol"},
-            {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3},
-            {"role": "solvent", "name": "MeCN", "smiles": "CC#N", "volume": "1.0 mL"},
-        ],
-        "steps": [{"add": ["P", "CsF", "MeCN"], "temperature": "23 °C", "hold": "1 h"}],
-        **extra,
-    })
+    return load_run(
+        {
+            "title": "bridgehead alkene without a trap",
+            "intermediate": NORBORNENE_1,
+            "lines": [
+                {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)C12CCC(C1)CC2OS(=O)(=O)C(F)(F)F", "amount": "0.10 mmol"},
+                {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3},
+                {"role": "solvent", "name": "MeCN", "smiles": "CC#N", "volume": "1.0 mL"},
+            ],
+            "steps": [{"add": ["P", "CsF", "MeCN"], "temperature": "23 °C", "hold": "1 h"}],
+            **extra,
+        }
+    )
 
 
 def test_new_strain_result_rejudges_stored_runs(notebook):
@@ -90,12 +92,14 @@ def test_precursor_release_names_the_aryne():
 
 
 def test_run_temperature_is_the_fluoride_step():
-    run = load_run({
-        "title": "cold release",
-        "lines": [
-            {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.10 mmol"},
-            {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3},
-        ],
-        "steps": [{"add": ["P"], "temperature": "23 °C"}, {"add": ["CsF"], "temperature": "-78 °C"}],
-    })
+    run = load_run(
+        {
+            "title": "cold release",
+            "lines": [
+                {"role": "precursor", "name": "P", "smiles": "C[Si](C)(C)c1ccccc1OS(=O)(=O)C(F)(F)F", "amount": "0.10 mmol"},
+                {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 3},
+            ],
+            "steps": [{"add": ["P"], "temperature": "23 °C"}, {"add": ["CsF"], "temperature": "-78 °C"}],
+        }
+    )
     assert run_temperature_c(run) == pytest.approx(-78)

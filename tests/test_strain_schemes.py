@@ -56,16 +56,27 @@ def intermediates(draw):
     if kind == "naphthalyne":
         return f"C1{_sub(a)}=CC2=CC#CC=C2C=C1"
     if kind == "benzo":  # benzo-fused cycloalkynes and cyclic allenes, substituted on the arene
-        return draw(st.sampled_from([f"C1CC#CCCc2cc{_sub(a)}ccc21", f"C1C=C=CCc2c{_sub(a)}cccc21",
-                                     f"C1=CC=C2C(=C1{_sub(a)})CC#CCC3=CC=CC=C23"]))
+        return draw(
+            st.sampled_from(
+                [f"C1CC#CCCc2cc{_sub(a)}ccc21", f"C1C=C=CCc2c{_sub(a)}cccc21", f"C1=CC=C2C(=C1{_sub(a)})CC#CCC3=CC=CC=C23"]
+            )
+        )
     n = draw(st.integers(min_value=7, max_value=10))
     ring_atom = draw(st.sampled_from(["C", "O", "[Si](C)C", "N(C)"]))
     if kind == "cycloalkyne":
         return f"C1#CC{_sub(a)}C{_sub(b)}{ring_atom}" + "C" * (n - 5) + "1"
     if kind == "allene":
         return f"C1=C=CC{_sub(a)}C{_sub(b)}{ring_atom}" + "C" * (n - 6) + "1"
-    return draw(st.sampled_from([f"C12=C{_sub(a)}CCC(CCC1)C2", f"C12=C{_sub(a)}CC(CC1)C2", f"C12=CCCC{_sub(a)}(CCC1)C2",
-                                 f"C12=C{_sub(a)}CCCC(CCC1)C2"]))
+    return draw(
+        st.sampled_from(
+            [
+                f"C12=C{_sub(a)}CCC(CCC1)C2",
+                f"C12=C{_sub(a)}CC(CC1)C2",
+                f"C12=CCCC{_sub(a)}(CCC1)C2",
+                f"C12=C{_sub(a)}CCCC(CCC1)C2",
+            ]
+        )
+    )
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -89,16 +100,19 @@ def test_every_scheme_balanced_by_an_independent_count(smiles):
         assert net_atoms(ring) == {}, (smiles, ring.to_dict())
 
 
-@pytest.mark.parametrize("smiles,kind", [
-    ("C1=CC=CC#C1", "aryne"),  # benzyne
-    ("COC1=CC=CC#C1", "aryne"),  # 3-methoxybenzyne
-    ("C1=NC=CC#C1", "aryne"),  # 3,4-pyridyne
-    ("C1=CC2=CC#CC=C2C=C1", "aryne"),  # 2,3-naphthalyne
-    ("C1#CCCCCCC1", "cycloalkyne"),
-    ("C1CC=C=CC1", "cyclic allene"),
-    ("C12=CCCC(CCC1)C2", "bridgehead alkene"),
-    ("C1=CC2CCCC(C1)C2", "ring alkene"),  # bicyclo[3.3.1]non-2-ene: not at a bridgehead
-])
+@pytest.mark.parametrize(
+    "smiles,kind",
+    [
+        ("C1=CC=CC#C1", "aryne"),  # benzyne
+        ("COC1=CC=CC#C1", "aryne"),  # 3-methoxybenzyne
+        ("C1=NC=CC#C1", "aryne"),  # 3,4-pyridyne
+        ("C1=CC2=CC#CC=C2C=C1", "aryne"),  # 2,3-naphthalyne
+        ("C1#CCCCCCC1", "cycloalkyne"),
+        ("C1CC=C=CC1", "cyclic allene"),
+        ("C12=CCCC(CCC1)C2", "bridgehead alkene"),
+        ("C1=CC2CCCC(C1)C2", "ring alkene"),  # bicyclo[3.3.1]non-2-ene: not at a bridgehead
+    ],
+)
 def test_kinds_are_perceived(smiles, kind):
     # Source: docs/sources.md, "Strain" — arynes and hetarynes are their own kind (trapped only).
     mol = bh.parse(smiles)

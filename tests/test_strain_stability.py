@@ -21,12 +21,21 @@ def accurate(kind: str, value: float, key: str | None = None) -> dict:
     return {"tier": "accurate", "kind": kind, key or stability.value_key(kind): value}
 
 
-@pytest.mark.parametrize("value,expected", [
-    # Source: Maier & Schleyer, JACS 1981, 103, 1891 (docs/sources.md, "Strain"):
-    # <= 17 isolable, 17-21 observable, > 21 unstable, < 0 hyperstable.
-    (-3.0, "hyperstable"), (0.0, "isolable"), (12.7, "isolable"), (17.0, "isolable"),
-    (17.5, "observable"), (21.0, "observable"), (21.1, "unstable"), (57.0, "unstable"),
-])
+@pytest.mark.parametrize(
+    "value,expected",
+    [
+        # Source: Maier & Schleyer, JACS 1981, 103, 1891 (docs/sources.md, "Strain"):
+        # <= 17 isolable, 17-21 observable, > 21 unstable, < 0 hyperstable.
+        (-3.0, "hyperstable"),
+        (0.0, "isolable"),
+        (12.7, "isolable"),
+        (17.0, "isolable"),
+        (17.5, "observable"),
+        (21.0, "observable"),
+        (21.1, "unstable"),
+        (57.0, "unstable"),
+    ],
+)
 def test_bridgehead_classes_are_maier_schleyer(value, expected):
     assert judge(accurate("bridgehead alkene", value)).stability == expected
 
@@ -45,12 +54,19 @@ def test_fast_tier_is_never_judged():
     assert judge({"kind": "bridgehead alkene", "olefin_strain_kcal_mol": 12.7}) is None  # no tier named
 
 
-@pytest.mark.parametrize("bad", [None, {}, "text", {"tier": "accurate", "kind": "none"},
-                                 accurate("bridgehead alkene", float("nan")),
-                                 accurate("bridgehead alkene", float("inf")),
-                                 {"tier": "accurate", "kind": "cycloalkyne", "ring_strain_kcal_mol": None,
-                                  "excess_strain_kcal_mol": 22.6},
-                                 {"tier": "accurate", "kind": "bridgehead alkene", "olefin_strain_kcal_mol": True}])
+@pytest.mark.parametrize(
+    "bad",
+    [
+        None,
+        {},
+        "text",
+        {"tier": "accurate", "kind": "none"},
+        accurate("bridgehead alkene", float("nan")),
+        accurate("bridgehead alkene", float("inf")),
+        {"tier": "accurate", "kind": "cycloalkyne", "ring_strain_kcal_mol": None, "excess_strain_kcal_mol": 22.6},
+        {"tier": "accurate", "kind": "bridgehead alkene", "olefin_strain_kcal_mol": True},
+    ],
+)
 def test_failed_or_missing_results_get_no_judgement(bad):
     assert judge(bad) is None
 
@@ -75,19 +91,28 @@ def test_no_trap_needed_only_with_a_source(kind, value):
     assert j.words and f"{value:.1f}" in j.words
 
 
-@pytest.mark.parametrize("value,expected", [
-    # Source: docs/sources.md, "Strain" — cyclooctyne (ring strain about 18) isolable,
-    # cycloheptyne cold and dilute only, cyclohexyne trapping only.
-    (18.0, "isolable"), (29.8, "cold and dilute only"), (52.0, "trapping only"),
-])
+@pytest.mark.parametrize(
+    "value,expected",
+    [
+        # Source: docs/sources.md, "Strain" — cyclooctyne (ring strain about 18) isolable,
+        # cycloheptyne cold and dilute only, cyclohexyne trapping only.
+        (18.0, "isolable"),
+        (29.8, "cold and dilute only"),
+        (52.0, "trapping only"),
+    ],
+)
 def test_cycloalkyne_classes_follow_the_known_rings(value, expected):
     assert judge(accurate("cycloalkyne", value)).stability == expected
 
 
-@pytest.mark.parametrize("value,needs_trap", [
-    # Source: docs/sources.md, "Strain" — 1,2-cyclohexadiene (about 30) only by trapping.
-    (30.0, True), (31.4, True),
-])
+@pytest.mark.parametrize(
+    "value,needs_trap",
+    [
+        # Source: docs/sources.md, "Strain" — 1,2-cyclohexadiene (about 30) only by trapping.
+        (30.0, True),
+        (31.4, True),
+    ],
+)
 def test_cyclohexadiene_needs_a_trap(value, needs_trap):
     j = judge(accurate("cyclic allene", value))
     assert j.needs_trap is needs_trap and j.stability == "trapping only"

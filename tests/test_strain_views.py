@@ -32,8 +32,11 @@ def _run(title: str, intermediate: str | None, trap: bool, temperature: str = "2
     if trap:
         lines.append({"role": "trap", "name": "furan", "smiles": "c1ccoc1", "equiv": 10, "density": "0.951 g/mL"})
         first.append("furan")
-    run = {"title": title, "lines": lines,
-           "steps": [{"add": first, "temperature": "23 °C"}, {"add": ["CsF"], "temperature": temperature, "hold": "1 h"}]}
+    run = {
+        "title": title,
+        "lines": lines,
+        "steps": [{"add": first, "temperature": "23 °C"}, {"add": ["CsF"], "temperature": temperature, "hold": "1 h"}],
+    }
     if intermediate:
         run["intermediate"] = intermediate
     return run
@@ -149,7 +152,7 @@ def test_run_report_names_the_intermediate_and_how_it_was_found(two_kinds):
     path, aryne_id, _, _ = two_kinds
     with Notebook.open(path) as nb:
         page = reports.run_report_html(nb, aryne_id)
-    strain = page[page.index("<h2>Strain</h2>"):]
+    strain = page[page.index("<h2>Strain</h2>") :]
     assert f"<code>{_smiles(BENZYNE)}</code>" in strain  # derived: the run file names no intermediate
     assert "derived from the precursor" in strain and KOBAYASHI in strain
     assert "aryne strain" in strain and "trapping only" in strain and "OS " not in strain

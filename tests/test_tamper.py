@@ -53,12 +53,14 @@ def template(tmp_path_factory):
 
     path = tmp_path_factory.mktemp("tamper") / "template.sqlite"
     with Notebook.create(path) as nb:
-        nb.add_run(MINIMAL_RUN, author="A. Trial")                       # TB-0001
-        y = nb.add_run(_with_yield(MINIMAL_RUN), author="A. Trial")      # TB-0002
-        nb.add_run(_trap_late(MINIMAL_RUN), author="B. Trial")           # TB-0003
+        nb.add_run(MINIMAL_RUN, author="A. Trial")  # TB-0001
+        y = nb.add_run(_with_yield(MINIMAL_RUN), author="A. Trial")  # TB-0002
+        nb.add_run(_trap_late(MINIMAL_RUN), author="B. Trial")  # TB-0003
         edited = nb.get_run(y.run_id).model_copy(update={"notes": "weighed again after drying"})
         nb.save_run(edited, 1, author="A. Trial", reason="second weighing")
-        nb.add_screen({"name": "trap screen", "factors": {"trap": ["furan", "2-methylfuran"]}, "runs": ["TB-0001"]}, author="A. Trial")
+        nb.add_screen(
+            {"name": "trap screen", "factors": {"trap": ["furan", "2-methylfuran"]}, "runs": ["TB-0001"]}, author="A. Trial"
+        )
         update_check_settings(nb, ["trap_min_equiv=5"], author="A. Trial", reason="our lab's minimum")
         nb.cache_put(_CACHE_KEY, "C1=CC=CC=C1", "accurate", "test-engine", {"tier": "accurate", "strain_kcal_mol": 26.7})
     rep = integrity.verify_path(path)
@@ -83,8 +85,10 @@ def edit_version_data(c):
 
 
 def edit_version_hash(c):
-    c.execute("UPDATE versions SET hash = (CASE WHEN substr(hash, 1, 1) = '0' THEN '1' ELSE '0' END) || substr(hash, 2) "
-              "WHERE run_id = 'TB-0002' AND version = 1")
+    c.execute(
+        "UPDATE versions SET hash = (CASE WHEN substr(hash, 1, 1) = '0' THEN '1' ELSE '0' END) || substr(hash, 2) "
+        "WHERE run_id = 'TB-0002' AND version = 1"
+    )
 
 
 def edit_version_author(c):
@@ -109,8 +113,13 @@ def remove_newest_version_and_roll_back(c):
 def delete_whole_run(c):
     n = c.execute("SELECT n FROM search_state WHERE run_id = 'TB-0003'").fetchone()[0]
     c.execute("DELETE FROM run_text WHERE rowid = ?", (n,))
-    for table, key in (("runs", "id"), ("versions", "run_id"), ("run_index", "run_id"), ("run_structures", "run_id"),
-                       ("search_state", "run_id")):
+    for table, key in (
+        ("runs", "id"),
+        ("versions", "run_id"),
+        ("run_index", "run_id"),
+        ("run_structures", "run_id"),
+        ("search_state", "run_id"),
+    ):
         c.execute(f"DELETE FROM {table} WHERE {key} = 'TB-0003'")
 
 
@@ -216,8 +225,11 @@ def delete_a_middle_save_entry(c):
 def insert_an_extra_version(c):
     """A version added by hand at the end of a chain, linked correctly but hashed with a guess."""
     last = c.execute("SELECT hash, data FROM versions WHERE run_id = 'TB-0001' AND version = 1").fetchone()
-    c.execute("INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) "
-              "VALUES ('TB-0001', 2, 'x', '2026-01-01T00:00:00+00:00', 'x', 'edit', ?, ?, ?)", (last[0], "f" * 64, last[1]))
+    c.execute(
+        "INSERT INTO versions (run_id, version, author, time, reason, action, prev_hash, hash, data) "
+        "VALUES ('TB-0001', 2, 'x', '2026-01-01T00:00:00+00:00', 'x', 'edit', ?, ?, ?)",
+        (last[0], "f" * 64, last[1]),
+    )
     c.execute("UPDATE runs SET version = 2, hash = ? WHERE id = 'TB-0001'", ("f" * 64,))
 
 
@@ -316,8 +328,9 @@ def test_the_documented_limit_a_rewrite_with_the_tools_own_code_is_not_caught(te
 
     path = _copy(template, tmp_path)
     conn = sqlite3.connect(path)
-    row = conn.execute("SELECT run_id, version, author, time, reason, action, prev_hash, data FROM versions "
-                       "WHERE run_id = 'TB-0001'").fetchone()
+    row = conn.execute(
+        "SELECT run_id, version, author, time, reason, action, prev_hash, data FROM versions WHERE run_id = 'TB-0001'"
+    ).fetchone()
     data = row[7].replace("Furan trap", "Furan trap (rewritten)")
     h = version_hash(*row[:7], data)
     conn.execute("UPDATE versions SET data = ?, hash = ? WHERE run_id = 'TB-0001'", (data, h))
@@ -397,8 +410,11 @@ def test_a_new_alignment_result_rejudges_the_runs_so_verify_stays_clean(tmp_path
     from trapbook.strain_link import get_alignment, run_temperature_c
 
     # a stand-in result in the engine's own shape: the check reads only the verdict and the angle
-    monkeypatch.setattr(alignment, "precursor_alignment",
-                        lambda smiles, temperature_c=25.0: {"verdict": "poor alignment", "weighted_dihedral_deg": 95.0})
+    monkeypatch.setattr(
+        alignment,
+        "precursor_alignment",
+        lambda smiles, temperature_c=25.0: {"verdict": "poor alignment", "weighted_dihedral_deg": 95.0},
+    )
     path = tmp_path / "nb.sqlite"
     with Notebook.create(path) as nb:
         rid = nb.add_run(MINIMAL_RUN, author="A. Trial").run_id

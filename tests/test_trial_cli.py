@@ -85,7 +85,7 @@ def test_absurd_amounts_still_fit_the_table(cli, tmp_path, minimal_run):
     assert res.exit_code == 0, res.output
     rows = res.stdout.splitlines()
     width = len(rows[0])
-    table = rows[2:rows.index("")]
+    table = rows[2 : rows.index("")]
     assert table and all(len(r) <= width for r in table), table
 
 

@@ -158,11 +158,16 @@ def test_history_says_an_added_outcome_field_by_field():
     from trapbook.store import diff_runs
 
     old = {"title": "a"}
-    new = {"title": "a", "outcome": {"products": [{"product": "adduct", "isolated_mass": {"value": 21.0, "unit": "mg"}, "dr": "3:1"}],
-                                    "observations": "white solid"}}
+    new = {
+        "title": "a",
+        "outcome": {
+            "products": [{"product": "adduct", "isolated_mass": {"value": 21.0, "unit": "mg"}, "dr": "3:1"}],
+            "observations": "white solid",
+        },
+    }
     changes = diff_runs(old, new)
     assert "outcome.products[adduct].isolated_mass: added 21 mg" in changes
-    assert "outcome.products[adduct].dr: added \"3:1\"" in changes
+    assert 'outcome.products[adduct].dr: added "3:1"' in changes
     assert not any("{" in c for c in changes)  # no raw JSON objects
 
 

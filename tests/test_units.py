@@ -113,21 +113,24 @@ def test_mol_percent_is_stored_as_written():
     assert to_canonical(parse_quantity(stored, "equiv"), "equiv") == pytest.approx(0.05)
 
 
-@pytest.mark.parametrize("value,kind,needle", [
-    ("1e308 mg", "mass", "too large"),
-    ("1e308 g", "mass", "too large"),  # finite as typed, infinite in mg
-    (1e308, "equiv", "too large"),
-    ("1" * 400 + " mg", "mass", "finite"),
-    ({"value": 10**400, "unit": "mg"}, "mass", "finite"),
-    ("5e-324 mg", "mass", "too small"),  # a subnormal float
-    ("1e-400 mg", "mass", "too small"),  # underflows to 0 when read
-    (float("inf"), "equiv", "finite"),
-    (float("nan"), "fraction", "finite"),
-    ("inf mmol", "amount", ""),
-    ("3000 °C", "temperature", "outside"),
-    ("200 M", "molarity", "too large"),
-    ("50 g/mL", "density", "too large"),
-])
+@pytest.mark.parametrize(
+    "value,kind,needle",
+    [
+        ("1e308 mg", "mass", "too large"),
+        ("1e308 g", "mass", "too large"),  # finite as typed, infinite in mg
+        (1e308, "equiv", "too large"),
+        ("1" * 400 + " mg", "mass", "finite"),
+        ({"value": 10**400, "unit": "mg"}, "mass", "finite"),
+        ("5e-324 mg", "mass", "too small"),  # a subnormal float
+        ("1e-400 mg", "mass", "too small"),  # underflows to 0 when read
+        (float("inf"), "equiv", "finite"),
+        (float("nan"), "fraction", "finite"),
+        ("inf mmol", "amount", ""),
+        ("3000 °C", "temperature", "outside"),
+        ("200 M", "molarity", "too large"),
+        ("50 g/mL", "density", "too large"),
+    ],
+)
 def test_absurd_values_are_refused_with_the_field_named(value, kind, needle):
     with pytest.raises(UnitError) as err:
         parse_quantity(value, kind, field="the field")
@@ -138,8 +141,15 @@ def test_absurd_values_are_refused_with_the_field_named(value, kind, needle):
 
 def test_bench_scale_extremes_are_still_accepted():
     # common practice, no source: 1 µg and 5 kg, 0.1 µL and 20 L, a week, liquid-nitrogen cold
-    for text, kind in [("1 ug", "mass"), ("5 kg", "mass"), ("0.1 uL", "volume"), ("20 L", "volume"),
-                       ("7 d", "duration"), ("-196 °C", "temperature"), ("0.001 mol%", "equiv")]:
+    for text, kind in [
+        ("1 ug", "mass"),
+        ("5 kg", "mass"),
+        ("0.1 uL", "volume"),
+        ("20 L", "volume"),
+        ("7 d", "duration"),
+        ("-196 °C", "temperature"),
+        ("0.001 mol%", "equiv"),
+    ]:
         parse_quantity(text, kind)
 
 

@@ -127,13 +127,21 @@ def test_editing_a_result_in_the_workbench_keeps_the_characterisation():
     """A form that does not show a recorded field must not drop it (the record is the chemist's)."""
     from trapbook.tui.outcome_form import PRODUCT_FIELDS, product_entry
 
-    old = {"product": "furan adduct", "isolated_mass": "11.8 mg", "appearance": "colourless oil", "rf": 0.42,
-           "nmr_text": "1H NMR δ 6.3", "hrms": {"ion": "[M+Na]+", "found_mz": 213.1250}}
+    old = {
+        "product": "furan adduct",
+        "isolated_mass": "11.8 mg",
+        "appearance": "colourless oil",
+        "rf": 0.42,
+        "nmr_text": "1H NMR δ 6.3",
+        "hrms": {"ion": "[M+Na]+", "found_mz": 213.1250},
+    }
     values = {k: "" for k, *_ in PRODUCT_FIELDS}
     values.update(product="furan adduct", isolated_mass="12.0 mg")
     entry, problem = product_entry(values, ["furan adduct"], [old], 0)
     assert problem is None and entry["isolated_mass"] == "12.0 mg"
-    assert {k: entry[k] for k in ("appearance", "rf", "nmr_text", "hrms")} == {k: old[k] for k in ("appearance", "rf", "nmr_text", "hrms")}
+    assert {k: entry[k] for k in ("appearance", "rf", "nmr_text", "hrms")} == {
+        k: old[k] for k in ("appearance", "rf", "nmr_text", "hrms")
+    }
 
 
 def test_a_solvent_weighed_without_its_density_is_refused_not_dropped_from_the_volume():

@@ -128,7 +128,7 @@ def refuse_solid_by_volume(line: Line) -> None:
             f"line '{line.name}' is given by volume ({vol}) with no density or molarity, but {why}: "
             "a volume of solid cannot be turned into an amount, and would be counted as liquid",
             "give its mass or amount; if it went in as a stock solution, give the solution's molarity "
-            "(e.g. \"molarity\": \"1.0 M\"); if it really is a liquid, give its density",
+            '(e.g. "molarity": "1.0 M"); if it really is a liquid, give its density',
             field="volume",
         )
 
@@ -147,7 +147,7 @@ def limiting_line(run: Run) -> Line:
         return precursors[0]
     raise RecordError(
         "the run has no precursor line and no line marked limiting",
-        "add a precursor line, or set \"limiting\": true on the line the equiv refer to",
+        'add a precursor line, or set "limiting": true on the line the equiv refer to',
     )
 
 
@@ -221,8 +221,11 @@ def as_weighed(line: Line) -> Line:
 
     kind = measured_kind(line.actual)
     if line.role == "solvent" and kind != "volume" and line.density is None:
-        raise RecordError(f"solvent '{line.name}' records a weighed {kind}, but the run's concentration needs its volume",
-                          "record the volume measured, or give the solvent's density", field="actual")
+        raise RecordError(
+            f"solvent '{line.name}' records a weighed {kind}, but the run's concentration needs its volume",
+            "record the volume measured, or give the solvent's density",
+            field="actual",
+        )
     cleared = dict.fromkeys(AMOUNT_FIELDS)
     return line.model_copy(update={**cleared, kind: line.actual})
 
@@ -369,7 +372,9 @@ def product_yields(run: Run, table: AmountTable | None = None) -> list[ProductYi
             py.isolated_yield_pct = 100.0 * py.isolated_mmol / theo
         if res.qnmr is not None:
             n_is = standard_mmol(run, table, res.qnmr)
-            py.nmr_mmol = nmr_mmol(n_is, res.qnmr.integral, res.qnmr.protons, res.qnmr.standard_integral, res.qnmr.standard_protons)
+            py.nmr_mmol = nmr_mmol(
+                n_is, res.qnmr.integral, res.qnmr.protons, res.qnmr.standard_integral, res.qnmr.standard_protons
+            )
             py.nmr_yield_pct = 100.0 * py.nmr_mmol / theo
         if res.dr:
             py.dr, py.dr_major_fraction = normalise_ratio(res.dr)
@@ -389,7 +394,9 @@ def headline_product(yields: list[ProductYield]) -> ProductYield | None:
     """The product that stands for the run: the highest headline (isolated, else NMR) yield."""
     best: ProductYield | None = None
     for y in yields:
-        if best is None or (y.best_yield_pct is not None and (best.best_yield_pct is None or y.best_yield_pct > best.best_yield_pct)):
+        if best is None or (
+            y.best_yield_pct is not None and (best.best_yield_pct is None or y.best_yield_pct > best.best_yield_pct)
+        ):
             best = y
     return best
 

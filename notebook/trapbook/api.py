@@ -21,8 +21,9 @@ from __future__ import annotations
 
 import importlib
 import os
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 from .errors import RecordError
 
@@ -45,7 +46,8 @@ def open_notebook(path: str | os.PathLike | None = None, create: bool = False):
 
 def load_run(data: Any):
     """A validated `Run` from a dict, JSON text or the path of a run file."""
-    from .records import Run, load_run as _load, load_run_text
+    from .records import Run, load_run_text
+    from .records import load_run as _load
 
     if isinstance(data, Run) or isinstance(data, dict):
         return _load(data)
@@ -113,7 +115,9 @@ def find_runs(nb, query: str = "", **options) -> list:
     from .search_query import parse_query
 
     if query and options:
-        raise RecordError("give a query text or search options, not both", "e.g. find_runs(nb, 'trap:furan') or find_runs(nb, trap='furan')")
+        raise RecordError(
+            "give a query text or search options, not both", "e.g. find_runs(nb, 'trap:furan') or find_runs(nb, trap='furan')"
+        )
     return search(nb, parse_query(query)) if query else search(nb, **options)
 
 
@@ -169,5 +173,23 @@ def backup(nb_or_path, dest: str | os.PathLike) -> dict:
     return _backup.backup(getattr(nb_or_path, "path", nb_or_path), dest)
 
 
-__all__ = ["open_notebook", "load_run", "add_run", "save_run", "get_run", "list_runs", "amounts", "yields", "checks",
-           "strain", "find_runs", "review_screen", "open_group", "verify", "attach", "export", "import_file", "backup"]
+__all__ = [
+    "open_notebook",
+    "load_run",
+    "add_run",
+    "save_run",
+    "get_run",
+    "list_runs",
+    "amounts",
+    "yields",
+    "checks",
+    "strain",
+    "find_runs",
+    "review_screen",
+    "open_group",
+    "verify",
+    "attach",
+    "export",
+    "import_file",
+    "backup",
+]

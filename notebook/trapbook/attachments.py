@@ -70,14 +70,18 @@ def put_file(root: Path, src: Path) -> Stored:
     except OSError as exc:
         raise StoreError(f"cannot read {src}: {exc.strerror}", "check the file's permissions") from None
     if size > MAX_BYTES:
-        raise RecordError(f"{src.name} is {size / 2**30:.1f} GB, over the {MAX_BYTES // 2**30} GB limit for an attachment",
-                          "keep the raw data elsewhere and attach a processed or zipped copy")
+        raise RecordError(
+            f"{src.name} is {size / 2**30:.1f} GB, over the {MAX_BYTES // 2**30} GB limit for an attachment",
+            "keep the raw data elsewhere and attach a processed or zipped copy",
+        )
     tmpdir = root / "tmp"
     try:
         tmpdir.mkdir(parents=True, exist_ok=True)
         fd, tmpname = tempfile.mkstemp(dir=tmpdir, prefix="incoming-")
     except OSError as exc:
-        raise StoreError(f"cannot write the attachment store {root}: {exc.strerror}", "check the folder beside the notebook is writable") from None
+        raise StoreError(
+            f"cannot write the attachment store {root}: {exc.strerror}", "check the folder beside the notebook is writable"
+        ) from None
     tmp = Path(tmpname)
     h = hashlib.sha256()
     n = 0
@@ -103,7 +107,9 @@ def put_file(root: Path, src: Path) -> Stored:
         os.replace(tmp, dest)
         return Stored(digest, n, dest, True)
     except OSError as exc:
-        raise StoreError(f"cannot copy {src.name} into the attachment store: {exc.strerror}", "check free space and permissions") from None
+        raise StoreError(
+            f"cannot copy {src.name} into the attachment store: {exc.strerror}", "check free space and permissions"
+        ) from None
     finally:
         if tmp.exists():
             try:
@@ -123,8 +129,9 @@ def safe_name(name: str) -> str:
     return base[:200] or "attachment"
 
 
-def attach(nb, run_id: str, file: str | os.PathLike, author: str | None = None, reason: str | None = None,
-           name: str | None = None) -> dict:
+def attach(
+    nb, run_id: str, file: str | os.PathLike, author: str | None = None, reason: str | None = None, name: str | None = None
+) -> dict:
     """Copy `file` into the store and record it in a new version of the run."""
     from .records import Attachment
 
@@ -136,12 +143,24 @@ def attach(nb, run_id: str, file: str | os.PathLike, author: str | None = None, 
     run = nb.get_run(run_id)
     if any(a.sha256 == stored.sha256 and a.name == fname for a in run.attachments):
         raise RecordError(f"{fname} (sha256 {stored.sha256[:12]}…) is already attached to {run_id}", "nothing was changed")
-    att = Attachment(name=fname, sha256=stored.sha256, size=stored.size, media_type=media_type,
-                     added=_dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"))
+    att = Attachment(
+        name=fname,
+        sha256=stored.sha256,
+        size=stored.size,
+        media_type=media_type,
+        added=_dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
+    )
     run = run.model_copy(update={"attachments": [*run.attachments, att]})
     res = nb.save_run(run, meta["version"], author=author, reason=reason or f"attached {fname}")
-    return {"run_id": res.run_id, "version": res.version, "name": fname, "sha256": stored.sha256, "size": stored.size,
-            "media_type": media_type, "stored_new": stored.new}
+    return {
+        "run_id": res.run_id,
+        "version": res.version,
+        "name": fname,
+        "sha256": stored.sha256,
+        "size": stored.size,
+        "media_type": media_type,
+        "stored_new": stored.new,
+    }
 
 
 def require_stored(nb, run, previous=None) -> None:
@@ -163,12 +182,17 @@ def require_stored(nb, run, previous=None) -> None:
         except OSError:
             size = None
         if size is None or size != att.size:
-            what = "is not in this notebook's attachment store" if size is None else f"is {size} bytes in the store, the record says {att.size}"
+            what = (
+                "is not in this notebook's attachment store"
+                if size is None
+                else f"is {size} bytes in the store, the record says {att.size}"
+            )
             raise RecordError(
                 f"run {run.id or run.title!r}: attachment {att.name} (sha256 {att.sha256[:12]}…) {what}; "
                 "a record cannot name a file the notebook does not hold",
                 "attach the file itself with 'trapbook attach RUN FILE' (or import an RO-Crate, which carries the files), "
-                "or drop the attachment record; nothing was saved")
+                "or drop the attachment record; nothing was saved",
+            )
 
 
 def read_verified(root: Path, sha256: str, expected_size: int | None = None) -> bytes:
@@ -179,8 +203,10 @@ def read_verified(root: Path, sha256: str, expected_size: int | None = None) -> 
     data = path.read_bytes()
     have = hashlib.sha256(data).hexdigest()
     if have != sha256 or (expected_size is not None and len(data) != expected_size):
-        raise StoreError(f"attachment {sha256[:12]}… has changed on disk (its bytes no longer match their SHA-256)",
-                         "restore it from a backup; 'trapbook verify' lists every damaged file")
+        raise StoreError(
+            f"attachment {sha256[:12]}… has changed on disk (its bytes no longer match their SHA-256)",
+            "restore it from a backup; 'trapbook verify' lists every damaged file",
+        )
     return data
 
 
@@ -211,8 +237,14 @@ def export_file(nb, run_id: str, sha_or_name: str, dest: str | os.PathLike) -> P
     out as recorded is deleted again and reported, never left behind as if good.
     """
     run = nb.get_run(run_id)
-    att = next((a for a in run.attachments if a.sha256 == sha_or_name or a.sha256.startswith(sha_or_name) and len(sha_or_name) >= 8
-                or a.name == sha_or_name), None)
+    att = next(
+        (
+            a
+            for a in run.attachments
+            if a.sha256 == sha_or_name or a.sha256.startswith(sha_or_name) and len(sha_or_name) >= 8 or a.name == sha_or_name
+        ),
+        None,
+    )
     if att is None:
         raise NotFoundError(f"run {run_id} has no attachment '{sha_or_name}'", "list them with 'trapbook show RUN --json'")
     root = store_dir(nb)
@@ -223,7 +255,9 @@ def export_file(nb, run_id: str, sha_or_name: str, dest: str | os.PathLike) -> P
     try:
         fh = open(out, "xb")  # never overwrite, even if the name appears meanwhile
     except OSError as exc:
-        raise RecordError(f"cannot write {out}: {exc.strerror}", "choose a folder that exists and that you can write to") from None
+        raise RecordError(
+            f"cannot write {out}: {exc.strerror}", "choose a folder that exists and that you can write to"
+        ) from None
     try:
         with fh, src.open("rb") as inp:
             digest, size = _stream_hashed(inp, fh)
@@ -232,8 +266,10 @@ def export_file(nb, run_id: str, sha_or_name: str, dest: str | os.PathLike) -> P
         raise RecordError(f"cannot write {out}: {exc.strerror}", "check free space, then try again") from None
     if digest != att.sha256 or size != att.size:
         out.unlink(missing_ok=True)
-        raise StoreError(f"attachment {att.sha256[:12]}… has changed on disk (its bytes no longer match their SHA-256); "
-                         "no copy was written", "restore it from a backup; 'trapbook verify' lists every damaged file")
+        raise StoreError(
+            f"attachment {att.sha256[:12]}… has changed on disk (its bytes no longer match their SHA-256); no copy was written",
+            "restore it from a backup; 'trapbook verify' lists every damaged file",
+        )
     return out
 
 
@@ -263,4 +299,15 @@ def _stream_hashed(inp, out) -> tuple[str, int]:
     return h.hexdigest(), n
 
 
-__all__ = ["attach", "store_dir", "blob_path", "put_file", "read_verified", "check_blob", "export_file", "sha256_of", "safe_name", "require_stored"]
+__all__ = [
+    "attach",
+    "store_dir",
+    "blob_path",
+    "put_file",
+    "read_verified",
+    "check_blob",
+    "export_file",
+    "sha256_of",
+    "safe_name",
+    "require_stored",
+]

@@ -93,8 +93,7 @@ def backup(nb_path: str | os.PathLike, dest: str | os.PathLike) -> dict:
     _copy_db(src, out)
     files = _copy_files(attachments.store_dir(src), attachments.store_dir(out))
     problems = _damage(integrity.verify_path(out))
-    return {"path": str(out), "files_copied": files, "verified": not problems,
-            "problems": [p.to_dict() for p in problems]}
+    return {"path": str(out), "files_copied": files, "verified": not problems, "problems": [p.to_dict() for p in problems]}
 
 
 def _refuse_newer(path: Path, what: str) -> None:
@@ -131,8 +130,10 @@ def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = Fal
     damage = _damage(integrity.verify_path(src_p))
     if damage and not force:
         first = damage[0]
-        raise StoreError(f"the backup {src_p.name} does not pass verify ({len(damage)} problem(s), first: "
-                         f"{first.record}: {first.message})", "run 'trapbook verify --db BACKUP' to see them; nothing was changed")
+        raise StoreError(
+            f"the backup {src_p.name} does not pass verify ({len(damage)} problem(s), first: {first.record}: {first.message})",
+            "run 'trapbook verify --db BACKUP' to see them; nothing was changed",
+        )
     kept = None
     if tgt.exists():
         kept = tgt.with_name(f"{tgt.stem}.before-restore-{_stamp()}{tgt.suffix or '.sqlite'}")
@@ -151,12 +152,20 @@ def restore(src: str | os.PathLike, target: str | os.PathLike, force: bool = Fal
             d.close()
             s.close()
     except sqlite3.DatabaseError as exc:
-        raise StoreError(f"cannot restore into {tgt}: {exc}", f"the earlier notebook is kept at {kept}" if kept else "check the path") from None
+        raise StoreError(
+            f"cannot restore into {tgt}: {exc}", f"the earlier notebook is kept at {kept}" if kept else "check the path"
+        ) from None
     files = _copy_files(attachments.store_dir(src_p), attachments.store_dir(tgt))
     _bring_up_to_date(tgt)
     after = integrity.verify_path(tgt)
-    return {"path": str(tgt), "from": str(src_p), "previous_kept_at": str(kept) if kept else None,
-            "files_copied": files, "verified": after.ok, "problems": [p.to_dict() for p in after.problems]}
+    return {
+        "path": str(tgt),
+        "from": str(src_p),
+        "previous_kept_at": str(kept) if kept else None,
+        "files_copied": files,
+        "verified": after.ok,
+        "problems": [p.to_dict() for p in after.problems],
+    }
 
 
 def _bring_up_to_date(path: Path) -> None:

@@ -47,12 +47,16 @@ class BenchWords:
     def __post_init__(self) -> None:
         lo, hi = ROOM_TEMPERATURE_RANGE_C
         if not lo <= self.room_temperature_c <= hi:
-            raise TrapbookError(f"room temperature {self.room_temperature_c:g} °C is outside {lo:g} to {hi:g} °C",
-                                "set the lab's room temperature in °C, e.g. 22")
+            raise TrapbookError(
+                f"room temperature {self.room_temperature_c:g} °C is outside {lo:g} to {hi:g} °C",
+                "set the lab's room temperature in °C, e.g. 22",
+            )
         lo, hi = OVERNIGHT_RANGE_H
         if not lo <= self.overnight_h <= hi:
-            raise TrapbookError(f"overnight of {self.overnight_h:g} h is outside {lo:g} to {hi:g} h",
-                                "set how many hours the lab means by overnight, e.g. 16")
+            raise TrapbookError(
+                f"overnight of {self.overnight_h:g} h is outside {lo:g} to {hi:g} h",
+                "set how many hours the lab means by overnight, e.g. 16",
+            )
 
     @classmethod
     def from_context(cls, context: Any) -> BenchWords:
@@ -76,8 +80,18 @@ class Reflux:
 
 def run_reflux(lines: Any) -> Reflux:
     """The reflux temperature of a run from its solvent lines (raw run-file dicts)."""
-    solvents = [ln for ln in lines if isinstance(ln, dict) and isinstance(ln.get("role"), str)
-                and ln["role"].strip().lower() == "solvent" and isinstance(ln.get("name"), str)] if isinstance(lines, list) else []
+    solvents = (
+        [
+            ln
+            for ln in lines
+            if isinstance(ln, dict)
+            and isinstance(ln.get("role"), str)
+            and ln["role"].strip().lower() == "solvent"
+            and isinstance(ln.get("name"), str)
+        ]
+        if isinstance(lines, list)
+        else []
+    )
     if not solvents:
         return Reflux(None, "", "the run has no solvent line, so its reflux temperature is not known")
     from . import materials  # materials data (and RDKit behind it) only when reflux is written
@@ -118,15 +132,14 @@ def _term(text: str, words: BenchWords, reflux: Reflux | None, field: str):
             return q, f"reflux: {m.group('value')} as written", True
         if reflux is None or reflux.bp_c is None:
             why = reflux.problem if reflux is not None else "reflux needs the run's solvent to know its boiling point"
-            raise ValueError(f"{field} '{shown_input(text, 40)}': {why}; write the temperature, "
-                             "e.g. 'reflux (66 °C)' or '66 °C'")
+            raise ValueError(f"{field} '{shown_input(text, 40)}': {why}; write the temperature, e.g. 'reflux (66 °C)' or '66 °C'")
         return Q_(reflux.bp_c, "degC"), reflux.basis, True
     return parse_quantity(text, "temperature", field), None, False
 
 
 def _unit_of(text: str) -> str:
     m = _BARE_NUMBER.match(text.strip())
-    return text.strip()[m.end():].strip() if m else ""
+    return text.strip()[m.end() :].strip() if m else ""
 
 
 def read_temperature(text: str, words: BenchWords, reflux: Reflux | None) -> dict | None:
@@ -138,8 +151,10 @@ def read_temperature(text: str, words: BenchWords, reflux: Reflux | None) -> dic
     text = text.strip()
     parts = _RAMP.split(text)
     if len(parts) > 2:
-        raise ValueError(f"temperature '{shown_input(text, 40)}' has more than two ends; "
-                         "split it into steps, one ramp (e.g. '0 °C to rt') per step")
+        raise ValueError(
+            f"temperature '{shown_input(text, 40)}' has more than two ends; "
+            "split it into steps, one ramp (e.g. '0 °C to rt') per step"
+        )
     if len(parts) == 1:
         if not re.fullmatch(f"(?:{_RT}|{_REFLUX})(?:{_EXPLICIT})?", text, re.I):
             return None  # one plain value: the field's own parser reads it
@@ -151,8 +166,12 @@ def read_temperature(text: str, words: BenchWords, reflux: Reflux | None) -> dic
     q0, basis0, _ = _term(start, words, reflux, "temperature (start of the ramp)")
     q1, basis1, _ = _term(end, words, reflux, "temperature (end of the ramp)")
     basis = "; ".join(b for b in (basis0, basis1) if b) or None
-    return {"temperature": dump_quantity(q0), "temperature_end": dump_quantity(q1),
-            "temperature_written": text, "temperature_basis": basis}
+    return {
+        "temperature": dump_quantity(q0),
+        "temperature_end": dump_quantity(q1),
+        "temperature_written": text,
+        "temperature_basis": basis,
+    }
 
 
 def read_hold(text: str, words: BenchWords) -> dict | None:
@@ -166,8 +185,7 @@ def read_hold(text: str, words: BenchWords) -> dict | None:
 def expand_step(data: dict, words: BenchWords, reflux: Reflux | None) -> dict:
     """A step as written -> the same step with its words kept and their numbers filled in."""
     out = dict(data)
-    for key, reader in (("temperature", lambda t: read_temperature(t, words, reflux)),
-                        ("hold", lambda t: read_hold(t, words))):
+    for key, reader in (("temperature", lambda t: read_temperature(t, words, reflux)), ("hold", lambda t: read_hold(t, words))):
         value = out.get(key)
         if not isinstance(value, str):
             continue
@@ -179,8 +197,10 @@ def expand_step(data: dict, words: BenchWords, reflux: Reflux | None) -> dict:
             continue
         given = [k for k in out if k.startswith(key + "_") and out.get(k) is not None]
         if given:
-            raise ValueError(f"{key} '{shown_input(value, 40)}' is written in words and {', '.join(given)} is "
-                             "given too; give the words alone (Trapbook fills in the rest)")
+            raise ValueError(
+                f"{key} '{shown_input(value, 40)}' is written in words and {', '.join(given)} is "
+                "given too; give the words alone (Trapbook fills in the rest)"
+            )
         out.update(fields)
     return out
 

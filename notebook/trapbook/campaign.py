@@ -51,8 +51,14 @@ class Task:
         return f"{self.what}-{digest}"
 
 
-def plan(source: str, tier: str = "fast", kinds: tuple[str, ...] = ("bridgehead",),
-         leaving_groups: tuple[str, ...] = ("OTf",), precursors: bool = True, lines: list[str] | None = None) -> dict:
+def plan(
+    source: str,
+    tier: str = "fast",
+    kinds: tuple[str, ...] = ("bridgehead",),
+    leaving_groups: tuple[str, ...] = ("OTf",),
+    precursors: bool = True,
+    lines: list[str] | None = None,
+) -> dict:
     """The campaign's candidates and their precursors; `lines` (a file's lines) take the place
     of enumerating the skeleton `source`."""
     from .chemistry import enumerate as en
@@ -65,8 +71,10 @@ def plan(source: str, tier: str = "fast", kinds: tuple[str, ...] = ("bridgehead"
     if lines is None:
         cands = en.intermediates_of_skeleton(source, tuple(en.KIND_WORDS[k] for k in kinds))
         if not cands:
-            raise ChemistryError(f"the skeleton {source} holds no bridgehead alkene" + (", allene or alkyne" if len(kinds) > 1 else ""),
-                                 "give a bridged polycycle (e.g. C1CC2CCCC(C1)C2), or add --kinds allene,alkyne")
+            raise ChemistryError(
+                f"the skeleton {source} holds no bridgehead alkene" + (", allene or alkyne" if len(kinds) > 1 else ""),
+                "give a bridged polycycle (e.g. C1CC2CCCC(C1)C2), or add --kinds allene,alkyne",
+            )
     else:
         cands = en.candidates_from_lines(lines)
         if not cands:
@@ -76,20 +84,35 @@ def plan(source: str, tier: str = "fast", kinds: tuple[str, ...] = ("bridgehead"
         row = cand.to_dict()
         row["precursors"] = []
         if precursors and cand.kind in en.KINDS + ("aryne",):
-            row["precursors"] = [{"smiles": p.smiles, "leaving_group": p.leaving_group,
-                                  "diastereomers": en.diastereomers_of(p.smiles)}
-                                 for p in en.precursors_of(cand.smiles, tuple(leaving_groups))]
+            row["precursors"] = [
+                {"smiles": p.smiles, "leaving_group": p.leaving_group, "diastereomers": en.diastereomers_of(p.smiles)}
+                for p in en.precursors_of(cand.smiles, tuple(leaving_groups))
+            ]
         rows.append(row)
-    record = {"source": source, "tier": tier, "kinds": list(kinds), "leaving_groups": list(leaving_groups),
-              "alignment_temperature_c": ALIGN_TEMPERATURE_C, "candidates": rows}
+    record = {
+        "source": source,
+        "tier": tier,
+        "kinds": list(kinds),
+        "leaving_groups": list(leaving_groups),
+        "alignment_temperature_c": ALIGN_TEMPERATURE_C,
+        "candidates": rows,
+    }
     record["id"] = campaign_id(record)
     return record
 
 
 def campaign_id(record: dict) -> str:
     """Same question, same id: the source, tier, kinds and leaving groups name a campaign."""
-    text = json.dumps([record["source"], record["tier"], record["kinds"], record["leaving_groups"],
-                       [c["smiles"] for c in record["candidates"]]], sort_keys=True)
+    text = json.dumps(
+        [
+            record["source"],
+            record["tier"],
+            record["kinds"],
+            record["leaving_groups"],
+            [c["smiles"] for c in record["candidates"]],
+        ],
+        sort_keys=True,
+    )
     return "CP-" + hashlib.sha256(text.encode()).hexdigest()[:8]
 
 
@@ -155,17 +178,23 @@ def open_client(scheduler: str | None = None, n_workers: int | None = None):
 
     if scheduler:
         if not SCHEDULER_ADDRESS.match(scheduler):
-            raise TrapbookError(f"{scheduler!r} is not a scheduler address",
-                                "write it as tcp://host:8786 (the address the Dask scheduler prints)",
-                                field="scheduler", got=scheduler[:80])
+            raise TrapbookError(
+                f"{scheduler!r} is not a scheduler address",
+                "write it as tcp://host:8786 (the address the Dask scheduler prints)",
+                field="scheduler",
+                got=scheduler[:80],
+            )
         try:
             return Client(scheduler, timeout="15s")
         except (OSError, TimeoutError) as exc:
-            raise TrapbookError(f"cannot reach the Dask scheduler at {scheduler} ({exc})",
-                                "check the address (tcp://host:8786) and that the scheduler is running") from None
+            raise TrapbookError(
+                f"cannot reach the Dask scheduler at {scheduler} ({exc})",
+                "check the address (tcp://host:8786) and that the scheduler is running",
+            ) from None
     workers = n_workers or os.cpu_count() or 1
-    cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=":0",
-                           silence_logs=logging.ERROR)
+    cluster = LocalCluster(
+        n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=":0", silence_logs=logging.ERROR
+    )
     client = Client(cluster)
     client._trapbook_cluster = cluster  # closed with the client (see close_client)
     return client
@@ -188,8 +217,11 @@ def stream_results(client, tasks: list[Task]):
         try:
             outcome = fut.result()
         except Exception as exc:  # noqa: BLE001 - a lost worker or a bug on it: recorded on the candidate
-            outcome = {"ok": False, "reason": f"the worker failed ({type(exc).__name__}: {exc})",
-                       "hint": "re-run the campaign: it computes only what is missing"}
+            outcome = {
+                "ok": False,
+                "reason": f"the worker failed ({type(exc).__name__}: {exc})",
+                "hint": "re-run the campaign: it computes only what is missing",
+            }
         fut.release()
         yield task, outcome
 
@@ -209,8 +241,15 @@ def store_outcome(nb, task: Task, outcome: dict) -> None:
         store_alignment(nb, task.smiles, outcome["result"], ALIGN_TEMPERATURE_C)
 
 
-def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int | None = None,
-                 progress: Progress | None = None, client=None, retry_failed: bool = False) -> dict:
+def run_campaign(
+    nb,
+    record: dict,
+    scheduler: str | None = None,
+    n_workers: int | None = None,
+    progress: Progress | None = None,
+    client=None,
+    retry_failed: bool = False,
+) -> dict:
     """Compute what the cache lacks, store each result as it arrives, and keep the campaign's record.
 
     A task that failed in an earlier run keeps its recorded reason and is not tried again
@@ -220,8 +259,15 @@ def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int 
     if nb is not None and nb.read_only:
         raise TrapbookError("this notebook is open read-only here", "run the campaign where the notebook can be written")
     tasks = tasks_of(record)
-    earlier = {} if retry_failed or nb is None else {
-        (f["what"], f["smiles"]): f for f in (load_record(nb, record["id"]) or {}).get("failed") or [] if f["what"] != "structure"}
+    earlier = (
+        {}
+        if retry_failed or nb is None
+        else {
+            (f["what"], f["smiles"]): f
+            for f in (load_record(nb, record["id"]) or {}).get("failed") or []
+            if f["what"] != "structure"
+        }
+    )
     missing = [t for t in tasks if cached(nb, t) is None]
     todo = [t for t in missing if (t.what, t.smiles) not in earlier]
     failed: list[dict] = [earlier[(t.what, t.smiles)] for t in missing if (t.what, t.smiles) in earlier]
@@ -238,15 +284,28 @@ def run_campaign(nb, record: dict, scheduler: str | None = None, n_workers: int 
                 store_outcome(nb, task, outcome)  # as each arrives: a stopped campaign keeps what it has
                 done += 1
             else:
-                failed.append({"candidate": task.candidate, "smiles": task.smiles, "what": task.what,
-                               "reason": outcome.get("reason"), "hint": outcome.get("hint")})
+                failed.append(
+                    {
+                        "candidate": task.candidate,
+                        "smiles": task.smiles,
+                        "what": task.what,
+                        "reason": outcome.get("reason"),
+                        "hint": outcome.get("hint"),
+                    }
+                )
             _tell(progress, done, len(failed), len(todo) - left)
     finally:
         if own:
             close_client(client)
     _save_record(nb, record, failed=failed)
-    return {"id": record["id"], "tasks": len(tasks), "computed": len(todo) - (len(failed) - kept_failed),
-            "from_cache": len(tasks) - len(missing), "kept_failed": kept_failed, "failed": failed}
+    return {
+        "id": record["id"],
+        "tasks": len(tasks),
+        "computed": len(todo) - (len(failed) - kept_failed),
+        "from_cache": len(tasks) - len(missing),
+        "kept_failed": kept_failed,
+        "failed": failed,
+    }
 
 
 def _tell(progress: Progress | None, done: int, failed: int, left: int) -> None:
@@ -262,8 +321,17 @@ def _save_record(nb, record: dict, failed: list[dict] | None) -> None:
     if nb is None:
         return
     value = dict(record)
-    unreadable = [{"candidate": c["name"], "smiles": c["smiles"], "what": "structure", "reason": c["origin"], "hint":
-                   "correct the SMILES in the file"} for c in record["candidates"] if c["kind"] == "unreadable"]
+    unreadable = [
+        {
+            "candidate": c["name"],
+            "smiles": c["smiles"],
+            "what": "structure",
+            "reason": c["origin"],
+            "hint": "correct the SMILES in the file",
+        }
+        for c in record["candidates"]
+        if c["kind"] == "unreadable"
+    ]
     if failed is None:
         value["failed"] = (load_record(nb, record["id"]) or {}).get("failed", unreadable)
     else:  # in a fixed order, so the same outcome is the same value
@@ -277,7 +345,7 @@ def load_record(nb, campaign: str) -> dict | None:
 
 def campaigns(nb) -> list[str]:
     rows = nb.conn.execute("SELECT key FROM settings WHERE key LIKE ?", (RECORD_PREFIX + "%",)).fetchall()
-    return sorted(r[0][len(RECORD_PREFIX):] for r in rows)
+    return sorted(r[0][len(RECORD_PREFIX) :] for r in rows)
 
 
 # ---------------------------------------------------------------- the map
@@ -304,8 +372,13 @@ def best_diastereomer(sides: list[dict]) -> dict | None:
         return (side.get("aligned_fraction") or 0.0, -(best["delta_kcal_mol"] if best else 1e9))
 
     top = max(sides, key=readiness)
-    return {"smiles": top.get("smiles"), "verdict": top.get("verdict_short"), "aligned_fraction": top.get("aligned_fraction"),
-            "dihedral_deg": top.get("dihedral_deg"), "diastereomers_judged": len(sides)}
+    return {
+        "smiles": top.get("smiles"),
+        "verdict": top.get("verdict_short"),
+        "aligned_fraction": top.get("aligned_fraction"),
+        "dihedral_deg": top.get("dihedral_deg"),
+        "diastereomers_judged": len(sides),
+    }
 
 
 def campaign_table(nb, record: dict) -> list[dict]:
@@ -318,25 +391,36 @@ def campaign_table(nb, record: dict) -> list[dict]:
         res = cached(nb, Task("strain", cand["smiles"], record["tier"], cand["name"])) if cand["kind"] != "unreadable" else None
         aligns = []
         for p in cand["precursors"]:
-            aligns += real_diastereomers([a for d in p["diastereomers"]
-                                          if (a := cached(nb, Task("alignment", d, "alignment", cand["name"])))])
+            aligns += real_diastereomers(
+                [a for d in p["diastereomers"] if (a := cached(nb, Task("alignment", d, "alignment", cand["name"])))]
+            )
         verdict = judge(res)
         problem = failed.get((cand["name"], "strain")) or failed.get((cand["name"], "structure"))
-        rows.append({
-            "name": cand["name"], "smiles": cand["smiles"], "kind": (res or {}).get("kind") or cand["kind"],
-            "s_value": (res or {}).get("s_value"), "trans_ring_size": (res or {}).get("trans_ring_size"),
-            "ring_size": (res or {}).get("ring_size"),
-            "strain_kcal_mol": (res or {}).get("strain_kcal_mol"), "strain_quantity": (res or {}).get("strain_quantity"),
-            "stability_class": verdict.stability if verdict else None,
-            "needs_trap": verdict.needs_trap if verdict else None,
-            "twist_deg": (res or {}).get("twist_deg"), "pyramidalization_deg": (res or {}).get("pyramidalization_deg"),
-            "tier": record["tier"], "status": "done" if res else ("failed" if problem else "not computed"),
-            "reason": problem["reason"] if problem else None,
-            "precursors": len(cand["precursors"]), "diastereomers_aligned": len(aligns),
-            "best_precursor": best_diastereomer(aligns),
-        })
-    rows.sort(key=lambda r: (r["strain_kcal_mol"] is None, r["strain_kcal_mol"] if r["strain_kcal_mol"] is not None else 0.0,
-                             r["name"]))
+        rows.append(
+            {
+                "name": cand["name"],
+                "smiles": cand["smiles"],
+                "kind": (res or {}).get("kind") or cand["kind"],
+                "s_value": (res or {}).get("s_value"),
+                "trans_ring_size": (res or {}).get("trans_ring_size"),
+                "ring_size": (res or {}).get("ring_size"),
+                "strain_kcal_mol": (res or {}).get("strain_kcal_mol"),
+                "strain_quantity": (res or {}).get("strain_quantity"),
+                "stability_class": verdict.stability if verdict else None,
+                "needs_trap": verdict.needs_trap if verdict else None,
+                "twist_deg": (res or {}).get("twist_deg"),
+                "pyramidalization_deg": (res or {}).get("pyramidalization_deg"),
+                "tier": record["tier"],
+                "status": "done" if res else ("failed" if problem else "not computed"),
+                "reason": problem["reason"] if problem else None,
+                "precursors": len(cand["precursors"]),
+                "diastereomers_aligned": len(aligns),
+                "best_precursor": best_diastereomer(aligns),
+            }
+        )
+    rows.sort(
+        key=lambda r: (r["strain_kcal_mol"] is None, r["strain_kcal_mol"] if r["strain_kcal_mol"] is not None else 0.0, r["name"])
+    )
     for rank, row in enumerate(rows, 1):
         row["rank"] = rank
     return rows

@@ -57,20 +57,22 @@ def user_work(nb) -> list[str]:
     found = []
     runs = nb.conn.execute(
         "SELECT r.id, count(v.version), min(v.action), min(v.reason), max(v.reason) FROM runs r "
-        "LEFT JOIN versions v ON v.run_id = r.id GROUP BY r.id ORDER BY r.id").fetchall()
+        "LEFT JOIN versions v ON v.run_id = r.id GROUP BY r.id ORDER BY r.id"
+    ).fetchall()
     for rid, n, action, low, high in runs:
         if n != 1 or action != "create" or low != DEMO_REASON or high != DEMO_REASON:
             found.append(f"run {rid}" + (f" ({n} versions)" if n > 1 else ""))
     screens = nb.conn.execute(
         "SELECT s.id, count(v.version), min(v.reason), max(v.reason) FROM screens s "
-        "LEFT JOIN screen_versions v ON v.screen_id = s.id GROUP BY s.id ORDER BY s.id").fetchall()
+        "LEFT JOIN screen_versions v ON v.screen_id = s.id GROUP BY s.id ORDER BY s.id"
+    ).fetchall()
     for sid, n, low, high in screens:
         if n != 1 or low != DEMO_REASON or high != DEMO_REASON:
             found.append(f"screen {sid}")
     for key, value in nb.conn.execute("SELECT key, value FROM settings ORDER BY key"):
         if value in (None, "null") or key in (DEMO_MARK, AUTHOR_KEY):  # the name is carried over
             continue
-        found.append(f"unsaved draft {key[len('draft:'):]}" if key.startswith("draft:") else f"setting {key}")
+        found.append(f"unsaved draft {key[len('draft:') :]}" if key.startswith("draft:") else f"setting {key}")
     return found
 
 
@@ -139,12 +141,14 @@ def _not_a_demo(path: Path, work: list[str]) -> TrapbookError:
     hint = "give the demo another place with --db PATH (or unset TRAPBOOK_DB to use the per-user demo file)"
     if path == default_demo_path():
         hint = "'trapbook demo --fresh' keeps it as a dated backup beside it and builds a new demo"
-    return TrapbookError(f"{path} is a notebook of its own, not a demo notebook{said}; "
-                         "the demo was not built and nothing was changed", hint)
+    return TrapbookError(
+        f"{path} is a notebook of its own, not a demo notebook{said}; the demo was not built and nothing was changed", hint
+    )
 
 
-def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: str | None = None, progress=None,
-               fresh: bool = False) -> dict:
+def build_demo(
+    path: Path | None = None, src: Path | None = None, strain_tier: str | None = None, progress=None, fresh: bool = False
+) -> dict:
     """The demo notebook at `path` (the per-user demo file by default), built from demo_lab/.
 
     A demo notebook is rebuilt in place only while it holds nothing but the demo's own
@@ -170,12 +174,22 @@ def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: s
     if state == "user-work" and not fresh:
         with Notebook.open(path) as nb:
             n_runs, n_screens = nb.count_runs(), len(nb.list_screens())
-        return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src), "strain": [],
-                "rebuilt": False, "user_work": work, "backup": None,
-                "notice": (f"{path} holds work the demo did not create ({'; '.join(work[:5])}"
-                           f"{'; ...' if len(work) > 5 else ''}); it was not rebuilt and is opened as it is. "
-                           "For a fresh demo, run 'trapbook demo --fresh': this notebook is then kept as a dated "
-                           "backup beside it.")}
+        return {
+            "path": str(path),
+            "runs": n_runs,
+            "screens": n_screens,
+            "source": str(src),
+            "strain": [],
+            "rebuilt": False,
+            "user_work": work,
+            "backup": None,
+            "notice": (
+                f"{path} holds work the demo did not create ({'; '.join(work[:5])}"
+                f"{'; ...' if len(work) > 5 else ''}); it was not rebuilt and is opened as it is. "
+                "For a fresh demo, run 'trapbook demo --fresh': this notebook is then kept as a dated "
+                "backup beside it."
+            ),
+        }
     if state in ("user-work", "not-demo"):
         kept_at = keep_aside(path)
     path.parent.mkdir(parents=True, exist_ok=True)
@@ -192,10 +206,25 @@ def build_demo(path: Path | None = None, src: Path | None = None, strain_tier: s
                 set_notebook_author(nb, name)  # carried over from the notebook this one replaces
         n_runs, n_screens = nb.count_runs(), len(nb.list_screens())
         computed = _compute_strain(nb, runs, strain_tier, progress) if strain_tier else []
-    notice = (f"the earlier demo notebook, with work the demo did not create ({'; '.join(work[:5])}), "
-              f"is kept at {kept_at}; open it with 'trapbook open {kept_at}'") if kept_at else None
-    return {"path": str(path), "runs": n_runs, "screens": n_screens, "source": str(src), "strain": computed,
-            "rebuilt": True, "user_work": work, "backup": str(kept_at) if kept_at else None, "notice": notice}
+    notice = (
+        (
+            f"the earlier demo notebook, with work the demo did not create ({'; '.join(work[:5])}), "
+            f"is kept at {kept_at}; open it with 'trapbook open {kept_at}'"
+        )
+        if kept_at
+        else None
+    )
+    return {
+        "path": str(path),
+        "runs": n_runs,
+        "screens": n_screens,
+        "source": str(src),
+        "strain": computed,
+        "rebuilt": True,
+        "user_work": work,
+        "backup": str(kept_at) if kept_at else None,
+        "notice": notice,
+    }
 
 
 def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
@@ -208,8 +237,16 @@ def _compute_strain(nb, runs, tier: str, progress) -> list[dict]:
         if progress:
             progress(f"strain of {smi} ({tier})", i / len(smiles))
         seen = reading(get_strain(nb, smi, tier=tier))  # the kind's own quantity and the one class (stability.judge)
-        out.append({"smiles": smi, "kind": seen["kind"], "strain_quantity": seen["strain_quantity"],
-                    "strain_kcal_mol": seen["strain_kcal_mol"], "stability_class": seen["stability_class"], "tier": tier})
+        out.append(
+            {
+                "smiles": smi,
+                "kind": seen["kind"],
+                "strain_quantity": seen["strain_quantity"],
+                "strain_kcal_mol": seen["strain_kcal_mol"],
+                "stability_class": seen["stability_class"],
+                "tier": tier,
+            }
+        )
     if progress:
         progress("done", 1.0)
     return out

@@ -18,8 +18,9 @@ class TrapbookError(Exception):
     so rewording a message cannot change behaviour.
     """
 
-    def __init__(self, message: str, hint: str | None = None, *, field: str | None = None,
-                 got: object = None, expected: object = None):
+    def __init__(
+        self, message: str, hint: str | None = None, *, field: str | None = None, got: object = None, expected: object = None
+    ):
         super().__init__(message)
         self.message = message
         self.hint = hint

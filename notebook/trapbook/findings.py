@@ -23,12 +23,12 @@ if TYPE_CHECKING:  # pragma: no cover - typing only
 _UNSET: Any = object()
 
 
-def precursor_of(run: "Run") -> str | None:
+def precursor_of(run: Run) -> str | None:
     """SMILES of the run's first precursor line that has one (the alignment is judged on it)."""
     return next((ln.smiles for ln in run.lines_by_role("precursor") if ln.smiles), None)
 
 
-def cached_alignment(nb, run: "Run") -> dict | None:
+def cached_alignment(nb, run: Run) -> dict | None:
     """The precursor's Si–C–C–X alignment from the notebook's cache at the run's temperature
     (that of the step adding the fluoride source: populations depend on it); never computed here.
 
@@ -43,7 +43,7 @@ def cached_alignment(nb, run: "Run") -> dict | None:
     return get_alignment(nb, smiles, compute=False, temperature_c=run_temperature_c(run))
 
 
-def findings_for(nb, run: "Run", *, strain: Any = _UNSET, alignment: Any = _UNSET) -> list["Finding"]:
+def findings_for(nb, run: Run, *, strain: Any = _UNSET, alignment: Any = _UNSET) -> list[Finding]:
     """The run's bench findings under the notebook's settings (defaults when `nb` is None).
 
     `strain` and `alignment` override the cached values: the live editor holds results for

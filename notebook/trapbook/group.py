@@ -32,8 +32,10 @@ REF_SEPARATOR = ":"
 
 def read_only_problem(path: Path) -> StoreError:
     """Why a save is refused in a group view or a read-only session (trapbook open/serve --read-only)."""
-    return StoreError(f"this view only reads: nothing is written to {path}",
-                      f"to change it, open that notebook on its own: trapbook --db {path} ...")
+    return StoreError(
+        f"this view only reads: nothing is written to {path}",
+        f"to change it, open that notebook on its own: trapbook --db {path} ...",
+    )
 
 
 class MemberNotebook(Notebook):
@@ -94,8 +96,12 @@ def check_member(nb: Notebook) -> list[dict]:
             return [p.to_dict() for p in rep.problems]
         if not {"saves", "head", "run_index"} <= tables or schema.pending(conn):
             if newer_schema_problem(conn, nb.path) is None:
-                rep.add("old-schema", "file", "the notebook predates this Trapbook's layout: open it once on its own "
-                                              "(trapbook --db FILE list) to upgrade it")
+                rep.add(
+                    "old-schema",
+                    "file",
+                    "the notebook predates this Trapbook's layout: open it once on its own "
+                    "(trapbook --db FILE list) to upgrade it",
+                )
                 return [p.to_dict() for p in rep.problems]
         _check_run_chains(conn, rep)
         verify_screens(conn, rep)
@@ -115,7 +121,8 @@ def _check_run_chains(conn: sqlite3.Connection, rep) -> None:
     last: tuple[str, int, str | None] | None = None
     n = 0
     for rid, version, author, time, reason, action, prev_hash, h, data in conn.execute(
-            "SELECT run_id, version, author, time, reason, action, prev_hash, hash, data FROM versions ORDER BY run_id, version"):
+        "SELECT run_id, version, author, time, reason, action, prev_hash, hash, data FROM versions ORDER BY run_id, version"
+    ):
         expected_version, expected_prev = (last[1] + 1, last[2]) if last and last[0] == rid else (1, None)
         where = f"{rid} v{version}"
         if version != expected_version:
@@ -144,8 +151,14 @@ class Member:
         return self.nb is not None and not self.problems
 
     def to_dict(self) -> dict:
-        return {"member": self.label, "path": str(self.path), "owner": self.owner, "ok": self.ok,
-                "runs": self.nb.count_runs() if self.ok else None, "problems": list(self.problems)}
+        return {
+            "member": self.label,
+            "path": str(self.path),
+            "owner": self.owner,
+            "ok": self.ok,
+            "runs": self.nb.count_runs() if self.ok else None,
+            "problems": list(self.problems),
+        }
 
 
 def notebook_paths(given: Iterable[str | Path]) -> list[Path]:
@@ -156,11 +169,15 @@ def notebook_paths(given: Iterable[str | Path]) -> list[Path]:
         try:
             p.exists()
         except (OSError, ValueError):  # a NUL byte, a name too long for the system
-            raise NotFoundError(f"--group {str(item)[:80]!r} cannot be a file name", "give the path of a notebook file or a folder") from None
+            raise NotFoundError(
+                f"--group {str(item)[:80]!r} cannot be a file name", "give the path of a notebook file or a folder"
+            ) from None
         if p.is_dir():
             found = sorted(p.glob("*.sqlite"))
             if not found:
-                raise NotFoundError(f"no notebook (*.sqlite) in the folder {p}", "give notebook files, or a folder that holds some")
+                raise NotFoundError(
+                    f"no notebook (*.sqlite) in the folder {p}", "give notebook files, or a folder that holds some"
+                )
             out.extend(found)
         elif not p.exists():
             raise NotFoundError(f"no notebook at {p}", "check the --group path (a notebook file, or a folder of them)")
@@ -238,8 +255,10 @@ class Group:
         for m in self.members:
             if m.label == label:
                 if not m.ok:
-                    raise StoreError(f"the notebook of {label} ({m.path}) failed its check and is left out",
-                                     f"run 'trapbook --db {m.path} verify' to see why")
+                    raise StoreError(
+                        f"the notebook of {label} ({m.path}) failed its check and is left out",
+                        f"run 'trapbook --db {m.path} verify' to see why",
+                    )
                 return m
         raise NotFoundError(f"no member '{label}' in this group", "members: " + ", ".join(m.label for m in self.members))
 
@@ -248,7 +267,7 @@ class Group:
         for m in self.members:
             prefix = m.label + REF_SEPARATOR
             if ref.startswith(prefix):
-                return m.label, ref[len(prefix):]
+                return m.label, ref[len(prefix) :]
         return None, ref
 
     def to_dict(self) -> list[dict]:
@@ -286,8 +305,12 @@ class Group:
             return holders[0], key
         if not holders:
             raise NotFoundError(f"no {kind} '{ref}' in any member's notebook", "list them with 'trapbook --group ... list'")
-        raise TrapbookError(f"{len(holders)} members have a {kind} '{ref}'",
-                            "name one: " + ", ".join(m.label + REF_SEPARATOR + key for m in holders), field="ref", got=ref)
+        raise TrapbookError(
+            f"{len(holders)} members have a {kind} '{ref}'",
+            "name one: " + ", ".join(m.label + REF_SEPARATOR + key for m in holders),
+            field="ref",
+            got=ref,
+        )
 
     def review(self, screen_ref: str) -> dict:
         """The screen review of the member that holds the screen, labelled with that member."""
@@ -317,13 +340,16 @@ class Group:
                 g = merged.setdefault(x["smiles"], {**x, "runs": [], "traps": {}})
                 g["name"] = g["name"] or x["name"]
                 g["runs"].extend(m.label + REF_SEPARATOR + r for r in x["runs"])
-                if x["strain_kcal_mol"] is not None and (g["strain_kcal_mol"] is None or (
-                        g["strain_tier"] != "accurate" and x["strain_tier"] == "accurate")):  # a member's accurate result wins
+                if x["strain_kcal_mol"] is not None and (
+                    g["strain_kcal_mol"] is None or (g["strain_tier"] != "accurate" and x["strain_tier"] == "accurate")
+                ):  # a member's accurate result wins
                     g.update({k: x[k] for k in STRAIN_FIELDS})
                 for t in x["traps"]:
                     entry = {**t, "run_id": m.label + REF_SEPARATOR + t["run_id"]}
                     cur = g["traps"].get(t["trap"])
-                    if cur is None or (t["yield_pct"] is not None and (cur["yield_pct"] is None or t["yield_pct"] > cur["yield_pct"])):
+                    if cur is None or (
+                        t["yield_pct"] is not None and (cur["yield_pct"] is None or t["yield_pct"] > cur["yield_pct"])
+                    ):
                         g["traps"][t["trap"]] = entry
         out = []
         for g in merged.values():

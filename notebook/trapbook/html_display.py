@@ -44,11 +44,27 @@ def run_html(run, nb=None) -> str:
         findings = findings_for(nb, run)
     except TrapbookError as exc:  # shown as checks that could not run, never as a clean run
         problem = exc.message
-    info = " · ".join(x for x in (run.chemist, run.date.isoformat() if run.date else None,
-                                  f"screen {run.screen}" if run.screen else None, run.status) if x)
-    parts = [f"<h3>{e(run.id or 'unsaved run')} — {e(run.title)}</h3>", f"<p class='meta'>{e(info)}</p>",
-             _structures(_run_structures(run)), "<h4>Amounts</h4>", _amounts_table(run),
-             "<h4>Outcome</h4>", _outcome(run), "<h4>Bench checks</h4>", _findings_html(findings, problem)]
+    info = " · ".join(
+        x
+        for x in (
+            run.chemist,
+            run.date.isoformat() if run.date else None,
+            f"screen {run.screen}" if run.screen else None,
+            run.status,
+        )
+        if x
+    )
+    parts = [
+        f"<h3>{e(run.id or 'unsaved run')} — {e(run.title)}</h3>",
+        f"<p class='meta'>{e(info)}</p>",
+        _structures(_run_structures(run)),
+        "<h4>Amounts</h4>",
+        _amounts_table(run),
+        "<h4>Outcome</h4>",
+        _outcome(run),
+        "<h4>Bench checks</h4>",
+        _findings_html(findings, problem),
+    ]
     if nb is not None:
         from .review import shown_strain
 
@@ -62,21 +78,28 @@ def review_html(rv: dict) -> str:
     from .reports import heat_map_html
 
     names = list(rv["factors"])
-    parts = [f"<h3>{e(rv['screen_id'])} — {e(rv['name'])}</h3>",
-             "<p class='meta'>Varied: " + e("; ".join(f"{k}: {', '.join(v)}" for k, v in rv["factors"].items())) + "</p>",
-             "<h4>Yield map</h4>", heat_map_html(rv.get("matrix"))]
+    parts = [
+        f"<h3>{e(rv['screen_id'])} — {e(rv['name'])}</h3>",
+        "<p class='meta'>Varied: " + e("; ".join(f"{k}: {', '.join(v)}" for k, v in rv["factors"].items())) + "</p>",
+        "<h4>Yield map</h4>",
+        heat_map_html(rv.get("matrix")),
+    ]
     best = rv.get("best")
     if best:
-        parts.append(f"<p><b>Best:</b> {e(best['run_id'])} — {e(', '.join(f'{k} {v}' for k, v in best['factors'].items()))}: "
-                     f"{e(fmt_pct(best['yield_pct']))} ({e(str(best['yield_kind']))})</p>")
+        parts.append(
+            f"<p><b>Best:</b> {e(best['run_id'])} — {e(', '.join(f'{k} {v}' for k, v in best['factors'].items()))}: "
+            f"{e(fmt_pct(best['yield_pct']))} ({e(str(best['yield_kind']))})</p>"
+        )
     head = "".join(f"<th>{e(n)}</th>" for n in names)
     rows = [f"<table><tr><th>run</th>{head}<th>status</th><th>isolated</th><th>NMR</th><th>findings</th></tr>"]
     for r in rv["rows"]:
         cells = "".join(f"<td>{e(str(r['factors'].get(n) or '—'))}</td>" for n in names)
         worst = ", ".join(f"{f['severity']} {f['code']}" for f in r.get("findings", [])[:3])
-        rows.append(f"<tr><td>{e(r['run_id'])}</td>{cells}<td>{e(r['status'])}</td>"
-                    f"<td class='n'>{e(fmt_pct(r['isolated_yield_pct']))}</td><td class='n'>{e(fmt_pct(r['nmr_yield_pct']))}</td>"
-                    f"<td>{e(worst)}</td></tr>")
+        rows.append(
+            f"<tr><td>{e(r['run_id'])}</td>{cells}<td>{e(r['status'])}</td>"
+            f"<td class='n'>{e(fmt_pct(r['isolated_yield_pct']))}</td><td class='n'>{e(fmt_pct(r['nmr_yield_pct']))}</td>"
+            f"<td>{e(worst)}</td></tr>"
+        )
     rows.append("</table>")
     parts += ["<h4>Runs</h4>", "\n".join(rows)]
     if rv.get("not_done"):

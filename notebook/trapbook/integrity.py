@@ -59,8 +59,13 @@ class Report:
         self.problems.append(Problem(code, record, message))
 
     def to_dict(self) -> dict:
-        return {"ok": self.ok, "path": self.path, "problems": [p.to_dict() for p in self.problems],
-                "checked": dict(self.checked), "head": self.head}
+        return {
+            "ok": self.ok,
+            "path": self.path,
+            "problems": [p.to_dict() for p in self.problems],
+            "checked": dict(self.checked),
+            "head": self.head,
+        }
 
 
 #: Problem codes and what they mean, for --help and the docs.
@@ -73,13 +78,13 @@ CODES = {
     "bad-record": "a stored version is not a readable run record",
     "not-canonical": "a stored version's JSON is not in the form Trapbook writes (edited by hand)",
     "current-mismatch": "a run's current row (data, title, chemist, date, status, screen, withdrawn, times) "
-                        "does not match its last version",
+    "does not match its last version",
     "orphan-row": "a current row without any version history, or versions without a current row",
     "screen-mismatch": "a screen's current row does not match its last version",
     "setting-mismatch": "a setting's current value does not match its last version",
     "log-broken": "the notebook's log of saves is not numbered, linked or hashed as written",
     "head-mismatch": "the notebook's head (count and last hash of the save log) does not match the log, "
-                     "or the log no longer holds a head noted earlier (--head)",
+    "or the log no longer holds a head noted earlier (--head)",
     "log-missing-version": "a save in the log names a version that is gone or changed (a deleted run or version)",
     "unlogged-version": "a version that no save in the log names (added outside Trapbook)",
     "index-mismatch": "a run's summary row (yield, worst finding, conditions) differs from what the run gives",
@@ -112,8 +117,12 @@ def verify(nb, check_files: bool = True, noted_head: str | None = None) -> Repor
         runs = _verify_runs(conn, rep)
         current = schema.pending(conn) == []
         if not current:
-            rep.add("old-schema", "file", "this notebook predates the save log and versioned settings: "
-                                          "open it once with this Trapbook (e.g. 'trapbook list') to upgrade it, then verify again")
+            rep.add(
+                "old-schema",
+                "file",
+                "this notebook predates the save log and versioned settings: "
+                "open it once with this Trapbook (e.g. 'trapbook list') to upgrade it, then verify again",
+            )
         else:
             integrity_log.verify_screens(conn, rep)
             integrity_log.verify_settings(conn, rep)
@@ -201,15 +210,31 @@ def _compare_current(rep: Report, cur: tuple, versions: list, run, withdrawn: in
         rep.add("current-mismatch", run_id, "current data differs from its last version (changed outside Trapbook)")
     if run is None:
         return
-    expected = {"title": run.title, "chemist": run.chemist, "date": run.date.isoformat() if run.date else None,
-                "status": run.status, "screen": run.screen, "withdrawn": withdrawn,
-                "created": versions[0][3], "updated": last[3]}
-    found = {"title": title, "chemist": chemist, "date": date, "status": status, "screen": screen,
-             "withdrawn": cwithdrawn, "created": created, "updated": updated}
+    expected = {
+        "title": run.title,
+        "chemist": run.chemist,
+        "date": run.date.isoformat() if run.date else None,
+        "status": run.status,
+        "screen": run.screen,
+        "withdrawn": withdrawn,
+        "created": versions[0][3],
+        "updated": last[3],
+    }
+    found = {
+        "title": title,
+        "chemist": chemist,
+        "date": date,
+        "status": status,
+        "screen": screen,
+        "withdrawn": cwithdrawn,
+        "created": created,
+        "updated": updated,
+    }
     wrong = [k for k in expected if expected[k] != found[k]]
     if wrong:
-        rep.add("current-mismatch", run_id, f"{', '.join(wrong)} column(s) differ from the run's history "
-                                            "(changed outside Trapbook)")
+        rep.add(
+            "current-mismatch", run_id, f"{', '.join(wrong)} column(s) differ from the run's history (changed outside Trapbook)"
+        )
 
 
 def _verify_files(nb, rep: Report) -> None:
@@ -259,8 +284,9 @@ def verify_path(path: str | Path, check_files: bool = True, noted_head: str | No
             rep = Report(str(p))
             rep.add("sqlite", "file", "not a Trapbook notebook (its tables are missing)")
             return rep
-        return verify(Notebook(p, conn, write_problem=StoreError("verify only reads")), check_files=check_files,
-                      noted_head=noted_head)
+        return verify(
+            Notebook(p, conn, write_problem=StoreError("verify only reads")), check_files=check_files, noted_head=noted_head
+        )
     finally:
         conn.close()
 

@@ -13,8 +13,24 @@ import json
 
 from .errors import TrapbookError
 
-_INDEX_COLUMNS = ("run_id", "precursor", "intermediate", "trap", "trap_smiles", "fluoride", "additive", "solvent",
-                  "temp_min_c", "temp_max_c", "time_min", "sealed", "yield_pct", "yield_kind", "worst", "findings")
+_INDEX_COLUMNS = (
+    "run_id",
+    "precursor",
+    "intermediate",
+    "trap",
+    "trap_smiles",
+    "fluoride",
+    "additive",
+    "solvent",
+    "temp_min_c",
+    "temp_max_c",
+    "time_min",
+    "sealed",
+    "yield_pct",
+    "yield_kind",
+    "worst",
+    "findings",
+)
 
 
 def verify_derived(nb, runs: dict, rep) -> None:
@@ -50,8 +66,12 @@ def _check_index(nb, run, row, rep) -> None:
     wrong = [c for c in _INDEX_COLUMNS if want[c] != found[c]]
     if wrong:
         detail = "; ".join(f"{c}: stored {_short(found[c])}, recomputed {_short(want[c])}" for c in wrong[:4])
-        rep.add("index-mismatch", run.id, f"summary row differs from the run ({detail}); if nothing was edited, "
-                                          "a newer Trapbook judges differently: 'trapbook reindex' rebuilds it")
+        rep.add(
+            "index-mismatch",
+            run.id,
+            f"summary row differs from the run ({detail}); if nothing was edited, "
+            "a newer Trapbook judges differently: 'trapbook reindex' rebuilds it",
+        )
 
 
 def _short(value) -> str:
@@ -68,12 +88,21 @@ def _check_structures(conn, run, rep) -> None:
     except TrapbookError as exc:
         rep.add("structure-mismatch", run.id, f"its structures cannot be read again ({exc.message})")
         return
-    found = sorted((part, name, smi or "") for part, name, smi in conn.execute(
-        "SELECT rs.part, rs.name, s.smiles FROM run_structures rs LEFT JOIN structures s ON s.id = rs.structure_id "
-        "WHERE rs.run_id = ?", (run.id,)))
+    found = sorted(
+        (part, name, smi or "")
+        for part, name, smi in conn.execute(
+            "SELECT rs.part, rs.name, s.smiles FROM run_structures rs LEFT JOIN structures s ON s.id = rs.structure_id "
+            "WHERE rs.run_id = ?",
+            (run.id,),
+        )
+    )
     if want != found:
-        rep.add("structure-mismatch", run.id, f"structure links differ from the run ({len(found)} stored, {len(want)} expected): "
-                                              "structure searches would miss or misname it")
+        rep.add(
+            "structure-mismatch",
+            run.id,
+            f"structure links differ from the run ({len(found)} stored, {len(want)} expected): "
+            "structure searches would miss or misname it",
+        )
 
 
 def _check_text(conn, run, rep) -> None:
@@ -97,7 +126,8 @@ def _check_structure_rows(conn, rep) -> None:
 
     n = 0
     for sid, smiles, inchikey, morgan, pattern, scheme in conn.execute(
-            "SELECT id, smiles, inchikey, morgan, pattern, scheme FROM structures ORDER BY id"):
+        "SELECT id, smiles, inchikey, morgan, pattern, scheme FROM structures ORDER BY id"
+    ):
         n += 1
         try:
             bits = fingerprints.structure_bits(smiles)
@@ -105,6 +135,9 @@ def _check_structure_rows(conn, rep) -> None:
             rep.add("structure-mismatch", f"structure {sid}", f"its SMILES cannot be read ({exc.message})")
             continue
         if (bits.inchikey, bits.morgan, bits.pattern, fingerprints.SCHEME) != (inchikey, bytes(morgan), bytes(pattern), scheme):
-            rep.add("structure-mismatch", f"structure {sid}", "fingerprints differ from its SMILES: substructure and "
-                                                              "similarity searches would answer wrongly")
+            rep.add(
+                "structure-mismatch",
+                f"structure {sid}",
+                "fingerprints differ from its SMILES: substructure and similarity searches would answer wrongly",
+            )
     rep.checked["structures"] = n

@@ -34,11 +34,14 @@ def _walk(rep, rows: list[tuple], where: Callable[[tuple], str], recompute: Call
 def verify_screens(conn: sqlite3.Connection, rep) -> None:
     current = {r[0]: r[1:] for r in conn.execute("SELECT id, version, data, name, created, updated FROM screens")}
     by_screen: dict[str, list] = {}
-    for row in conn.execute("SELECT screen_id, version, author, time, reason, data, prev_hash, hash FROM screen_versions "
-                            "ORDER BY screen_id, version"):
+    for row in conn.execute(
+        "SELECT screen_id, version, author, time, reason, data, prev_hash, hash FROM screen_versions ORDER BY screen_id, version"
+    ):
         by_screen.setdefault(row[0], []).append(row)
     for sid, rows in by_screen.items():
-        _walk(rep, rows, lambda r: f"screen {r[0]} v{r[1]}", lambda r: chain.screen_hash(r[0], r[1], r[2], r[3], r[4], r[6], r[5]))
+        _walk(
+            rep, rows, lambda r: f"screen {r[0]} v{r[1]}", lambda r: chain.screen_hash(r[0], r[1], r[2], r[3], r[4], r[6], r[5])
+        )
         cur = current.get(sid)
         if cur is None:
             rep.add("orphan-row", f"screen {sid}", "has versions but no current row")
@@ -62,15 +65,20 @@ def verify_screens(conn: sqlite3.Connection, rep) -> None:
 def verify_settings(conn: sqlite3.Connection, rep) -> None:
     current = {k: v for k, v in conn.execute("SELECT key, value FROM settings") if not chain.is_private_setting(k)}
     by_key: dict[str, list] = {}
-    for row in conn.execute("SELECT key, version, author, time, reason, value, prev_hash, hash FROM setting_versions "
-                            "ORDER BY key, version"):
+    for row in conn.execute(
+        "SELECT key, version, author, time, reason, value, prev_hash, hash FROM setting_versions ORDER BY key, version"
+    ):
         by_key.setdefault(row[0], []).append(row)
     for key, rows in by_key.items():
-        _walk(rep, rows, lambda r: f"setting {r[0]} v{r[1]}", lambda r: chain.setting_hash(r[0], r[1], r[2], r[3], r[4], r[6], r[5]))
+        _walk(
+            rep, rows, lambda r: f"setting {r[0]} v{r[1]}", lambda r: chain.setting_hash(r[0], r[1], r[2], r[3], r[4], r[6], r[5])
+        )
         if chain.is_private_setting(key):
             rep.add("unlogged-version", f"setting {key}", "drafts are never versioned; this one was added outside Trapbook")
         elif current.get(key) != rows[-1][5]:
-            rep.add("setting-mismatch", f"setting {key}", "current value differs from its last version (changed outside Trapbook)")
+            rep.add(
+                "setting-mismatch", f"setting {key}", "current value differs from its last version (changed outside Trapbook)"
+            )
     for key in current:
         if key not in by_key:
             rep.add("setting-mismatch", f"setting {key}", "a setting without any version (added outside Trapbook)")
@@ -81,20 +89,27 @@ def verify_log(conn: sqlite3.Connection, rep) -> None:
     """The save log's own chain, its head, and a one-to-one match between log entries and versions."""
     prev, n_expected, logged = None, 1, {}
     for n, kind, record, version, item, prev_link, h in conn.execute(
-            "SELECT n, kind, record, version, item_hash, prev, hash FROM saves ORDER BY n"):
+        "SELECT n, kind, record, version, item_hash, prev, hash FROM saves ORDER BY n"
+    ):
         where = f"save {n}"
         if n != n_expected:
             rep.add("log-broken", where, f"expected save number {n_expected} here, found {n}")
         if prev_link != prev or chain.save_hash(n, kind, record, version, item, prev_link) != h:
-            rep.add("log-broken", where, "does not link to the save before it, or its hash does not match (changed outside Trapbook)")
+            rep.add(
+                "log-broken", where, "does not link to the save before it, or its hash does not match (changed outside Trapbook)"
+            )
         logged[(kind, record, version)] = (item, where)
         prev, n_expected = h, n + 1
     count = n_expected - 1
     head = conn.execute("SELECT count, hash FROM head WHERE one = 1").fetchone()
     rep.head = {"count": count, "hash": prev}
     if (head or (0, None)) != (count, prev):
-        rep.add("head-mismatch", "notebook", f"the head says {head[0] if head else 0} saves, the log holds {count}, "
-                                             "or their last hashes differ (saves removed or added outside Trapbook)")
+        rep.add(
+            "head-mismatch",
+            "notebook",
+            f"the head says {head[0] if head else 0} saves, the log holds {count}, "
+            "or their last hashes differ (saves removed or added outside Trapbook)",
+        )
     seen = set()
     for kind, table in chain.LOGGED_KINDS.items():
         id_col = {"run": "run_id", "screen": "screen_id", "setting": "key"}[kind]
@@ -105,13 +120,19 @@ def verify_log(conn: sqlite3.Connection, rep) -> None:
             if entry is None:
                 rep.add("unlogged-version", f"{kind} {record} v{version}", "no save in the notebook's log names this version")
             elif entry[0] != h:
-                rep.add("log-missing-version", f"{kind} {record} v{version}",
-                        f"{entry[1]} recorded another hash for this version (the version was replaced)")
+                rep.add(
+                    "log-missing-version",
+                    f"{kind} {record} v{version}",
+                    f"{entry[1]} recorded another hash for this version (the version was replaced)",
+                )
     for key, (_item, where) in logged.items():
         if key not in seen:
             kind, record, version = key
-            rep.add("log-missing-version", f"{kind} {record} v{version}",
-                    f"{where} recorded this version, which is no longer in the notebook (deleted outside Trapbook)")
+            rep.add(
+                "log-missing-version",
+                f"{kind} {record} v{version}",
+                f"{where} recorded this version, which is no longer in the notebook (deleted outside Trapbook)",
+            )
     rep.checked["saves"] = count
 
 
@@ -125,20 +146,28 @@ def verify_noted_head(conn: sqlite3.Connection, rep, noted: str) -> None:
         raise RecordError(f"'{noted[:80]}' is not a head as verify prints it", "give COUNT:HASH, e.g. 20:a553…(64 hex digits)")
     row = conn.execute("SELECT hash FROM saves WHERE n = ?", (int(count),)).fetchone()
     if row is None or row[0] != h:
-        rep.add("head-mismatch", "notebook", f"save {count} of the log is {'gone' if row is None else 'not the one noted'}: "
-                                             "the history was rewritten or cut back since the head was noted")
+        rep.add(
+            "head-mismatch",
+            "notebook",
+            f"save {count} of the log is {'gone' if row is None else 'not the one noted'}: "
+            "the history was rewritten or cut back since the head was noted",
+        )
 
 
 def verify_cache(conn: sqlite3.Connection, rep) -> None:
     n = 0
     for key, smiles, tier, engine, result, h in conn.execute(
-            "SELECT key, smiles, tier, engine, result, content_sha256 FROM strain_cache ORDER BY key"):
+        "SELECT key, smiles, tier, engine, result, content_sha256 FROM strain_cache ORDER BY key"
+    ):
         n += 1
         try:
             ok = chain.cache_hash(key, smiles, tier, engine, result) == h
         except (TypeError, AttributeError):
             ok = False
         if not ok:
-            rep.add("cache-mismatch", f"cache {key[:80]}",
-                    "content does not match its hash (changed outside Trapbook): it is not used, and is computed again when asked for")
+            rep.add(
+                "cache-mismatch",
+                f"cache {key[:80]}",
+                "content does not match its hash (changed outside Trapbook): it is not used, and is computed again when asked for",
+            )
     rep.checked["cache_entries"] = n

@@ -59,8 +59,9 @@ class Antoine:
             return math.exp(self.a - self.b / (t_c + 273.15 + self.c)) * _BAR_PER_MMHG
         if self.form == "log10_mmHg_degC":
             return 10 ** (self.a - self.b / (t_c + self.c)) * _BAR_PER_MMHG
-        raise TrapbookError(f"Antoine form '{self.form}' is not known",
-                            "use log10_bar_K, ln_kPa_degC, ln_mmHg_K or log10_mmHg_degC")
+        raise TrapbookError(
+            f"Antoine form '{self.form}' is not known", "use log10_bar_K, ln_kPa_degC, ln_mmHg_K or log10_mmHg_degC"
+        )
 
     def covers(self, t_c: float) -> bool:
         return self.t_min_c <= t_c <= self.t_max_c
@@ -108,10 +109,19 @@ def _antoine(raw: dict | None, where: str) -> Antoine | None:
     if raw is None:
         return None
     try:
-        return Antoine(str(raw["form"]), float(raw["A"]), float(raw["B"]), float(raw["C"]),
-                       float(raw["t_min_c"]), float(raw["t_max_c"]), str(raw["source"]))
+        return Antoine(
+            str(raw["form"]),
+            float(raw["A"]),
+            float(raw["B"]),
+            float(raw["C"]),
+            float(raw["t_min_c"]),
+            float(raw["t_max_c"]),
+            str(raw["source"]),
+        )
     except (KeyError, TypeError, ValueError):
-        raise TrapbookError(f"materials data: Antoine constants of {where} are incomplete", "fix trapbook/data/solvents.json") from None
+        raise TrapbookError(
+            f"materials data: Antoine constants of {where} are incomplete", "fix trapbook/data/solvents.json"
+        ) from None
 
 
 def _material(raw: dict, category: str) -> Material:
@@ -152,8 +162,7 @@ def all_materials() -> tuple[Material, ...]:
 
 
 #: Closing sentence of every safety caution: a reminder, not an assessment.
-DEFER = ("Follow the SDS, your local rules and your lab's safety officer; "
-         "this reminder does not replace a risk assessment.")
+DEFER = "Follow the SDS, your local rules and your lab's safety officer; this reminder does not replace a risk assessment."
 
 #: The hazards every trapping run shares, for pages that speak of the work in general
 #: (bench sheets, reports): fluoride, pressure in sealed vessels, peroxide-forming traps.

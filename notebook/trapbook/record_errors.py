@@ -96,5 +96,6 @@ def explain(exc: ValidationError, data: Any, what: str = "run") -> RecordError:
     field = ", ".join(fields) or None  # for code: e.g. "steps.0.hold" (the words above are for people)
     if len(problems) == 1:
         return RecordError(f"{head}: {problems[0]}", "correct the field and try again", field=field)
-    return RecordError(f"{head} has {len(problems)} problems:\n  - " + "\n  - ".join(problems),
-                       "correct the fields and try again", field=field)
+    return RecordError(
+        f"{head} has {len(problems)} problems:\n  - " + "\n  - ".join(problems), "correct the fields and try again", field=field
+    )

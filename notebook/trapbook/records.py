@@ -21,8 +21,8 @@ from . import bench_words
 from .bench_words import BenchWords
 from .errors import ChemistryError, RecordError, UnitError
 from .record_errors import explain
-from .text_rules import Note, RunId, SingleLine, SmilesText, Title, validate_run_id
 from .stored_reading import input_rules_apply, reading_stored
+from .text_rules import Note, RunId, SingleLine, SmilesText, Title, validate_run_id
 from .units import (
     Amount,
     Density,
@@ -39,8 +39,18 @@ from .units import (
     to_canonical,
 )
 
-__all__ = ["Line", "Step", "Run", "Screen", "load_run", "load_run_text", "load_screen", "validate_run_id", "BenchWords",
-           "with_bench_words"]
+__all__ = [
+    "Line",
+    "Step",
+    "Run",
+    "Screen",
+    "load_run",
+    "load_run_text",
+    "load_screen",
+    "validate_run_id",
+    "BenchWords",
+    "with_bench_words",
+]
 
 #: Most lines, steps, tags, products and attachments a record holds; far above any real run,
 #: low enough that a crafted file cannot make every view crawl. Common practice, no source.
@@ -118,20 +128,28 @@ class Line(_Model):
 
     role: Role
     name: SingleLine = Field(min_length=1)
-    smiles: SmilesText | None = Field(default=None, description="SMILES of the form weighed, hydrate water and counter-ions included")
+    smiles: SmilesText | None = Field(
+        default=None, description="SMILES of the form weighed, hydrate water and counter-ions included"
+    )
     equiv: Equiv | None = None
     amount: Amount | None = None
     mass: Mass | None = None
     volume: Volume | None = None
-    molarity: Molarity | None = Field(default=None, description="stock solution concentration; the amount is then dispensed by volume")
+    molarity: Molarity | None = Field(
+        default=None, description="stock solution concentration; the amount is then dispensed by volume"
+    )
     density: Density | None = Field(default=None, description="density of a neat liquid")
     purity: Fraction | None = Field(default=None, description="assay of the material, e.g. '98 %'")
     water: Fraction | None = Field(default=None, description="water content of the form used, e.g. '5 wt%'")
     molar_mass: MolarMass | None = Field(default=None, description="explicit molar mass; overrides the one computed from SMILES")
     limiting: bool = False
-    actual: Measured | None = Field(default=None, description=(
-        "what was actually weighed or measured, once done: a mass, volume or amount ('31.2 mg'); "
-        "equiv, concentration and yields are then worked out from it"))
+    actual: Measured | None = Field(
+        default=None,
+        description=(
+            "what was actually weighed or measured, once done: a mass, volume or amount ('31.2 mg'); "
+            "equiv, concentration and yields are then worked out from it"
+        ),
+    )
     lot: SingleLine | None = None
     note: Note | None = None
 
@@ -192,17 +210,35 @@ class Step(_Model):
     """One thing done to the flask, in order: what went in, at what temperature, for how long."""
 
     add: list[SingleLine] = Field(default_factory=list, max_length=MAX_LINES, description="names of the lines added in this step")
-    temperature: Temperature | None = Field(default=None, description=(
-        "the step's temperature, or the start of a ramp; also written as the bench says it: "
-        "'rt', 'reflux', '0 °C to rt' (the words are kept in temperature_written)"))
-    temperature_end: Temperature | None = Field(default=None, description="where a ramp ends ('0 °C to rt' ends at room temperature)")
-    temperature_written: SingleLine | None = Field(default=None, description=(
-        "the temperature as the chemist wrote it, when not one plain value (rt, reflux, 0 °C to rt); "
-        "temperature (and temperature_end) then hold the numbers it stands for"))
-    temperature_basis: SingleLine | None = Field(default=None, description=(
-        "how written words became numbers: the lab's room temperature, or the solvent's boiling point and its source"))
-    hold: Duration | None = Field(default=None, description=(
-        "how long the flask is kept at this temperature after the additions; 'overnight' or 'o/n' is the lab's overnight"))
+    temperature: Temperature | None = Field(
+        default=None,
+        description=(
+            "the step's temperature, or the start of a ramp; also written as the bench says it: "
+            "'rt', 'reflux', '0 °C to rt' (the words are kept in temperature_written)"
+        ),
+    )
+    temperature_end: Temperature | None = Field(
+        default=None, description="where a ramp ends ('0 °C to rt' ends at room temperature)"
+    )
+    temperature_written: SingleLine | None = Field(
+        default=None,
+        description=(
+            "the temperature as the chemist wrote it, when not one plain value (rt, reflux, 0 °C to rt); "
+            "temperature (and temperature_end) then hold the numbers it stands for"
+        ),
+    )
+    temperature_basis: SingleLine | None = Field(
+        default=None,
+        description=(
+            "how written words became numbers: the lab's room temperature, or the solvent's boiling point and its source"
+        ),
+    )
+    hold: Duration | None = Field(
+        default=None,
+        description=(
+            "how long the flask is kept at this temperature after the additions; 'overnight' or 'o/n' is the lab's overnight"
+        ),
+    )
     hold_written: SingleLine | None = Field(default=None, description="the hold as written when in words (overnight, o/n)")
     over: Duration | None = Field(default=None, description="addition time (e.g. dropwise over 10 min)")
     sealed: bool = Field(default=False, description="vessel closed (pressure builds on heating)")
@@ -230,8 +266,9 @@ class Step(_Model):
     def _times_and_words(self) -> Step:
         for what, q in (("hold", self.hold), ("addition time (over)", self.over)):
             if q is not None and q.magnitude <= 0 and input_rules_apply():
-                raise ValueError(f"{what} must be longer than zero (got {q.magnitude:g} {q.units:~}); "
-                                 "leave it out if there was none")
+                raise ValueError(
+                    f"{what} must be longer than zero (got {q.magnitude:g} {q.units:~}); leave it out if there was none"
+                )
         if self.temperature is None and (self.temperature_end is not None or self.temperature_written is not None):
             raise ValueError("temperature_end and temperature_written need the temperature itself")
         if self.hold is None and self.hold_written is not None:
@@ -278,7 +315,9 @@ class SpectrumRecord(_Model):
 class QNMR(_Model):
     """Integrals for an NMR yield against an internal standard."""
 
-    standard: SingleLine | None = Field(default=None, description="name of the internal standard line (default: the run's only one)")
+    standard: SingleLine | None = Field(
+        default=None, description="name of the internal standard line (default: the run's only one)"
+    )
     standard_amount: Amount | None = Field(default=None, description="amount of standard in the sample, if not from the line")
     standard_integral: float = Field(gt=0, le=INTEGRAL_MAX, allow_inf_nan=False)
     standard_protons: int = Field(gt=0, le=100)
@@ -291,8 +330,10 @@ class QNMR(_Model):
     def _not_vanishing(cls, v: float) -> float:
         """The standard's integral divides: a vanishing one would turn any product into an infinite yield."""
         if v != 0 and abs(v) < INTEGRAL_MIN:
-            raise ValueError(f"integral {v:g} is too small to be a measured integral (below {INTEGRAL_MIN:g}); "
-                             "check the number, or rescale both integrals")
+            raise ValueError(
+                f"integral {v:g} is too small to be a measured integral (below {INTEGRAL_MIN:g}); "
+                "check the number, or rescale both integrals"
+            )
         return v
 
 
@@ -326,7 +367,9 @@ class ProductResult(_Model):
     hrms: HRMS | None = Field(default=None, description="high-resolution mass found, e.g. {ion: '[M+Na]+', found_mz: 213.1248}")
     appearance: SingleLine | None = Field(default=None, description="what the product looks like, e.g. 'white solid'")
     rf: float | None = Field(default=None, ge=0, le=1, allow_inf_nan=False, description="TLC Rf in the chromatography eluent")
-    nmr_text: Note | None = Field(default=None, description="NMR data as written for the paper, e.g. '1H NMR (400 MHz, CDCl3) δ ...'")
+    nmr_text: Note | None = Field(
+        default=None, description="NMR data as written for the paper, e.g. '1H NMR (400 MHz, CDCl3) δ ...'"
+    )
     note: Note | None = None
 
     @field_validator("dr", "er", mode="before")
@@ -352,7 +395,9 @@ class Outcome(_Model):
     products: list[ProductResult] = Field(default_factory=list, max_length=MAX_PRODUCTS)
     recovered_precursor: Mass | None = Field(default=None, description="mass of precursor recovered")
     observations: Note | None = None
-    workup: Note | None = Field(default=None, description="the work-up as done, e.g. 'filtered through a silica plug (Et2O), concentrated'")
+    workup: Note | None = Field(
+        default=None, description="the work-up as done, e.g. 'filtered through a silica plug (Et2O), concentrated'"
+    )
     eluent: SingleLine | None = Field(default=None, description="flash chromatography eluent, e.g. 'pentane/Et2O 20:1'")
 
 
@@ -375,8 +420,9 @@ class Run(_Model):
     date: _dt.date | None = None
     page: SingleLine | None = Field(default=None, description="paper notebook page reference")
     screen: RunId | None = Field(default=None, description="id of the screen this run belongs to")
-    factors: dict[SingleLine, SingleLine] = Field(default_factory=dict, max_length=MAX_TAGS,
-                                                  description="levels of the screen's varied conditions in this run")
+    factors: dict[SingleLine, SingleLine] = Field(
+        default_factory=dict, max_length=MAX_TAGS, description="levels of the screen's varied conditions in this run"
+    )
     status: Literal["planned", "running", "done", "failed"] = "done"
     tags: list[SingleLine] = Field(default_factory=list, max_length=MAX_TAGS)
     intermediate: SmilesText | None = Field(default=None, description="SMILES of the strained intermediate the run releases")
@@ -384,8 +430,10 @@ class Run(_Model):
     limiting: SingleLine | None = Field(default=None, description="name of the limiting line (default: the precursor)")
     lines: list[Line] = Field(min_length=1, max_length=MAX_LINES)
     steps: list[Step] = Field(default_factory=list, max_length=MAX_STEPS)
-    vessel: Volume | None = Field(default=None, description="inner volume of the reaction vessel (e.g. '15 mL'); "
-                                  "used for the sealed-vessel pressure and fill checks")
+    vessel: Volume | None = Field(
+        default=None,
+        description="inner volume of the reaction vessel (e.g. '15 mL'); used for the sealed-vessel pressure and fill checks",
+    )
     outcome: Outcome | None = None
     notes: Note | None = None
     attachments: list[Attachment] = Field(default_factory=list, max_length=MAX_ATTACHMENTS)
@@ -396,8 +444,10 @@ class Run(_Model):
         """Tell each step what 'reflux' means in this run (its solvent's boiling point), if any step says it."""
         if not isinstance(data, dict) or not isinstance(data.get("steps"), list):
             return data
-        if not any(isinstance(st, dict) and isinstance(st.get("temperature"), str) and "reflux" in st["temperature"].lower()
-                   for st in data["steps"]):
+        if not any(
+            isinstance(st, dict) and isinstance(st.get("temperature"), str) and "reflux" in st["temperature"].lower()
+            for st in data["steps"]
+        ):
             return data
         reflux = bench_words.run_reflux(data.get("lines"))
         steps = [{**st, "_reflux": reflux} if isinstance(st, dict) else st for st in data["steps"]]
@@ -465,8 +515,9 @@ class Screen(_Model):
     id: RunId | None = None
     name: SingleLine = Field(min_length=1)
     description: Note | None = None
-    factors: dict[SingleLine, list[SingleLine]] = Field(default_factory=dict, max_length=MAX_TAGS,
-                                                        description="varied condition -> levels")
+    factors: dict[SingleLine, list[SingleLine]] = Field(
+        default_factory=dict, max_length=MAX_TAGS, description="varied condition -> levels"
+    )
     runs: list[RunId] = Field(default_factory=list, max_length=10_000, description="ids of the runs in the screen")
     base_run: RunId | None = None
     chemist: SingleLine | None = None
@@ -514,12 +565,15 @@ def load_run_text(text: str, source: str = "run file", words: BenchWords | None 
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
-        raise RecordError(f"{source} is not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", "fix the JSON syntax") from None
+        raise RecordError(
+            f"{source} is not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", "fix the JSON syntax"
+        ) from None
     except RecursionError:
         raise RecordError(f"{source} is nested too deeply to be a run file", "check the file is a Trapbook run (JSON)") from None
     except ValueError as exc:  # e.g. an integer of more digits than Python converts
-        raise RecordError(f"{source} holds a value that cannot be read ({shown_input(str(exc), 80)})",
-                          "check the numbers in the file") from None
+        raise RecordError(
+            f"{source} holds a value that cannot be read ({shown_input(str(exc), 80)})", "check the numbers in the file"
+        ) from None
     return load_run(data, words)
 
 

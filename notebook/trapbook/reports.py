@@ -14,8 +14,8 @@ import datetime as _dt
 import html
 from pathlib import Path
 
-from .errors import ExchangeError, NotFoundError, TrapbookError
 from .display import fmt_equiv, fmt_fixed, fmt_mg, fmt_mmol, fmt_molarity, fmt_pct, fmt_ul
+from .errors import ExchangeError, NotFoundError, TrapbookError
 from .files import write_atomic
 from .reports_outcome import outcome_data_html, screen_products, screen_raw_rows_html, version_html, weighed_html
 from .reports_strain import strain_plot_svg
@@ -36,11 +36,13 @@ th{background:#f1ece3}td.n{text-align:right;font-variant-numeric:tabular-nums}
 @media print{body{margin:.6cm;max-width:none}.struct,table,.card{break-inside:avoid}}
 """
 
+
 def _safety() -> str:
     """The cautions every trapping run shares, worded once in `materials.caution_text`."""
     from .materials import GENERAL_HAZARDS, caution_text
 
     return "Cautions: " + caution_text(GENERAL_HAZARDS)
+
 
 #: Yield colour stops (fraction of 100 %, RGB): our own scale.
 _STOPS = ((0.0, (244, 239, 230)), (0.5, (224, 170, 80)), (1.0, (92, 45, 110)))
@@ -57,15 +59,17 @@ def yield_colour(pct: float | None) -> tuple[str, str]:
             rgb = tuple(round(a + (b - a) * t) for a, b in zip(c0, c1))
             break
     lum = 0.2126 * rgb[0] + 0.7152 * rgb[1] + 0.0722 * rgb[2]
-    return "#%02x%02x%02x" % rgb, ("#ffffff" if lum < 140 else "#1d1d1d")
+    return "#{:02x}{:02x}{:02x}".format(*rgb), ("#ffffff" if lum < 140 else "#1d1d1d")
 
 
 def _page(title: str, body: list[str]) -> str:
-    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
-    return ("<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
-            f"<title>{e(title)}</title><style>{_CSS}</style></head><body>\n"
-            + "\n".join(body)
-            + f"\n<p class='safety'>{e(_safety())}</p><p class='meta'>Trapbook report, generated {stamp}.</p></body></html>\n")
+    stamp = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
+    return (
+        "<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
+        f"<title>{e(title)}</title><style>{_CSS}</style></head><body>\n"
+        + "\n".join(body)
+        + f"\n<p class='safety'>{e(_safety())}</p><p class='meta'>Trapbook report, generated {stamp}.</p></body></html>\n"
+    )
 
 
 def _svg(smiles: str) -> str:
@@ -83,7 +87,9 @@ def _structures(items: list[tuple[str, str, str]]) -> str:
         if (role, smi) in seen:
             continue
         seen.add((role, smi))
-        out.append(f"<div class='struct'>{_svg(smi)}<div class='cap'><b>{e(role)}</b>: {e(name)}<br><code>{e(smi)}</code></div></div>")
+        out.append(
+            f"<div class='struct'>{_svg(smi)}<div class='cap'><b>{e(role)}</b>: {e(name)}<br><code>{e(smi)}</code></div></div>"
+        )
     out.append("</div>")
     return "\n".join(out)
 
@@ -99,7 +105,13 @@ def _run_structures(run) -> list[tuple[str, str, str]]:
     items = [(ln.role, ln.name, ln.smiles) for ln in run.lines if ln.role == "precursor" and ln.smiles]
     found = _intermediate(run)
     if found:
-        items.append(("intermediate", run.intermediate_name or ("intermediate" if run.intermediate else "intermediate (derived)"), found[0]))
+        items.append(
+            (
+                "intermediate",
+                run.intermediate_name or ("intermediate" if run.intermediate else "intermediate (derived)"),
+                found[0],
+            )
+        )
     items += [(ln.role, ln.name, ln.smiles) for ln in run.lines if ln.role in ("trap", "product") and ln.smiles]
     return items
 
@@ -111,8 +123,10 @@ def _amounts_table(run) -> str:
         t = amounts.compute(run)
     except TrapbookError as exc:
         return f"<p class='warn'>Amounts cannot be worked out: {e(exc.message)}</p>"
-    rows = ["<table><tr><th>line</th><th>role</th><th>MW (g/mol)</th><th>equiv</th><th>amount (mmol)</th>"
-            "<th>mass (mg)</th><th>volume (µL)</th></tr>"]
+    rows = [
+        "<table><tr><th>line</th><th>role</th><th>MW (g/mol)</th><th>equiv</th><th>amount (mmol)</th>"
+        "<th>mass (mg)</th><th>volume (µL)</th></tr>"
+    ]
     for x in t.lines:
         rows.append(
             f"<tr><td>{e(x.name)}</td><td>{e(x.role)}</td><td class='n'>{fmt_fixed(x.mw_g_mol, 2)}</td>"
@@ -121,7 +135,9 @@ def _amounts_table(run) -> str:
         )
     rows.append("</table>")
     conc = f"{fmt_molarity(t.concentration_M)} M" if t.concentration_M is not None else "not known"
-    rows.append(f"<p class='meta'>Limiting: {e(t.limiting)} ({fmt_mmol(t.limiting_mmol)} mmol); concentration {e(conc)} — {e(t.concentration_basis)}.</p>")
+    rows.append(
+        f"<p class='meta'>Limiting: {e(t.limiting)} ({fmt_mmol(t.limiting_mmol)} mmol); concentration {e(conc)} — {e(t.concentration_basis)}.</p>"
+    )
     return "\n".join(rows)
 
 
@@ -158,9 +174,11 @@ def _outcome(run) -> str:
         return f"<p class='warn'>Yields cannot be worked out: {e(exc.message)}</p>"
     out = ["<table><tr><th>product</th><th>isolated yield (%)</th><th>NMR yield (%)</th><th>dr</th><th>ee (%)</th></tr>"]
     for y in ys:
-        out.append(f"<tr><td>{e(y.product)}</td><td class='n'>{fmt_pct(y.isolated_yield_pct, '')}</td>"
-                   f"<td class='n'>{fmt_pct(y.nmr_yield_pct, '')}</td><td>{e(y.dr or '—')}</td>"
-                   f"<td class='n'>{fmt_pct(y.ee_pct, '')}</td></tr>")
+        out.append(
+            f"<tr><td>{e(y.product)}</td><td class='n'>{fmt_pct(y.isolated_yield_pct, '')}</td>"
+            f"<td class='n'>{fmt_pct(y.nmr_yield_pct, '')}</td><td>{e(y.dr or '—')}</td>"
+            f"<td class='n'>{fmt_pct(y.ee_pct, '')}</td></tr>"
+        )
     out.append("</table>")
     if run.outcome.observations:
         out.append(f"<p><b>Observations:</b> {e(run.outcome.observations)}</p>")
@@ -172,12 +190,17 @@ def _strain_card(strain: dict | None, intermediate: tuple[str, str] | None = Non
     from `stability.judge` (read through `stability.reading`); a prescreen is never classed."""
     from .stability import reading
 
-    where = (f"<p>Intermediate: <code>{e(intermediate[0])}</code> — {e(intermediate[1])}</p>" if intermediate else "")
+    where = f"<p>Intermediate: <code>{e(intermediate[0])}</code> — {e(intermediate[1])}</p>" if intermediate else ""
     if not strain:
-        return where + "<p class='meta'>Strain not computed for this intermediate (run <code>trapbook strain</code> to add it).</p>"
+        return (
+            where + "<p class='meta'>Strain not computed for this intermediate (run <code>trapbook strain</code> to add it).</p>"
+        )
     seen = reading(strain)
-    value = (f"{seen['strain_quantity']} {seen['strain_kcal_mol']:.1f} kcal/mol" if seen["strain_kcal_mol"] is not None
-             else "no strain number")
+    value = (
+        f"{seen['strain_quantity']} {seen['strain_kcal_mol']:.1f} kcal/mol"
+        if seen["strain_kcal_mol"] is not None
+        else "no strain number"
+    )
     if seen["stability_class"]:
         cls = f"class: {seen['stability_class']} — {'needs a trap' if seen['needs_trap'] else 'may survive without a trap'}"
     elif seen["prescreen"]:
@@ -190,8 +213,10 @@ def _strain_card(strain: dict | None, intermediate: tuple[str, str] | None = Non
     if strain.get("twist_deg") is not None:
         bits.append(f"twist {strain['twist_deg']:.0f}°")
     words = f"<br><span>{e(seen['judgement_words'])}</span>" if seen["judgement_words"] else ""
-    return (f"{where}<div class='card'><b>{e(' · '.join(bits))}</b>{words}<br><span class='meta'>method: "
-            f"{e(str(strain.get('method') or strain.get('tier') or 'not stated'))}</span></div>")
+    return (
+        f"{where}<div class='card'><b>{e(' · '.join(bits))}</b>{words}<br><span class='meta'>method: "
+        f"{e(str(strain.get('method') or strain.get('tier') or 'not stated'))}</span></div>"
+    )
 
 
 def run_report_html(nb, run_id: str) -> str:
@@ -208,17 +233,40 @@ def run_report_html(nb, run_id: str) -> str:
         findings = findings_for(nb, run)
     except TrapbookError as exc:
         problem = exc.message
-    info = " · ".join(x for x in (run.chemist, run.date.isoformat() if run.date else None, f"page {run.page}" if run.page else None,
-                                  f"screen {run.screen}" if run.screen else None, run.status, f"version {meta['version']}",
-                                  "WITHDRAWN" if meta.get("withdrawn") else None) if x)
-    body = [f"<h1>{e(run.id)} — {e(run.title)}</h1>", f"<p class='meta'>{e(info)}</p>",
-            "<h2>Structures</h2>", _structures(_run_structures(run)),
-            "<h2>Amounts</h2>", _amounts_table(run), weighed_html(run, nb),
-            "<h2>Steps</h2>", _steps(run),
-            "<h2>Bench checks</h2>", _findings_html(findings, problem),
-            "<h2>Outcome</h2>", _outcome(run), outcome_data_html(run), run_spectra_html(nb, run),
-            "<h2>Version</h2>", version_html(nb, run_id),
-            "<h2>Strain</h2>", _strain_card(strain, _intermediate(run))]
+    info = " · ".join(
+        x
+        for x in (
+            run.chemist,
+            run.date.isoformat() if run.date else None,
+            f"page {run.page}" if run.page else None,
+            f"screen {run.screen}" if run.screen else None,
+            run.status,
+            f"version {meta['version']}",
+            "WITHDRAWN" if meta.get("withdrawn") else None,
+        )
+        if x
+    )
+    body = [
+        f"<h1>{e(run.id)} — {e(run.title)}</h1>",
+        f"<p class='meta'>{e(info)}</p>",
+        "<h2>Structures</h2>",
+        _structures(_run_structures(run)),
+        "<h2>Amounts</h2>",
+        _amounts_table(run),
+        weighed_html(run, nb),
+        "<h2>Steps</h2>",
+        _steps(run),
+        "<h2>Bench checks</h2>",
+        _findings_html(findings, problem),
+        "<h2>Outcome</h2>",
+        _outcome(run),
+        outcome_data_html(run),
+        run_spectra_html(nb, run),
+        "<h2>Version</h2>",
+        version_html(nb, run_id),
+        "<h2>Strain</h2>",
+        _strain_card(strain, _intermediate(run)),
+    ]
     if run.notes:
         body += ["<h2>Notes</h2>", f"<p>{e(run.notes)}</p>"]
     body.append(f"<p class='meta'>Record hash {e(meta['hash'])}</p>")
@@ -242,13 +290,18 @@ def heat_map_html(mx: dict | None) -> str:
             label = "—" if cell["yield_pct"] is None else f"{cell['yield_pct']:.0f} %"
             kinds = "/".join(cell["kinds"])
             tip = ", ".join(cell["runs"]) + (f" ({kinds})" if kinds else "")
-            out.append(f"<td class='cell' style='background:{bg};color:{fg}' title='{e(tip)}'>{e(label)}"
-                       f"<br><small>{e(', '.join(cell['runs']))}</small></td>")
+            out.append(
+                f"<td class='cell' style='background:{bg};color:{fg}' title='{e(tip)}'>{e(label)}"
+                f"<br><small>{e(', '.join(cell['runs']))}</small></td>"
+            )
         out.append("</tr>")
     out.append("</table>")
     legend = "".join(f"<span style='background:{yield_colour(p)[0]}'></span>" for p in range(0, 101, 10))
-    out.append(f"<p class='legend meta'>0 % {legend} 100 % &nbsp; headline yield: isolated where recorded, else NMR"
-               + (f"; mean over {e(', '.join(mx['averaged_over']))}" if mx.get("averaged_over") else "") + "</p>")
+    out.append(
+        f"<p class='legend meta'>0 % {legend} 100 % &nbsp; headline yield: isolated where recorded, else NMR"
+        + (f"; mean over {e(', '.join(mx['averaged_over']))}" if mx.get("averaged_over") else "")
+        + "</p>"
+    )
     return "\n".join(out)
 
 
@@ -268,29 +321,41 @@ def screen_report_html(nb, screen_id: str) -> str:
     body = [f"<h1>{e(rv['screen_id'])} — {e(rv['name'])}</h1>"]
     if rv.get("description"):
         body.append(f"<p>{e(rv['description'])}</p>")
-    body.append("<p class='meta'>Varied: " + e("; ".join(f"{k}: {', '.join(v)}" for k, v in rv["factors"].items()))
-                + (f" · scale {e(screen.scale)}" if screen.scale else "") + "</p>")
+    body.append(
+        "<p class='meta'>Varied: "
+        + e("; ".join(f"{k}: {', '.join(v)}" for k, v in rv["factors"].items()))
+        + (f" · scale {e(screen.scale)}" if screen.scale else "")
+        + "</p>"
+    )
     body += ["<h2>Structures</h2>", _structures(items + traps + screen_products(runs))]
     body += ["<h2>Yield map</h2>", heat_map_html(rv["matrix"])]
     if rv["best"]:
         b = rv["best"]
-        body.append(f"<p><b>Best run:</b> {e(b['run_id'])} — {e(', '.join(f'{k} {v}' for k, v in b['factors'].items()))}: "
-                    f"{b['yield_pct']:.0f} % ({e(b['yield_kind'])})" + (f" <i>{e(b['note'])}</i>" if b.get("note") else "") + "</p>")
-    body.append("<h2>By level</h2><table><tr><th>condition</th><th>level</th><th>runs</th><th>mean isolated (%)</th>"
-                "<th>best isolated (%)</th><th>mean NMR (%)</th><th>best NMR (%)</th></tr>")
+        body.append(
+            f"<p><b>Best run:</b> {e(b['run_id'])} — {e(', '.join(f'{k} {v}' for k, v in b['factors'].items()))}: "
+            f"{b['yield_pct']:.0f} % ({e(b['yield_kind'])})" + (f" <i>{e(b['note'])}</i>" if b.get("note") else "") + "</p>"
+        )
+    body.append(
+        "<h2>By level</h2><table><tr><th>condition</th><th>level</th><th>runs</th><th>mean isolated (%)</th>"
+        "<th>best isolated (%)</th><th>mean NMR (%)</th><th>best NMR (%)</th></tr>"
+    )
     for f, lv in rv["levels"].items():
         for level, s in lv.items():
-            body.append(f"<tr><td>{e(f)}</td><td>{e(level)}</td><td>{e(', '.join(s['runs']))}</td>"
-                        f"<td class='n'>{fmt_pct(s['isolated']['mean_pct'], '')}</td>"
-                        f"<td class='n'>{fmt_pct(s['isolated']['best_pct'], '')}</td>"
-                        f"<td class='n'>{fmt_pct(s['nmr']['mean_pct'], '')}</td>"
-                        f"<td class='n'>{fmt_pct(s['nmr']['best_pct'], '')}</td></tr>")
+            body.append(
+                f"<tr><td>{e(f)}</td><td>{e(level)}</td><td>{e(', '.join(s['runs']))}</td>"
+                f"<td class='n'>{fmt_pct(s['isolated']['mean_pct'], '')}</td>"
+                f"<td class='n'>{fmt_pct(s['isolated']['best_pct'], '')}</td>"
+                f"<td class='n'>{fmt_pct(s['nmr']['mean_pct'], '')}</td>"
+                f"<td class='n'>{fmt_pct(s['nmr']['best_pct'], '')}</td></tr>"
+            )
     body.append("</table>")
     body.append("<h2>Runs that failed</h2>")
     if rv["failed"]:
         body.append("<ul>")
         for fr in rv["failed"]:
-            why = "; ".join(f"{x['severity']} {x['code']}: {x['message']}" for x in fr["findings"]) or "no bench check explains it"
+            why = (
+                "; ".join(f"{x['severity']} {x['code']}: {x['message']}" for x in fr["findings"]) or "no bench check explains it"
+            )
             body.append(f"<li><b>{e(fr['run_id'])}</b> {e(fr['title'])} — {e(why)}</li>")
         body.append("</ul>")
     else:
@@ -304,14 +369,21 @@ def screen_report_html(nb, screen_id: str) -> str:
                 highlight = molecules.canonical(found[0])
             except TrapbookError:
                 highlight = None
-    body += ["<h2>Strain against outcome (whole notebook)</h2>", f"<figure>{strain_plot_svg(smap, highlight)}</figure>",
-             f"<p class='meta'>{e(smap['ranking']['method'])}</p>"]
-    body.append("<h2>Runs</h2><table><tr><th>run</th><th>conditions</th><th>status</th><th>isolated (%)</th><th>NMR (%)</th><th>dr</th><th>ee (%)</th></tr>")
+    body += [
+        "<h2>Strain against outcome (whole notebook)</h2>",
+        f"<figure>{strain_plot_svg(smap, highlight)}</figure>",
+        f"<p class='meta'>{e(smap['ranking']['method'])}</p>",
+    ]
+    body.append(
+        "<h2>Runs</h2><table><tr><th>run</th><th>conditions</th><th>status</th><th>isolated (%)</th><th>NMR (%)</th><th>dr</th><th>ee (%)</th></tr>"
+    )
     for r in rv["rows"]:
-        body.append(f"<tr><td>{e(r['run_id'])}</td><td>{e(', '.join(f'{k} {v}' for k, v in r['factors'].items() if v))}</td>"
-                    f"<td>{e(r['status'])}</td><td class='n'>{fmt_pct(r['isolated_yield_pct'], '')}</td>"
-                    f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
-                    f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>")
+        body.append(
+            f"<tr><td>{e(r['run_id'])}</td><td>{e(', '.join(f'{k} {v}' for k, v in r['factors'].items() if v))}</td>"
+            f"<td>{e(r['status'])}</td><td class='n'>{fmt_pct(r['isolated_yield_pct'], '')}</td>"
+            f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
+            f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>"
+        )
     body.append("</table>")
     body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs, nb)]
     return _page(f"{rv['screen_id']} {rv['name']}", body)
@@ -336,7 +408,9 @@ def write_report(nb, ref: str, output: str | Path) -> dict:
         try:
             sid = nb.get_screen(ref).id
         except NotFoundError:
-            raise NotFoundError(f"no run or screen '{ref}' in this notebook", "list them with 'trapbook list' and 'trapbook screens'") from None
+            raise NotFoundError(
+                f"no run or screen '{ref}' in this notebook", "list them with 'trapbook list' and 'trapbook screens'"
+            ) from None
         kind, text, ref = "screen", screen_report_html(nb, sid), sid
     write_atomic(path, text)
     return {"path": str(path), "kind": kind, "id": ref, "bytes": len(text.encode())}

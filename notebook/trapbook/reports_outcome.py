@@ -27,10 +27,14 @@ def _qnmr_cells(res) -> str:
     if q is None:
         return "<td>—</td>"
     std = e(q.standard or "the run's internal standard")
-    amount = f", {fmt_mmol(to_canonical(q.standard_amount, 'amount'))} mmol in the sample" if q.standard_amount is not None else ""
+    amount = (
+        f", {fmt_mmol(to_canonical(q.standard_amount, 'amount'))} mmol in the sample" if q.standard_amount is not None else ""
+    )
     source = " (integrated from the attached FID)" if q.spectrum is not None else ""
-    return (f"<td>product {e(f'{q.integral:g}')} for {q.protons} H; standard {std}{e(amount)} "
-            f"{e(f'{q.standard_integral:g}')} for {q.standard_protons} H{e(source)}</td>")
+    return (
+        f"<td>product {e(f'{q.integral:g}')} for {q.protons} H; standard {std}{e(amount)} "
+        f"{e(f'{q.standard_integral:g}')} for {q.standard_protons} H{e(source)}</td>"
+    )
 
 
 def outcome_data_html(run) -> str:
@@ -39,14 +43,18 @@ def outcome_data_html(run) -> str:
         return ""
     from .trapping import run_hrms
 
-    out = ["<h3>Raw data</h3><table><tr><th>product</th><th>isolated mass (mg)</th><th>qNMR integrals</th>"
-           "<th>dr</th><th>er</th><th>ee (%)</th><th>appearance</th><th>Rf</th></tr>"]
+    out = [
+        "<h3>Raw data</h3><table><tr><th>product</th><th>isolated mass (mg)</th><th>qNMR integrals</th>"
+        "<th>dr</th><th>er</th><th>ee (%)</th><th>appearance</th><th>Rf</th></tr>"
+    ]
     for res in run.outcome.products:
         ee = DASH if res.ee is None else f"{res.ee:g}"
         rf = DASH if res.rf is None else f"{res.rf:.2f}"
-        out.append(f"<tr><td>{e(res.product)}</td><td class='n'>{_q(res.isolated_mass, 'mass', fmt_mg)}</td>"
-                   f"{_qnmr_cells(res)}<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td>"
-                   f"<td class='n'>{e(ee)}</td><td>{e(res.appearance or DASH)}</td><td class='n'>{rf}</td></tr>")
+        out.append(
+            f"<tr><td>{e(res.product)}</td><td class='n'>{_q(res.isolated_mass, 'mass', fmt_mg)}</td>"
+            f"{_qnmr_cells(res)}<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td>"
+            f"<td class='n'>{e(ee)}</td><td>{e(res.appearance or DASH)}</td><td class='n'>{rf}</td></tr>"
+        )
     out.append("</table>")
     oc = run.outcome
     if oc.recovered_precursor is not None:
@@ -69,15 +77,21 @@ def _hrms_html(run, run_hrms) -> str:
         return f"<p class='warn'>HRMS cannot be compared: {e(exc.message)}</p>"
     if not rows:
         return ""
-    out = ["<table><tr><th>HRMS of</th><th>ion</th><th>calcd for</th><th>calcd m/z</th><th>found m/z</th><th>error (ppm)</th></tr>"]
+    out = [
+        "<table><tr><th>HRMS of</th><th>ion</th><th>calcd for</th><th>calcd m/z</th><th>found m/z</th><th>error (ppm)</th></tr>"
+    ]
     for row in rows:
         if "problem" in row:
-            out.append(f"<tr><td>{e(row['product'])}</td><td>{e(row['ion'])}</td><td colspan='2'>{e(row['problem'])}</td>"
-                       f"<td class='n'>{row['found_mz']:.4f}</td><td>—</td></tr>")
+            out.append(
+                f"<tr><td>{e(row['product'])}</td><td>{e(row['ion'])}</td><td colspan='2'>{e(row['problem'])}</td>"
+                f"<td class='n'>{row['found_mz']:.4f}</td><td>—</td></tr>"
+            )
             continue
-        out.append(f"<tr><td>{e(row['product'])}</td><td>{e(row['ion'])}</td><td>{e(row['ion_formula'])}</td>"
-                   f"<td class='n'>{row['calcd_mz']:.4f}</td><td class='n'>{row['found_mz']:.4f}</td>"
-                   f"<td class='n'>{row['ppm']:+.1f}</td></tr>")
+        out.append(
+            f"<tr><td>{e(row['product'])}</td><td>{e(row['ion'])}</td><td>{e(row['ion_formula'])}</td>"
+            f"<td class='n'>{row['calcd_mz']:.4f}</td><td class='n'>{row['found_mz']:.4f}</td>"
+            f"<td class='n'>{row['ppm']:+.1f}</td></tr>"
+        )
     out.append("</table>")
     return "\n".join(out)
 
@@ -88,8 +102,10 @@ def version_html(nb, run_id: str) -> str:
     v = history[-1]
     changes = "; ".join(v.changes) if v.changes else "—"
     earlier = f" ({len(history) - 1} earlier version{'s' if len(history) != 2 else ''} kept)" if len(history) > 1 else ""
-    return (f"<p class='meta'>Version {v.version}{e(earlier)}, saved {e(v.time[:19].replace('T', ' '))} UTC by "
-            f"{e(v.author)}. <b>Reason:</b> {e(v.reason or '—')}. <b>Changed:</b> {e(changes)}.</p>")
+    return (
+        f"<p class='meta'>Version {v.version}{e(earlier)}, saved {e(v.time[:19].replace('T', ' '))} UTC by "
+        f"{e(v.author)}. <b>Reason:</b> {e(v.reason or '—')}. <b>Changed:</b> {e(changes)}.</p>"
+    )
 
 
 def screen_products(runs) -> list[tuple[str, str, str]]:
@@ -110,8 +126,10 @@ def screen_raw_rows_html(runs, nb=None) -> str:
     and the run's version with the reason it was saved."""
     from .trapping import run_hrms
 
-    out = ["<table><tr><th>run</th><th>product</th><th>isolated mass (mg)</th><th>qNMR integrals</th><th>dr</th><th>er</th>"
-           "<th>HRMS found / calcd (ppm)</th><th>version: reason</th></tr>"]
+    out = [
+        "<table><tr><th>run</th><th>product</th><th>isolated mass (mg)</th><th>qNMR integrals</th><th>dr</th><th>er</th>"
+        "<th>HRMS found / calcd (ppm)</th><th>version: reason</th></tr>"
+    ]
     for run in runs:
         if run.outcome is None:
             continue
@@ -130,9 +148,11 @@ def screen_raw_rows_html(runs, nb=None) -> str:
                 ms = e(f"{row['ion']} found {row['found_mz']:.4f}; {row['problem']}")
             else:
                 ms = e(f"{row['ion']} {row['found_mz']:.4f} / {row['calcd_mz']:.4f} ({row['ppm']:+.1f})")
-            out.append(f"<tr><td>{e(run.id or '')}</td><td>{e(res.product)}</td>"
-                       f"<td class='n'>{_q(res.isolated_mass, 'mass', fmt_mg)}</td>{_qnmr_cells(res)}"
-                       f"<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td><td>{ms}</td><td>{version}</td></tr>")
+            out.append(
+                f"<tr><td>{e(run.id or '')}</td><td>{e(res.product)}</td>"
+                f"<td class='n'>{_q(res.isolated_mass, 'mass', fmt_mg)}</td>{_qnmr_cells(res)}"
+                f"<td>{e(res.dr or DASH)}</td><td>{e(res.er or DASH)}</td><td>{ms}</td><td>{version}</td></tr>"
+            )
     out.append("</table>")
     return "\n".join(out)
 
@@ -153,13 +173,21 @@ def weighed_html(run, nb=None) -> str:
     if not rows:
         return ""
     fmt = {"mg": fmt_mg, "µL": fmt_ul, "mmol": fmt_mmol}
-    out = ["<p class='meta'>Equiv, concentration and yields above are worked out from what was weighed.</p>",
-           "<table><tr><th>line</th><th>planned</th><th>weighed</th><th>difference</th></tr>"]
+    out = [
+        "<p class='meta'>Equiv, concentration and yields above are worked out from what was weighed.</p>",
+        "<table><tr><th>line</th><th>planned</th><th>weighed</th><th>difference</th></tr>",
+    ]
     for w in rows:
         f = fmt[w.unit]
         diff = DASH if w.difference_pct is None else f"{w.difference_pct:+.1f} %"
-        flag = " class='warn'" if limit_pct is not None and w.difference_pct is not None and abs(w.difference_pct) > limit_pct else ""
-        out.append(f"<tr><td>{e(w.name)}</td><td class='n'>{f(w.planned)} {e(w.unit)}</td>"
-                   f"<td class='n'>{f(w.weighed)} {e(w.unit)}</td><td class='n'{flag}>{e(diff)}</td></tr>")
+        flag = (
+            " class='warn'"
+            if limit_pct is not None and w.difference_pct is not None and abs(w.difference_pct) > limit_pct
+            else ""
+        )
+        out.append(
+            f"<tr><td>{e(w.name)}</td><td class='n'>{f(w.planned)} {e(w.unit)}</td>"
+            f"<td class='n'>{f(w.weighed)} {e(w.unit)}</td><td class='n'{flag}>{e(diff)}</td></tr>"
+        )
     out.append("</table>")
     return "\n".join(out)

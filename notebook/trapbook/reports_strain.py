@@ -34,14 +34,16 @@ def plot_panels(smap: dict) -> list[dict]:
         finite = [v for low, high, _ in limits for v in (low, high) if v is not None]
         xs = [x["strain_kcal_mol"] for x in points]
         accurate = any(x["strain_tier"] == "accurate" for x in points)
-        panels.append({
-            "kind": kind,
-            "quantity": points[0]["strain_quantity"],
-            "points": points,
-            "bands": limits if accurate else [],
-            "x_range": (min(xs + finite) - _PAD, max(xs + finite) + _PAD),
-            "rho": rho.get(kind),
-        })
+        panels.append(
+            {
+                "kind": kind,
+                "quantity": points[0]["strain_quantity"],
+                "points": points,
+                "bands": limits if accurate else [],
+                "x_range": (min(xs + finite) - _PAD, max(xs + finite) + _PAD),
+                "rho": rho.get(kind),
+            }
+        )
     return panels
 
 
@@ -61,32 +63,63 @@ def _draw_panel(ax, panel: dict, traps: list[str], highlight: str | None) -> Non
     for k, trap in enumerate(traps):
         colour = _TRAP_COLOURS[k % len(_TRAP_COLOURS)]
         for accurate in (True, False):
-            pts = [(x["strain_kcal_mol"], t["yield_pct"]) for x in panel["points"] for t in x["traps"]
-                   if t["trap"] == trap and t["yield_pct"] is not None and (x["strain_tier"] == "accurate") == accurate]
+            pts = [
+                (x["strain_kcal_mol"], t["yield_pct"])
+                for x in panel["points"]
+                for t in x["traps"]
+                if t["trap"] == trap and t["yield_pct"] is not None and (x["strain_tier"] == "accurate") == accurate
+            ]
             if pts:
-                ax.scatter([p[0] for p in pts], [p[1] for p in pts], marker=_MARKERS[k % len(_MARKERS)], s=36,
-                           facecolors=colour if accurate else "none", edgecolors=colour, zorder=3)
+                ax.scatter(
+                    [p[0] for p in pts],
+                    [p[1] for p in pts],
+                    marker=_MARKERS[k % len(_MARKERS)],
+                    s=36,
+                    facecolors=colour if accurate else "none",
+                    edgecolors=colour,
+                    zorder=3,
+                )
     for x in panel["points"]:
         if x["best_yield_pct"] is not None:
             label = (x["name"] or x["smiles"]) + ("" if x["strain_tier"] == "accurate" else " (prescreen)")
-            ax.annotate(label, (x["strain_kcal_mol"], x["best_yield_pct"]), fontsize=6, xytext=(3, 3),
-                        textcoords="offset points", fontweight="bold" if highlight and x["smiles"] == highlight else "normal")
+            ax.annotate(
+                label,
+                (x["strain_kcal_mol"], x["best_yield_pct"]),
+                fontsize=6,
+                xytext=(3, 3),
+                textcoords="offset points",
+                fontweight="bold" if highlight and x["smiles"] == highlight else "normal",
+            )
     ax.set_xlim(lo, hi)
     ax.set_xlabel(f"{panel['quantity'].split(' (')[0]} (kcal/mol)", fontsize=7)
     rho = panel["rho"]
-    ax.set_title(panel["kind"] + (f"\nSpearman ρ = {rho['spearman_rho']:.2f} (n = {rho['n']})"
-                                  if rho and rho["spearman_rho"] is not None else ""), fontsize=8)
+    ax.set_title(
+        panel["kind"]
+        + (f"\nSpearman ρ = {rho['spearman_rho']:.2f} (n = {rho['n']})" if rho and rho["spearman_rho"] is not None else ""),
+        fontsize=8,
+    )
 
 
 def _legend(ax, panels: list[dict], traps: list[str]) -> None:
     """One entry per trap, and one saying what a hollow marker is, beside the last panel."""
     from matplotlib.lines import Line2D
 
-    handles = [Line2D([], [], linestyle="", marker=_MARKERS[k % len(_MARKERS)], color=_TRAP_COLOURS[k % len(_TRAP_COLOURS)],
-                      label=trap) for k, trap in enumerate(traps)]
+    handles = [
+        Line2D([], [], linestyle="", marker=_MARKERS[k % len(_MARKERS)], color=_TRAP_COLOURS[k % len(_TRAP_COLOURS)], label=trap)
+        for k, trap in enumerate(traps)
+    ]
     if any(x["strain_tier"] != "accurate" for p in panels for x in p["points"]):
-        handles.append(Line2D([], [], linestyle="", marker="o", markerfacecolor="none", color="#555",
-                              label="hollow: fast prescreen, not classed"))
+        handles.append(
+            Line2D(
+                [],
+                [],
+                linestyle="",
+                marker="o",
+                markerfacecolor="none",
+                color="#555",
+                label="hollow: fast prescreen, not classed",
+            )
+        )
     if handles:
         ax.legend(handles=handles, fontsize=6, loc="upper left", bbox_to_anchor=(1.02, 1.0), borderaxespad=0)
 
@@ -122,4 +155,4 @@ def strain_plot_svg(smap: dict, highlight: str | None = None) -> str:
     buf = io.StringIO()
     fig.savefig(buf, format="svg")
     svg = buf.getvalue()
-    return svg[svg.index("<svg"):]
+    return svg[svg.index("<svg") :]

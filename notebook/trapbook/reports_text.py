@@ -47,9 +47,20 @@ def yields_text(yields: list[ProductYield]) -> list[str]:
 
 def run_text(run: Run, meta: dict, table: AmountTable | None, yields: list[ProductYield], problem: str | None) -> str:
     current = f" of {meta['current_version']}: an earlier version, not the current one" if meta.get("current_version") else ""
-    head = [f"{printable(meta['id'])}  {printable(run.title)}  (version {meta['version']}{current}{', WITHDRAWN' if meta.get('withdrawn') else ''})"]
-    info = [x for x in (run.chemist, run.date.isoformat() if run.date else None, f"page {run.page}" if run.page else None,
-                        f"screen {run.screen}" if run.screen else None, run.status) if x]
+    head = [
+        f"{printable(meta['id'])}  {printable(run.title)}  (version {meta['version']}{current}{', WITHDRAWN' if meta.get('withdrawn') else ''})"
+    ]
+    info = [
+        x
+        for x in (
+            run.chemist,
+            run.date.isoformat() if run.date else None,
+            f"page {run.page}" if run.page else None,
+            f"screen {run.screen}" if run.screen else None,
+            run.status,
+        )
+        if x
+    ]
     head.append("  " + printable(" · ".join(info)))
     if run.intermediate:
         head.append(printable(f"  intermediate: {run.intermediate_name or ''} {run.intermediate}".rstrip()))
@@ -83,7 +94,9 @@ def weighed_text(run: Run) -> list[str]:
     out = ["weighed (equiv, concentration and yields above are worked out from these):"] if rows else []
     for w in rows:
         diff = f"{w.difference_pct:+.1f} %" if w.difference_pct is not None else "—"
-        out.append(f"  {cell(w.name, 28)} planned {fmt[w.unit](w.planned)} {w.unit}, weighed {fmt[w.unit](w.weighed)} {w.unit} ({diff})")
+        out.append(
+            f"  {cell(w.name, 28)} planned {fmt[w.unit](w.planned)} {w.unit}, weighed {fmt[w.unit](w.weighed)} {w.unit} ({diff})"
+        )
     return out
 
 

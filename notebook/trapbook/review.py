@@ -42,8 +42,15 @@ def _yields(run) -> dict:
     if not ys:
         return out
     best = amounts.headline_product(ys)
-    out.update({"isolated_yield_pct": best.isolated_yield_pct, "nmr_yield_pct": best.nmr_yield_pct,
-                "dr": best.dr, "ee_pct": best.ee_pct, "product": best.product})
+    out.update(
+        {
+            "isolated_yield_pct": best.isolated_yield_pct,
+            "nmr_yield_pct": best.nmr_yield_pct,
+            "dr": best.dr,
+            "ee_pct": best.ee_pct,
+            "product": best.product,
+        }
+    )
     return out
 
 
@@ -75,9 +82,16 @@ def review_screen(nb, screen_id: str) -> dict:
     for run in runs:
         y = _yields(run)
         found = findings_for(nb, run)
-        row = {"run_id": run.id, "title": run.title, "status": run.status,
-               "factors": {k: run.factors.get(k) for k in factors}, **y,
-               "findings": [{"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")]}
+        row = {
+            "run_id": run.id,
+            "title": run.title,
+            "status": run.status,
+            "factors": {k: run.factors.get(k) for k in factors},
+            **y,
+            "findings": [
+                {"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")
+            ],
+        }
         row["yield_pct"], row["yield_kind"] = (None, None) if y["yield_problem"] else amounts.headline_yield(run)
         rows.append(row)
 
@@ -89,19 +103,40 @@ def review_screen(nb, screen_id: str) -> dict:
             iso = [(r["isolated_yield_pct"], r["run_id"]) for r in mine if r["isolated_yield_pct"] is not None]
             nmr = [(r["nmr_yield_pct"], r["run_id"]) for r in mine if r["nmr_yield_pct"] is not None]
             head = [(r["yield_pct"], r["run_id"]) for r in mine if r["yield_pct"] is not None]
-            levels[name][level] = {"runs": [r["run_id"] for r in mine], "isolated": _summary(iso), "nmr": _summary(nmr),
-                                   "headline": _summary(head)}
+            levels[name][level] = {
+                "runs": [r["run_id"] for r in mine],
+                "isolated": _summary(iso),
+                "nmr": _summary(nmr),
+                "headline": _summary(head),
+            }
 
     done = [r for r in rows if r["yield_pct"] is not None]
     best = max(done, key=lambda r: (r["yield_pct"], r["run_id"])) if done else None
     best_out = None
     if best is not None:
         kinds = {r["yield_kind"] for r in done if r["yield_kind"] in ("isolated", "NMR")}
-        best_out = {"run_id": best["run_id"], "title": best["title"], "factors": best["factors"], "yield_pct": best["yield_pct"],
-                    "yield_kind": best["yield_kind"],
-                    "note": None if len(kinds) == 1 else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield"}
-    failed = [{"run_id": r["run_id"], "title": r["title"], "status": r["status"], "yield_pct": r["yield_pct"],
-               "findings": r["findings"] or [], "explained": bool(r["findings"])} for r in rows if _failed(r)]
+        best_out = {
+            "run_id": best["run_id"],
+            "title": best["title"],
+            "factors": best["factors"],
+            "yield_pct": best["yield_pct"],
+            "yield_kind": best["yield_kind"],
+            "note": None
+            if len(kinds) == 1
+            else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield",
+        }
+    failed = [
+        {
+            "run_id": r["run_id"],
+            "title": r["title"],
+            "status": r["status"],
+            "yield_pct": r["yield_pct"],
+            "findings": r["findings"] or [],
+            "explained": bool(r["findings"]),
+        }
+        for r in rows
+        if _failed(r)
+    ]
     planned = [r["run_id"] for r in rows if r["status"] in ("planned", "running")]
     return {
         "screen_id": screen.id,
@@ -134,11 +169,23 @@ def matrix(rows: list[dict], factors: dict[str, list[str]]) -> dict | None:
         for cl in col_levels:
             mine = [r for r in rows if r["factors"].get(row_f) == rl and (col_f is None or r["factors"].get(col_f) == cl)]
             vals = [r["yield_pct"] for r in mine if r["yield_pct"] is not None]
-            line.append({"yield_pct": mean(vals) if vals else None, "n": len(vals), "runs": [r["run_id"] for r in mine],
-                         "kinds": sorted({r["yield_kind"] for r in mine if r["yield_kind"]})})
+            line.append(
+                {
+                    "yield_pct": mean(vals) if vals else None,
+                    "n": len(vals),
+                    "runs": [r["run_id"] for r in mine],
+                    "kinds": sorted({r["yield_kind"] for r in mine if r["yield_kind"]}),
+                }
+            )
         cells.append(line)
-    return {"rows": row_f, "columns": col_f, "row_levels": row_levels, "column_levels": col_levels if col_f else [],
-            "cells": cells, "averaged_over": names[2:]}
+    return {
+        "rows": row_f,
+        "columns": col_f,
+        "row_levels": row_levels,
+        "column_levels": col_levels if col_f else [],
+        "cells": cells,
+        "averaged_over": names[2:],
+    }
 
 
 # --- strain against outcome ------------------------------------------------------------------------
@@ -230,23 +277,25 @@ def strain_map(nb) -> dict:
     for g in groups.values():
         seen = reading(g["strain"])
         ys = [t["yield_pct"] for t in g["traps"].values() if t["yield_pct"] is not None]
-        out.append({
-            "smiles": g["smiles"],
-            "name": g["name"],
-            "runs": g["runs"],
-            "kind": seen["kind"],
-            "strain_quantity": seen["strain_quantity"],
-            "strain_kcal_mol": seen["strain_kcal_mol"],
-            "strain_tier": seen["tier"],
-            # kept for views that have not moved to strain_kcal_mol yet: the olefin strain of alkenes only
-            "olefin_strain_kcal_mol": seen["strain_kcal_mol"] if seen["strain_quantity"] == OLEFIN_QUANTITY else None,
-            "stability_class": seen["stability_class"],
-            "needs_trap": seen["needs_trap"],
-            "strain_method": (g["strain"] or {}).get("method") or seen["tier"],
-            "strain_status": "cached" if g["strain"] else "not computed",
-            "best_yield_pct": max(ys) if ys else None,
-            "traps": [{"trap": k, **v} for k, v in sorted(g["traps"].items())],
-        })
+        out.append(
+            {
+                "smiles": g["smiles"],
+                "name": g["name"],
+                "runs": g["runs"],
+                "kind": seen["kind"],
+                "strain_quantity": seen["strain_quantity"],
+                "strain_kcal_mol": seen["strain_kcal_mol"],
+                "strain_tier": seen["tier"],
+                # kept for views that have not moved to strain_kcal_mol yet: the olefin strain of alkenes only
+                "olefin_strain_kcal_mol": seen["strain_kcal_mol"] if seen["strain_quantity"] == OLEFIN_QUANTITY else None,
+                "stability_class": seen["stability_class"],
+                "needs_trap": seen["needs_trap"],
+                "strain_method": (g["strain"] or {}).get("method") or seen["tier"],
+                "strain_status": "cached" if g["strain"] else "not computed",
+                "best_yield_pct": max(ys) if ys else None,
+                "traps": [{"trap": k, **v} for k, v in sorted(g["traps"].items())],
+            }
+        )
     out.sort(key=map_order)
     return {
         "intermediates": out,
@@ -256,8 +305,17 @@ def strain_map(nb) -> dict:
 
 
 #: The fields of a strain-map entry that come from its intermediate's cached strain (merged as one).
-STRAIN_FIELDS = ("kind", "strain_quantity", "strain_kcal_mol", "strain_tier", "olefin_strain_kcal_mol", "stability_class",
-                 "needs_trap", "strain_method", "strain_status")
+STRAIN_FIELDS = (
+    "kind",
+    "strain_quantity",
+    "strain_kcal_mol",
+    "strain_tier",
+    "olefin_strain_kcal_mol",
+    "stability_class",
+    "needs_trap",
+    "strain_method",
+    "strain_status",
+)
 
 
 def map_order(entry: dict) -> tuple:
@@ -276,8 +334,15 @@ def rank_by_kind(entries: list[dict]) -> dict:
     for e in entries:
         if e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None:
             by_kind.setdefault(e["kind"], []).append((e["strain_kcal_mol"], e["best_yield_pct"]))
-    kinds = [{"kind": k, "strain_quantity": quantity_of(k), "n": len(p),
-              "spearman_rho": spearman([x for x, _ in p], [y for _, y in p])} for k, p in sorted(by_kind.items())]
+    kinds = [
+        {
+            "kind": k,
+            "strain_quantity": quantity_of(k),
+            "n": len(p),
+            "spearman_rho": spearman([x for x, _ in p], [y for _, y in p]),
+        }
+        for k, p in sorted(by_kind.items())
+    ]
     only = kinds[0] if len(kinds) == 1 else None
     rho = only["spearman_rho"] if only else None
     if rho is not None:
@@ -286,5 +351,11 @@ def rank_by_kind(entries: list[dict]) -> dict:
         note = "intermediates of different kinds carry different strain quantities: rho is given per kind"
     else:
         note = "needs at least 3 intermediates with both a cached strain and a yield, and not all tied"
-    return {"method": RANKING_METHOD, "n": only["n"] if only else sum(k["n"] for k in kinds), "spearman_rho": rho,
-            "kind": only["kind"] if only else None, "by_kind": kinds, "note": note}
+    return {
+        "method": RANKING_METHOD,
+        "n": only["n"] if only else sum(k["n"] for k in kinds),
+        "spearman_rho": rho,
+        "kind": only["kind"] if only else None,
+        "by_kind": kinds,
+        "note": note,
+    }

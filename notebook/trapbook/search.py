@@ -50,8 +50,12 @@ def pending(nb) -> list[str]:
     n_done = nb.conn.execute("SELECT count(*) FROM search_state").fetchone()[0]
     if n_runs == n_done:
         return []
-    return [r[0] for r in nb.conn.execute(
-        "SELECT r.id FROM runs r LEFT JOIN search_state s ON s.run_id = r.id WHERE s.run_id IS NULL ORDER BY r.id")]
+    return [
+        r[0]
+        for r in nb.conn.execute(
+            "SELECT r.id FROM runs r LEFT JOIN search_state s ON s.run_id = r.id WHERE s.run_id IS NULL ORDER BY r.id"
+        )
+    ]
 
 
 def ensure_indexed(nb) -> int:
@@ -77,7 +81,7 @@ def reindex(nb) -> int:
         for table in ("run_structures", "search_state", "run_text", "structures"):
             nb.conn.execute(f"DELETE FROM {table}")
         n = 0
-        for rid, h, in nb.conn.execute("SELECT id, hash FROM runs ORDER BY id").fetchall():
+        for (rid,) in nb.conn.execute("SELECT id FROM runs ORDER BY id").fetchall():
             run_index.index_run(nb, nb.get_run(rid))  # summary row too: findings follow thresholds and strain cache
             n += 1
     clear_caches()
@@ -103,8 +107,7 @@ def _substring(column: str, text: str) -> tuple[str, list]:
 def _list_match(column: str, names: list[str]) -> tuple[str, list]:
     """SQL for 'one of the '; '-joined names in column equals one of names' (case-insensitive)."""
     wrapped = f"(';' || lower(replace(coalesce({column}, ''), '; ', ';')) || ';')"
-    return ("(" + " OR ".join(f"{wrapped} LIKE ? ESCAPE '\\'" for _ in names) + ")",
-            [like_pattern(f";{n};") for n in names])
+    return ("(" + " OR ".join(f"{wrapped} LIKE ? ESCAPE '\\'" for _ in names) + ")", [like_pattern(f";{n};") for n in names])
 
 
 def _known_trap(text: str) -> tuple[list[str], list[str]]:
@@ -135,8 +138,10 @@ def _trap_condition(trap: str) -> tuple[str, list]:
     if not smiles:
         return sql, args
     marks = ",".join("?" * len(smiles))
-    by_structure = (f"r.id IN (SELECT rs.run_id FROM run_structures rs JOIN structures s ON s.id = rs.structure_id "
-                    f"WHERE rs.part = 'trap' AND s.smiles IN ({marks}))")
+    by_structure = (
+        f"r.id IN (SELECT rs.run_id FROM run_structures rs JOIN structures s ON s.id = rs.structure_id "
+        f"WHERE rs.part = 'trap' AND s.smiles IN ({marks}))"
+    )
     return f"({sql} OR {by_structure})", [*args, *smiles]
 
 
@@ -173,12 +178,20 @@ def condition_sql(nb, q: Query) -> tuple[list[str], list]:
 
     if q.trap:
         add(*_trap_condition(q.trap.strip()))
-    for column, value in (("i.fluoride", q.fluoride), ("i.additive", q.additive), ("i.solvent", q.solvent),
-                          ("r.chemist", q.chemist)):
+    for column, value in (
+        ("i.fluoride", q.fluoride),
+        ("i.additive", q.additive),
+        ("i.solvent", q.solvent),
+        ("r.chemist", q.chemist),
+    ):
         if value:
             add(*_substring(column, value.strip()))
-    for column, bounds in (("i.temp_max_c", q.temp_c), ("i.time_min", q.time_min), ("i.yield_pct", q.yield_pct),
-                           ("r.date", q.date)):
+    for column, bounds in (
+        ("i.temp_max_c", q.temp_c),
+        ("i.time_min", q.time_min),
+        ("i.yield_pct", q.yield_pct),
+        ("r.date", q.date),
+    ):
         if bounds is not None:
             sql, a = _range_condition(column, bounds, whole_periods=column == "r.date")
             where.extend(sql)
@@ -213,7 +226,7 @@ def _text_rows(nb, text: str) -> list[tuple[str, float, str]]:
             ).fetchall()
         except sqlite3.OperationalError as exc:
             last = exc
-    raise TrapbookError(f"cannot read the text query '{text}' ({last})", "use plain words, or quote a phrase: \"silyl triflate\"")
+    raise TrapbookError(f"cannot read the text query '{text}' ({last})", 'use plain words, or quote a phrase: "silyl triflate"')
 
 
 def _text_hits(nb, text: str) -> dict[str, tuple[float, list[str]]]:
@@ -237,16 +250,31 @@ def _run_sets(nb, q: Query) -> list[tuple[dict, bool]]:
     sets: list[tuple[dict, bool]] = []
     if q.substructure:
         sub = q.substructure.strip()
-        sets.append((remember(memo, ("runs", "substructure", sub), lambda: runs_using(
-            nb, substructure_ids(nb, sub, time_limit_s=q.time_limit_s)[0], "substructure")), False))
+        sets.append(
+            (
+                remember(
+                    memo,
+                    ("runs", "substructure", sub),
+                    lambda: runs_using(nb, substructure_ids(nb, sub, time_limit_s=q.time_limit_s)[0], "substructure"),
+                ),
+                False,
+            )
+        )
     if q.inchikey:
         key = q.inchikey.strip().upper()
-        sets.append((remember(memo, ("runs", "inchikey", key), lambda: runs_using(nb, inchikey_ids(nb, key), "inchikey")),
-                     False))
+        sets.append((remember(memo, ("runs", "inchikey", key), lambda: runs_using(nb, inchikey_ids(nb, key), "inchikey")), False))
     if q.similar:
         threshold = float(q.min_similarity)
-        sets.append((remember(memo, ("runs", "similar", q.similar.strip(), threshold),
-                              lambda: runs_using(nb, similar_ids(nb, q.similar, threshold), "similarity")), True))
+        sets.append(
+            (
+                remember(
+                    memo,
+                    ("runs", "similar", q.similar.strip(), threshold),
+                    lambda: runs_using(nb, similar_ids(nb, q.similar, threshold), "similarity"),
+                ),
+                True,
+            )
+        )
     if q.text:
         sets.append((remember(memo, ("text", q.text.strip()), lambda: _text_hits(nb, q.text)), not q.similar))
     return sets

@@ -79,8 +79,14 @@ class Query:
 
     def has_conditions(self) -> bool:
         """True when a summary-row condition (not a structure or text set) is asked for."""
-        return bool(self.trap or self.fluoride or self.additive or self.solvent or self.finding or any(
-            r is not None for r in (self.temp_c, self.time_min, self.yield_pct)))
+        return bool(
+            self.trap
+            or self.fluoride
+            or self.additive
+            or self.solvent
+            or self.finding
+            or any(r is not None for r in (self.temp_c, self.time_min, self.yield_pct))
+        )
 
 
 @dataclass(frozen=True)
@@ -98,8 +104,14 @@ class FilterKey:
 
 #: The typed syntax, in the order the help and the README list it.
 FILTER_KEYS: tuple[FilterKey, ...] = (
-    FilterKey("trap", "trap", "trap", "trap:furan",
-              "the trap compound by name, abbreviation (DPIBF) or SMILES; furan is furan, not 2,5-dimethylfuran", "--trap"),
+    FilterKey(
+        "trap",
+        "trap",
+        "trap",
+        "trap:furan",
+        "the trap compound by name, abbreviation (DPIBF) or SMILES; furan is furan, not 2,5-dimethylfuran",
+        "--trap",
+    ),
     FilterKey("fluoride", "fluoride", "name", "fluoride:TBAF", "fluoride source name contains this", "--fluoride"),
     FilterKey("additive", "additive", "name", "additive:TBAB", "additive name contains this", "--additive"),
     FilterKey("solvent", "solvent", "name", "solvent:THF", "solvent name contains this", "--solvent"),
@@ -107,24 +119,55 @@ FILTER_KEYS: tuple[FilterKey, ...] = (
     FilterKey("screen", "screen", "screen", "screen:SC-0001", "runs of this screen (id or name)", "--screen"),
     FilterKey("finding", "finding", "code", "finding:trap-late", "runs with this bench-check finding code", "--finding"),
     FilterKey("tag", "tags", "tag", "tag:anti-Bredt", "runs carrying this tag (repeat for several)", "--tag", ("tags",)),
-    FilterKey("temp", "temp_c", "temperature", "temp:>100",
-              "highest temperature of the run, °C or with a unit: >100, <=-40, -78..0, 373K..400K", "--temp-min/--temp-max",
-              ("temperature",)),
-    FilterKey("time", "time_min", "duration", "time:>=2h", "total hold time, min or with a unit: >=2h, 30..90",
-              "--time-min/--time-max"),
-    FilterKey("yield", "yield_pct", "percent", "yield:50..80", "best product yield, %: >50, <10, 50..80",
-              "--yield-min/--yield-max"),
-    FilterKey("date", "date", "date", "date:>=2026-09-12",
-              "run date YYYY[-MM[-DD]]; a year or month is the whole period: 2026-09, <2026-10, 2026-09-01..2026-09-15",
-              "--date-from/--date-to"),
-    FilterKey("sub", "substructure", "structure", "sub:c1cc[nH]c1",
-              "SMILES or SMARTS contained in the precursor, intermediate, trap or a product", "--substructure",
-              ("s", "substructure")),
-    FilterKey("similar", "similar", "structure", "similar:C12=CCCC(CCC1)C2",
-              "SMILES; runs whose parts have Morgan/Tanimoto similarity at least min (default 0.6)", "--similar"),
+    FilterKey(
+        "temp",
+        "temp_c",
+        "temperature",
+        "temp:>100",
+        "highest temperature of the run, °C or with a unit: >100, <=-40, -78..0, 373K..400K",
+        "--temp-min/--temp-max",
+        ("temperature",),
+    ),
+    FilterKey(
+        "time", "time_min", "duration", "time:>=2h", "total hold time, min or with a unit: >=2h, 30..90", "--time-min/--time-max"
+    ),
+    FilterKey(
+        "yield", "yield_pct", "percent", "yield:50..80", "best product yield, %: >50, <10, 50..80", "--yield-min/--yield-max"
+    ),
+    FilterKey(
+        "date",
+        "date",
+        "date",
+        "date:>=2026-09-12",
+        "run date YYYY[-MM[-DD]]; a year or month is the whole period: 2026-09, <2026-10, 2026-09-01..2026-09-15",
+        "--date-from/--date-to",
+    ),
+    FilterKey(
+        "sub",
+        "substructure",
+        "structure",
+        "sub:c1cc[nH]c1",
+        "SMILES or SMARTS contained in the precursor, intermediate, trap or a product",
+        "--substructure",
+        ("s", "substructure"),
+    ),
+    FilterKey(
+        "similar",
+        "similar",
+        "structure",
+        "similar:C12=CCCC(CCC1)C2",
+        "SMILES; runs whose parts have Morgan/Tanimoto similarity at least min (default 0.6)",
+        "--similar",
+    ),
     FilterKey("min", "min_similarity", "similarity", "min:0.4", "the Tanimoto threshold for similar:", "--min"),
-    FilterKey("inchikey", "inchikey", "structure", "inchikey:MWPLVEDNUUSJAV",
-              "exact structure by InChIKey or its first 14-letter block", "--inchikey"),
+    FilterKey(
+        "inchikey",
+        "inchikey",
+        "structure",
+        "inchikey:MWPLVEDNUUSJAV",
+        "exact structure by InChIKey or its first 14-letter block",
+        "--inchikey",
+    ),
 )
 _BY_NAME = {alias: k for k in FILTER_KEYS for alias in (k.name, *k.aliases)}
 _TOKEN = re.compile(r'\s*(?:(?P<key>[A-Za-z][\w-]*):(?P<value>"[^"]*"?|\S*)|(?P<word>"[^"]*"?|\S+))')
@@ -142,7 +185,7 @@ def keys_markdown() -> str:
     for k in FILTER_KEYS:
         also = "".join(f", `{a}:`" for a in k.aliases)
         rows.append(f"| `{k.name}:`{also} | `{k.example}` | {k.help} | `{k.option}` |")
-    rows.append("| plain words | `glovebox` `\"silyl triflate\"` | full text of titles, notes, observations and tags | `--text` |")
+    rows.append('| plain words | `glovebox` `"silyl triflate"` | full text of titles, notes, observations and tags | `--text` |')
     return "\n".join(rows)
 
 
@@ -170,20 +213,30 @@ def parse_query(text: str) -> Query:
         name, raw = m.group("key").lower(), _unquote(m.group("value"))
         key = _BY_NAME.get(name)
         if key is None:
-            raise TrapbookError(f"the filter has no key '{name}:'", f"keys: {key_names()}; or put the words in quotes",
-                                field="filter", got=name, expected=[k.name for k in FILTER_KEYS])
+            raise TrapbookError(
+                f"the filter has no key '{name}:'",
+                f"keys: {key_names()}; or put the words in quotes",
+                field="filter",
+                got=name,
+                expected=[k.name for k in FILTER_KEYS],
+            )
         if not raw.strip():
             raise TrapbookError(f"'{name}:' needs a value", f"e.g. {key.example}", field="filter", got=name)
         if key.field == "tags":
             tags.append(raw.strip())
             continue
         if key.field in values:
-            raise TrapbookError(f"'{key.name}:' is given twice", "give each key once (only tag: repeats)", field="filter",
-                                got=name)
+            raise TrapbookError(
+                f"'{key.name}:' is given twice", "give each key once (only tag: repeats)", field="filter", got=name
+            )
         values[key.field] = _value(key, raw.strip())
     if "min_similarity" in values and "similar" not in values:
-        raise TrapbookError("'min:' is the threshold of a similarity query", "add similar:SMILES, e.g. similar:C1=CCCC1 min:0.4",
-                            field="filter", got="min")
+        raise TrapbookError(
+            "'min:' is the threshold of a similarity query",
+            "add similar:SMILES, e.g. similar:C1=CCCC1 min:0.4",
+            field="filter",
+            got="min",
+        )
     if words:
         values["text"] = " ".join(words)
     return Query(tags=tuple(tags), **values)
@@ -198,8 +251,9 @@ def _value(key: FilterKey, raw: str):
         try:
             return float(raw)
         except ValueError:
-            raise TrapbookError(f"min:{raw} is not a number", "give a Tanimoto threshold such as min:0.5", field="filter",
-                                got=raw) from None
+            raise TrapbookError(
+                f"min:{raw} is not a number", "give a Tanimoto threshold such as min:0.5", field="filter", got=raw
+            ) from None
     return raw
 
 
@@ -227,8 +281,9 @@ def number_range(text: str, kind: str, name: str) -> Range:
     op, a, b = _split_range(text)
     low, high = number(a, kind, name), number(b, kind, name)
     if op == ".." and low is not None and high is not None and low > high:
-        raise TrapbookError(f"{name}:{text} runs from high to low", f"write the lower bound first, e.g. {name}:{b}..{a}",
-                            field="filter", got=text)
+        raise TrapbookError(
+            f"{name}:{text} runs from high to low", f"write the lower bound first, e.g. {name}:{b}..{a}", field="filter", got=text
+        )
     return _as_range(op, low, high)
 
 
@@ -250,8 +305,9 @@ def number(value, kind: str, name: str) -> float | None:
             try:
                 out = float(text.rstrip("% "))
             except ValueError:
-                raise TrapbookError(f"{name} '{text}' is not a percentage", "give a number such as 50", field=name,
-                                    got=text) from None
+                raise TrapbookError(
+                    f"{name} '{text}' is not a percentage", "give a number such as 50", field=name, got=text
+                ) from None
         else:
             try:
                 out = float(text)
@@ -271,8 +327,12 @@ def check_time_limit(seconds) -> float:
     except (TypeError, ValueError):
         value = float("nan")
     if not 0 < value <= 3600:
-        raise TrapbookError(f"time limit {seconds} s is not between 0 and 3600 seconds", "give e.g. 5 (the default) or 30",
-                            field="time limit", got=seconds)
+        raise TrapbookError(
+            f"time limit {seconds} s is not between 0 and 3600 seconds",
+            "give e.g. 5 (the default) or 30",
+            field="time limit",
+            got=seconds,
+        )
     return value
 
 
@@ -294,14 +354,27 @@ def check_date(value, name: str) -> str | None:
         except ValueError:
             ok = False
     if not ok:
-        raise TrapbookError(f"date {name} '{text}' is not a date written YYYY-MM-DD", "e.g. 2026-09-01, 2026-09 or 2026",
-                            field=name, got=text)
+        raise TrapbookError(
+            f"date {name} '{text}' is not a date written YYYY-MM-DD", "e.g. 2026-09-01, 2026-09 or 2026", field=name, got=text
+        )
     return text
 
 
-def query_from_options(*, temp_min=None, temp_max=None, time_min=None, time_max=None, yield_min=None, yield_max=None,
-                       date_from=None, date_to=None, tags=None, **rest) -> Query:
+def query_from_options(
+    *,
+    temp_min=None,
+    temp_max=None,
+    time_min=None,
+    time_max=None,
+    yield_min=None,
+    yield_max=None,
+    date_from=None,
+    date_to=None,
+    tags=None,
+    **rest,
+) -> Query:
     """The Query of `trapbook search`'s options (and of `search.search(nb, **options)`)."""
+
     def bounds(low, high, kind, name) -> Range | None:
         lo, hi = number(low, kind, f"minimum {name}"), number(high, kind, f"maximum {name}")
         return None if lo is None and hi is None else Range(low=lo, high=hi)
@@ -313,8 +386,19 @@ def query_from_options(*, temp_min=None, temp_max=None, time_min=None, time_max=
     if unknown:
         raise TrapbookError(f"no search option {', '.join(unknown)}", "see trapbook search --help")
     given = {k: v for k, v in rest.items() if v is not None}
-    for name in ("substructure", "similar", "inchikey", "trap", "fluoride", "additive", "solvent", "chemist", "screen",
-                 "finding", "text"):
+    for name in (
+        "substructure",
+        "similar",
+        "inchikey",
+        "trap",
+        "fluoride",
+        "additive",
+        "solvent",
+        "chemist",
+        "screen",
+        "finding",
+        "text",
+    ):
         if isinstance(given.get(name), str) and not given[name].strip() and name != "text":
             given.pop(name)  # an empty option narrows nothing, as when it is left out
     return Query(
@@ -325,4 +409,3 @@ def query_from_options(*, temp_min=None, temp_max=None, time_min=None, time_max=
         tags=tuple(t.strip() for t in tag_list if t and t.strip()),
         **given,
     )
-

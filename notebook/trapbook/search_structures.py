@@ -118,8 +118,9 @@ def _as_words(data: bytes) -> np.ndarray:
     return np.frombuffer(data, dtype=np.uint64)
 
 
-def substructure_ids(nb, query_text: str, screen: bool = True, reuse: bool = True,
-                     time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> tuple[dict[int, float], dict]:
+def substructure_ids(
+    nb, query_text: str, screen: bool = True, reuse: bool = True, time_limit_s: float = DEFAULT_TIME_LIMIT_S
+) -> tuple[dict[int, float], dict]:
     """Ids of stored structures that contain the query (SMARTS or SMILES), each scored 1.
 
     With screen=False every stored molecule goes to the matcher: the slow path the
@@ -136,8 +137,9 @@ def substructure_ids(nb, query_text: str, screen: bool = True, reuse: bool = Tru
     return dict(found), dict(stats)
 
 
-def _substructure(nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: float,
-                  keep_matches: bool = True) -> tuple[dict[int, float], dict]:
+def _substructure(
+    nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: float, keep_matches: bool = True
+) -> tuple[dict[int, float], dict]:
     from .chemistry import fingerprints, molecules
 
     query = molecules.substructure_query(query_text)
@@ -148,8 +150,11 @@ def _substructure(nb, memo: _Memo, query_text: str, screen: bool, time_limit_s: 
     else:
         rows = list(range(len(ids)))
     candidates = [smiles[i] for i in rows]
-    hits = (_matching(candidates, query_text, time_limit_s) if keep_matches
-            else fingerprints.matching_indices(candidates, query_text, time_limit_s))
+    hits = (
+        _matching(candidates, query_text, time_limit_s)
+        if keep_matches
+        else fingerprints.matching_indices(candidates, query_text, time_limit_s)
+    )
     found: dict[int, float] = {int(ids[rows[i]]): 1.0 for i in hits}
     stats = {"structures": len(ids), "screened_in": len(rows), "matched": len(found)}
     return found, stats
@@ -177,7 +182,9 @@ def inchikey_ids(nb, key: str) -> dict[int, float]:
     """Stored structures with this InChIKey, or with this first (connectivity) block."""
     key = (key or "").strip().upper()
     if not re.fullmatch(r"[A-Z]{14}(-[A-Z]{10}(-[A-Z])?)?", key):
-        raise TrapbookError(f"'{key}' is not an InChIKey", "give a key like SIVKZPBURVINMX-UHFFFAOYSA-N, or its first 14-letter block")
+        raise TrapbookError(
+            f"'{key}' is not an InChIKey", "give a key like SIVKZPBURVINMX-UHFFFAOYSA-N, or its first 14-letter block"
+        )
     if len(key) == 14:
         rows = nb.conn.execute("SELECT id FROM structures WHERE inchikey LIKE ?", (key + "-%",))
     else:

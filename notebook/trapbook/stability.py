@@ -64,15 +64,27 @@ RULES: dict[str, KindRule] = {
         "olefin strain",
         "olefin_strain_kcal_mol",
         (
-            ClassBand(None, 0.0, "hyperstable", False,
-                      "the bridgehead alkene is more stable than its saturated parent; it survives without a trap",
-                      high_inclusive=False),
-            ClassBand(0.0, 17.0, "isolable", False,
-                      "bridgehead alkenes this strained are isolable at room temperature (e.g. bicyclo[3.3.1]non-1-ene)"),
-            ClassBand(17.0, 21.0, "observable", True,
-                      "observable at low temperature but not isolable; trap it in a preparative run"),
-            ClassBand(21.0, None, "unstable", True,
-                      "known only by trapping: have the trap in the flask before the fluoride source"),
+            ClassBand(
+                None,
+                0.0,
+                "hyperstable",
+                False,
+                "the bridgehead alkene is more stable than its saturated parent; it survives without a trap",
+                high_inclusive=False,
+            ),
+            ClassBand(
+                0.0,
+                17.0,
+                "isolable",
+                False,
+                "bridgehead alkenes this strained are isolable at room temperature (e.g. bicyclo[3.3.1]non-1-ene)",
+            ),
+            ClassBand(
+                17.0, 21.0, "observable", True, "observable at low temperature but not isolable; trap it in a preparative run"
+            ),
+            ClassBand(
+                21.0, None, "unstable", True, "known only by trapping: have the trap in the flask before the fluoride source"
+            ),
         ),
         _MS,
     ),
@@ -80,12 +92,13 @@ RULES: dict[str, KindRule] = {
         "olefin strain",
         "olefin_strain_kcal_mol",
         (
-            ClassBand(None, 17.0, "isolable", False,
-                      "a ring alkene this little strained is isolable (trans-cyclooctene is)"),
-            ClassBand(17.0, 21.0, "observable", True,
-                      "observable at low temperature but not isolable; trap it in a preparative run"),
-            ClassBand(21.0, None, "unstable", True,
-                      "known only by trapping: have the trap in the flask before the fluoride source"),
+            ClassBand(None, 17.0, "isolable", False, "a ring alkene this little strained is isolable (trans-cyclooctene is)"),
+            ClassBand(
+                17.0, 21.0, "observable", True, "observable at low temperature but not isolable; trap it in a preparative run"
+            ),
+            ClassBand(
+                21.0, None, "unstable", True, "known only by trapping: have the trap in the flask before the fluoride source"
+            ),
         ),
         _MS + "; trans-cyclooctene isolable (Cope et al., 1950s, from memory)",
     ),
@@ -93,12 +106,27 @@ RULES: dict[str, KindRule] = {
         "ring strain",
         "ring_strain_kcal_mol",
         (
-            ClassBand(None, 24.0, "isolable", False,
-                      "cycloalkynes this strained are isolable at room temperature (cyclooctyne, ring strain about 18)"),
-            ClassBand(24.0, 41.0, "cold and dilute only", True,
-                      "survives only dilute and cold, like cycloheptyne; trap it in a preparative run"),
-            ClassBand(41.0, None, "trapping only", True,
-                      "known only by trapping, like cyclohexyne: have the trap in the flask before the fluoride source"),
+            ClassBand(
+                None,
+                24.0,
+                "isolable",
+                False,
+                "cycloalkynes this strained are isolable at room temperature (cyclooctyne, ring strain about 18)",
+            ),
+            ClassBand(
+                24.0,
+                41.0,
+                "cold and dilute only",
+                True,
+                "survives only dilute and cold, like cycloheptyne; trap it in a preparative run",
+            ),
+            ClassBand(
+                41.0,
+                None,
+                "trapping only",
+                True,
+                "known only by trapping, like cyclohexyne: have the trap in the flask before the fluoride source",
+            ),
         ),
         "Harris & Alabugin, Mendeleev Commun. 2019, 29, 237 (cyclooctyne ring strain about 18, isolable); "
         "cycloheptyne cold/dilute only, cyclohexyne trapping only (facts of the trade, from memory); limits set "
@@ -108,13 +136,22 @@ RULES: dict[str, KindRule] = {
         "ring strain",
         "ring_strain_kcal_mol",
         (
-            ClassBand(None, 9.3, "isolable", False,
-                      "cyclic allenes this little strained are isolable, like 1,2-cyclononadiene"),
-            ClassBand(9.3, 14.5, "observable", True,
-                      "observable in cold solution but dimerises on warming, like 1,2-cyclooctadiene; trap it"),
-            ClassBand(14.5, None, "trapping only", True,
-                      "known only by trapping, like 1,2-cyclohexadiene (strain about 30): have the trap in the flask "
-                      "before the fluoride source"),
+            ClassBand(None, 9.3, "isolable", False, "cyclic allenes this little strained are isolable, like 1,2-cyclononadiene"),
+            ClassBand(
+                9.3,
+                14.5,
+                "observable",
+                True,
+                "observable in cold solution but dimerises on warming, like 1,2-cyclooctadiene; trap it",
+            ),
+            ClassBand(
+                14.5,
+                None,
+                "trapping only",
+                True,
+                "known only by trapping, like 1,2-cyclohexadiene (strain about 30): have the trap in the flask "
+                "before the fluoride source",
+            ),
         ),
         "1,2-cyclohexadiene strain about 30, trapping only (fact of the trade); 1,2-cyclononadiene isolable, "
         "1,2-cyclooctadiene dimerising on warming (from memory); limits set midway between the engine's values "
@@ -124,9 +161,13 @@ RULES: dict[str, KindRule] = {
         "aryne strain (formal triple bond, against an open-chain alkyne)",
         "aryne_strain_kcal_mol",
         (
-            ClassBand(None, None, "trapping only", True,
-                      "arynes are never isolable under ordinary conditions: have the trap in the flask before "
-                      "the fluoride source"),
+            ClassBand(
+                None,
+                None,
+                "trapping only",
+                True,
+                "arynes are never isolable under ordinary conditions: have the trap in the flask before the fluoride source",
+            ),
         ),
         "arynes and hetarynes are generated in situ and trapped, none isolable (fact of the trade); docs/sources.md, Strain",
     ),
@@ -172,8 +213,10 @@ def judge(result: dict | None) -> Judgement | None:
     above = _next_band(rule, band)
     if not needs_trap and above is not None and above.needs_trap and above.low - value < BORDER_KCAL:
         needs_trap = True
-        words += (f" It lies within {BORDER_KCAL:g} kcal/mol of the {above.name} limit ({above.low:g}), inside the "
-                  "method's uncertainty: treat it as needing a trap.")
+        words += (
+            f" It lies within {BORDER_KCAL:g} kcal/mol of the {above.name} limit ({above.low:g}), inside the "
+            "method's uncertainty: treat it as needing a trap."
+        )
     if result.get("converged") is False and not needs_trap:
         # an unconverged geometry may hide strain: never let it clear a run of its trap
         needs_trap = True

@@ -36,8 +36,10 @@ def intermediate_of_run(run) -> tuple[str, str] | None:
                 smiles = derive(line.smiles)
             except TrapbookError:
                 continue
-            return smiles, (f"derived from the precursor {line.name} ({line.smiles}): fluoride removes the silyl "
-                            "group and the leaving group leaves from the next carbon")
+            return smiles, (
+                f"derived from the precursor {line.name} ({line.smiles}): fluoride removes the silyl "
+                "group and the leaving group leaves from the next carbon"
+            )
     return None
 
 
@@ -94,7 +96,9 @@ def precursor_release(smiles: str) -> dict | None:
     }
 
 
-def get_strain(nb, smiles: str, tier: str = "accurate", progress: Callable[[str, float], None] | None = None, refresh: bool = False) -> dict:
+def get_strain(
+    nb, smiles: str, tier: str = "accurate", progress: Callable[[str, float], None] | None = None, refresh: bool = False
+) -> dict:
     """The strain of an intermediate, from the notebook's cache or computed and then cached."""
     import time
 

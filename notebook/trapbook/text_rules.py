@@ -33,9 +33,16 @@ NOTE_MAX = 20_000
 _NOT_IN_NOTES = re.compile(f"[{UNSAFE_IN_NOTES}]")
 _NOT_IN_A_LINE = re.compile(f"[{UNSAFE_IN_A_LINE}]")
 
-_CHARACTER_NAMES = {0x00: "a NUL character", 0x09: "a tab", 0x0A: "a line break", 0x0D: "a carriage return",
-                    0x1B: "an escape character", 0x7F: "a delete character", 0x2028: "a line separator",
-                    0x2029: "a paragraph separator"}
+_CHARACTER_NAMES = {
+    0x00: "a NUL character",
+    0x09: "a tab",
+    0x0A: "a line break",
+    0x0D: "a carriage return",
+    0x1B: "an escape character",
+    0x7F: "a delete character",
+    0x2028: "a line separator",
+    0x2029: "a paragraph separator",
+}
 
 #: One rule for run and screen ids, whoever makes them (the notebook, a run file, every import):
 #: a letter or digit, then up to 63 letters, digits, '.', '_' or '-', and never '..'.
@@ -46,7 +53,11 @@ def _character(ch: str) -> str:
     code = ord(ch)
     name = _CHARACTER_NAMES.get(code)
     if name is None:
-        name = "a direction mark or override" if code in (0x061C, 0x200E, 0x200F) or 0x202A <= code <= 0x202E or 0x2066 <= code <= 0x2069 else "a control character"
+        name = (
+            "a direction mark or override"
+            if code in (0x061C, 0x200E, 0x200F) or 0x202A <= code <= 0x202E or 0x2066 <= code <= 0x2069
+            else "a control character"
+        )
     return f"{name} (U+{code:04X})"
 
 
@@ -56,12 +67,15 @@ def check_line(text: str, limit: int = SINGLE_LINE_MAX) -> str:
         return text
     bad = _NOT_IN_A_LINE.search(text)
     if bad:
-        raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1} "
-                         f"('{shown_input(text, 40)}'); a single-line field takes plain text only: "
-                         "remove it (no control characters, line breaks or direction overrides)")
+        raise ValueError(
+            f"contains {_character(bad.group())} at character {bad.start() + 1} "
+            f"('{shown_input(text, 40)}'); a single-line field takes plain text only: "
+            "remove it (no control characters, line breaks or direction overrides)"
+        )
     if len(text) > limit:
-        raise ValueError(f"is {len(text):,} characters long; at most {limit:,} are kept here: shorten it "
-                         "(longer text belongs in the notes)")
+        raise ValueError(
+            f"is {len(text):,} characters long; at most {limit:,} are kept here: shorten it (longer text belongs in the notes)"
+        )
     return text
 
 
@@ -71,11 +85,14 @@ def check_note(text: str) -> str:
         return text
     bad = _NOT_IN_NOTES.search(text)
     if bad:
-        raise ValueError(f"contains {_character(bad.group())} at character {bad.start() + 1}; "
-                         "notes take text, line breaks and tabs only: remove it")
+        raise ValueError(
+            f"contains {_character(bad.group())} at character {bad.start() + 1}; "
+            "notes take text, line breaks and tabs only: remove it"
+        )
     if len(text) > NOTE_MAX:
-        raise ValueError(f"is {len(text):,} characters long; notes hold at most {NOTE_MAX:,}: "
-                         "shorten it, or attach the full text as a file")
+        raise ValueError(
+            f"is {len(text):,} characters long; notes hold at most {NOTE_MAX:,}: shorten it, or attach the full text as a file"
+        )
     return text
 
 
@@ -94,8 +111,10 @@ def validate_run_id(text: str) -> str:
             why = "looks like a file path"
         else:
             why = "has characters other than letters, digits, '.', '_' and '-'"
-        raise ValueError(f"'{shown_input(text, 40)}' {why}: an id starts with a letter or digit, then up to 63 "
-                         "letters, digits, '.', '_' or '-' (never '..'), e.g. TB-0042")
+        raise ValueError(
+            f"'{shown_input(text, 40)}' {why}: an id starts with a letter or digit, then up to 63 "
+            "letters, digits, '.', '_' or '-' (never '..'), e.g. TB-0042"
+        )
     return text
 
 
@@ -117,5 +136,6 @@ SingleLine = Annotated[str, AfterValidator(check_line), _schema(SINGLE_LINE_MAX,
 Title = Annotated[str, AfterValidator(lambda v: check_line(v, TITLE_MAX)), _schema(TITLE_MAX, _LINE_PATTERN)]
 SmilesText = Annotated[str, AfterValidator(lambda v: check_line(v, SMILES_MAX)), _schema(SMILES_MAX, _LINE_PATTERN)]
 Note = Annotated[str, AfterValidator(check_note), _schema(NOTE_MAX, _NOTE_PATTERN)]
-RunId = Annotated[str, AfterValidator(validate_run_id),
-                  Field(json_schema_extra={"pattern": r"^(?!.*\.\.)[A-Za-z0-9][A-Za-z0-9._-]{0,63}$"})]
+RunId = Annotated[
+    str, AfterValidator(validate_run_id), Field(json_schema_extra={"pattern": r"^(?!.*\.\.)[A-Za-z0-9][A-Za-z0-9._-]{0,63}$"})
+]

@@ -20,13 +20,18 @@ def _run_inputs(run) -> tuple[str, str, list[tuple[str, str | None]], tuple[str,
     found = intermediate_of_run(run)
     label = run.id or run.title
     if not found:
-        raise RecordError(f"run {label} names no intermediate and none can be derived from its precursor",
-                          "write the intermediate's SMILES on the run, or give the precursor's SMILES",
-                          field="intermediate")
+        raise RecordError(
+            f"run {label} names no intermediate and none can be derived from its precursor",
+            "write the intermediate's SMILES on the run, or give the precursor's SMILES",
+            field="intermediate",
+        )
     traps = [(ln.smiles, ln.name) for ln in run.lines_by_role("trap") if ln.smiles]
     if not traps:
-        raise RecordError(f"run {label} has no trap line with a SMILES",
-                          "add the trap's SMILES to its line (e.g. furan 'c1ccoc1')", field="trap")
+        raise RecordError(
+            f"run {label} has no trap line with a SMILES",
+            "add the trap's SMILES to its line (e.g. furan 'c1ccoc1')",
+            field="trap",
+        )
     return found[0], found[1], traps, _leaving_group(run)
 
 
@@ -45,8 +50,7 @@ def _leaving_group(run) -> tuple[str, str] | None:
 def _inputs(subject, trap: str | None):
     if isinstance(subject, str):
         if not trap:
-            raise RecordError("an intermediate without a trap gives no adduct", "give the trap's SMILES as well",
-                              field="trap")
+            raise RecordError("an intermediate without a trap gives no adduct", "give the trap's SMILES as well", field="trap")
         return subject, "as given", [(trap, None)], None
     intermediate, origin, traps, leaving = _run_inputs(subject)
     if trap:
@@ -95,8 +99,13 @@ def hrms_comparison(smiles: str, ion: str, found_mz: float) -> dict:
     counts = element_counts(smiles)
     calcd = ion_mz(counts, name)
     atoms, charge = ion_counts(counts, name)
-    return {"ion": name, "ion_formula": hill_formula(atoms) + ("+" if charge > 0 else "-"),
-            "calcd_mz": calcd, "found_mz": float(found_mz), "ppm": ppm_error(calcd, found_mz)}
+    return {
+        "ion": name,
+        "ion_formula": hill_formula(atoms) + ("+" if charge > 0 else "-"),
+        "calcd_mz": calcd,
+        "found_mz": float(found_mz),
+        "ppm": ppm_error(calcd, found_mz),
+    }
 
 
 def expected_formulas(run) -> dict[str, str]:
@@ -122,13 +131,19 @@ def run_hrms(run) -> list[dict]:
     """Each outcome product with an HRMS record: calculated m/z of its ion and the ppm error,
     or `problem` in words when the product line has no SMILES to calculate from."""
     out = []
-    for res in (run.outcome.products if run.outcome else []):
+    for res in run.outcome.products if run.outcome else []:
         if res.hrms is None:
             continue
         line = run.line(res.product)
         if line is None or not line.smiles:
-            out.append({"product": res.product, "ion": res.hrms.ion, "found_mz": res.hrms.found_mz,
-                        "problem": "the product line has no SMILES, so no m/z can be calculated"})
+            out.append(
+                {
+                    "product": res.product,
+                    "ion": res.hrms.ion,
+                    "found_mz": res.hrms.found_mz,
+                    "problem": "the product line has no SMILES, so no m/z can be calculated",
+                }
+            )
             continue
         out.append({"product": res.product, **hrms_comparison(line.smiles, res.hrms.ion, res.hrms.found_mz)})
     return out

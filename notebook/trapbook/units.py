@@ -88,7 +88,7 @@ CANONICAL_UNITS = {
 
 def _describe(q: pint.Quantity) -> str:
     """Name the dimension a quantity actually has, for the error message."""
-    for kind, (dim, words, _) in KINDS.items():
+    for kind, (_dim, words, _) in KINDS.items():
         if kind in ("equiv", "fraction"):
             continue
         if q.dimensionality == ureg.parse_expression("1 " + _probe_unit(kind)).dimensionality:
@@ -99,14 +99,21 @@ def _describe(q: pint.Quantity) -> str:
 
 
 def _probe_unit(kind: str) -> str:
-    return {"amount": "mol", "mass": "g", "volume": "L", "molarity": "M", "density": "g/mL",
-            "temperature": "K", "duration": "s", "molar_mass": "g/mol", "pressure": "Pa"}[kind]
+    return {
+        "amount": "mol",
+        "mass": "g",
+        "volume": "L",
+        "molarity": "M",
+        "density": "g/mL",
+        "temperature": "K",
+        "duration": "s",
+        "molar_mass": "g/mol",
+        "pressure": "Pa",
+    }[kind]
 
 
 def _label(field: str | None) -> str:
     return f"{field} " if field else ""
-
-
 
 
 def shown_input(value: Any, limit: int = 60) -> str:
@@ -157,18 +164,30 @@ def _check_limits(q: pint.Quantity, kind: str, field: str | None, shown: str) ->
     if kind == "temperature":
         typed = abs(float(q.magnitude))  # as given: a conversion may leave 1e-14 where 32 °F means 0 °C
         if 0 < typed < 1e-9:  # a subnormal or 1e-200 is a typo too
-            raise UnitError(f"{_label(field)}'{shown}' is too close to zero to be a temperature that was meant",
-                            "check the exponent, or give 0", field=field)
+            raise UnitError(
+                f"{_label(field)}'{shown}' is too close to zero to be a temperature that was meant",
+                "check the exponent, or give 0",
+                field=field,
+            )
         if math.isfinite(value) and low <= value <= high:
             return
-        raise UnitError(f"{_label(field)}'{shown}' is outside {low:g} to {high:g} °C, not a temperature a run can have",
-                        "check the sign, the number and the unit", field=field)
+        raise UnitError(
+            f"{_label(field)}'{shown}' is outside {low:g} to {high:g} °C, not a temperature a run can have",
+            "check the sign, the number and the unit",
+            field=field,
+        )
     if not math.isfinite(value) or abs(value) > high:
-        raise UnitError(f"{_label(field)}'{shown}' is far too large for {words} (at most {high:g}{shown_unit})",
-                        "check the number and the unit: this looks like a typo of many orders of magnitude", field=field)
+        raise UnitError(
+            f"{_label(field)}'{shown}' is far too large for {words} (at most {high:g}{shown_unit})",
+            "check the number and the unit: this looks like a typo of many orders of magnitude",
+            field=field,
+        )
     if value != 0 and abs(value) < low:
-        raise UnitError(f"{_label(field)}'{shown}' is too small to be {words} that was meant (below {low:g}{shown_unit})",
-                        "check the number and the unit, or give 0 if nothing was used", field=field)
+        raise UnitError(
+            f"{_label(field)}'{shown}' is too small to be {words} that was meant (below {low:g}{shown_unit})",
+            "check the number and the unit, or give 0 if nothing was used",
+            field=field,
+        )
 
 
 #: The minus sign as typeset (U+2212) and the en dash typed for it; only a leading dash is a
@@ -208,13 +227,16 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
         if isinstance(v, bool) or not isinstance(v, (int, float)):
             raise UnitError(f"{_label(field)}value {shown_input(v)} is not a number", "give a number", field=field)
         if not isinstance(unit, str):
-            raise UnitError(f"{_label(field)}unit {shown_input(unit)} is not text", f"give a unit such as {examples}", field=field)
+            raise UnitError(
+                f"{_label(field)}unit {shown_input(unit)} is not text", f"give a unit such as {examples}", field=field
+            )
         shown = shown_input(f"{v} {unit}".strip())
         try:
             number = float(v)
         except OverflowError:  # an integer of hundreds of digits
-            raise UnitError(f"{_label(field)}value {shown_input(str(v))} is not a finite number",
-                            f"give {words} ({examples})", field=field) from None
+            raise UnitError(
+                f"{_label(field)}value {shown_input(str(v))} is not a finite number", f"give {words} ({examples})", field=field
+            ) from None
         q = _build(number, unit, field, shown, examples)
     elif isinstance(value, bool):
         raise UnitError(f"{_label(field)}{shown} is not a quantity", f"give {words} ({examples})", field=field)
@@ -223,7 +245,9 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
             try:
                 q = Q_(float(value), "equiv" if kind == "equiv" else "dimensionless")
             except OverflowError:
-                raise UnitError(f"{_label(field)}{shown} is not a finite number", f"give {words} ({examples})", field=field) from None
+                raise UnitError(
+                    f"{_label(field)}{shown} is not a finite number", f"give {words} ({examples})", field=field
+                ) from None
         else:
             raise UnitError(
                 f"{_label(field)}'{value}' has no unit; expected {words}",
@@ -245,13 +269,17 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
             raise UnitError(
                 f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
                 f"give {words} ({examples})",
-                field=field, got=str(q.dimensionality), expected=str(expected),
+                field=field,
+                got=str(q.dimensionality),
+                expected=str(expected),
             )
     elif not q.dimensionless:
         raise UnitError(
             f"{_label(field)}'{shown}' is {_describe(q)}, not {words}",
             f"give {words} ({examples})",
-            field=field, got=str(q.dimensionality), expected="dimensionless",
+            field=field,
+            got=str(q.dimensionality),
+            expected="dimensionless",
         )
     if kind == "temperature":
         kelvin = q.to("K").magnitude
@@ -270,7 +298,9 @@ def _build(v: float, unit: str, field: str | None, shown: str, examples: str) ->
             return Q_(v, "percent")
         return Q_(v, unit)
     except Exception as exc:  # pint raises many kinds (even AssertionError) on odd text
-        raise UnitError(f"{_label(field)}unit '{shown_input(unit)}' in '{shown}' is not known", f"use one of {examples}", field=field) from exc
+        raise UnitError(
+            f"{_label(field)}unit '{shown_input(unit)}' in '{shown}' is not known", f"use one of {examples}", field=field
+        ) from exc
 
 
 def _parse_text(text: str, field: str | None, examples: str, words: str, dim: str) -> pint.Quantity:
@@ -284,11 +314,17 @@ def _parse_text(text: str, field: str | None, examples: str, words: str, dim: st
         )
     number, unit = float(m.group(1)), m.group(2).strip()
     if number == 0 and re.search(r"[1-9]", m.group(1).split("e")[0].split("E")[0]):
-        raise UnitError(f"{_label(field)}'{shown_input(text)}' is too small to be {words} that was meant",
-                        "check the exponent, or give 0 if nothing was used", field=field)
+        raise UnitError(
+            f"{_label(field)}'{shown_input(text)}' is too small to be {words} that was meant",
+            "check the exponent, or give 0 if nothing was used",
+            field=field,
+        )
     if re.match(r"[-\u2013\u2014]\s*\d", unit):
-        raise UnitError(f"{_label(field)}'{shown_input(text)}' reads as a range of two numbers",
-                        "give one value; a temperature that changes is written as a ramp, e.g. '0 °C to 25 °C'", field=field)
+        raise UnitError(
+            f"{_label(field)}'{shown_input(text)}' reads as a range of two numbers",
+            "give one value; a temperature that changes is written as a ramp, e.g. '0 °C to 25 °C'",
+            field=field,
+        )
     if not unit and dim:
         raise UnitError(
             f"{_label(field)}'{shown_input(text)}' has no unit; expected {words}",
@@ -309,17 +345,45 @@ def to_canonical(q: pint.Quantity, kind: str) -> float:
 
 
 _UNIT_TEXT = {
-    "microliter": "µL", "milliliter": "mL", "liter": "L", "nanoliter": "nL",
-    "millimole": "mmol", "micromole": "µmol", "mole": "mol", "nanomole": "nmol",
-    "milligram": "mg", "gram": "g", "microgram": "µg", "kilogram": "kg",
-    "degree_Celsius": "°C", "kelvin": "K", "degree_Fahrenheit": "°F",
-    "hour": "h", "minute": "min", "second": "s", "day": "d",
-    "molar": "M", "millimolar": "mM", "micromolar": "µM",
-    "equiv": "equiv", "percent": "%", "weight_percent": "wt%", "dimensionless": "",
-    "gram / milliliter": "g/mL", "gram / mole": "g/mol", "gram / liter": "g/L",
-    "gram / centimeter ** 3": "g/cm³", "kilogram / liter": "kg/L",
-    "bar": "bar", "kilopascal": "kPa", "pascal": "Pa", "atmosphere": "atm", "psi": "psi",
-    "mole / liter": "M", "millimole / milliliter": "M", "millimole / liter": "mM",
+    "microliter": "µL",
+    "milliliter": "mL",
+    "liter": "L",
+    "nanoliter": "nL",
+    "millimole": "mmol",
+    "micromole": "µmol",
+    "mole": "mol",
+    "nanomole": "nmol",
+    "milligram": "mg",
+    "gram": "g",
+    "microgram": "µg",
+    "kilogram": "kg",
+    "degree_Celsius": "°C",
+    "kelvin": "K",
+    "degree_Fahrenheit": "°F",
+    "hour": "h",
+    "minute": "min",
+    "second": "s",
+    "day": "d",
+    "molar": "M",
+    "millimolar": "mM",
+    "micromolar": "µM",
+    "equiv": "equiv",
+    "percent": "%",
+    "weight_percent": "wt%",
+    "dimensionless": "",
+    "gram / milliliter": "g/mL",
+    "gram / mole": "g/mol",
+    "gram / liter": "g/L",
+    "gram / centimeter ** 3": "g/cm³",
+    "kilogram / liter": "kg/L",
+    "bar": "bar",
+    "kilopascal": "kPa",
+    "pascal": "Pa",
+    "atmosphere": "atm",
+    "psi": "psi",
+    "mole / liter": "M",
+    "millimole / milliliter": "M",
+    "millimole / liter": "mM",
 }
 
 
@@ -386,27 +450,41 @@ MEASURED_KINDS = ("mass", "volume", "amount")
 def parse_measured(value: Any) -> pint.Quantity:
     """A weighed or measured quantity: a mass, a volume or an amount of substance, by its unit."""
     if isinstance(value, (int, float)) or (isinstance(value, str) and not re.search(r"[A-Za-zµμ]", value)):
-        raise UnitError(f"'{shown_input(value)}' has no unit; a weighed or measured amount needs one",
-                        "write it with its unit, e.g. '31.2 mg', '150 µL' or '0.105 mmol'", field="actual")
+        raise UnitError(
+            f"'{shown_input(value)}' has no unit; a weighed or measured amount needs one",
+            "write it with its unit, e.g. '31.2 mg', '150 µL' or '0.105 mmol'",
+            field="actual",
+        )
     for kind in MEASURED_KINDS:
         try:
             return parse_quantity(value, kind)
         except UnitError as exc:
             if exc.expected is None and exc.got is None:  # not a dimension mismatch: the value itself is wrong
                 raise
-    raise UnitError(f"'{shown_input(value)}' is not a mass, a volume or an amount of substance",
-                    "write what was weighed or measured, e.g. '31.2 mg', '150 µL' or '0.105 mmol'", field="actual")
+    raise UnitError(
+        f"'{shown_input(value)}' is not a mass, a volume or an amount of substance",
+        "write what was weighed or measured, e.g. '31.2 mg', '150 µL' or '0.105 mmol'",
+        field="actual",
+    )
 
 
 Measured = Annotated[
     Any,
     BeforeValidator(parse_measured),
     PlainSerializer(dump_quantity, return_type=dict | None, when_used="always"),
-    WithJsonSchema({"anyOf": [
-        {"type": "string", "description": "a mass, volume or amount written with its unit, e.g. '31.2 mg', '150 µL'"},
-        {"type": "object", "properties": {"value": {"type": "number"}, "unit": {"type": "string"}},
-         "required": ["value"], "additionalProperties": False},
-    ]}),
+    WithJsonSchema(
+        {
+            "anyOf": [
+                {"type": "string", "description": "a mass, volume or amount written with its unit, e.g. '31.2 mg', '150 µL'"},
+                {
+                    "type": "object",
+                    "properties": {"value": {"type": "number"}, "unit": {"type": "string"}},
+                    "required": ["value"],
+                    "additionalProperties": False,
+                },
+            ]
+        }
+    ),
 ]
 
 

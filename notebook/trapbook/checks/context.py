@@ -23,8 +23,7 @@ class Timeline:
 
     def present(self, run: Run, index: int) -> list:
         """Lines in the flask during step `index`; a line no step adds counts as present (the cautious view)."""
-        return [ln for ln in run.lines
-                if (s := self.step_of(ln.name)) is None or s <= index]
+        return [ln for ln in run.lines if (s := self.step_of(ln.name)) is None or s <= index]
 
 
 def timeline(run: Run) -> Timeline:

@@ -79,5 +79,11 @@ class Finding:
             raise TrapbookError(f"finding code '{self.code}' is not a known check code")
 
     def to_dict(self) -> dict:
-        return {"code": self.code, "severity": self.severity, "message": self.message,
-                "lines": list(self.lines), "steps": list(self.steps), "caution": self.caution}
+        return {
+            "code": self.code,
+            "severity": self.severity,
+            "message": self.message,
+            "lines": list(self.lines),
+            "steps": list(self.steps),
+            "caution": self.caution,
+        }

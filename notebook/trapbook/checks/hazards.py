@@ -27,7 +27,7 @@ def check_hazards(ctx: Context) -> list[Finding]:
     """One caution per material, once per run, so the reminders stay readable."""
     table = materials.hazards()
     out: list[Finding] = []
-    for key, (mat, names) in _materials_used(ctx.run).items():
+    for mat, names in _materials_used(ctx.run).values():
         keys = mat.hazards if mat is not None else ("fluoride",)
         titles = ", ".join(table[k].title for k in keys if k in table)
         label = mat.name if mat is not None else names[0]
@@ -43,7 +43,9 @@ def _fluoride_with_acid(ctx: Context) -> list[Finding]:
     acids = [ln for ln in run.lines if (m := materials.recognise(ln)) is not None and m.category == "acid"]
     if not fluorides or not acids:
         return []
-    msg = (f"The run puts a fluoride source ({listing(line_names(fluorides))}) together with an acid "
-           f"({listing(line_names(acids))}); together they give hydrogen fluoride.")
+    msg = (
+        f"The run puts a fluoride source ({listing(line_names(fluorides))}) together with an acid "
+        f"({listing(line_names(acids))}); together they give hydrogen fluoride."
+    )
     caution = materials.caution_text(("hf",))
     return [Finding("fluoride-acid", "warn", msg, line_names(fluorides) + line_names(acids), [], caution)]

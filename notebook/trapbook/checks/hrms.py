@@ -15,13 +15,17 @@ def check_hrms(ctx: Context) -> list[Finding]:
     limit = ctx.settings.hrms_ppm_max
     for row in run_hrms(ctx.run):
         if "problem" in row:
-            msg = (f"HRMS is recorded for '{row['product']}' ({row['ion']} found {row['found_mz']:.4f}), but {row['problem']}. "
-                   "Add the product's SMILES to its line.")
+            msg = (
+                f"HRMS is recorded for '{row['product']}' ({row['ion']} found {row['found_mz']:.4f}), but {row['problem']}. "
+                "Add the product's SMILES to its line."
+            )
             out.append(Finding("hrms-uncalculable", "note", msg, [row["product"]]))
         elif abs(row["ppm"]) > limit:
-            msg = (f"HRMS of '{row['product']}': {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
-                   f"found {row['found_mz']:.4f}, {row['ppm']:+.1f} ppm, beyond the lab's limit of {limit:g} ppm. "
-                   "Check the ion, the product's structure and the spectrometer's calibration.")
+            msg = (
+                f"HRMS of '{row['product']}': {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
+                f"found {row['found_mz']:.4f}, {row['ppm']:+.1f} ppm, beyond the lab's limit of {limit:g} ppm. "
+                "Check the ion, the product's structure and the spectrometer's calibration."
+            )
             out.append(Finding("hrms-off", "warn", msg, [row["product"]]))
     return out
 
@@ -42,8 +46,10 @@ def check_product_formula(ctx: Context) -> list[Finding]:
         if formula not in expected:
             adducts = ", ".join(f"{f} ({what})" for f, what in sorted(expected.items()) if what.startswith("adduct"))
             others = ", ".join(f for f, what in sorted(expected.items()) if not what.startswith("adduct"))
-            msg = (f"The product '{line.name}' is {formula}, which is neither intermediate + trap ({adducts}) nor a "
-                   f"listed by-product ({others}). Check its SMILES; if it is right, it is an unexpected product "
-                   "worth a second look ('trapbook products' lists the expected ones).")
+            msg = (
+                f"The product '{line.name}' is {formula}, which is neither intermediate + trap ({adducts}) nor a "
+                f"listed by-product ({others}). Check its SMILES; if it is right, it is an unexpected product "
+                "worth a second look ('trapbook products' lists the expected ones)."
+            )
             out.append(Finding("product-formula-unexpected", "warn", msg, [line.name]))
     return out

@@ -35,8 +35,10 @@ def check_outcome(ctx: Context) -> list[Finding]:
         if _qnmr_unreferenced(run, res):
             n = len(run.lines_by_role("internal standard"))
             why = "no internal standard line" if n == 0 else f"{n} internal standard lines and the qNMR names none"
-            msg = (f"Product '{res.product}' has qNMR integrals but {why}, so the NMR yield cannot be worked out. "
-                   "Add the internal standard as a line (with its mass and SMILES) or name it in the qNMR record.")
+            msg = (
+                f"Product '{res.product}' has qNMR integrals but {why}, so the NMR yield cannot be worked out. "
+                "Add the internal standard as a line (with its mass and SMILES) or name it in the qNMR record."
+            )
             out.append(Finding("qnmr-no-standard", "warn", msg, [res.product]))
             res = res.model_copy(update={"qnmr": None})
         try:
@@ -54,9 +56,11 @@ def _yield_findings(name: str, py, s: CheckSettings) -> list[Finding]:
     out = _yield_agreement(name, py, s)
     for kind, pct in (("isolated", py.isolated_yield_pct), ("NMR", py.nmr_yield_pct)):
         if pct is not None and pct > s.yield_max_pct:
-            msg = (f"The {kind} yield of '{name}' comes to {pct:.0f} %, above {s.yield_max_pct:g} %. Usually the "
-                   "scale, the product's SMILES (molar mass), residual solvent, or the standard's amount is off. "
-                   "Check them before trusting the number.")
+            msg = (
+                f"The {kind} yield of '{name}' comes to {pct:.0f} %, above {s.yield_max_pct:g} %. Usually the "
+                "scale, the product's SMILES (molar mass), residual solvent, or the standard's amount is off. "
+                "Check them before trusting the number."
+            )
             out.append(Finding("yield-over-100", "warn", msg, [name]))
     return out
 
@@ -66,29 +70,40 @@ def _yield_agreement(name: str, py, s: CheckSettings) -> list[Finding]:
     iso, nmr = py.isolated_yield_pct, py.nmr_yield_pct
     if iso is None or nmr is None or abs(iso - nmr) <= s.yield_disagree_pct:
         return []
-    why = ("product lost in work-up or purification, or an NMR standard amount that is too high"
-           if iso < nmr else "solvent or impurities in the isolated material, or an NMR standard amount that is too low")
-    msg = (f"The isolated yield of '{name}' ({iso:.0f} %) and its NMR yield ({nmr:.0f} %) differ by {abs(iso - nmr):.0f} "
-           f"points, more than the limit of {s.yield_disagree_pct:g}. Usual causes: {why}. Check before reporting either.")
+    why = (
+        "product lost in work-up or purification, or an NMR standard amount that is too high"
+        if iso < nmr
+        else "solvent or impurities in the isolated material, or an NMR standard amount that is too low"
+    )
+    msg = (
+        f"The isolated yield of '{name}' ({iso:.0f} %) and its NMR yield ({nmr:.0f} %) differ by {abs(iso - nmr):.0f} "
+        f"points, more than the limit of {s.yield_disagree_pct:g}. Usual causes: {why}. Check before reporting either."
+    )
     return [Finding("yield-disagree", "warn", msg, [name])]
 
 
 def _selectivity_findings(res, py, s: CheckSettings) -> list[Finding]:
     out = []
     if res.ee is not None and not 0 <= res.ee <= 100:
-        msg = (f"The ee of '{res.product}' is recorded as {res.ee:g} %; ee runs from 0 to 100 %. Record it as a "
-               "positive number (name the major enantiomer in a note), or give the er instead.")
+        msg = (
+            f"The ee of '{res.product}' is recorded as {res.ee:g} %; ee runs from 0 to 100 %. Record it as a "
+            "positive number (name the major enantiomer in a note), or give the er instead."
+        )
         out.append(Finding("ee-out-of-range", "warn", msg, [res.product]))
     if res.ee is not None and res.er and py.ee_pct is not None and abs(abs(res.ee) - py.ee_pct) > s.ee_tolerance_pct:
-        msg = (f"'{res.product}' has er {res.er}, which gives {py.ee_pct:.1f} % ee, but the ee is recorded as "
-               f"{res.ee:g} %. ee = (er - 1)/(er + 1); one of the two is wrong. Correct it, or keep only the er.")
+        msg = (
+            f"'{res.product}' has er {res.er}, which gives {py.ee_pct:.1f} % ee, but the ee is recorded as "
+            f"{res.ee:g} %. ee = (er - 1)/(er + 1); one of the two is wrong. Correct it, or keep only the er."
+        )
         out.append(Finding("ee-er-mismatch", "warn", msg, [res.product]))
     for label, text in (("dr", res.dr), ("er", res.er)):
         if text:
             a, b = parse_ratio(text)
             if a < b:
-                msg = (f"The {label} of '{res.product}' is written minor first ({text}); Trapbook reads it as "
-                       f"{b:g}:{a:g}. Write the major isomer first to avoid confusion.")
+                msg = (
+                    f"The {label} of '{res.product}' is written minor first ({text}); Trapbook reads it as "
+                    f"{b:g}:{a:g}. Write the major isomer first to avoid confusion."
+                )
                 out.append(Finding("ratio-order", "note", msg, [res.product]))
     return out
 
@@ -101,7 +116,9 @@ def _mass_balance(ctx: Context) -> list[Finding]:
     limit = ctx.settings.mass_balance_max_pct
     if mb is None or mb <= limit:
         return []
-    msg = (f"Products plus recovered precursor add up to {mb:.0f} % of the limiting amount, above {limit:g} %. "
-           "Material cannot appear from nowhere: check for residual solvent, impure fractions counted twice, "
-           "or a wrong scale.")
+    msg = (
+        f"Products plus recovered precursor add up to {mb:.0f} % of the limiting amount, above {limit:g} %. "
+        "Material cannot appear from nowhere: check for residual solvent, impure fractions counted twice, "
+        "or a wrong scale."
+    )
     return [Finding("mass-balance-high", "warn", msg, [p.product for p in ctx.run.outcome.products])]

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 from .. import amounts
 from ..errors import ChemistryError, TrapbookError
@@ -20,7 +21,6 @@ from .strain import check_alignment, check_strain
 from .temperature import check_sealed_gas, check_temperatures, check_vessel_fill
 from .water import check_water
 from .weighed import check_weighed
-
 
 _CHECKS: tuple[Callable[[Context], list[Finding]], ...] = (
     check_trap_order,
@@ -48,8 +48,10 @@ def _as_dict(value: Any, what: str) -> dict | None:
     if value is None:
         return None
     if not isinstance(value, dict):
-        raise TrapbookError(f"{what} must be the dict the strain engine returns (got {type(value).__name__})",
-                            "pass the engine's result unchanged, or None")
+        raise TrapbookError(
+            f"{what} must be the dict the strain engine returns (got {type(value).__name__})",
+            "pass the engine's result unchanged, or None",
+        )
     return value
 
 
@@ -62,8 +64,9 @@ def _context(run: Run, strain, alignment, settings) -> Context:
     return ctx
 
 
-def run_checks(run: Run | dict, *, strain: dict | None = None, alignment: dict | None = None,
-               settings: CheckSettings | None = None) -> list[Finding]:
+def run_checks(
+    run: Run | dict, *, strain: dict | None = None, alignment: dict | None = None, settings: CheckSettings | None = None
+) -> list[Finding]:
     """All findings for a run, most severe first, in a fixed order within each severity."""
     if isinstance(run, dict):
         run = load_run(run)

@@ -9,7 +9,6 @@ from typing import Any
 from ..bench_words import OVERNIGHT_H, ROOM_TEMPERATURE_C, BenchWords
 from ..errors import TrapbookError
 
-
 #: Where each default threshold comes from; shown in docs and kept next to the values.
 SETTING_SOURCES: dict[str, str] = {
     "trap_min_equiv": "common practice, no source",
@@ -73,14 +72,16 @@ class CheckSettings:
             raise TrapbookError(f"check settings must be greater than zero: {', '.join(bad)}", "give positive numbers")
         BenchWords(self.room_temperature_c, self.overnight_h)  # refuses a room temperature or overnight out of range
         if self.concentration_low_M >= self.concentration_high_M:
-            raise TrapbookError("concentration_low_M must be below concentration_high_M",
-                                f"got {self.concentration_low_M:g} M and {self.concentration_high_M:g} M")
+            raise TrapbookError(
+                "concentration_low_M must be below concentration_high_M",
+                f"got {self.concentration_low_M:g} M and {self.concentration_high_M:g} M",
+            )
 
     def to_dict(self) -> dict:
         return dataclasses.asdict(self)
 
     @classmethod
-    def from_dict(cls, data: Any) -> "CheckSettings":
+    def from_dict(cls, data: Any) -> CheckSettings:
         """Settings from a stored dict; missing keys keep their defaults, unknown keys are an error."""
         if data is None:
             return cls()
@@ -89,6 +90,7 @@ class CheckSettings:
         known = {f.name for f in dataclasses.fields(cls)}
         unknown = sorted(set(data) - known)
         if unknown:
-            raise TrapbookError(f"unknown check setting(s): {', '.join(map(str, unknown))}",
-                                f"known settings are: {', '.join(sorted(known))}")
+            raise TrapbookError(
+                f"unknown check setting(s): {', '.join(map(str, unknown))}", f"known settings are: {', '.join(sorted(known))}"
+            )
         return cls(**data)

@@ -11,8 +11,13 @@ from .context import Context
 from .finding import Finding
 
 #: Codes the spectra module writes, and how loud each is.
-SEVERITY = {"nmr-region-empty": "warn", "nmr-regions-overlap": "warn", "nmr-standard-distorted": "warn",
-            "nmr-product-zero": "note", "nmr-processing-note": "note"}
+SEVERITY = {
+    "nmr-region-empty": "warn",
+    "nmr-regions-overlap": "warn",
+    "nmr-standard-distorted": "warn",
+    "nmr-product-zero": "note",
+    "nmr-processing-note": "note",
+}
 #: Longest stored message shown; a record written by hand may hold anything. Common practice, no source.
 MAX_MESSAGE = 300
 
@@ -31,6 +36,12 @@ def check_spectrum(ctx: Context) -> list[Finding]:
             message = str(item.get("message") if isinstance(item, dict) else item)[:MAX_MESSAGE]
             if code not in SEVERITY:
                 code = "nmr-processing-note"
-            out.append(Finding(code, SEVERITY[code], f"{res.product} (from {rec.attachment_name or 'the spectrum'}): {message}",
-                               [res.product]))
+            out.append(
+                Finding(
+                    code,
+                    SEVERITY[code],
+                    f"{res.product} (from {rec.attachment_name or 'the spectrum'}): {message}",
+                    [res.product],
+                )
+            )
     return out

@@ -23,16 +23,22 @@ def check_strain(ctx: Context) -> list[Finding]:
     how = f" ({verdict.words} Source: {verdict.source})"
     if verdict.needs_trap:
         if not traps:
-            msg = (f"The intermediate needs a trap{how}. This run has none, so it will dimerise or decompose. "
-                   "Add a trap (e.g. furan or another diene) before the fluoride source.")
+            msg = (
+                f"The intermediate needs a trap{how}. This run has none, so it will dimerise or decompose. "
+                "Add a trap (e.g. furan or another diene) before the fluoride source."
+            )
             return [Finding("strain-untrapped", "stop", msg)]
         if trap_timing(ctx) == "late":
-            msg = (f"The intermediate needs a trap{how}, and the trap goes in after the fluoride source, so there "
-                   "is nothing in the flask to catch it when it forms. Add the trap first.")
+            msg = (
+                f"The intermediate needs a trap{how}, and the trap goes in after the fluoride source, so there "
+                "is nothing in the flask to catch it when it forms. Add the trap first."
+            )
             return [Finding("strain-untrapped", "stop", msg, line_names(traps))]
         return []
-    msg = (f"The intermediate is judged {verdict.stability}{how}. It may survive without a trap; a run without "
-           "one, with the product isolated or observed directly, may be worth trying.")
+    msg = (
+        f"The intermediate is judged {verdict.stability}{how}. It may survive without a trap; a run without "
+        "one, with the product isolated or observed directly, may be worth trying."
+    )
     return [Finding("strain-isolable", "note", msg)]
 
 
@@ -43,7 +49,9 @@ def check_alignment(ctx: Context) -> list[Finding]:
         return []
     dih = ctx.alignment.get("weighted_dihedral_deg", ctx.alignment.get("dihedral_deg"))
     angle = f" (Si-C-C-X dihedral about {dih:.0f}°)" if isinstance(dih, (int, float)) else ""
-    msg = (f"The precursor's C-Si bond and C-X bond are poorly aligned{angle}. Fluoride-triggered elimination "
-           "needs them antiperiplanar or close to it, so this diastereomer may not react even when heated "
-           "for long. Check which diastereomer you have, or make the aligned one.")
+    msg = (
+        f"The precursor's C-Si bond and C-X bond are poorly aligned{angle}. Fluoride-triggered elimination "
+        "needs them antiperiplanar or close to it, so this diastereomer may not react even when heated "
+        "for long. Check which diastereomer you have, or make the aligned one."
+    )
     return [Finding("precursor-misaligned", "warn", msg, line_names(ctx.run.lines_by_role("precursor")))]

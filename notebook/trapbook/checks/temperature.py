@@ -47,8 +47,11 @@ def _vapour_text(mat: materials.Material, t: float) -> str:
     if mat.antoine is None:
         return f"{mat.name}: no vapour-pressure constants on file"
     p = mat.antoine.pressure_bar(t)
-    fit = "" if mat.antoine.covers(t) else (
-        f", extrapolated beyond the fitted {mat.antoine.t_min_c:g} to {mat.antoine.t_max_c:g} °C, so rough")
+    fit = (
+        ""
+        if mat.antoine.covers(t)
+        else (f", extrapolated beyond the fitted {mat.antoine.t_min_c:g} to {mat.antoine.t_max_c:g} °C, so rough")
+    )
     return f"{mat.name}: about {p:.1f} bar at {t:g} °C (Antoine; {mat.antoine.source}{fit})"
 
 
@@ -89,8 +92,10 @@ def headspace(ctx: Context) -> tuple[float | None, str]:
 def _gas_text(ctx: Context, mmol: float, t: float) -> str:
     gas = materials.by_key("tmsf")
     space_ml, where = headspace(ctx)
-    head = (f"Desilylation releases up to {fmt_mmol(mmol)} mmol fluorotrimethylsilane (Me3SiF, bp about "
-            f"{gas.bp_c.value:g} °C; {gas.bp_c.source}), a gas at this temperature: ")
+    head = (
+        f"Desilylation releases up to {fmt_mmol(mmol)} mmol fluorotrimethylsilane (Me3SiF, bp about "
+        f"{gas.bp_c.value:g} °C; {gas.bp_c.source}), a gas at this temperature: "
+    )
     if space_ml is None:
         return head + f"{where}, so the gas has no room at all."
     bar = mmol / 1000.0 * _GAS_CONSTANT * (t + 273.15) / (space_ml / 1000.0)
@@ -114,12 +119,15 @@ def check_temperatures(ctx: Context) -> list[Finding]:
         if hot:
             out.append(_hot_finding(ctx, i, step, t, hot))
         low = step.min_temp_c()  # the bottom of a ramp is where a solvent freezes
-        cold = _by_material([(ln, m) for ln, m in liquids if ln.role == "solvent" and m.mp_c
-                             and low < m.mp_c.value - s.mp_margin_c])
+        cold = _by_material(
+            [(ln, m) for ln, m in liquids if ln.role == "solvent" and m.mp_c and low < m.mp_c.value - s.mp_margin_c]
+        )
         for mat, names in cold.values():
-            msg = (f"Step {i + 1} is at {low:g} °C, below the melting point of {mat.name} ({mat.mp_c.value:g} °C; "
-                   f"{mat.mp_c.source}). The solvent may freeze, stopping stirring and dropping reagents out "
-                   "of solution. Run warmer, or choose a solvent that stays liquid.")
+            msg = (
+                f"Step {i + 1} is at {low:g} °C, below the melting point of {mat.name} ({mat.mp_c.value:g} °C; "
+                f"{mat.mp_c.source}). The solvent may freeze, stopping stirring and dropping reagents out "
+                "of solution. Run warmer, or choose a solvent that stays liquid."
+            )
             out.append(Finding("below-mp", "warn", msg, names, [i + 1]))
     return out
 
@@ -128,14 +136,18 @@ def _hot_finding(ctx: Context, i: int, step, t: float, hot) -> Finding:
     names = [n for _, ns in hot.values() for n in ns]
     which = join_and([f"{m.name} (bp {m.bp_c.value:g} °C; {m.bp_c.source})" for m, _ in hot.values()])
     if not step.sealed:
-        msg = (f"Step {i + 1} is at {t:g} °C in an open vessel, above the boiling point of {which}. The liquid "
-               "will boil off, changing the concentration or leaving the flask dry. Fit a reflux condenser, "
-               "work below the boiling point, or use a sealed pressure vessel.")
+        msg = (
+            f"Step {i + 1} is at {t:g} °C in an open vessel, above the boiling point of {which}. The liquid "
+            "will boil off, changing the concentration or leaving the flask dry. Fit a reflux condenser, "
+            "work below the boiling point, or use a sealed pressure vessel."
+        )
         return Finding("above-bp-open", "warn", msg, names, [i + 1])
     vp = "; ".join(_vapour_text(m, t) for m, _ in hot.values())
     gas = _gas_mmol(ctx, i)
-    msg = (f"Step {i + 1} heats a sealed vessel to {t:g} °C, above the boiling point of {which}, so pressure "
-           f"builds. Vapour pressure of the pure liquid: {vp}.")
+    msg = (
+        f"Step {i + 1} heats a sealed vessel to {t:g} °C, above the boiling point of {which}, so pressure "
+        f"builds. Vapour pressure of the pure liquid: {vp}."
+    )
     if gas > 0:
         msg += " On top of that: " + _gas_text(ctx, gas, t)
     return Finding("above-bp-sealed", "warn", msg, names, [i + 1], _pressure_caution())
@@ -155,8 +167,11 @@ def check_sealed_gas(ctx: Context) -> list[Finding]:
             continue  # above-bp-sealed already says it, or no gas forms
         shown = t if t is not None else 20.0
         at = f" at {t:g} °C" if t is not None else ""
-        msg = (f"Step {i + 1} is in a sealed vessel{at}. " + _gas_text(ctx, n, shown)
-               + " Allow for this pressure when choosing the vessel.")
+        msg = (
+            f"Step {i + 1} is in a sealed vessel{at}. "
+            + _gas_text(ctx, n, shown)
+            + " Allow for this pressure when choosing the vessel."
+        )
         names = line_names(ctx.run.lines_by_role("precursor"))
         out.append(Finding("sealed-gas", "warn", msg, names, [i + 1], _pressure_caution()))
     return out
@@ -172,12 +187,16 @@ def check_vessel_fill(ctx: Context) -> list[Finding]:
     pct = 100.0 * liquid / vessel_ml
     limit = ctx.settings.vessel_fill_max_pct
     if pct > 100.0:
-        msg = (f"The liquids add up to {liquid:.3g} mL, more than the {vessel_ml:g} mL vessel holds. Use a larger "
-               "vessel or less solvent, or check the vessel volume and the line volumes.")
+        msg = (
+            f"The liquids add up to {liquid:.3g} mL, more than the {vessel_ml:g} mL vessel holds. Use a larger "
+            "vessel or less solvent, or check the vessel volume and the line volumes."
+        )
         return [Finding("vessel-overfilled", "stop", msg, [], sealed, _pressure_caution())]
     if pct > limit:
-        msg = (f"The sealed vessel ({vessel_ml:g} mL) is {pct:.0f} % full with {liquid:.3g} mL of liquid, above the "
-               f"limit of {limit:g} %. Heated liquid expands and its vapour and any gas need the space above it. "
-               "Use a larger vessel or less solvent.")
+        msg = (
+            f"The sealed vessel ({vessel_ml:g} mL) is {pct:.0f} % full with {liquid:.3g} mL of liquid, above the "
+            f"limit of {limit:g} %. Heated liquid expands and its vapour and any gas need the space above it. "
+            "Use a larger vessel or less solvent."
+        )
         return [Finding("vessel-overfilled", "warn", msg, [], sealed, _pressure_caution())]
     return []

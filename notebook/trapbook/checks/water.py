@@ -40,13 +40,17 @@ def check_water(ctx: Context) -> list[Finding]:
     per = total / ctx.table.limiting_mmol
     parts = ", ".join(f"'{n}' about {fmt_mmol(w)} mmol" for n, w in found)
     severity = "warn" if per > ctx.settings.water_warn_per_precursor else "note"
-    msg = (f"The reagents bring about {fmt_mmol(total)} mmol water, {per:.2g} mmol per mmol of "
-           f"'{ctx.table.limiting}' ({parts}). Water competes with the trap (protonation, hydrolysis of the "
-           "leaving group) and slows fluoride. ")
+    msg = (
+        f"The reagents bring about {fmt_mmol(total)} mmol water, {per:.2g} mmol per mmol of "
+        f"'{ctx.table.limiting}' ({parts}). Water competes with the trap (protonation, hydrolysis of the "
+        "leaving group) and slows fluoride. "
+    )
     if severity == "warn":
-        msg += (f"That is above the threshold of {ctx.settings.water_warn_per_precursor:g} mmol water per mmol precursor: "
-                "consider an anhydrous fluoride source, such as TBAT, or CsF dried by heating under vacuum and "
-                "used with 18-crown-6 or a tetraalkylammonium salt.")
+        msg += (
+            f"That is above the threshold of {ctx.settings.water_warn_per_precursor:g} mmol water per mmol precursor: "
+            "consider an anhydrous fluoride source, such as TBAT, or CsF dried by heating under vacuum and "
+            "used with 18-crown-6 or a tetraalkylammonium salt."
+        )
     else:
         msg += "An anhydrous fluoride source (TBAT, or dried CsF) avoids it if yields are low."
     return [Finding("water-brought", severity, msg, [n for n, _ in found])]

@@ -20,8 +20,10 @@ def check_weighed(ctx: Context) -> list[Finding]:
         if w.difference_pct is None or abs(w.difference_pct) <= limit:
             continue
         fmt = _FMT[w.unit]
-        msg = (f"'{w.name}': planned {fmt(w.planned)} {w.unit}, weighed {fmt(w.weighed)} {w.unit} "
-               f"({w.difference_pct:+.0f} %), beyond the lab's limit of {limit:g} %. Equiv, concentration and "
-               "yields are worked out from what was weighed; check the number was not mistyped.")
+        msg = (
+            f"'{w.name}': planned {fmt(w.planned)} {w.unit}, weighed {fmt(w.weighed)} {w.unit} "
+            f"({w.difference_pct:+.0f} %), beyond the lab's limit of {limit:g} %. Equiv, concentration and "
+            "yields are worked out from what was weighed; check the number was not mistyped."
+        )
         out.append(Finding("weighed-off-plan", "warn", msg, [w.name]))
     return out

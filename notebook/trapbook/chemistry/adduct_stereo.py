@@ -68,7 +68,12 @@ def _cis_pairs(inter: Chem.Mol, site: Site) -> list[tuple[int | None, int | None
     if any(len(v) != 2 for v in subs.values()):
         return []
     rings = [r for r in inter.GetRingInfo().AtomRings() if a in r and b in r]
-    if bond.GetStereo() in (Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOTRANS, Chem.BondStereo.STEREOZ, Chem.BondStereo.STEREOCIS):
+    if bond.GetStereo() in (
+        Chem.BondStereo.STEREOE,
+        Chem.BondStereo.STEREOTRANS,
+        Chem.BondStereo.STEREOZ,
+        Chem.BondStereo.STEREOCIS,
+    ):
         s, t = bond.GetStereoAtoms()
         s, t = (s, t) if s in subs[a] else (t, s)
         if bond.GetStereo() in (Chem.BondStereo.STEREOE, Chem.BondStereo.STEREOTRANS):
@@ -141,8 +146,9 @@ def mirror_smiles(mol: Chem.Mol) -> str:
 
 def has_stereo(mol: Chem.Mol) -> bool:
     """Whether the SMILES assigns any stereocentre or E/Z: if not, the adducts form as racemates."""
-    return any(a.GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED for a in mol.GetAtoms()) or \
-        any(b.GetStereo() != Chem.BondStereo.STEREONONE for b in mol.GetBonds())
+    return any(a.GetChiralTag() != Chem.ChiralType.CHI_UNSPECIFIED for a in mol.GetAtoms()) or any(
+        b.GetStereo() != Chem.BondStereo.STEREONONE for b in mol.GetBonds()
+    )
 
 
 def _one_hand(mol: Chem.Mol) -> Chem.Mol:
@@ -158,8 +164,9 @@ def _one_hand(mol: Chem.Mol) -> Chem.Mol:
 
 def _candidates(raw: Raw, racemic: bool, limits: Limits, deadline: float, result: Result):
     """(smiles, key, 3D model or None) for each stereoisomer, bounded in number and time."""
-    opts = StereoEnumerationOptions(onlyUnassigned=True, unique=True, tryEmbedding=False,
-                                    maxIsomers=limits.max_isomers_per_adduct, rand=EMBED_SEED)
+    opts = StereoEnumerationOptions(
+        onlyUnassigned=True, unique=True, tryEmbedding=False, maxIsomers=limits.max_isomers_per_adduct, rand=EMBED_SEED
+    )
     start = _one_hand(raw.mol) if racemic else raw.mol
     if GetStereoisomerCount(start, opts) > limits.max_isomers_per_adduct:
         result.truncated = True
@@ -184,8 +191,11 @@ def stereoisomers(raw: Raw, inter: Chem.Mol, racemic: bool, limits: Limits, dead
     racemic entry when nothing chiral went in."""
     pairs = _cis_pairs(inter, raw.site)
     kept: dict[str, dict] = {}
-    dropped = {"no 3D structure keeps them": 0, f"they need anti addition across {raw.site.label}": 0,
-               f"more than {limits.energy_window_kcal:g} kcal/mol (MMFF94) above the best isomer": 0}
+    dropped = {
+        "no 3D structure keeps them": 0,
+        f"they need anti addition across {raw.site.label}": 0,
+        f"more than {limits.energy_window_kcal:g} kcal/mol (MMFF94) above the best isomer": 0,
+    }
     reasons = list(dropped)
     for key, chiral, molh in _candidates(raw, racemic, limits, deadline, result):
         if molh is None:
@@ -197,7 +207,9 @@ def stereoisomers(raw: Raw, inter: Chem.Mol, racemic: bool, limits: Limits, dead
             kept[key] = {"smiles": key, "endo_exo": _endo_exo(molh, raw, inter), "chiral": chiral, "energy": energy}
     energies = [k["energy"] for k in kept.values() if k["energy"] is not None]
     if energies and limits.energy_window_kcal:
-        for key in [k for k, v in kept.items() if v["energy"] is not None and v["energy"] - min(energies) > limits.energy_window_kcal]:
+        for key in [
+            k for k, v in kept.items() if v["energy"] is not None and v["energy"] - min(energies) > limits.energy_window_kcal
+        ]:
             del kept[key]
             dropped[reasons[2]] += 1
     for reason, n in dropped.items():

@@ -61,8 +61,10 @@ def kelvin_of(temperature_c: float) -> float:
     """The temperature in kelvin, refused with words when it cannot be a run temperature."""
     kelvin = float(temperature_c) + 273.15
     if not math.isfinite(kelvin) or kelvin <= 0:
-        raise ChemistryError(f"Temperature {temperature_c} °C is not a usable temperature.",
-                             "Give the run temperature in °C, above absolute zero (−273.15 °C).")
+        raise ChemistryError(
+            f"Temperature {temperature_c} °C is not a usable temperature.",
+            "Give the run temperature in °C, above absolute zero (−273.15 °C).",
+        )
     return kelvin
 
 
@@ -124,8 +126,9 @@ def _units(mol: Chem.Mol) -> list[tuple]:
 def unassigned_diastereomers(mol: Chem.Mol) -> list[Chem.Mol]:
     """Every diastereomer that can be embedded when stereocentres are left open (one of each
     mirror pair); [] when there is only one, e.g. all centres set or a lone open centre."""
-    opts = StereoEnumerationOptions(onlyUnassigned=True, tryEmbedding=True, unique=True,
-                                    maxIsomers=MAX_DIASTEREOMERS, rand=0xC0FFEE)
+    opts = StereoEnumerationOptions(
+        onlyUnassigned=True, tryEmbedding=True, unique=True, maxIsomers=MAX_DIASTEREOMERS, rand=0xC0FFEE
+    )
     isomers = list(EnumerateStereoisomers(mol, options=opts))
     # enantiomers align identically: keep one of each mirror pair
     seen, kept = set(), []
@@ -141,8 +144,10 @@ def unassigned_diastereomers(mol: Chem.Mol) -> list[Chem.Mol]:
 
 def _mirror(mol: Chem.Mol) -> Chem.Mol:
     m = Chem.Mol(mol)
-    flip = {Chem.ChiralType.CHI_TETRAHEDRAL_CW: Chem.ChiralType.CHI_TETRAHEDRAL_CCW,
-            Chem.ChiralType.CHI_TETRAHEDRAL_CCW: Chem.ChiralType.CHI_TETRAHEDRAL_CW}
+    flip = {
+        Chem.ChiralType.CHI_TETRAHEDRAL_CW: Chem.ChiralType.CHI_TETRAHEDRAL_CCW,
+        Chem.ChiralType.CHI_TETRAHEDRAL_CCW: Chem.ChiralType.CHI_TETRAHEDRAL_CW,
+    }
     for a in m.GetAtoms():
         a.SetChiralTag(flip.get(a.GetChiralTag(), a.GetChiralTag()))
     return m
@@ -161,15 +166,20 @@ def precursor_alignment(smiles: str, temperature_c: float = 25.0) -> dict:
         sides, dropped = _real_diastereomers([_one_isomer(iso, temperature_c) for iso in isomers])
         verdicts = {s["verdict_short"] for s in sides}
         out = dict(sides[0])
-        out.update({
-            "smiles": Chem.MolToSmiles(mol),
-            "stereo_warning": (f"{len(sides)} diastereomers: the SMILES leaves stereocentres unassigned, so "
-                               "each one is judged below" + ("; they differ" if len(verdicts) > 1 else "")
-                               + (f" ({len(dropped)} more left out as too strained to exist)" if dropped else "")),
-            "verdict": "depends on the diastereomer: " + "; ".join(f"{s['smiles']}: {s['verdict']}" for s in sides),
-            "diastereomers": sides,
-            "left_out_diastereomers": dropped,
-        })
+        out.update(
+            {
+                "smiles": Chem.MolToSmiles(mol),
+                "stereo_warning": (
+                    f"{len(sides)} diastereomers: the SMILES leaves stereocentres unassigned, so "
+                    "each one is judged below"
+                    + ("; they differ" if len(verdicts) > 1 else "")
+                    + (f" ({len(dropped)} more left out as too strained to exist)" if dropped else "")
+                ),
+                "verdict": "depends on the diastereomer: " + "; ".join(f"{s['smiles']}: {s['verdict']}" for s in sides),
+                "diastereomers": sides,
+                "left_out_diastereomers": dropped,
+            }
+        )
     else:
         out = _one_isomer(mol, temperature_c)
         out["stereo_warning"] = None
@@ -188,8 +198,9 @@ def _real_diastereomers(sides: list[dict]) -> tuple[list[dict], list[dict]]:
     """Split off diastereomers too strained to exist, saying how far above the best each lies."""
     best = min(s["mmff_energy_kcal_mol"] for s in sides)
     kept = [s for s in sides if s["mmff_energy_kcal_mol"] - best <= IMPOSSIBLE_ABOVE_KCAL]
-    dropped = [{"smiles": s["smiles"], "above_best_kcal_mol": round(s["mmff_energy_kcal_mol"] - best, 1)}
-               for s in sides if s not in kept]
+    dropped = [
+        {"smiles": s["smiles"], "above_best_kcal_mol": round(s["mmff_energy_kcal_mol"] - best, 1)} for s in sides if s not in kept
+    ]
     return kept, dropped
 
 
@@ -198,19 +209,22 @@ def _one_isomer(mol: Chem.Mol, temperature_c: float) -> dict:
     ens = cf.build_ensemble(mol, n_confs=max(60, cf.n_conformers_for(mol)))
     pops = populations(ens.energies, temperature_c)
     reports = [_unit_report(mol, ens, pops, u, temperature_c) for u in units]
-    best = max(reports, key=lambda r: (r["aligned_fraction"], -r["best_aligned"]["delta_kcal_mol"]
-                                       if r["best_aligned"] else -1e9))
+    best = max(
+        reports, key=lambda r: (r["aligned_fraction"], -r["best_aligned"]["delta_kcal_mol"] if r["best_aligned"] else -1e9)
+    )
     out = dict(best)
-    out.update({
-        "smiles": Chem.MolToSmiles(mol),
-        "conformers": len(ens.conf_ids),
-        "mmff_energy_kcal_mol": round(float(ens.energies[0]), 3),
-        "temperature_c": temperature_c,
-        "method": f"MMFF94 (RDKit ETKDG), Boltzmann populations at {temperature_c:g} °C",
-        "measured": MEASURED,
-        "units": reports,
-        "engine_version": ENGINE_VERSION,
-    })
+    out.update(
+        {
+            "smiles": Chem.MolToSmiles(mol),
+            "conformers": len(ens.conf_ids),
+            "mmff_energy_kcal_mol": round(float(ens.energies[0]), 3),
+            "temperature_c": temperature_c,
+            "method": f"MMFF94 (RDKit ETKDG), Boltzmann populations at {temperature_c:g} °C",
+            "measured": MEASURED,
+            "units": reports,
+            "engine_version": ENGINE_VERSION,
+        }
+    )
     return out
 
 
@@ -224,14 +238,24 @@ def _unit_report(mol, ens: cf.Ensemble, pops: np.ndarray, unit: tuple, temperatu
     best = None
     if aligned.any():
         k = int(np.argmin(np.where(aligned, energies, np.inf)))
-        best = {"dihedral_deg": round(float(phis[k]), 1), "words": klyne_prelog(phis[k]),
-                "delta_kcal_mol": round(float(energies[k]), 2), "population": round(float(pops[k]), 4),
-                "reachable": bool(energies[k] <= REACHABLE_KCAL)}
+        best = {
+            "dihedral_deg": round(float(phis[k]), 1),
+            "words": klyne_prelog(phis[k]),
+            "delta_kcal_mol": round(float(energies[k]), 2),
+            "population": round(float(pops[k]), 4),
+            "reachable": bool(energies[k] <= REACHABLE_KCAL),
+        }
     in_ring = mol.GetRingInfo().NumBondRings(mol.GetBondBetweenAtoms(c_si, c_x).GetIdx()) > 0
     verdict, short = _verdict(phis, pops, energies, best, in_ring, temperature_c)
-    table = [{"delta_kcal_mol": round(float(e), 2), "population": round(float(p), 4),
-              "dihedral_deg": round(float(f), 1), "words": klyne_prelog(f)}
-             for e, p, f in list(zip(energies, pops, phis))[:12]]
+    table = [
+        {
+            "delta_kcal_mol": round(float(e), 2),
+            "population": round(float(p), 4),
+            "dihedral_deg": round(float(f), 1),
+            "words": klyne_prelog(f),
+        }
+        for e, p, f in list(zip(energies, pops, phis))[:12]
+    ]
     return {
         "atoms": {"si": si, "c_si": c_si, "c_x": c_x, "x": x},
         "leaving_group": _leaving_group(mol, x),
@@ -253,21 +277,30 @@ def _verdict(phis, pops, energies, best, in_ring: bool, temperature_c: float) ->
     low_words = klyne_prelog(phis[0])
     if best is not None and best["delta_kcal_mol"] <= 0.05:
         fixed = " (held by the ring)" if in_ring and float(phis.max() - phis.min()) < 20 else ""
-        return (f"aligned: {best['words']} in the lowest conformer{fixed}, "
-                f"{_pct(pops[(phis <= ALIGNED_WITHIN_DEG) | (phis >= 180 - ALIGNED_WITHIN_DEG)].sum())} "
-                f"aligned at {temperature_c:g} °C"), "aligned"
+        return (
+            f"aligned: {best['words']} in the lowest conformer{fixed}, "
+            f"{_pct(pops[(phis <= ALIGNED_WITHIN_DEG) | (phis >= 180 - ALIGNED_WITHIN_DEG)].sum())} "
+            f"aligned at {temperature_c:g} °C"
+        ), "aligned"
     if best is not None and best["reachable"]:
         how = "a ring flip" if in_ring else "a bond rotation"
-        return (f"aligns after {how}, +{best['delta_kcal_mol']:.1f} kcal/mol, {_pct(best['population'])} at "
-                f"{temperature_c:g} °C ({best['words']}, {best['dihedral_deg']:.0f}°; lowest conformer "
-                f"{low_words}, {phis[0]:.0f}°)"), "aligns after a change of conformer"
+        return (
+            f"aligns after {how}, +{best['delta_kcal_mol']:.1f} kcal/mol, {_pct(best['population'])} at "
+            f"{temperature_c:g} °C ({best['words']}, {best['dihedral_deg']:.0f}°; lowest conformer "
+            f"{low_words}, {phis[0]:.0f}°)"
+        ), "aligns after a change of conformer"
     near = phis[energies <= REACHABLE_KCAL]
     short_by = float(min(np.min(np.abs(near - 0.0)), np.min(np.abs(180.0 - near)))) - ALIGNED_WITHIN_DEG
-    tail = (f"; the nearest periplanar conformer lies +{best['delta_kcal_mol']:.1f} kcal/mol up"
-            if best is not None else "; no periplanar conformer was found")
-    return (f"not periplanar: within {REACHABLE_KCAL:.0f} kcal/mol the Si–C–C–X dihedral stays "
-            f"{_range_words(phis, energies)}, {short_by:.0f}° short of periplanar at best{tail}. Expect this "
-            "diastereomer to eliminate more slowly than an aligned one"), "not periplanar"
+    tail = (
+        f"; the nearest periplanar conformer lies +{best['delta_kcal_mol']:.1f} kcal/mol up"
+        if best is not None
+        else "; no periplanar conformer was found"
+    )
+    return (
+        f"not periplanar: within {REACHABLE_KCAL:.0f} kcal/mol the Si–C–C–X dihedral stays "
+        f"{_range_words(phis, energies)}, {short_by:.0f}° short of periplanar at best{tail}. Expect this "
+        "diastereomer to eliminate more slowly than an aligned one"
+    ), "not periplanar"
 
 
 def _range_words(phis, energies) -> str:

@@ -113,9 +113,7 @@ def _is_cumulated(atom: Chem.Atom) -> bool:
 
 def _ring_neighbours(mol: Chem.Mol, idx: int) -> list[int]:
     atom = mol.GetAtomWithIdx(idx)
-    return [
-        b.GetOtherAtomIdx(idx) for b in atom.GetBonds() if mol.GetRingInfo().NumBondRings(b.GetIdx())
-    ]
+    return [b.GetOtherAtomIdx(idx) for b in atom.GetBonds() if mol.GetRingInfo().NumBondRings(b.GetIdx())]
 
 
 def _bridgehead_alkenes(mol: Chem.Mol) -> list[Candidate]:

@@ -58,8 +58,15 @@ def released_acid(precursor: str) -> tuple[str, str] | None:
         atom.SetNumExplicitHs(0)
     Chem.SanitizeMol(acid)
     smiles = Chem.MolToSmiles(acid)
-    names = {"O=S(=O)(O)C(F)(F)F": "triflate", "O=S(=O)(O)C(F)(F)C(F)(F)C(F)(F)C(F)(F)F": "nonaflate",
-             "Cc1ccc(S(=O)(=O)O)cc1": "tosylate", "CS(=O)(=O)O": "mesylate", "Cl": "chloride", "Br": "bromide", "I": "iodide"}
+    names = {
+        "O=S(=O)(O)C(F)(F)F": "triflate",
+        "O=S(=O)(O)C(F)(F)C(F)(F)C(F)(F)C(F)(F)F": "nonaflate",
+        "Cc1ccc(S(=O)(=O)O)cc1": "tosylate",
+        "CS(=O)(=O)O": "mesylate",
+        "Cl": "chloride",
+        "Br": "bromide",
+        "I": "iodide",
+    }
     return smiles, names.get(smiles, f"the leaving group ({smiles})")
 
 
@@ -111,7 +118,9 @@ def by_products(inter: Chem.Mol, sites, leaving_group: tuple[str, str] | None) -
     rows: list[tuple[str, str]] = []
     if triple:
         if sites[0].kind == bh.ARYNE:
-            rows += [(s, f"[2+2] dimer of the aryne at {label} (biphenylene type)") for s, _ in _run("dimer#", (kek, kek), site_atoms)]
+            rows += [
+                (s, f"[2+2] dimer of the aryne at {label} (biphenylene type)") for s, _ in _run("dimer#", (kek, kek), site_atoms)
+            ]
         rows += [(s, f"[2+2+2] trimer of the intermediate at {label}") for s, _ in _run("trimer#", (kek, kek, kek), site_atoms)]
     else:
         rows += [(s, f"[2+2] dimer of the intermediate at {label}, {d}") for s, d in _run("dimer=", (kek, kek), site_atoms)]
@@ -121,10 +130,23 @@ def by_products(inter: Chem.Mol, sites, leaving_group: tuple[str, str] | None) -
         acid_smiles, name = leaving_group
         acid = parse(acid_smiles, "leaving-group acid SMILES")
         Chem.Kekulize(acid, clearAromaticFlags=True)
-        rows += [(s, f"adduct of the released {name} (H and {name} across {label}, {name} {d})")
-                 for s, d in _run(add, (kek, acid), site_atoms, 1)]
+        rows += [
+            (s, f"adduct of the released {name} (H and {name} across {label}, {name} {d})")
+            for s, d in _run(add, (kek, acid), site_atoms, 1)
+        ]
     if not rows:
         raise ChemistryError("no by-product template fits the intermediate", "report this structure")
-    return [{"smiles": s, "kind": "by-product", "reaction": None, "trap": None, "trap_label": None,
-             "site": label, "stereo": None, "racemic": False, "words": f"by-product: {w}, stereo not enumerated"}
-            for s, w in rows]
+    return [
+        {
+            "smiles": s,
+            "kind": "by-product",
+            "reaction": None,
+            "trap": None,
+            "trap_label": None,
+            "site": label,
+            "stereo": None,
+            "racemic": False,
+            "words": f"by-product: {w}, stereo not enumerated",
+        }
+        for s, w in rows
+    ]

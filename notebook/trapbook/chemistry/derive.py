@@ -57,8 +57,10 @@ def intermediate_from_precursor(smiles: str) -> str:
     si, c1, c2, x = matches[0]
     drop = _side(mol, si, c1) | _side(mol, x, c2)
     if c1 in drop or c2 in drop:
-        raise ChemistryError("the silyl and leaving groups are part of a ring with the reacting carbons",
-                             "write the intermediate's SMILES on the run instead")
+        raise ChemistryError(
+            "the silyl and leaving groups are part of a ring with the reacting carbons",
+            "write the intermediate's SMILES on the run instead",
+        )
     rw = Chem.RWMol(mol)
     bond = rw.GetBondBetweenAtoms(c1, c2)
     if bond.GetIsAromatic():
@@ -69,7 +71,9 @@ def intermediate_from_precursor(smiles: str) -> str:
             _flip_ring(rw, bond.GetIdx())
     new_order = {Chem.BondType.SINGLE: Chem.BondType.DOUBLE, Chem.BondType.DOUBLE: Chem.BondType.TRIPLE}.get(bond.GetBondType())
     if new_order is None:
-        raise ChemistryError("cannot raise the bond order between the reacting carbons", "write the intermediate's SMILES on the run")
+        raise ChemistryError(
+            "cannot raise the bond order between the reacting carbons", "write the intermediate's SMILES on the run"
+        )
     bond.SetBondType(new_order)
     bond.SetStereo(Chem.BondStereo.STEREONONE)
     for idx in (c1, c2):
@@ -83,7 +87,9 @@ def intermediate_from_precursor(smiles: str) -> str:
     try:
         Chem.SanitizeMol(out)
     except Exception:
-        raise ChemistryError("the derived intermediate is not a valid structure", "write the intermediate's SMILES on the run") from None
+        raise ChemistryError(
+            "the derived intermediate is not a valid structure", "write the intermediate's SMILES on the run"
+        ) from None
     Chem.AssignStereochemistry(out, cleanIt=True, force=True)
     return Chem.MolToSmiles(out)
 

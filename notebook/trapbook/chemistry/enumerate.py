@@ -62,11 +62,15 @@ class Candidate:
 def _skeleton(smiles: str) -> Chem.Mol:
     mol = parse(smiles, "skeleton SMILES")
     if any(b.GetBondType() != Chem.BondType.SINGLE for b in mol.GetBonds()):
-        raise ChemistryError("the skeleton has double, triple or aromatic bonds",
-                             "give the saturated skeleton (e.g. C1CC2CCCC(C1)C2); the campaign places the unsaturation")
+        raise ChemistryError(
+            "the skeleton has double, triple or aromatic bonds",
+            "give the saturated skeleton (e.g. C1CC2CCCC(C1)C2); the campaign places the unsaturation",
+        )
     if mol.GetNumAtoms() > MAX_SKELETON_ATOMS:
-        raise ChemistryError(f"the skeleton has {mol.GetNumAtoms()} heavy atoms, more than {MAX_SKELETON_ATOMS}",
-                             "give the polycyclic core alone; substituents do not change which bridgehead bonds exist")
+        raise ChemistryError(
+            f"the skeleton has {mol.GetNumAtoms()} heavy atoms, more than {MAX_SKELETON_ATOMS}",
+            "give the polycyclic core alone; substituents do not change which bridgehead bonds exist",
+        )
     if mol.GetRingInfo().NumRings() == 0:
         raise ChemistryError("the skeleton has no ring", "give a polycyclic skeleton, e.g. C1CC2CCCC(C1)C2")
     return mol
@@ -134,8 +138,7 @@ def intermediates_of_skeleton(smiles: str, kinds: tuple[str, ...] = (bh.BRIDGEHE
     """Every symmetry-unique strained intermediate of the kinds asked for, most strained-looking first."""
     unknown = [k for k in kinds if k not in KINDS]
     if unknown:
-        raise ChemistryError(f"unknown kind(s) {', '.join(map(repr, unknown))}",
-                             "choose from bridgehead, allene, alkyne")
+        raise ChemistryError(f"unknown kind(s) {', '.join(map(repr, unknown))}", "choose from bridgehead, allene, alkyne")
     mol = _skeleton(smiles)
     ranks = list(Chem.CanonicalRankAtoms(mol, breakTies=False))
     made: dict[tuple, Chem.Mol] = {}
@@ -186,8 +189,7 @@ def precursors_of(smiles: str, leaving_groups: tuple[str, ...] = DEFAULT_LEAVING
     """
     bad = [g for g in leaving_groups if g not in LEAVING_GROUPS]
     if bad:
-        raise ChemistryError(f"unknown leaving group(s) {', '.join(map(repr, bad))}",
-                             f"choose from {', '.join(LEAVING_GROUPS)}")
+        raise ChemistryError(f"unknown leaving group(s) {', '.join(map(repr, bad))}", f"choose from {', '.join(LEAVING_GROUPS)}")
     mol = parse(smiles, "intermediate SMILES")
     target = _flat(smiles)
     out: list[Precursor] = []
@@ -200,8 +202,10 @@ def precursors_of(smiles: str, leaving_groups: tuple[str, ...] = DEFAULT_LEAVING
                     continue
                 released = _flat(intermediate_from_precursor(made))
                 if released != target:  # conservation: the precursor must give back this very intermediate
-                    raise ChemistryError(f"precursor {made} releases {released}, not {target}",
-                                         "report the structure: the precursor builder is wrong here")
+                    raise ChemistryError(
+                        f"precursor {made} releases {released}, not {target}",
+                        "report the structure: the precursor builder is wrong here",
+                    )
                 seen.add(made)
                 out.append(Precursor(made, si_on, group, x_on))
     return out
@@ -262,8 +266,7 @@ def candidates_from_lines(lines: list[str]) -> list[Candidate]:
         except ChemistryError as exc:
             out.append(Candidate(name, smiles, "unreadable", f"line {number}: {exc.message}"))
         if len(out) > MAX_CANDIDATES:
-            raise ChemistryError(f"more than {MAX_CANDIDATES} candidates in the file",
-                                 "split the list into several campaigns")
+            raise ChemistryError(f"more than {MAX_CANDIDATES} candidates in the file", "split the list into several campaigns")
     return out
 
 

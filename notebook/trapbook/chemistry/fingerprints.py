@@ -108,8 +108,14 @@ def _library_matches(smiles: list[str], query: Chem.Mol, threads: int = 0) -> li
         holder.AddSmiles(s)
     lib = rdSubstructLibrary.SubstructLibrary(holder)
     try:
-        hits = lib.GetMatches(query, recursionPossible=True, useChirality=False, useQueryQueryMatches=False,
-                              numThreads=threads or -1, maxResults=len(smiles))
+        hits = lib.GetMatches(
+            query,
+            recursionPossible=True,
+            useChirality=False,
+            useQueryQueryMatches=False,
+            numThreads=threads or -1,
+            maxResults=len(smiles),
+        )
     except Exception as exc:  # RDKit raises assorted types on exotic queries
         raise ChemistryError(f"the substructure match failed ({exc})", "simplify the SMARTS") from None
     return sorted(hits)
@@ -213,11 +219,15 @@ def matching_indices(smiles: list[str], query_text: str, time_limit_s: float) ->
     if status == "timeout":
         shown = query_text if len(query_text) <= 60 else query_text[:57] + "..."
         raise ChemistryError(
-            f"query stopped after {time_limit_s:g} s: matching '{shown}' against {len(smiles)} stored structures "
-            "took too long",
+            f"query stopped after {time_limit_s:g} s: matching '{shown}' against {len(smiles)} stored structures took too long",
             "narrow the pattern (fewer wildcard atoms * and bonds ~, more specific atoms), add a condition, "
-            "or allow more time (search --time-limit)", field="substructure", got=query_text)
+            "or allow more time (search --time-limit)",
+            field="substructure",
+            got=query_text,
+        )
     if status == "crashed":
-        raise ChemistryError(f"the substructure matcher stopped without an answer (exit code {payload})",
-                             "try the query again; if it keeps failing, simplify the SMARTS")
+        raise ChemistryError(
+            f"the substructure matcher stopped without an answer (exit code {payload})",
+            "try the query again; if it keeps failing, simplify the SMARTS",
+        )
     raise ChemistryError(*payload)

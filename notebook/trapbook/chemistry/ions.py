@@ -30,6 +30,7 @@ def ion_name(ion: object) -> str:
     lookup = {name.casefold(): name for name in ION_NAMES}
     if key.casefold() not in lookup:
         shown = repr(ion)[:40]
-        raise ChemistryError(f"unknown ion {shown}", f"use one of {', '.join(ION_NAMES)}", field="ion",
-                             got=shown, expected=list(ION_NAMES))
+        raise ChemistryError(
+            f"unknown ion {shown}", f"use one of {', '.join(ION_NAMES)}", field="ion", got=shown, expected=list(ION_NAMES)
+        )
     return lookup[key.casefold()]

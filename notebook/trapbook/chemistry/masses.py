@@ -45,7 +45,7 @@ def net_charge(smiles: str) -> int:
 
 def _split(label: str) -> tuple[int, str]:
     digits = "".join(ch for ch in label if ch.isdigit())
-    return (int(digits) if digits else 0), label[len(digits):]
+    return (int(digits) if digits else 0), label[len(digits) :]
 
 
 def hill_formula(counts: dict[str, int]) -> str:
@@ -114,7 +114,9 @@ def ppm_error(calculated: float, found: float) -> float:
     """(found − calculated) / calculated in parts per million, the way an HRMS line quotes it."""
     for label, v in (("calculated m/z", calculated), ("found m/z", found)):
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
-            raise ChemistryError(f"{label} must be a positive finite number, got {v!r}", "give the m/z as read from the spectrum, e.g. 213.1248")
+            raise ChemistryError(
+                f"{label} must be a positive finite number, got {v!r}", "give the m/z as read from the spectrum, e.g. 213.1248"
+            )
     return (found - calculated) / calculated * 1e6
 
 
@@ -123,8 +125,9 @@ def mass_summary(smiles: str) -> dict:
     counts = element_counts(smiles)
     charge = net_charge(smiles)
     if charge:
-        raise ChemistryError(f"the structure carries a net charge of {charge:+d}",
-                             "give the neutral compound; the ions are formed from it")
+        raise ChemistryError(
+            f"the structure carries a net charge of {charge:+d}", "give the neutral compound; the ions are formed from it"
+        )
     return {
         "formula": hill_formula(counts),
         "molar_mass": average_mass(counts),

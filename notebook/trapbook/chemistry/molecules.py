@@ -25,7 +25,9 @@ def parse(smiles: str, what: str = "SMILES") -> Chem.Mol:
         raise ChemistryError(f"{what} is empty", "give a SMILES string such as 'c1ccoc1'")
     text = smiles.strip()
     if len(text) > MAX_SMILES_LENGTH:
-        raise ChemistryError(f"{what} is {len(text)} characters long", f"SMILES longer than {MAX_SMILES_LENGTH} characters are not accepted")
+        raise ChemistryError(
+            f"{what} is {len(text)} characters long", f"SMILES longer than {MAX_SMILES_LENGTH} characters are not accepted"
+        )
     mol = _parse_cached(text)
     if mol is None:
         raise ChemistryError(
@@ -94,8 +96,11 @@ def water_count(smiles: str) -> int:
     """Number of separate water molecules written in the SMILES (hydrates: '.O.O.O')."""
     mol = parse(smiles)
     frags = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=False)
-    return sum(1 for f in frags if f.GetNumAtoms() == 1 and f.GetAtomWithIdx(0).GetSymbol() == "O"
-               and f.GetAtomWithIdx(0).GetTotalNumHs() == 2)
+    return sum(
+        1
+        for f in frags
+        if f.GetNumAtoms() == 1 and f.GetAtomWithIdx(0).GetSymbol() == "O" and f.GetAtomWithIdx(0).GetTotalNumHs() == 2
+    )
 
 
 def fluoride_count(smiles: str) -> int:
@@ -126,7 +131,7 @@ def depict_svg(smiles: str, width: int = 260, height: int = 180) -> str:
     rdMolDraw2D.PrepareAndDrawMolecule(drawer, mol)
     drawer.FinishDrawing()
     svg = drawer.GetDrawingText()
-    return svg[svg.index("<svg"):] if "<svg" in svg else svg
+    return svg[svg.index("<svg") :] if "<svg" in svg else svg
 
 
 def substructure_query(pattern: str) -> Chem.Mol:

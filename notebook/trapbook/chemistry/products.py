@@ -83,8 +83,12 @@ _AZIDE = ("[3+2]", "[#7:1]=[#7+:2]=[#7-:3]", "[#7:1]1-[#7+0:2]=[#7+0:3]-[#6:6]{n
 _AZIDE_ALT = ("[3+2]", "[#7-:1]-[#7+:2]#[#7:3]", "[#7+0:1]1-[#7+0:2]=[#7:3]-[#6:6]{new}[#6:5]-1")
 _NITRILE_OXIDE = ("[3+2]", "[#6:1]#[#7+:2]-[#8-:3]", "[#6:1]1=[#7+0:2]-[#8+0:3]-[#6:6]{new}[#6:5]-1")
 TEMPLATES = {
-    "diene": _FIVE_RING_DIENE, "anthracene": _ANTHRACENE, "nitrone": _NITRONE,
-    "azide": _AZIDE, "azide ": _AZIDE_ALT, "nitrile oxide": _NITRILE_OXIDE,
+    "diene": _FIVE_RING_DIENE,
+    "anthracene": _ANTHRACENE,
+    "nitrone": _NITRONE,
+    "azide": _AZIDE,
+    "azide ": _AZIDE_ALT,
+    "nitrile oxide": _NITRILE_OXIDE,
 }
 
 
@@ -123,8 +127,11 @@ def strained_sites(mol: Chem.Mol) -> tuple[str, list[Site]]:
     for a, b in pairs:
         bond = mol.GetBondBetweenAtoms(a, b)
         joint = "#" if bond.GetBondType() == Chem.BondType.TRIPLE else "="
-        sites.append(Site(best.kind, (a, b), f"{atom_label(mol, a)}{joint}{atom_label(mol, b)}",
-                          bond.GetBondType() == Chem.BondType.TRIPLE))
+        sites.append(
+            Site(
+                best.kind, (a, b), f"{atom_label(mol, a)}{joint}{atom_label(mol, b)}", bond.GetBondType() == Chem.BondType.TRIPLE
+            )
+        )
     return best.kind, sites
 
 
@@ -233,9 +240,17 @@ def _raw_adducts(inter: Chem.Mol, inter_k: Chem.Mol, trap: Chem.Mol, site: Site)
                 if flat in found:
                     continue
                 alkene = (by_map[2], by_map[3]) if 2 in by_map and name in ("diene", "anthracene") else None
-                found[flat] = Raw(prod, flat, site, TEMPLATES[name][0], trap_family(trap, name, prod), from_inter,
-                                  by_map.get(7) if name == "diene" else None, alkene,
-                                  _regio(inter, prod, from_inter, site))
+                found[flat] = Raw(
+                    prod,
+                    flat,
+                    site,
+                    TEMPLATES[name][0],
+                    trap_family(trap, name, prod),
+                    from_inter,
+                    by_map.get(7) if name == "diene" else None,
+                    alkene,
+                    _regio(inter, prod, from_inter, site),
+                )
     return list(found.values())
 
 
@@ -265,8 +280,9 @@ def _words(raw: Raw, iso: dict, trap_label: str, index: int, count: int, show_re
     return text + (f", {', '.join(details)}" if details else "")
 
 
-def adducts(inter: Chem.Mol, sites: list[Site], trap_smiles: str, trap_label: str | None,
-            limits: Limits, deadline: float, result: Result) -> None:
+def adducts(
+    inter: Chem.Mol, sites: list[Site], trap_smiles: str, trap_label: str | None, limits: Limits, deadline: float, result: Result
+) -> None:
     parse(trap_smiles, "trap SMILES")
     trap = parse(canonical(trap_smiles), "trap SMILES")
     inter_k = Chem.Mol(inter)
@@ -288,20 +304,32 @@ def adducts(inter: Chem.Mol, sites: list[Site], trap_smiles: str, trap_label: st
             with_words = [i for i in isomers if not i["endo_exo"]]
             for iso in isomers:
                 index = with_words.index(iso) if iso in with_words else 0
-                result.products.append({
-                    "smiles": iso["smiles"], "kind": "adduct", "reaction": raw.order,
-                    "trap": Chem.MolToSmiles(trap), "trap_label": trap_label or raw.family,
-                    "site": site.label, "stereo": iso["endo_exo"], "racemic": bool(racemic and iso["chiral"]),
-                    "words": _words(raw, iso, trap_label or raw.family, index, len(with_words), show_regio, racemic),
-                })
+                result.products.append(
+                    {
+                        "smiles": iso["smiles"],
+                        "kind": "adduct",
+                        "reaction": raw.order,
+                        "trap": Chem.MolToSmiles(trap),
+                        "trap_label": trap_label or raw.family,
+                        "site": site.label,
+                        "stereo": iso["endo_exo"],
+                        "racemic": bool(racemic and iso["chiral"]),
+                        "words": _words(raw, iso, trap_label or raw.family, index, len(with_words), show_regio, racemic),
+                    }
+                )
     if not found_any:
         result.notes.append(
             f"no cycloaddition known for trap {Chem.MolToSmiles(trap)}: Trapbook knows furans, isobenzofurans, "
-            "anthracenes (9,10), pyrroles, cyclopentadienes ([4+2]) and nitrones, azides, nitrile oxides ([3+2])")
+            "anthracenes (9,10), pyrroles, cyclopentadienes ([4+2]) and nitrones, azides, nitrile oxides ([3+2])"
+        )
 
 
-def expected_products(intermediate: str, traps: list[tuple[str, str | None]], leaving_group: tuple[str, str] | None = None,
-                      limits: Limits | None = None) -> Result:
+def expected_products(
+    intermediate: str,
+    traps: list[tuple[str, str | None]],
+    leaving_group: tuple[str, str] | None = None,
+    limits: Limits | None = None,
+) -> Result:
     """Adducts of the intermediate with each trap, then the usual by-products, in a fixed order."""
     from .by_products import by_products
 

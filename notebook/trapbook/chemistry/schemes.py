@@ -65,8 +65,12 @@ class Scheme:
     def to_dict(self) -> dict:
         left = [_term_words(t) for t in self.terms if t.coefficient > 0]
         right = [_term_words(t) for t in self.terms if t.coefficient < 0]
-        return {"quantity": self.quantity, "words": self.words,
-                "equation": f"{' + '.join(left)} -> {' + '.join(right)}", "balanced": True}
+        return {
+            "quantity": self.quantity,
+            "words": self.words,
+            "equation": f"{' + '.join(left)} -> {' + '.join(right)}",
+            "balanced": True,
+        }
 
 
 def _term_words(t: Term) -> str:
@@ -261,8 +265,10 @@ def unit_scheme(mol: Chem.Mol, unit: Unit, parent: Chem.Mol, ref: dict) -> Schem
         words = "aryne + (Z)-alkene -> arene + alkyne: the strain of the formal triple bond against an open-chain alkyne"
     elif unit.kind in (bh.ALKYNE, bh.ALLENE):
         quantity = "excess over the saturated ring"
-        words = ("intermediate + open-chain saturated reference -> saturated ring + open-chain unsaturated reference: "
-                 "what the unit adds to the strain the ring already has")
+        words = (
+            "intermediate + open-chain saturated reference -> saturated ring + open-chain unsaturated reference: "
+            "what the unit adds to the strain the ring already has"
+        )
     else:
         quantity = "olefin strain"
         words = "olefin + reference alkane -> hydrogenated parent + reference olefin (Maier–Schleyer olefin strain)"
@@ -292,8 +298,10 @@ def ring_strain_scheme(parent: Chem.Mol) -> Scheme | None:
     None when a ring holds a non-aromatic multiple bond: no acyclic group matches it.
     """
     ring = parent.GetRingInfo()
-    if any(ring.NumBondRings(b.GetIdx()) and b.GetBondType() != Chem.BondType.SINGLE and not b.GetIsAromatic()
-           for b in parent.GetBonds()):
+    if any(
+        ring.NumBondRings(b.GetIdx()) and b.GetBondType() != Chem.BondType.SINGLE and not b.GetIsAromatic()
+        for b in parent.GetBonds()
+    ):
         return None
     coeffs: Counter = Counter()
     systems = _aromatic_systems(parent)
@@ -304,8 +312,10 @@ def ring_strain_scheme(parent: Chem.Mol) -> Scheme | None:
         coeffs[frag] += 1
         for donor in caps:
             coeffs[donor] -= Fraction(1, 2)
-    scheme = Scheme("ring strain of the saturated parent",
-                    "saturated parent + caps -> acyclic molecules (and capped arenes) with the same atom neighbourhoods")
+    scheme = Scheme(
+        "ring strain of the saturated parent",
+        "saturated parent + caps -> acyclic molecules (and capped arenes) with the same atom neighbourhoods",
+    )
     scheme.add(1, Chem.MolToSmiles(parent), "saturated parent")
     for smiles, c in sorted(coeffs.items()):
         if c:

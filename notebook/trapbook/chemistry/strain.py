@@ -36,8 +36,10 @@ from .strain_key import ENGINE_SCHEME, ENGINE_VERSION, TIERS, cache_key  # noqa:
 
 Progress = Callable[[str, float], None]
 _reference_species = reference_species  # benchmark scripts clear this cache between molecules
-PRESCREEN_NOTE = ("fast tier: MMFF94 prescreen, no class is given (MMFF94 overestimates twisted alkenes); "
-                  "run the accurate tier before acting on it")
+PRESCREEN_NOTE = (
+    "fast tier: MMFF94 prescreen, no class is given (MMFF94 overestimates twisted alkenes); "
+    "run the accurate tier before acting on it"
+)
 
 
 def stability_class(os_kcal: float | None, kind: str = stability.BRIDGEHEAD) -> str | None:
@@ -179,8 +181,10 @@ def _values(kind: str, schemes: list[sch.Scheme], energies: dict[str, Species]) 
         ring = round(unit_value + _scheme_value(schemes[1], energies), 2) if len(schemes) > 1 else None
         out["ring_strain_kcal_mol"] = ring
         if ring is None:
-            out["ring_strain_note"] = ("ring strain not computed: a ring of the saturated parent holds an aromatic or "
-                                       "multiple bond, which the group scheme would count as strain")
+            out["ring_strain_note"] = (
+                "ring strain not computed: a ring of the saturated parent holds an aromatic or "
+                "multiple bond, which the group scheme would count as strain"
+            )
     else:
         out["olefin_strain_kcal_mol"] = unit_value
     key = stability.value_key(kind)
@@ -195,9 +199,16 @@ def _judge_into(result: dict) -> None:
     result["stability_class"] = verdict.stability if verdict else None
     result["needs_trap"] = verdict.needs_trap if verdict else None
     result["judgement"] = (
-        {"stability": verdict.stability, "needs_trap": verdict.needs_trap, "words": verdict.words,
-         "quantity": verdict.quantity, "value_kcal_mol": verdict.value_kcal, "source": verdict.source}
-        if verdict else None
+        {
+            "stability": verdict.stability,
+            "needs_trap": verdict.needs_trap,
+            "words": verdict.words,
+            "quantity": verdict.quantity,
+            "value_kcal_mol": verdict.value_kcal,
+            "source": verdict.source,
+        }
+        if verdict
+        else None
     )
     if result["tier"] != stability.ACTIONABLE_TIER:
         result["prescreen_note"] = PRESCREEN_NOTE

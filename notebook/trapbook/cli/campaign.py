@@ -31,7 +31,9 @@ def _progress_line(quiet: bool):
 
 def _file_lines(path: Path) -> list[str]:
     if path.stat().st_size > _MAX_FILE_BYTES:
-        raise TrapbookError(f"{path} is larger than {_MAX_FILE_BYTES // 1_000_000} MB", "a candidate file holds one SMILES a line")
+        raise TrapbookError(
+            f"{path} is larger than {_MAX_FILE_BYTES // 1_000_000} MB", "a candidate file holds one SMILES a line"
+        )
     try:
         text = path.read_text(encoding="utf-8")
     except UnicodeDecodeError:
@@ -48,23 +50,53 @@ def _kinds(text: str) -> tuple[str, ...]:
 
 @main.command("campaign")
 @click.argument("source", metavar="SKELETON|FILE")
-@click.option("--tier", type=click.Choice(["fast", "accurate"]), default="accurate", show_default=True,
-              help="accurate = GFN2-xTB (classed); fast = MMFF94 prescreen, never classed.")
-@click.option("--kinds", default="bridgehead", show_default=True, metavar="LIST",
-              help="What to place in the skeleton: bridgehead, allene, alkyne (comma-separated).")
-@click.option("--leaving-group", "leaving_groups", multiple=True, type=click.Choice(["OTf", "Cl", "Br", "I"]),
-              help="Leaving group of the precursors (repeatable; default OTf).")
+@click.option(
+    "--tier",
+    type=click.Choice(["fast", "accurate"]),
+    default="accurate",
+    show_default=True,
+    help="accurate = GFN2-xTB (classed); fast = MMFF94 prescreen, never classed.",
+)
+@click.option(
+    "--kinds",
+    default="bridgehead",
+    show_default=True,
+    metavar="LIST",
+    help="What to place in the skeleton: bridgehead, allene, alkyne (comma-separated).",
+)
+@click.option(
+    "--leaving-group",
+    "leaving_groups",
+    multiple=True,
+    type=click.Choice(["OTf", "Cl", "Br", "I"]),
+    help="Leaving group of the precursors (repeatable; default OTf).",
+)
 @click.option("--no-precursors", is_flag=True, help="Strain only: skip the precursors and their alignment.")
 @click.option("--scheduler", metavar="ADDR", help="An existing Dask scheduler (tcp://host:8786); default: a local cluster.")
 @click.option("--workers", type=click.IntRange(1, 256), help="Workers of the local cluster (default: one per core).")
-@click.option("--retry-failed", is_flag=True, help="Try again the tasks that failed in an earlier run (kept with their reason otherwise).")
+@click.option(
+    "--retry-failed", is_flag=True, help="Try again the tasks that failed in an earlier run (kept with their reason otherwise)."
+)
 @click.option("--report", "report_path", metavar="FILE.html", help="Also write the campaign's HTML map.")
-@json_option(help="Print {id, source, tier, tasks, computed, from_cache, failed: [{candidate, smiles, what, reason}], "
-                  "rows: [{rank, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
-                  "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, status, reason}]}.")
+@json_option(
+    help="Print {id, source, tier, tasks, computed, from_cache, failed: [{candidate, smiles, what, reason}], "
+    "rows: [{rank, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
+    "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, status, reason}]}."
+)
 @pass_ctx
-def campaign_cmd(ctx: Ctx, source: str, tier: str, kinds: str, leaving_groups: tuple[str, ...], no_precursors: bool,
-                 scheduler: str | None, workers: int | None, retry_failed: bool, report_path: str | None, as_json: bool) -> None:
+def campaign_cmd(
+    ctx: Ctx,
+    source: str,
+    tier: str,
+    kinds: str,
+    leaving_groups: tuple[str, ...],
+    no_precursors: bool,
+    scheduler: str | None,
+    workers: int | None,
+    retry_failed: bool,
+    report_path: str | None,
+    as_json: bool,
+) -> None:
     """Map the strain of every candidate intermediate of a skeleton, or of a file's list.
 
     SKELETON is a saturated polycycle's SMILES: every symmetry-unique bridgehead alkene is
@@ -79,11 +111,18 @@ def campaign_cmd(ctx: Ctx, source: str, tier: str, kinds: str, leaving_groups: t
 
     path = Path(source).expanduser()
     lines = _file_lines(path) if path.is_file() else None
-    record = plan(source if lines is None else str(path), tier=tier, kinds=_kinds(kinds),
-                  leaving_groups=leaving_groups or ("OTf",), precursors=not no_precursors, lines=lines)
+    record = plan(
+        source if lines is None else str(path),
+        tier=tier,
+        kinds=_kinds(kinds),
+        leaving_groups=leaving_groups or ("OTf",),
+        precursors=not no_precursors,
+        lines=lines,
+    )
     with ctx.notebook() as nb:
-        summary = run_campaign(nb, record, scheduler=scheduler, n_workers=workers, progress=_progress_line(as_json),
-                               retry_failed=retry_failed)
+        summary = run_campaign(
+            nb, record, scheduler=scheduler, n_workers=workers, progress=_progress_line(as_json), retry_failed=retry_failed
+        )
         rows = campaign_table(nb, load_record(nb, record["id"]))
         if report_path:
             from ..reports import write_report
@@ -100,17 +139,23 @@ def _n(v, spec: str = ".1f") -> str:
 
 
 def _print_table(record: dict, summary: dict, rows: list[dict]) -> None:
-    say(f"campaign {record['id']}: {record['source']} ({record['tier']} tier) — {len(rows)} candidates, "
-        f"{summary['computed']} task(s) computed, {summary['from_cache']} from the notebook's cache")
+    say(
+        f"campaign {record['id']}: {record['source']} ({record['tier']} tier) — {len(rows)} candidates, "
+        f"{summary['computed']} task(s) computed, {summary['from_cache']} from the notebook's cache"
+    )
     if record["tier"] != "accurate":
         say("  fast tier: an MMFF94 prescreen, no class is given; run --tier accurate before acting on it")
-    say(f"{'#':>2} {'name':10} {'S':>2} {'trans':>5} {'strain':>7} {'class':14} {'twist':>6} {'pyr':>6}  best precursor (alignment)")
+    say(
+        f"{'#':>2} {'name':10} {'S':>2} {'trans':>5} {'strain':>7} {'class':14} {'twist':>6} {'pyr':>6}  best precursor (alignment)"
+    )
     for r in rows:
         best = r["best_precursor"]
         align = f"{best['smiles']} ({best['verdict']}, {(best['aligned_fraction'] or 0) * 100:.0f} % aligned)" if best else "—"
-        say(f"{r['rank']:>2} {r['name'][:10]:10} {_n(r['s_value'] or r['ring_size'], 'd'):>2} {_n(r['trans_ring_size'], 'd'):>5} "
+        say(
+            f"{r['rank']:>2} {r['name'][:10]:10} {_n(r['s_value'] or r['ring_size'], 'd'):>2} {_n(r['trans_ring_size'], 'd'):>5} "
             f"{_n(r['strain_kcal_mol']):>7} {(r['stability_class'] or 'no class')[:14]:14} {_n(r['twist_deg']):>6} "
-            f"{_n(r['pyramidalization_deg']):>6}  {align}")
+            f"{_n(r['pyramidalization_deg']):>6}  {align}"
+        )
         say(f"   {r['smiles']}  {r['kind']}" + (f"  [{r['status']}: {r['reason']}]" if r["status"] != "done" else ""))
     for f in summary["failed"]:
         say(f"failed: {f['candidate']} {f['what']} {f['smiles']}: {f['reason']}")

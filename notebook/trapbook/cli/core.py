@@ -104,8 +104,10 @@ class TrapbookGroup(click.Group):
             _quiet_stdout()
             cctx.exit(0)
         except Exception as exc:  # a bug: say so plainly (nothing is half-written: saves are transactions)
-            bug = TrapbookError(f"unexpected {type(exc).__name__}: {exc}",
-                                "nothing was saved by this command; please report it with the command you ran")
+            bug = TrapbookError(
+                f"unexpected {type(exc).__name__}: {exc}",
+                "nothing was saved by this command; please report it with the command you ran",
+            )
             render_error(bug, self._wants_json(cctx))
             cctx.exit(1)
 
@@ -167,9 +169,12 @@ _pass_obj = click.make_pass_decorator(Ctx)
 def refuse_db_with_group(group: tuple[str, ...], db: str | None) -> None:
     """--db names one notebook and --group several: given both, which one is meant is unclear."""
     if group and db:
-        raise TrapbookError(f"both --db {db} and --group were given",
-                            "use --db FILE for one notebook, or --group for several read together (add that file as another --group)",
-                            field="db", got=db)
+        raise TrapbookError(
+            f"both --db {db} and --group were given",
+            "use --db FILE for one notebook, or --group for several read together (add that file as another --group)",
+            field="db",
+            got=db,
+        )
 
 
 def pass_ctx(fn: Callable) -> Callable:
@@ -230,9 +235,14 @@ def load_run_arg(ctx: Ctx, ref: str):
 
 @click.group(cls=TrapbookGroup, invoke_without_command=True, context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--db", envvar="TRAPBOOK_DB", help="Notebook file (default: $TRAPBOOK_DB, then the per-user data directory).")
-@click.option("--group", "group", multiple=True, metavar="PATH",
-              help="Read several members' notebooks together instead of --db (repeat it; a folder means every *.sqlite "
-                   "in it): list, search, review, strain-map, report, open and serve; nothing is written.")
+@click.option(
+    "--group",
+    "group",
+    multiple=True,
+    metavar="PATH",
+    help="Read several members' notebooks together instead of --db (repeat it; a folder means every *.sqlite "
+    "in it): list, search, review, strain-map, report, open and serve; nothing is written.",
+)
 @click.option("--author", help="Name recorded on saved versions (default: your OS user name).")
 @click.version_option(__version__, prog_name="trapbook")
 @click.pass_context
@@ -279,7 +289,9 @@ def _open_ui(path: Path, author: str | None = None, read_only: bool = False) -> 
     import importlib.util
 
     if importlib.util.find_spec("textual") is None:
-        raise TrapbookError("the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'")
+        raise TrapbookError(
+            "the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'"
+        )
     from ..tui.app import run_app
 
     run_app(path, author=author, read_only=read_only)  # --author, for this session, over the notebook's "you are" name
@@ -339,7 +351,9 @@ def add(ctx: Ctx, runfile: str, reason: str, create: bool, as_json: bool) -> Non
 @click.argument("run_id")
 @click.argument("runfile")
 @click.option("--reason", required=True, help="Why the run changes (recorded in its history).")
-@click.option("--from-version", type=click.IntRange(min=1, max=2**63 - 1), help="Version the edit was made from (default: the current one).")
+@click.option(
+    "--from-version", type=click.IntRange(min=1, max=2**63 - 1), help="Version the edit was made from (default: the current one)."
+)
 @json_option(help="Print {run_id, version, hash}.")
 @pass_ctx
 def update(ctx: Ctx, run_id: str, runfile: str, reason: str, from_version: int | None, as_json: bool) -> None:
@@ -374,7 +388,8 @@ def withdraw(ctx: Ctx, run_id: str, reason: str, undo: bool, as_json: bool) -> N
 @click.argument("run_id")
 @click.option("--version", "version", type=click.IntRange(min=1), help="Show an earlier version.")
 @json_option(
-              help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown, intermediate} (meta describes the current version; intermediate: {smiles, how}, as recorded on the run or derived from its precursor, else null).")
+    help="Print {meta, run, amounts, amounts_problem, yields, findings, version_shown, intermediate} (meta describes the current version; intermediate: {smiles, how}, as recorded on the run or derived from its precursor, else null)."
+)
 @pass_ctx
 def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
     """Show one run: lines with amounts, steps, outcome and checks."""
@@ -386,8 +401,10 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
         if version is not None and version > meta["version"]:  # also keeps a 20-digit number out of SQLite
             from ..errors import NotFoundError
 
-            raise NotFoundError(f"no version {version} of {run_id} (it has {meta['version']})",
-                                f"see its versions with 'trapbook history {run_id}'")
+            raise NotFoundError(
+                f"no version {version} of {run_id} (it has {meta['version']})",
+                f"see its versions with 'trapbook history {run_id}'",
+            )
         run = nb.get_run(run_id, version)
         findings = findings_for(nb, run)
     from ..strain_link import intermediate_of_run
@@ -400,16 +417,18 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
     except TrapbookError as exc:
         problem = exc.message
     if as_json:
-        emit_json({
-            "meta": meta,
-            "run": run.to_json_dict(),
-            "amounts": table.to_dict() if table else None,
-            "amounts_problem": problem,
-            "yields": [y.to_dict() for y in yields],
-            "findings": [f.to_dict() for f in findings],
-            "version_shown": version if version is not None else meta["version"],
-            "intermediate": {"smiles": derived[0], "how": derived[1]} if derived else None,
-        })
+        emit_json(
+            {
+                "meta": meta,
+                "run": run.to_json_dict(),
+                "amounts": table.to_dict() if table else None,
+                "amounts_problem": problem,
+                "yields": [y.to_dict() for y in yields],
+                "findings": [f.to_dict() for f in findings],
+                "version_shown": version if version is not None else meta["version"],
+                "intermediate": {"smiles": derived[0], "how": derived[1]} if derived else None,
+            }
+        )
         return
     if version is not None and version != meta["version"]:
         meta = {**meta, "version": version, "current_version": meta["version"]}
@@ -422,8 +441,10 @@ def show(ctx: Ctx, run_id: str, version: int | None, as_json: bool) -> None:
 @main.command("list")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
 @click.option("--screen", help="Only runs of this screen.")
-@json_option(help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...} "
-                  "(under --group: {members: [{member, path, owner, ok, runs, problems}], runs}, each run also with member and ref MEMBER:ID).")
+@json_option(
+    help="Print a list of {id, title, chemist, date, status, trap, fluoride, solvent, temp_max_c, time_min, yield_pct, yield_kind, worst, ...} "
+    "(under --group: {members: [{member, path, owner, ok, runs, problems}], runs}, each run also with member and ref MEMBER:ID)."
+)
 @pass_ctx
 def list_cmd(ctx: Ctx, include_withdrawn: bool, screen: str | None, as_json: bool) -> None:
     """List the runs in the notebook (under --group: {members, runs}, each run with member and ref)."""
@@ -498,8 +519,13 @@ def check(ctx: Ctx, ref: str, as_json: bool) -> None:
 
 
 @main.command("export")
-@click.option("--format", "fmt", default="jsonl", show_default=True,
-              help="jsonl (one run per line), ord, rocrate, csv, xlsx, or a plugin's (see 'trapbook formats').")
+@click.option(
+    "--format",
+    "fmt",
+    default="jsonl",
+    show_default=True,
+    help="jsonl (one run per line), ord, rocrate, csv, xlsx, or a plugin's (see 'trapbook formats').",
+)
 @click.option("--screen", help="Only the runs of this screen.")
 @click.option("-o", "--output", help="Write to this file instead of stdout.")
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
@@ -519,8 +545,10 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
 
 @main.command("import")
 @click.argument("path")
-@json_option(help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}; "
-                  "an RO-Crate also gives attachments and versions (every version of each run comes back).")
+@json_option(
+    help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}; "
+    "an RO-Crate also gives attachments and versions (every version of each run comes back)."
+)
 @click.option("--create", is_flag=True, help="Create the notebook first if there is none at --db.")
 @pass_ctx
 def import_cmd(ctx: Ctx, path: str, create: bool, as_json: bool) -> None:
@@ -540,12 +568,20 @@ def import_cmd(ctx: Ctx, path: str, create: bool, as_json: bool) -> None:
 
 @main.command()
 @click.option("--no-ui", is_flag=True, help="Only build the demo notebook and print a summary.")
-@click.option("--strain", "strain_tier", type=click.Choice(["none", "fast", "accurate"]), default="accurate", show_default=True,
-              help="Compute the strain of the demo intermediates (accurate: GFN2-xTB, about 15 s).")
-@click.option("--fresh", is_flag=True,
-              help="Rebuild even when the demo notebook holds runs you added: it is kept first as demo-YYYYmmdd-HHMMSS.sqlite beside it.")
-@json_option(
-              help="Print {path, runs, screens, source, strain: [...], rebuilt, user_work, backup, notice} (implies --no-ui).")
+@click.option(
+    "--strain",
+    "strain_tier",
+    type=click.Choice(["none", "fast", "accurate"]),
+    default="accurate",
+    show_default=True,
+    help="Compute the strain of the demo intermediates (accurate: GFN2-xTB, about 15 s).",
+)
+@click.option(
+    "--fresh",
+    is_flag=True,
+    help="Rebuild even when the demo notebook holds runs you added: it is kept first as demo-YYYYmmdd-HHMMSS.sqlite beside it.",
+)
+@json_option(help="Print {path, runs, screens, source, strain: [...], rebuilt, user_work, backup, notice} (implies --no-ui).")
 @pass_ctx
 def demo(ctx: Ctx, no_ui: bool, strain_tier: str, fresh: bool, as_json: bool) -> None:
     """Build the demo lab's notebook (in the per-user data directory) and open it.
@@ -559,8 +595,12 @@ def demo(ctx: Ctx, no_ui: bool, strain_tier: str, fresh: bool, as_json: bool) ->
         if not as_json:
             click.echo(f"  {fraction * 100:3.0f}%  {stage}", err=True)
 
-    summary = build_demo(Path(ctx.db).expanduser() if ctx.db else None,
-                         strain_tier=None if strain_tier == "none" else strain_tier, progress=progress, fresh=fresh)
+    summary = build_demo(
+        Path(ctx.db).expanduser() if ctx.db else None,
+        strain_tier=None if strain_tier == "none" else strain_tier,
+        progress=progress,
+        fresh=fresh,
+    )
     if as_json:
         emit_json(summary)
         return
@@ -585,11 +625,16 @@ def demo(ctx: Ctx, no_ui: bool, strain_tier: str, fresh: bool, as_json: bool) ->
 @main.command()
 @click.option("--set", "assignments", multiple=True, metavar="NAME=VALUE", help="Change a check threshold for this notebook.")
 @click.option("--reset", is_flag=True, help="Go back to the documented defaults.")
-@click.option("--reason", default="settings changed", show_default=True,
-              help="Why the thresholds change (recorded with your name in the notebook's history).")
+@click.option(
+    "--reason",
+    default="settings changed",
+    show_default=True,
+    help="Why the thresholds change (recorded with your name in the notebook's history).",
+)
 @click.option("--history", is_flag=True, help="List every change of the thresholds: version, time, author, reason.")
-@json_option(help="Print {name: value} of every check threshold in force "
-                  "(with --history: [{version, value, author, time, reason}]).")
+@json_option(
+    help="Print {name: value} of every check threshold in force (with --history: [{version, value, author, time, reason}])."
+)
 @pass_ctx
 def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, reason: str, history: bool, as_json: bool) -> None:
     """Check thresholds of this notebook (trap minimum, water, concentration, ...).

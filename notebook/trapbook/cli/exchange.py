@@ -17,8 +17,7 @@ from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 @click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--reason", help="Reason recorded on the new version (default: 'attached NAME').")
 @click.option("--name", help="Name to record (default: the file's own name).")
-@json_option(
-              help='Print {"run_id", "version", "name", "sha256", "size", "media_type", "stored_new"}.')
+@json_option(help='Print {"run_id", "version", "name", "sha256", "size", "media_type", "stored_new"}.')
 @pass_ctx
 def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | None, as_json: bool) -> None:
     """Attach FILE (spectrum, photo, raw NMR data) to RUN_ID.
@@ -34,8 +33,10 @@ def attach(ctx: Ctx, run_id: str, file: str, reason: str | None, name: str | Non
     if as_json:
         emit_json(res)
     else:
-        say(f"{res['run_id']} version {res['version']}: attached {res['name']} "
-                   f"({res['size']} bytes, sha256 {res['sha256'][:12]}…)")
+        say(
+            f"{res['run_id']} version {res['version']}: attached {res['name']} "
+            f"({res['size']} bytes, sha256 {res['sha256'][:12]}…)"
+        )
 
 
 @main.command("attachment")

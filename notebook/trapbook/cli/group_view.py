@@ -24,9 +24,12 @@ def refuse_outside_group(command: str | None) -> None:
         return
     raise TrapbookError(
         f"'{command}' cannot run under --group: the group view only reads, and only "
-        + ", ".join(GROUP_COMMANDS) + " read a group",
+        + ", ".join(GROUP_COMMANDS)
+        + " read a group",
         f"to use '{command}', point --db at one member's notebook (trapbook --db FILE {command} ...)",
-        field="group", got=command)
+        field="group",
+        got=command,
+    )
 
 
 def open_group(ctx: Ctx):
@@ -118,10 +121,14 @@ def open_group_ui(ctx: Ctx, path: str | None) -> None:
     import importlib.util
 
     if path:
-        raise TrapbookError("'open PATH' names one notebook; under --group the members are the --group paths",
-                            "drop PATH, or open that one notebook with 'trapbook open PATH'")
+        raise TrapbookError(
+            "'open PATH' names one notebook; under --group the members are the --group paths",
+            "drop PATH, or open that one notebook with 'trapbook open PATH'",
+        )
     if importlib.util.find_spec("textual") is None:
-        raise TrapbookError("the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'")
+        raise TrapbookError(
+            "the terminal UI is not available in this installation", "use the commands listed by 'trapbook --help'"
+        )
     with open_group(ctx) as group:  # the paths are checked here, before the screen is taken over
         warn_failing(group, False)
     from ..tui.app import run_app

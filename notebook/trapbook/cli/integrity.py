@@ -16,12 +16,17 @@ def _print_problems(problems: list[dict]) -> None:
 
 @main.command()
 @click.option("--no-files", is_flag=True, help="Skip re-hashing the attached files (faster on big stores).")
-@click.option("--head", "noted_head", metavar="COUNT:HASH",
-              help="A head printed by an earlier verify and kept outside the notebook: it must still be in the log.")
+@click.option(
+    "--head",
+    "noted_head",
+    metavar="COUNT:HASH",
+    help="A head printed by an earlier verify and kept outside the notebook: it must still be in the log.",
+)
 @json_option(
-              help='Print {"ok": bool, "path": str, "problems": [{"code", "record", "message"}], '
-                   '"checked": {"runs", "versions", "screens", "settings", "saves", "cache_entries", "structures", '
-                   '"summaries", "attachments"}, "head": {"count", "hash"}}.')
+    help='Print {"ok": bool, "path": str, "problems": [{"code", "record", "message"}], '
+    '"checked": {"runs", "versions", "screens", "settings", "saves", "cache_entries", "structures", '
+    '"summaries", "attachments"}, "head": {"count", "hash"}}.'
+)
 @pass_ctx
 def verify(ctx: Ctx, no_files: bool, noted_head: str | None, as_json: bool) -> None:
     """Check the notebook: every hash chain and the log of saves, current rows, summaries,
@@ -68,8 +73,10 @@ def backup(ctx: Ctx, dest: str, as_json: bool) -> None:
     if as_json:
         emit_json(res)
     else:
-        say(f"backed up to {res['path']} ({res['files_copied']} file(s) copied); "
-                   + ("verified" if res["verified"] else "COPY DOES NOT VERIFY"))
+        say(
+            f"backed up to {res['path']} ({res['files_copied']} file(s) copied); "
+            + ("verified" if res["verified"] else "COPY DOES NOT VERIFY")
+        )
         _print_problems(res["problems"])
     if not res["verified"]:
         sys.exit(1)

@@ -13,18 +13,23 @@ _ION_ORDER = ("[M+H]+", "[M+Na]+", "[M+NH4]+", "[M+K]+", "[M-H]-")
 
 def _subject(ctx: Ctx, run_ref: str | None, intermediate: str | None, trap: str | None):
     if run_ref and intermediate:
-        raise TrapbookError("give a run or --intermediate, not both",
-                            "trapbook products TB-0001, or trapbook products --intermediate SMILES --trap SMILES",
-                            field="intermediate")
+        raise TrapbookError(
+            "give a run or --intermediate, not both",
+            "trapbook products TB-0001, or trapbook products --intermediate SMILES --trap SMILES",
+            field="intermediate",
+        )
     if run_ref:
         return load_run_arg(ctx, run_ref)
     if not intermediate:
-        raise TrapbookError("nothing to work on: no run and no --intermediate",
-                            "trapbook products TB-0001, or trapbook products --intermediate 'C12=CCCC(C1)CCC2' --trap 'c1ccoc1'",
-                            field="intermediate")
+        raise TrapbookError(
+            "nothing to work on: no run and no --intermediate",
+            "trapbook products TB-0001, or trapbook products --intermediate 'C12=CCCC(C1)CCC2' --trap 'c1ccoc1'",
+            field="intermediate",
+        )
     if not trap:
-        raise TrapbookError("--intermediate needs --trap", "add --trap with the trap's SMILES, e.g. --trap 'c1ccoc1'",
-                            field="trap")
+        raise TrapbookError(
+            "--intermediate needs --trap", "add --trap with the trap's SMILES, e.g. --trap 'c1ccoc1'", field="trap"
+        )
     return intermediate
 
 
@@ -46,8 +51,10 @@ def _text(report: dict) -> None:
         if "problem" in row:
             say(f"HRMS recorded for {row['product']}: {row['ion']} found {row['found_mz']:.4f}; {row['problem']}")
         else:
-            say(f"HRMS recorded for {row['product']}: {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
-                f"found {row['found_mz']:.4f} ({row['ppm']:+.1f} ppm)")
+            say(
+                f"HRMS recorded for {row['product']}: {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
+                f"found {row['found_mz']:.4f} ({row['ppm']:+.1f} ppm)"
+            )
     for note in report["notes"]:
         say(f"note: {note}")
     if report["truncated"]:
@@ -58,10 +65,12 @@ def _text(report: dict) -> None:
 @click.argument("run_ref", metavar="[RUN]", required=False)
 @click.option("--intermediate", help="SMILES of the strained intermediate (instead of a run).")
 @click.option("--trap", help="SMILES of the trap (with a run: instead of the run's trap lines).")
-@json_option(help="Print {intermediate, intermediate_kind, intermediate_origin, traps, leaving_group, "
-                  "products: [{smiles, words, kind, reaction, site, stereo, racemic, formula, molar_mass, "
-                  "monoisotopic_mass, ions}], hrms (a run's recorded values: [{product, ion, ion_formula, calcd_mz, "
-                  "found_mz, ppm}]), notes, truncated}.")
+@json_option(
+    help="Print {intermediate, intermediate_kind, intermediate_origin, traps, leaving_group, "
+    "products: [{smiles, words, kind, reaction, site, stereo, racemic, formula, molar_mass, "
+    "monoisotopic_mass, ions}], hrms (a run's recorded values: [{product, ion, ion_formula, calcd_mz, "
+    "found_mz, ppm}]), notes, truncated}."
+)
 @pass_ctx
 def products(ctx: Ctx, run_ref: str | None, intermediate: str | None, trap: str | None, as_json: bool) -> None:
     """Expected trapping products, with formula, exact mass and HRMS ions.

@@ -20,20 +20,35 @@ def screen_group() -> None:
 
 @screen_group.command("plan")
 @click.argument("base")
-@click.option("--vary", "vary", multiple=True, required=True,
-              help="CONDITION=LEVEL,LEVEL (trap, fluoride, temperature, time, 'trap equiv', solvent); repeat per condition. "
-                   "A comma between digits stays in the level ('2,5-dimethylfuran'); use ';' to separate levels with other commas.")
+@click.option(
+    "--vary",
+    "vary",
+    multiple=True,
+    required=True,
+    help="CONDITION=LEVEL,LEVEL (trap, fluoride, temperature, time, 'trap equiv', solvent); repeat per condition. "
+    "A comma between digits stays in the level ('2,5-dimethylfuran'); use ';' to separate levels with other commas.",
+)
 @click.option("--scale", help="Amount of the limiting line in every vial, e.g. '0.10 mmol' (default: as in the base run).")
 @click.option("--name", help="Screen name (default: from the base run and the conditions).")
 @click.option("--vials", help="Only these vials of the full grid, numbered from 1 in grid order, e.g. '1,4,6'.")
 @click.option("--sheet", "sheet", help="Write the bench sheet to this file (.html for a printable page, else plain text).")
 @click.option("--dry-run", is_flag=True, help="Plan and print; store nothing.")
 @json_option(
-              help="Print {screen_id, name, factors, scale, base_run, run_ids, runs: [{vial, factors, title, run, amounts, "
-                   "amounts_problem, findings}], totals: [{line, role, vials, mass_mg, volume_ul, mmol}]}.")
+    help="Print {screen_id, name, factors, scale, base_run, run_ids, runs: [{vial, factors, title, run, amounts, "
+    "amounts_problem, findings}], totals: [{line, role, vials, mass_mg, volume_ul, mmol}]}."
+)
 @pass_ctx
-def screen_plan(ctx: Ctx, base: str, vary: tuple[str, ...], scale: str | None, name: str | None, vials: str | None,
-                sheet: str | None, dry_run: bool, as_json: bool) -> None:
+def screen_plan(
+    ctx: Ctx,
+    base: str,
+    vary: tuple[str, ...],
+    scale: str | None,
+    name: str | None,
+    vials: str | None,
+    sheet: str | None,
+    dry_run: bool,
+    as_json: bool,
+) -> None:
     """Plan a screen around BASE (a run file or a stored run id): one planned run per vial, with a bench sheet."""
     from .. import planning
 
@@ -93,9 +108,10 @@ def screens_cmd(ctx: Ctx, as_json: bool) -> None:
 @main.command("review")
 @click.argument("screen")
 @json_option(
-              help="Print {screen_id, name, factors, rows: [{run_id, title, status, factors, isolated_yield_pct, nmr_yield_pct, "
-                   "dr, ee_pct, yield_pct, yield_kind, findings}], levels: {condition: {level: {runs, isolated, nmr, headline: "
-                   "{n, mean_pct, best_pct, best_run}}}}, best, failed, not_done, matrix, yield_rule}.")
+    help="Print {screen_id, name, factors, rows: [{run_id, title, status, factors, isolated_yield_pct, nmr_yield_pct, "
+    "dr, ee_pct, yield_pct, yield_kind, findings}], levels: {condition: {level: {runs, isolated, nmr, headline: "
+    "{n, mean_pct, best_pct, best_run}}}}, best, failed, not_done, matrix, yield_rule}."
+)
 @pass_ctx
 def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     """Review a screen: yields by condition, per-level mean and best, the best run, failures and why."""
@@ -120,20 +136,27 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
     say(f"{'run':8} {head}  {'status':8} {'isolated':>8} {'NMR':>6} {'dr':>7} {'ee':>5}")
     for r in rv["rows"]:
         cells = "  ".join(f"{(r['factors'].get(n) or '—')[:16]:16}" for n in names)
-        say(f"{r['run_id']:8} {cells}  {r['status']:8} {_pct(r['isolated_yield_pct']):>8} {_pct(r['nmr_yield_pct']):>6} "
-                   f"{(r['dr'] or '—'):>7} {_pct(r['ee_pct']):>5}")
+        say(
+            f"{r['run_id']:8} {cells}  {r['status']:8} {_pct(r['isolated_yield_pct']):>8} {_pct(r['nmr_yield_pct']):>6} "
+            f"{(r['dr'] or '—'):>7} {_pct(r['ee_pct']):>5}"
+        )
     click.echo()
     say("per level (headline yield: isolated, else NMR):")
     for n, lv in rv["levels"].items():
         for level, s in lv.items():
             h = s["headline"]
-            say(f"  {n:12} {level:22} n={h['n']}  mean {_pct(h['mean_pct']):>5}  best {_pct(h['best_pct']):>5}"
-                       + (f" ({h['best_run']})" if h["best_run"] else ""))
+            say(
+                f"  {n:12} {level:22} n={h['n']}  mean {_pct(h['mean_pct']):>5}  best {_pct(h['best_pct']):>5}"
+                + (f" ({h['best_run']})" if h["best_run"] else "")
+            )
     b = rv["best"]
     if b:
         click.echo()
-        say(f"best: {b['run_id']} — " + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
-                   + f": {_pct(b['yield_pct'])} ({b['yield_kind']})")
+        say(
+            f"best: {b['run_id']} — "
+            + ", ".join(f"{k} {v}" for k, v in b["factors"].items())
+            + f": {_pct(b['yield_pct'])} ({b['yield_kind']})"
+        )
         if b.get("note"):
             say(f"  note: {b['note']}")
     if rv["failed"]:
@@ -149,10 +172,11 @@ def review_cmd(ctx: Ctx, screen: str, as_json: bool) -> None:
 
 @main.command("strain-map")
 @json_option(
-              help="Print {intermediates: [{smiles, name, runs, kind, strain_quantity, strain_kcal_mol, strain_tier, "
-                   "olefin_strain_kcal_mol, stability_class, needs_trap, strain_method, strain_status, best_yield_pct, "
-                   "traps: [{trap, yield_pct, yield_kind, run_id}]}], ranking: {method, n, spearman_rho, kind, "
-                   "by_kind: [{kind, strain_quantity, n, spearman_rho}], note}, missing_strain}.")
+    help="Print {intermediates: [{smiles, name, runs, kind, strain_quantity, strain_kcal_mol, strain_tier, "
+    "olefin_strain_kcal_mol, stability_class, needs_trap, strain_method, strain_status, best_yield_pct, "
+    "traps: [{trap, yield_pct, yield_kind, run_id}]}], ranking: {method, n, spearman_rho, kind, "
+    "by_kind: [{kind, strain_quantity, n, spearman_rho}], note}, missing_strain}."
+)
 @pass_ctx
 def strain_map_cmd(ctx: Ctx, as_json: bool) -> None:
     """Strain against outcome: each intermediate's cached strain (its kind's own quantity) and class
@@ -216,4 +240,6 @@ def report_cmd(ctx: Ctx, ref: str, output: str, as_json: bool) -> None:
     if as_json:
         emit_json(info)
     else:
-        say(f"wrote {info['kind']} report of {(info['member'] + ':') if info.get('member') else ''}{info['id']} to {info['path']}")
+        say(
+            f"wrote {info['kind']} report of {(info['member'] + ':') if info.get('member') else ''}{info['id']} to {info['path']}"
+        )

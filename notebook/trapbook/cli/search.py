@@ -31,10 +31,18 @@ from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 @click.option("--finding", help="Runs with this bench-check finding code, e.g. trap-late.")
 @click.option("--text", help="Full-text query over titles, notes, observations and tags (the Logbook filter's plain words).")
 @click.option("--limit", type=int, help="At most this many results.")
-@click.option("--time-limit", "time_limit_s", type=float, default=DEFAULT_TIME_LIMIT_S, show_default=True,
-              help="Seconds a substructure match may take before the search stops and says so.")
+@click.option(
+    "--time-limit",
+    "time_limit_s",
+    type=float,
+    default=DEFAULT_TIME_LIMIT_S,
+    show_default=True,
+    help="Seconds a substructure match may take before the search stops and says so.",
+)
 @click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
-@json_option(help="Print a list of {run_id, title, score, matched} (under --group: {members, hits}, each hit also with member and ref MEMBER:ID).")
+@json_option(
+    help="Print a list of {run_id, title, score, matched} (under --group: {members, hits}, each hit also with member and ref MEMBER:ID)."
+)
 @pass_ctx
 def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> None:
     """Find runs; all filters given must hold (AND). Results name what matched.

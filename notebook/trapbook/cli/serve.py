@@ -48,8 +48,12 @@ def open_command(ctx: Ctx, read_only: bool) -> str:
 @main.command("serve")
 @click.option("--read-only", is_flag=True, help="Open the notebook for reading only; keys that would write are hidden.")
 @click.option("--port", type=click.IntRange(1, 65535), default=8000, show_default=True, help="TCP port to listen on.")
-@click.option("--host", default=LOOPBACK, show_default=True,
-              help="Address to listen on. Anything but the loopback address lets others on that network use the notebook.")
+@click.option(
+    "--host",
+    default=LOOPBACK,
+    show_default=True,
+    help="Address to listen on. Anything but the loopback address lets others on that network use the notebook.",
+)
 @pass_ctx
 def serve_cmd(ctx: Ctx, read_only: bool, port: int, host: str) -> None:
     """Show the terminal UI in a web browser (http://HOST:PORT); Ctrl+C stops it.
@@ -59,8 +63,10 @@ def serve_cmd(ctx: Ctx, read_only: bool, port: int, host: str) -> None:
     import importlib.util
 
     if importlib.util.find_spec("textual_serve") is None:
-        raise TrapbookError("the browser view needs the textual-serve package, which is not installed",
-                            "install it (pip install textual-serve) or use 'trapbook open' in a terminal")
+        raise TrapbookError(
+            "the browser view needs the textual-serve package, which is not installed",
+            "install it (pip install textual-serve) or use 'trapbook open' in a terminal",
+        )
     if ctx.group:
         from .group_view import open_group, warn_failing
 
@@ -69,8 +75,12 @@ def serve_cmd(ctx: Ctx, read_only: bool, port: int, host: str) -> None:
         read_only = True
     command = open_command(ctx, read_only)
     if not is_loopback(host):
-        say(f"WARNING: listening on {host}: anyone who can reach this address on the network can use the notebook"
-            + (" (read-only)" if read_only else ", and change it") + "; there is no login.", err=True)
+        say(
+            f"WARNING: listening on {host}: anyone who can reach this address on the network can use the notebook"
+            + (" (read-only)" if read_only else ", and change it")
+            + "; there is no login.",
+            err=True,
+        )
         say("  what to do: stop it (Ctrl+C) when done; prefer the default 127.0.0.1 with an SSH tunnel", err=True)
     from textual_serve.server import Server
 

@@ -46,14 +46,20 @@ def _stored_run(nb, ref: str):
 
 @main.command()
 @click.argument("target", metavar="SMILES_OR_RUN")
-@click.option("--tier", type=click.Choice(["fast", "accurate"]), default="accurate", show_default=True,
-              help="accurate = GFN2-xTB on MMFF94 conformers (classed); fast = MMFF94 prescreen, never classed.")
+@click.option(
+    "--tier",
+    type=click.Choice(["fast", "accurate"]),
+    default="accurate",
+    show_default=True,
+    help="accurate = GFN2-xTB on MMFF94 conformers (classed); fast = MMFF94 prescreen, never classed.",
+)
 @click.option("--refresh", is_flag=True, help="Recompute even if the notebook has a cached result.")
 @click.option("--quiet", is_flag=True, help="No progress on stderr.")
 @json_option(
-              help="Print {smiles, kind, strain_quantity, strain_kcal_mol, olefin_strain_kcal_mol, ring_strain_kcal_mol, "
-                   "excess_strain_kcal_mol, aryne_strain_kcal_mol, stability_class, needs_trap, judgement, schemes, "
-                   "twist_deg, tier, method, species, ...}; for a precursor {precursor, intermediate, how, command}.")
+    help="Print {smiles, kind, strain_quantity, strain_kcal_mol, olefin_strain_kcal_mol, ring_strain_kcal_mol, "
+    "excess_strain_kcal_mol, aryne_strain_kcal_mol, stability_class, needs_trap, judgement, schemes, "
+    "twist_deg, tier, method, species, ...}; for a precursor {precursor, intermediate, how, command}."
+)
 @pass_ctx
 def strain(ctx: Ctx, target: str, tier: str, refresh: bool, quiet: bool, as_json: bool) -> None:
     """Strain of a strained intermediate: bridgehead alkene, cyclic allene, cycloalkyne or aryne.
@@ -72,13 +78,17 @@ def strain(ctx: Ctx, target: str, tier: str, refresh: bool, quiet: bool, as_json
         if run is not None:
             found = intermediate_of_run(run)
             if found is None:
-                raise TrapbookError(f"run {target} names no intermediate and has no silyl precursor to derive it from",
-                                    f"record the intermediate's SMILES on the run (field 'intermediate'), then run 'trapbook strain {target}'")
+                raise TrapbookError(
+                    f"run {target} names no intermediate and has no silyl precursor to derive it from",
+                    f"record the intermediate's SMILES on the run (field 'intermediate'), then run 'trapbook strain {target}'",
+                )
             smiles, origin = found
         else:
             if _RUN_ID.match(target):
-                raise TrapbookError(f"no run {target} in this notebook, and {target!r} is not a SMILES either",
-                                    "list the runs with 'trapbook list', or give the intermediate's SMILES")
+                raise TrapbookError(
+                    f"no run {target} in this notebook, and {target!r} is not a SMILES either",
+                    "list the runs with 'trapbook list', or give the intermediate's SMILES",
+                )
             release = precursor_release(target)
             if release is not None:
                 _print_release(release, as_json)
@@ -124,25 +134,35 @@ def _strain_text(r: dict) -> str:
         b = r["bridges"]
         n = r.get("trans_ring_size")
         article = "an" if n in (8, 11, 18) else "a"
-        lines.append(f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in {article} {n}-membered ring (Wiseman)")
+        lines.append(
+            f"  bicyclo[{'.'.join(map(str, b))}], S = {r.get('s_value')}, trans in {article} {n}-membered ring (Wiseman)"
+        )
     elif r.get("ring_size"):
         lines.append(f"  in a {r['ring_size']}-membered ring")
     lines.extend(_number_lines(r))
-    lines.append(f"  twist {_fmt(r.get('twist_deg'), '.1f', '°')}, pyramidalization {_fmt(r.get('pyramidalization_deg'), '.1f', '°')}, "
-                 f"{_BOND_WORD.get(r.get('kind'), 'C=C')} {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
-                 + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else ""))
+    lines.append(
+        f"  twist {_fmt(r.get('twist_deg'), '.1f', '°')}, pyramidalization {_fmt(r.get('pyramidalization_deg'), '.1f', '°')}, "
+        f"{_BOND_WORD.get(r.get('kind'), 'C=C')} {_fmt(r.get('bond_length_angstrom'), '.3f', ' Å')}"
+        + (f", Wiberg {r['wiberg_bond_order']:.2f}" if r.get("wiberg_bond_order") is not None else "")
+    )
     for scheme in r.get("schemes") or []:
         lines.append(f"  scheme ({scheme.get('quantity')}): {scheme.get('equation')}")
     n = r.get("conformers")
-    lines.append(f"  method: {r.get('method')}; {n} conformer{'' if n == 1 else 's'}; {_fmt(r.get('seconds'), '.1f', ' s')}"
-                 + (" (from the notebook's cache)" if r.get("cached") else ""))
+    lines.append(
+        f"  method: {r.get('method')}; {n} conformer{'' if n == 1 else 's'}; {_fmt(r.get('seconds'), '.1f', ' s')}"
+        + (" (from the notebook's cache)" if r.get("cached") else "")
+    )
     return "\n".join(lines)
 
 
 def _number_lines(r: dict) -> list[str]:
     out = []
-    labelled = [("olefin_strain_kcal_mol", "olefin strain"), ("ring_strain_kcal_mol", "ring strain (against strain-free acyclic groups)"),
-                ("excess_strain_kcal_mol", "excess over the saturated ring"), ("aryne_strain_kcal_mol", "aryne strain (against an open-chain alkyne)")]
+    labelled = [
+        ("olefin_strain_kcal_mol", "olefin strain"),
+        ("ring_strain_kcal_mol", "ring strain (against strain-free acyclic groups)"),
+        ("excess_strain_kcal_mol", "excess over the saturated ring"),
+        ("aryne_strain_kcal_mol", "aryne strain (against an open-chain alkyne)"),
+    ]
     for key, words in labelled:
         if r.get(key) is not None:
             out.append(f"  {words}: {r[key]:.1f} kcal/mol")
@@ -150,7 +170,9 @@ def _number_lines(r: dict) -> list[str]:
         out.append(f"  {r['ring_strain_note']}")
     judgement = r.get("judgement")
     if judgement:
-        out.append(f"  class: {judgement['stability']} — {'needs a trap' if judgement['needs_trap'] else 'survives without a trap'}")
+        out.append(
+            f"  class: {judgement['stability']} — {'needs a trap' if judgement['needs_trap'] else 'survives without a trap'}"
+        )
         out.append(f"    {judgement['words']}")
         out.append(f"    source: {judgement['source']}")
     elif r.get("prescreen_note"):
@@ -162,12 +184,18 @@ def _number_lines(r: dict) -> list[str]:
 
 @main.command()
 @click.argument("smiles", metavar="SMILES_OR_RUN")
-@click.option("--temperature", "temperature_c", type=float, default=None,
-              help="Temperature (°C) for the Boltzmann populations. Default: for a run id, the run's temperature at the "
-                   "fluoride addition (the entry its checks read); for a SMILES, 25 °C.")
+@click.option(
+    "--temperature",
+    "temperature_c",
+    type=float,
+    default=None,
+    help="Temperature (°C) for the Boltzmann populations. Default: for a run id, the run's temperature at the "
+    "fluoride addition (the entry its checks read); for a SMILES, 25 °C.",
+)
 @json_option(
-              help="Print {verdict, dihedral_deg, dihedral_words, best_aligned {dihedral_deg, words, delta_kcal_mol, population}, "
-                   "aligned_fraction, conformer_table, temperature_c, stereo_warning, diastereomers, ...}.")
+    help="Print {verdict, dihedral_deg, dihedral_words, best_aligned {dihedral_deg, words, delta_kcal_mol, population}, "
+    "aligned_fraction, conformer_table, temperature_c, stereo_warning, diastereomers, ...}."
+)
 @pass_ctx
 def alignment(ctx: Ctx, smiles: str, temperature_c: float, as_json: bool) -> None:
     """Si–C–C–X alignment of a silyl precursor: can this diastereomer fire?
@@ -215,27 +243,37 @@ def _alignment_target(nb, target: str, temperature_c: float | None) -> tuple[str
     from ..strain_link import run_temperature_c
 
     if temperature_c is not None and not (math.isfinite(temperature_c) and temperature_c >= -273.15):
-        raise TrapbookError(f"--temperature {temperature_c} is not a temperature in °C",
-                            "give a finite number at or above −273.15, e.g. --temperature -78")
+        raise TrapbookError(
+            f"--temperature {temperature_c} is not a temperature in °C",
+            "give a finite number at or above −273.15, e.g. --temperature -78",
+        )
     run = _stored_run(nb, target)
     if run is None:
         if _RUN_ID.match(target):
-            raise TrapbookError(f"no run {target} in this notebook, and {target!r} is not a SMILES either",
-                                "list the runs with 'trapbook list', or give the precursor's SMILES")
+            raise TrapbookError(
+                f"no run {target} in this notebook, and {target!r} is not a SMILES either",
+                "list the runs with 'trapbook list', or give the precursor's SMILES",
+            )
         return target, 25.0 if temperature_c is None else temperature_c
     smiles = precursor_of(run)
     if smiles is None:
-        raise TrapbookError(f"run {target} has no precursor line with a SMILES",
-                            f"add the precursor's SMILES to its line, then run 'trapbook alignment {target}'")
+        raise TrapbookError(
+            f"run {target} has no precursor line with a SMILES",
+            f"add the precursor's SMILES to its line, then run 'trapbook alignment {target}'",
+        )
     return smiles, run_temperature_c(run) if temperature_c is None else temperature_c
 
 
 def _alignment_lines(r: dict, pad: str) -> str:
-    lines = [f"{pad}leaving group: {r.get('leaving_group')}; {r.get('conformers')} conformers, {r.get('method')}",
-             f"{pad}lowest conformer: Si–C–C–X {_fmt(r.get('dihedral_deg'), '.0f', '°')} ({r.get('dihedral_words')})"]
+    lines = [
+        f"{pad}leaving group: {r.get('leaving_group')}; {r.get('conformers')} conformers, {r.get('method')}",
+        f"{pad}lowest conformer: Si–C–C–X {_fmt(r.get('dihedral_deg'), '.0f', '°')} ({r.get('dihedral_words')})",
+    ]
     best = r.get("best_aligned")
     if best:
-        lines.append(f"{pad}best aligned: {best['dihedral_deg']:.0f}° ({best['words']}), +{best['delta_kcal_mol']:.1f} kcal/mol, "
-                     f"{best['population'] * 100:.1f} % of the ensemble")
+        lines.append(
+            f"{pad}best aligned: {best['dihedral_deg']:.0f}° ({best['words']}), +{best['delta_kcal_mol']:.1f} kcal/mol, "
+            f"{best['population'] * 100:.1f} % of the ensemble"
+        )
     lines.append(f"{pad}verdict: {r.get('verdict')}")
     return "\n".join(lines)

@@ -25,8 +25,14 @@ def _document(ctx: Ctx, ref: str):
 
 @main.command("write")
 @click.argument("ref", metavar="RUN|SCREEN")
-@click.option("--format", "fmt", type=click.Choice(["text", "md", "docx"]), default="text", show_default=True,
-              help="Plain text, Markdown (a screen's conditions as a pipe table) or a Word .docx (needs -o).")
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["text", "md", "docx"]),
+    default="text",
+    show_default=True,
+    help="Plain text, Markdown (a screen's conditions as a pipe table) or a Word .docx (needs -o).",
+)
 @click.option("-o", "--output", help="Write to this file instead of the terminal.")
 @json_option(help="Print {title, blocks: [{heading} | {paragraph} | {table: {caption, header, rows}}], notes, path}.")
 @pass_ctx
@@ -55,4 +61,3 @@ def write_cmd(ctx: Ctx, ref: str, fmt: str, output: str | None, as_json: bool) -
         click.echo(written, nl=False)
     for note in doc.notes:
         say(f"note: {note}", err=True)
-

@@ -66,8 +66,10 @@ def export(nb, runs, screen=None, output=None):
         work = Path(tmp)
         crate = ROCrate()
         crate.name = f"Trapbook runs ({len(runs)})" if not screen else f"Trapbook screen {screens[0].id}: {screens[0].name}"
-        crate.description = ("Trapping runs exported from a Trapbook notebook: each run's record (JSON), its version "
-                             "history, screens, attached files and an Open Reaction Database dataset.")
+        crate.description = (
+            "Trapping runs exported from a Trapbook notebook: each run's record (JSON), its version "
+            "history, screens, attached files and an Open Reaction Database dataset."
+        )
         crate.datePublished = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
         crate.root_dataset["keywords"] = ["trapping experiment", "strained intermediate", "lab notebook"]
         notes: list[str] = []
@@ -76,45 +78,75 @@ def export(nb, runs, screen=None, output=None):
             rid = _safe_id(run.id or run.title)
             src = work / f"{rid}.json"
             src.write_text(_json_text(run.to_json_dict()), encoding="utf-8")
-            crate.add_file(src, f"{RUN_DIR}/{rid}.json", properties={
-                "name": run.title, "encodingFormat": "application/json",
-                "description": f"Trapbook run record {run.id or ''}".strip(), "identifier": run.id or "",
-            })
+            crate.add_file(
+                src,
+                f"{RUN_DIR}/{rid}.json",
+                properties={
+                    "name": run.title,
+                    "encodingFormat": "application/json",
+                    "description": f"Trapbook run record {run.id or ''}".strip(),
+                    "identifier": run.id or "",
+                },
+            )
             history_atts = []
             if run.id:
                 hist = work / f"{rid}.history.jsonl"
                 text, history_atts = _history_jsonl(nb, run.id)
                 hist.write_text(text, encoding="utf-8")
-                crate.add_file(hist, f"{RUN_DIR}/{rid}.history.jsonl", properties={
-                    "name": f"version history of {run.id}", "encodingFormat": "application/x-ndjson",
-                })
+                crate.add_file(
+                    hist,
+                    f"{RUN_DIR}/{rid}.history.jsonl",
+                    properties={
+                        "name": f"version history of {run.id}",
+                        "encodingFormat": "application/x-ndjson",
+                    },
+                )
             for att in [*run.attachments, *history_atts]:  # older versions keep their files too
                 if att.sha256 in seen_blobs:
                     continue
                 blob = attachments.blob_path(store, att.sha256)
                 problem = attachments.check_blob(store, att.sha256, att.size)
                 if problem:
-                    raise ExchangeError(f"run {run.id} attachment {att.name}: {problem}",
-                                        "run 'trapbook verify' and restore the file before exporting")
-                crate.add_file(blob, f"{FILE_DIR}/{att.sha256}", properties={
-                    "name": att.name, "encodingFormat": att.media_type or "application/octet-stream",
-                    "contentSize": str(att.size), "sha256": att.sha256,
-                })
+                    raise ExchangeError(
+                        f"run {run.id} attachment {att.name}: {problem}",
+                        "run 'trapbook verify' and restore the file before exporting",
+                    )
+                crate.add_file(
+                    blob,
+                    f"{FILE_DIR}/{att.sha256}",
+                    properties={
+                        "name": att.name,
+                        "encodingFormat": att.media_type or "application/octet-stream",
+                        "contentSize": str(att.size),
+                        "sha256": att.sha256,
+                    },
+                )
                 seen_blobs.add(att.sha256)
         for sc in screens:
             src = work / f"screen-{_safe_id(sc.id)}.json"
             src.write_text(_json_text(sc.model_dump(mode="json", exclude_none=True)), encoding="utf-8")
-            crate.add_file(src, f"{SCREEN_DIR}/{_safe_id(sc.id)}.json", properties={
-                "name": sc.name, "encodingFormat": "application/json", "description": "Trapbook screen record",
-            })
+            crate.add_file(
+                src,
+                f"{SCREEN_DIR}/{_safe_id(sc.id)}.json",
+                properties={
+                    "name": sc.name,
+                    "encodingFormat": "application/json",
+                    "description": "Trapbook screen record",
+                },
+            )
         try:
             ds, _report = ordx.build_dataset(runs, screens[0] if screen else None, email=ordx._email(nb), nb=nb)
             src = work / "dataset.pbtxt"
             src.write_text(ordx.serialise(ds, src), encoding="utf-8")
-            crate.add_file(src, ORD_PATH, properties={
-                "name": "Open Reaction Database dataset", "encodingFormat": "text/plain",
-                "description": "ord_schema Dataset message in protobuf text format",
-            })
+            crate.add_file(
+                src,
+                ORD_PATH,
+                properties={
+                    "name": "Open Reaction Database dataset",
+                    "encodingFormat": "text/plain",
+                    "description": "ord_schema Dataset message in protobuf text format",
+                },
+            )
         except TrapbookError as exc:
             notes.append(f"no ORD file: {exc.message}")
         if notes:
@@ -167,10 +199,14 @@ def _member_target(root: Path, name: str) -> Path:
         raise ExchangeError(f"archive member '{name[:80]}' has an absolute path", "the archive is unsafe; nothing was imported")
     parts = PurePosixPath(name.replace("\\", "/")).parts
     if any(p == ".." for p in parts):
-        raise ExchangeError(f"archive member '{name[:80]}' points outside the archive", "the archive is unsafe; nothing was imported")
+        raise ExchangeError(
+            f"archive member '{name[:80]}' points outside the archive", "the archive is unsafe; nothing was imported"
+        )
     target = (root / Path(*parts)).resolve() if parts else root
     if target != root and root not in target.parents:
-        raise ExchangeError(f"archive member '{name[:80]}' points outside the archive", "the archive is unsafe; nothing was imported")
+        raise ExchangeError(
+            f"archive member '{name[:80]}' points outside the archive", "the archive is unsafe; nothing was imported"
+        )
     return target
 
 
@@ -191,13 +227,18 @@ def safe_extract(zip_path: Path, dest: Path) -> None:
             target = _member_target(root, info.filename)
             mode = info.external_attr >> 16
             if stat.S_ISLNK(mode):
-                raise ExchangeError(f"archive member '{info.filename[:80]}' is a symbolic link", "the archive is unsafe; nothing was imported")
+                raise ExchangeError(
+                    f"archive member '{info.filename[:80]}' is a symbolic link", "the archive is unsafe; nothing was imported"
+                )
             total += info.file_size
             if total > MAX_TOTAL_BYTES:
                 raise ExchangeError(f"{zip_path.name} unpacks to more than {MAX_TOTAL_BYTES // 2**30} GB", "nothing was imported")
             if info.file_size > 1_000_000 and info.compress_size and info.file_size / info.compress_size > MAX_RATIO:
-                raise ExchangeError(f"archive member '{info.filename[:80]}' is compressed {info.file_size // info.compress_size}:1, "
-                                    "which looks like a zip bomb", "nothing was imported")
+                raise ExchangeError(
+                    f"archive member '{info.filename[:80]}' is compressed {info.file_size // info.compress_size}:1, "
+                    "which looks like a zip bomb",
+                    "nothing was imported",
+                )
             plan.append((info, target))
         try:
             for info, target in plan:
@@ -210,11 +251,20 @@ def safe_extract(zip_path: Path, dest: Path) -> None:
                     while chunk := src.read(1 << 20):
                         written += len(chunk)
                         if written > info.file_size:
-                            raise ExchangeError(f"archive member '{info.filename[:80]}' is longer than its header says", "nothing was imported")
+                            raise ExchangeError(
+                                f"archive member '{info.filename[:80]}' is longer than its header says", "nothing was imported"
+                            )
                         out.write(chunk)
                 os.chmod(target, 0o644)
-        except (zipfile.BadZipFile, zipfile.LargeZipFile, OSError, EOFError, RuntimeError, ValueError,
-                NotImplementedError) as exc:
+        except (
+            zipfile.BadZipFile,
+            zipfile.LargeZipFile,
+            OSError,
+            EOFError,
+            RuntimeError,
+            ValueError,
+            NotImplementedError,
+        ) as exc:
             raise ExchangeError(f"{zip_path.name} cannot be unpacked ({exc})", "nothing was imported") from None
 
 
@@ -233,20 +283,21 @@ def _read_crate(folder: Path) -> dict:
         crate = ROCrate(str(folder))
         ids = [e.id for e in crate.data_entities]
     except Exception as exc:  # the library raises many kinds on malformed metadata
-        raise ExchangeError(f"the RO-Crate metadata cannot be read ({type(exc).__name__}: {str(exc)[:200]})",
-                            "nothing was imported") from None
+        raise ExchangeError(
+            f"the RO-Crate metadata cannot be read ({type(exc).__name__}: {str(exc)[:200]})", "nothing was imported"
+        ) from None
     runs, screens, blobs, histories = [], [], {}, {}
     for eid in ids:
         if not isinstance(eid, str):
             continue
         if eid.startswith(f"{RUN_DIR}/") and eid.endswith(HISTORY_SUFFIX):
-            histories[eid[:-len(HISTORY_SUFFIX)] + ".json"] = _inside(folder, eid)
+            histories[eid[: -len(HISTORY_SUFFIX)] + ".json"] = _inside(folder, eid)
         elif eid.startswith(f"{RUN_DIR}/") and eid.endswith(".json"):
             runs.append((eid, _inside(folder, eid)))
         elif eid.startswith(f"{SCREEN_DIR}/") and eid.endswith(".json"):
             screens.append((eid, _inside(folder, eid)))
         elif eid.startswith(f"{FILE_DIR}/"):
-            blobs[eid[len(FILE_DIR) + 1:]] = _inside(folder, eid)
+            blobs[eid[len(FILE_DIR) + 1 :]] = _inside(folder, eid)
     if not runs:
         raise ExchangeError("the RO-Crate lists no Trapbook run records (runs/*.json)", "nothing was imported")
     return {"runs": sorted(runs), "screens": sorted(screens), "blobs": blobs, "histories": histories}
@@ -287,14 +338,16 @@ def _history_of(run: Run, listing: dict, eid: str) -> list | None:
     path = listing["histories"].get(eid)
     if path is None or not run.id:
         return None
-    hist_eid = eid[:-len(".json")] + HISTORY_SUFFIX
+    hist_eid = eid[: -len(".json")] + HISTORY_SUFFIX
     if not path.is_file():
         raise ExchangeError(f"the crate lists {hist_eid} but the file is not in it", "nothing was imported")
     history = _load_history(path, hist_eid)
     last = history[-1] if history else None
     if not isinstance(last, dict) or last.get("data") != canonical_json(run.to_json_dict()):
-        raise ExchangeError(f"{eid} and its version history {hist_eid} disagree (the last version is not this record)",
-                            "the archive was changed after it was written; nothing was imported")
+        raise ExchangeError(
+            f"{eid} and its version history {hist_eid} disagree (the last version is not this record)",
+            "the archive was changed after it was written; nothing was imported",
+        )
     return history
 
 
@@ -345,8 +398,10 @@ def read_folder(folder: Path) -> tuple[list[Run], list, dict[str, Path], dict[st
                 while chunk := fh.read(1 << 20):
                     h.update(chunk)
             if h.hexdigest() != att.sha256:
-                raise ExchangeError(f"{run.id}: attachment {att.name} in the crate does not match its SHA-256",
-                                    "the archive is damaged; nothing was imported")
+                raise ExchangeError(
+                    f"{run.id}: attachment {att.name} in the crate does not match its SHA-256",
+                    "the archive is damaged; nothing was imported",
+                )
             blobs[att.sha256] = path
     return runs, screens, blobs, histories, missing
 
@@ -359,8 +414,10 @@ def _refuse_missing_files(nb, missing: list) -> None:
     for run_id, att in missing:
         path = attachments.blob_path(store, att.sha256)
         if not (path.is_file() and path.stat().st_size == att.size):
-            raise ExchangeError(f"{run_id}: attachment {att.name} (sha256 {att.sha256[:12]}…) is not in the crate",
-                                "export the crate again from a notebook that holds the file; nothing was imported")
+            raise ExchangeError(
+                f"{run_id}: attachment {att.name} (sha256 {att.sha256[:12]}…) is not in the crate",
+                "export the crate again from a notebook that holds the file; nothing was imported",
+            )
 
 
 def _store_runs(nb, runs: list[Run], histories: dict, author, reason: str) -> tuple[list, list[str]]:
@@ -377,8 +434,10 @@ def _store_runs(nb, runs: list[Run], histories: dict, author, reason: str) -> tu
             except RecordError as exc:
                 raise ExchangeError(exc.message, exc.hint) from None
             if res.run_id != run.id:
-                notes.append(f"{run.id} was already taken; stored as {res.run_id} with its {res.version} version(s), "
-                             "the chain re-keyed under the new id")
+                notes.append(
+                    f"{run.id} was already taken; stored as {res.run_id} with its {res.version} version(s), "
+                    "the chain re-keyed under the new id"
+                )
         if run.id and res.run_id != run.id and history is None:
             notes.append(f"{run.id} was already taken; stored as {res.run_id}")
         results.append(res)
@@ -424,8 +483,15 @@ def import_path(nb, path, author=None) -> dict:
                 if renamed:
                     sc = sc.model_copy(update={"runs": [renamed.get(x, x) for x in sc.runs]})
                 screen_ids.append(nb.add_screen(sc, author=author, reason=reason))
-    return {"format": "rocrate", "imported": [r.run_id for r in results], "screens": screen_ids, "skipped": [],
-            "attachments": len(blobs), "versions": sum(r.version for r in results), "notes": notes}
+    return {
+        "format": "rocrate",
+        "imported": [r.run_id for r in results],
+        "screens": screen_ids,
+        "skipped": [],
+        "attachments": len(blobs),
+        "versions": sum(r.version for r in results),
+        "notes": notes,
+    }
 
 
 __all__ = ["export", "import_path", "safe_extract", "read_folder"]

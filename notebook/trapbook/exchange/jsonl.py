@@ -48,9 +48,13 @@ def parse_jsonl(text: str, source: str) -> list[Run]:
         try:
             data = json.loads(raw)
         except json.JSONDecodeError as exc:
-            raise ExchangeError(f"{source} line {n} is not valid JSON ({exc.msg})", "fix that line; nothing was imported") from None
+            raise ExchangeError(
+                f"{source} line {n} is not valid JSON ({exc.msg})", "fix that line; nothing was imported"
+            ) from None
         except RecursionError:
-            raise ExchangeError(f"{source} line {n} is nested too deeply to be a run", "fix that line; nothing was imported") from None
+            raise ExchangeError(
+                f"{source} line {n} is nested too deeply to be a run", "fix that line; nothing was imported"
+            ) from None
         try:
             runs.append(load_run(data))
         except RecordError as exc:
@@ -75,7 +79,9 @@ def read_runs_text(text: str, path: str) -> list[Run]:
         try:
             items = json.loads(text)
         except json.JSONDecodeError as exc:
-            raise ExchangeError(f"{path} is not valid JSON ({exc.msg}, line {exc.lineno})", "fix the file; nothing was imported") from None
+            raise ExchangeError(
+                f"{path} is not valid JSON ({exc.msg}, line {exc.lineno})", "fix the file; nothing was imported"
+            ) from None
         except RecursionError:
             raise ExchangeError(f"{path} is nested too deeply to hold runs", "fix the file; nothing was imported") from None
         if not isinstance(items, list):

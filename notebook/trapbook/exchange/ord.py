@@ -11,10 +11,19 @@ trapbook.exchange import ord``, keep working unchanged.
 
 from __future__ import annotations
 
-from .ord_common import ROLE_TO_ORD, digest
-from .ord_export import (_email, build_dataset, export, ord_dataset_id, ord_reaction_id, run_to_reaction, serialise,
-                         validate)
-from .ord_import import MAX_IMPORT_BYTES, import_path, parse_bytes, reaction_to_run, read_path, runs_from_dataset
+from .ord_common import ROLE_TO_ORD
+from .ord_export import build_dataset, export, run_to_reaction, validate
+from .ord_import import import_path, parse_bytes, reaction_to_run, read_path, runs_from_dataset
 
-__all__ = ["run_to_reaction", "build_dataset", "validate", "export", "import_path", "parse_bytes",
-           "runs_from_dataset", "reaction_to_run", "read_path", "ROLE_TO_ORD"]
+__all__ = [
+    "run_to_reaction",
+    "build_dataset",
+    "validate",
+    "export",
+    "import_path",
+    "parse_bytes",
+    "runs_from_dataset",
+    "reaction_to_run",
+    "read_path",
+    "ROLE_TO_ORD",
+]

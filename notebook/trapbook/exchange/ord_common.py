@@ -29,8 +29,14 @@ ROLE_TO_ORD = {
 }
 
 #: ORD ReactionRole name -> Trapbook role, for a component without a "trapbook_role" feature.
-_ROLE_FROM_ORD = {"REACTANT": "trap", "REAGENT": "additive", "SOLVENT": "solvent", "CATALYST": "additive",
-                  "INTERNAL_STANDARD": "internal standard", "WORKUP": "additive"}
+_ROLE_FROM_ORD = {
+    "REACTANT": "trap",
+    "REAGENT": "additive",
+    "SOLVENT": "solvent",
+    "CATALYST": "additive",
+    "INTERNAL_STANDARD": "internal standard",
+    "WORKUP": "additive",
+}
 
 #: The ``details`` of the custom reaction identifiers that carry the run id and title.
 _RUN_ID_DETAILS = "trapbook run id"
@@ -44,16 +50,30 @@ PLANNED_FEATURES = {"amount": "planned_amount", "mass": "planned_mass", "volume"
 
 #: Line quantities kept as number features in the canonical unit: (line field, unit kind,
 #: feature, the unit the number is read back in).
-QUANTITY_FEATURES = (("molarity", "molarity", "molarity_M", "M"), ("density", "density", "density_g_mL", "g/mL"),
-                     ("purity", "fraction", "purity", ""), ("water", "fraction", "water_fraction", ""),
-                     ("molar_mass", "molar_mass", "molar_mass_g_mol", "g/mol"))
+QUANTITY_FEATURES = (
+    ("molarity", "molarity", "molarity_M", "M"),
+    ("density", "density", "density_g_mL", "g/mL"),
+    ("purity", "fraction", "purity", ""),
+    ("water", "fraction", "water_fraction", ""),
+    ("molar_mass", "molar_mass", "molar_mass_g_mol", "g/mol"),
+)
 #: Those of them written otherwise than the number feature gives back ('97 %', '1000 mM', more
 #: digits than single precision holds), as {field: stored form} JSON, so they return as written.
 AS_WRITTEN_FEATURE = "as_written"
 
 #: Compound features a Trapbook export writes on an input component.
-COMPONENT_FEATURES = frozenset({"trapbook_role", "equiv", "marked_limiting", "note", WEIGHED_FEATURE, AS_WRITTEN_FEATURE,
-                                *PLANNED_FEATURES.values(), *(q[2] for q in QUANTITY_FEATURES)})
+COMPONENT_FEATURES = frozenset(
+    {
+        "trapbook_role",
+        "equiv",
+        "marked_limiting",
+        "note",
+        WEIGHED_FEATURE,
+        AS_WRITTEN_FEATURE,
+        *PLANNED_FEATURES.values(),
+        *(q[2] for q in QUANTITY_FEATURES),
+    }
+)
 
 #: ``provenance.reaction_metadata`` keys: run fields kept as text, run fields kept as JSON,
 #: and the step sequence and line order (the ORD has one temperature and time per reaction).
@@ -79,9 +99,20 @@ VESSEL_DETAILS = "reaction vessel (inner volume as recorded; type not recorded)"
 
 #: ORD unit name <-> the unit a Trapbook record writes, so a quantity keeps the unit it was
 #: written in (2.0 mL comes back as 2.0 mL, not 2000 µL).
-ORD_UNIT_TEXT = {"MOLE": "mol", "MILLIMOLE": "mmol", "MICROMOLE": "µmol", "NANOMOLE": "nmol",
-                 "KILOGRAM": "kg", "GRAM": "g", "MILLIGRAM": "mg", "MICROGRAM": "µg",
-                 "LITER": "L", "MILLILITER": "mL", "MICROLITER": "µL", "NANOLITER": "nL"}
+ORD_UNIT_TEXT = {
+    "MOLE": "mol",
+    "MILLIMOLE": "mmol",
+    "MICROMOLE": "µmol",
+    "NANOMOLE": "nmol",
+    "KILOGRAM": "kg",
+    "GRAM": "g",
+    "MILLIGRAM": "mg",
+    "MICROGRAM": "µg",
+    "LITER": "L",
+    "MILLILITER": "mL",
+    "MICROLITER": "µL",
+    "NANOLITER": "nL",
+}
 #: The ORD amount field for each Trapbook quantity kind, and the ORD unit of its canonical unit.
 AMOUNT_SLOTS = {"amount": ("moles", "MILLIMOLE"), "mass": ("mass", "MILLIGRAM"), "volume": ("volume", "MICROLITER")}
 
@@ -147,8 +178,9 @@ def set_quantity(msg, q, kind: str) -> None:
     from ..units import to_canonical, unit_text
 
     text = unit_text(q)
-    unit = next((name for name, t in ORD_UNIT_TEXT.items() if t == text and msg.DESCRIPTOR.enum_types[0].values_by_name.get(name)),
-                None)
+    unit = next(
+        (name for name, t in ORD_UNIT_TEXT.items() if t == text and msg.DESCRIPTOR.enum_types[0].values_by_name.get(name)), None
+    )
     if unit is None:
         msg.value, unit = to_canonical(q, kind), AMOUNT_SLOTS[kind][1]
     else:

@@ -220,7 +220,9 @@ def _add_conditions(rxn, run: Run) -> None:
         main = max(temps, key=lambda t: abs(t - 23.0))  # the block or bath temperature, not room temperature
         _temperature_msg(cond.temperature.setpoint, main)
         if -5.0 <= main <= 30.0 and main == max(temps) and min(temps) >= -5.0:
-            cond.temperature.control.type = cond.temperature.control.AMBIENT if 15 <= main <= 30 else cond.temperature.control.ICE_BATH
+            cond.temperature.control.type = (
+                cond.temperature.control.AMBIENT if 15 <= main <= 30 else cond.temperature.control.ICE_BATH
+            )
     if any(s.sealed for s in run.steps):
         cond.pressure.control.type = cond.pressure.control.SEALED
     atm = next((s.atmosphere for s in run.steps if s.atmosphere), None)
@@ -255,21 +257,29 @@ def _add_provenance(rxn, run: Run, email: str | None, record_time: str | None) -
         prov.experimenter.email = mail
     if run.date:
         prov.experiment_start.value = run.date.isoformat()
-    created = record_time or _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+    created = record_time or _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
     if run.date and created[:10] < run.date.isoformat():
         created = run.date.isoformat()  # a planned run dated ahead: the record cannot predate the experiment
     prov.record_created.time.value = created
     prov.record_created.person.name = run.chemist or "Trapbook user"
     prov.record_created.person.email = mail
-    meta = {k: v for k, v in {
-        **{key: getattr(run, key) for key in PLAIN_METADATA},
-        "tags": json.dumps(run.tags, ensure_ascii=False) if run.tags else None,
-        "factors": json.dumps(run.factors, ensure_ascii=False, sort_keys=True) if run.factors else None,
-        "attachments": json.dumps([a.model_dump(mode="json", exclude_none=True) for a in run.attachments]) if run.attachments else None,
-        # The ORD has one temperature and time per reaction; the step sequence travels here.
-        STEPS_METADATA: json.dumps([s.model_dump(mode="json", exclude_none=True) for s in run.steps], ensure_ascii=False) if run.steps else None,
-        LINE_ORDER_METADATA: json.dumps([ln.name for ln in run.lines], ensure_ascii=False),
-    }.items() if v}
+    meta = {
+        k: v
+        for k, v in {
+            **{key: getattr(run, key) for key in PLAIN_METADATA},
+            "tags": json.dumps(run.tags, ensure_ascii=False) if run.tags else None,
+            "factors": json.dumps(run.factors, ensure_ascii=False, sort_keys=True) if run.factors else None,
+            "attachments": json.dumps([a.model_dump(mode="json", exclude_none=True) for a in run.attachments])
+            if run.attachments
+            else None,
+            # The ORD has one temperature and time per reaction; the step sequence travels here.
+            STEPS_METADATA: json.dumps([s.model_dump(mode="json", exclude_none=True) for s in run.steps], ensure_ascii=False)
+            if run.steps
+            else None,
+            LINE_ORDER_METADATA: json.dumps([ln.name for ln in run.lines], ensure_ascii=False),
+        }.items()
+        if v
+    }
     for k, v in meta.items():
         prov.reaction_metadata[k].CopyFrom(_data(v))
 
@@ -355,11 +365,15 @@ def build_dataset(runs: list[Run], screen=None, email: str | None = None, name: 
         ds.reactions.append(rxn)
     errors, warnings = validate(ds)
     if errors:
-        raise ExchangeError("the ORD export does not pass the ORD validator:\n  - " + "\n  - ".join(errors[:20]),
-                            "nothing was written; report this with the run ids")
+        raise ExchangeError(
+            "the ORD export does not pass the ORD validator:\n  - " + "\n  - ".join(errors[:20]),
+            "nothing was written; report this with the run ids",
+        )
     if not email:
-        notes.append(f"no e-mail is set for the ORD record; '{_DEFAULT_EMAIL}' was written "
-                     "(set one with the notebook setting 'email' or TRAPBOOK_EMAIL)")
+        notes.append(
+            f"no e-mail is set for the ORD record; '{_DEFAULT_EMAIL}' was written "
+            "(set one with the notebook setting 'email' or TRAPBOOK_EMAIL)"
+        )
     return ds, {"reactions": len(runs), "warnings": warnings, "notes": notes}
 
 

@@ -82,8 +82,19 @@ def parse_bytes(raw: bytes, name: str):
                     json_format.Parse(raw.decode("utf-8"), msg)
                 else:
                     text_format.Parse(raw.decode("utf-8"), msg)
-            except (pbmessage.DecodeError, json_format.ParseError, text_format.ParseError, UnicodeDecodeError,
-                    ValueError, TypeError, KeyError, IndexError, RecursionError, OverflowError, AttributeError) as exc:
+            except (
+                pbmessage.DecodeError,
+                json_format.ParseError,
+                text_format.ParseError,
+                UnicodeDecodeError,
+                ValueError,
+                TypeError,
+                KeyError,
+                IndexError,
+                RecursionError,
+                OverflowError,
+                AttributeError,
+            ) as exc:
                 errors.append(f"{cls.__name__}: {str(exc)[:200]}")
                 continue
             if cls is d.Dataset:
@@ -98,8 +109,10 @@ def parse_bytes(raw: bytes, name: str):
             ds = d.Dataset()
             ds.reactions.append(msg)
             return ds
-    raise ExchangeError(f"{name} is not an ORD Dataset or Reaction ({'; '.join(errors)[:400]})",
-                        "give an ORD file written as binary (.pb), text (.pbtxt) or JSON (.json); nothing was imported")
+    raise ExchangeError(
+        f"{name} is not an ORD Dataset or Reaction ({'; '.join(errors)[:400]})",
+        "give an ORD file written as binary (.pb), text (.pbtxt) or JSON (.json); nothing was imported",
+    )
 
 
 def _trapbook_steps(meta: dict, lines: list[dict], where: str, notes: list[str]) -> list[dict] | None:
@@ -119,7 +132,9 @@ def _trapbook_steps(meta: dict, lines: list[dict], where: str, notes: list[str])
     for s in steps:
         add = s.get("add", [])
         if not isinstance(add, list) or any(not isinstance(a, str) or a.casefold() not in names for a in add):
-            notes.append(f"{where}: the Trapbook step list names lines the ORD inputs do not have; steps rebuilt from the ORD fields")
+            notes.append(
+                f"{where}: the Trapbook step list names lines the ORD inputs do not have; steps rebuilt from the ORD fields"
+            )
             return None
     return steps
 
@@ -292,8 +307,10 @@ def _vessel(rxn, where: str, notes: list[str]) -> dict:
     vessel = rxn.setup.vessel
     if vessel.type != vessel.CUSTOM or vessel.details != VESSEL_DETAILS:
         kind = type(vessel).VesselType.Name(vessel.type)
-        notes.append(f"{where}: vessel type {kind}{' (' + vessel.details + ')' if vessel.details else ''} not kept; "
-                     "a run records the vessel's volume only")
+        notes.append(
+            f"{where}: vessel type {kind}{' (' + vessel.details + ')' if vessel.details else ''} not kept; "
+            "a run records the vessel's volume only"
+        )
     q = quantity_of(vessel.volume, _VOLUME) if vessel.HasField("volume") else None
     return {"vessel": q} if q is not None else {}
 
@@ -355,7 +372,8 @@ def _final_step(rxn, steps: list[dict]) -> dict:
     atm = None
     if atm_type:
         atm = {"NITROGEN": "N2", "ARGON": "Ar", "AIR": "air"}.get(
-            type(cond.pressure.atmosphere).AtmosphereType.Name(atm_type), cond.pressure.atmosphere.details or None)
+            type(cond.pressure.atmosphere).AtmosphereType.Name(atm_type), cond.pressure.atmosphere.details or None
+        )
     hold = None
     if rxn.outcomes and rxn.outcomes[0].HasField("reaction_time"):
         hold = _unit_value(rxn.outcomes[0].reaction_time, _TIME)
@@ -478,5 +496,7 @@ def import_path(nb, path, author=None) -> dict:
     path = Path(path)
     runs, notes = read_path(path)
     results = nb.import_runs(runs, author=author, reason=f"imported from ORD file {path.name}")
-    notes = [f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id] + notes
+    notes = [
+        f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id
+    ] + notes
     return {"format": "ord", "imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}

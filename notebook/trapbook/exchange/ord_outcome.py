@@ -33,8 +33,16 @@ from .ord_common import (
 )
 
 #: The last word of an appearance -> ORD texture ("white solid" is colour "white", texture SOLID).
-_TEXTURES = {"solid": "SOLID", "oil": "OIL", "powder": "POWDER", "crystals": "CRYSTAL", "foam": "FOAM", "wax": "WAX",
-             "liquid": "LIQUID", "gas": "GAS"}
+_TEXTURES = {
+    "solid": "SOLID",
+    "oil": "OIL",
+    "powder": "POWDER",
+    "crystals": "CRYSTAL",
+    "foam": "FOAM",
+    "wax": "WAX",
+    "liquid": "LIQUID",
+    "gas": "GAS",
+}
 _QNMR_DATA = ("standard_integral", "standard_protons", "integral", "protons")
 
 
@@ -96,8 +104,9 @@ def _write_qnmr(out, prod, name: str, q, y, has_standard: bool, notes: list[str]
     if q.standard_amount is not None:
         an.data["standard_amount_mmol"].CopyFrom(_data(to_canonical(q.standard_amount, "amount")))
     if q.spectrum is not None:
-        an.data[SPECTRUM_DATA].CopyFrom(_data(json.dumps(q.spectrum.model_dump(mode="json", exclude_none=True),
-                                                         ensure_ascii=False, sort_keys=True)))
+        an.data[SPECTRUM_DATA].CopyFrom(
+            _data(json.dumps(q.spectrum.model_dump(mode="json", exclude_none=True), ensure_ascii=False, sort_keys=True))
+        )
     if y is not None and y.nmr_yield_pct is not None:
         m = _measurement(prod, "YIELD", key)
         m.uses_internal_standard = True
@@ -233,8 +242,12 @@ def write_outcome(rxn, run, table, notes: list[str]) -> None:
     if outcome is not None and outcome.observations:
         rxn.observations.add().comment = outcome.observations
     results = {p.product.casefold(): p for p in (outcome.products if outcome else [])}
-    ctx = {"first": True, "notes": notes, "eluent": outcome.eluent if outcome else None,
-           "has_standard": bool(run.lines_by_role("internal standard"))}
+    ctx = {
+        "first": True,
+        "notes": notes,
+        "eluent": outcome.eluent if outcome else None,
+        "has_standard": bool(run.lines_by_role("internal standard")),
+    }
     for line in run.lines_by_role("product"):
         key = line.name.casefold()
         _write_product(out, line, results.get(key), yields.get(key), ctx)
@@ -291,8 +304,10 @@ def _read_yield(m, outc, res: dict, has_mass: bool, pwhere: str, notes: list[str
         res["qnmr"] = q
     elif not has_mass or m.uses_internal_standard:
         shown = f"{_f32(m.percentage.value):g} % " if m.WhichOneof("value") == "percentage" else ""
-        notes.append(f"{pwhere}: a {shown}yield without the data behind it "
-                     "(isolated mass or NMR integrals) is not kept; Trapbook recomputes yields")
+        notes.append(
+            f"{pwhere}: a {shown}yield without the data behind it "
+            "(isolated mass or NMR integrals) is not kept; Trapbook recomputes yields"
+        )
 
 
 def _read_identity(m, outc, res: dict, pwhere: str, notes: list[str]) -> None:
@@ -310,8 +325,10 @@ def _read_identity(m, outc, res: dict, pwhere: str, notes: list[str]) -> None:
     elif kind == "HRMS" and isinstance(d.get("ion"), str) and _num(d.get("found_mz")) is not None and "hrms" not in res:
         res["hrms"] = {"ion": d["ion"], "found_mz": _num(d["found_mz"])}
     else:
-        notes.append(f"{pwhere}: {kind} analysis '{m.analysis_key}' not kept (a product holds one Rf, NMR text "
-                     "and one HRMS ion with a finite m/z; this one is missing, unreadable or a second)")
+        notes.append(
+            f"{pwhere}: {kind} analysis '{m.analysis_key}' not kept (a product holds one Rf, NMR text "
+            "and one HRMS ion with a finite m/z; this one is missing, unreadable or a second)"
+        )
 
 
 def _read_measurements(prod, outc, res: dict, pwhere: str, notes: list[str]) -> None:
@@ -398,7 +415,7 @@ def read_workups(wk, k: int, where: str, outcome: dict, notes: list[str]) -> Non
     kind = type(wk).ReactionWorkupType.Name(wk.type)
     details = wk.details.strip()
     if kind == "FLASH_CHROMATOGRAPHY" and details.startswith(ELUENT_PREFIX.strip()) and "eluent" not in outcome:
-        outcome["eluent"] = details[len(ELUENT_PREFIX.strip()):].strip()
+        outcome["eluent"] = details[len(ELUENT_PREFIX.strip()) :].strip()
         return
     if kind == "CUSTOM" and details:
         text = details

@@ -14,8 +14,9 @@ becomes the ``--format`` name. A built-in name cannot be replaced by a plugin.
 from __future__ import annotations
 
 import importlib
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 from ..errors import ExchangeError, TrapbookError
 
@@ -69,8 +70,10 @@ def _plugin_spec(name: str) -> dict[str, Any] | None:
     try:
         obj = ep.load()
     except Exception as exc:
-        raise ExchangeError(f"the export format '{name}' (from an installed plugin) could not be loaded: {exc}",
-                            "reinstall or remove the package that provides it") from None
+        raise ExchangeError(
+            f"the export format '{name}' (from an installed plugin) could not be loaded: {exc}",
+            "reinstall or remove the package that provides it",
+        ) from None
     export = getattr(obj, "export", None)
     if export is None and callable(obj):
         export = obj
@@ -125,7 +128,7 @@ def format_of(path: Path) -> str | None:
         ord_keys = ('"reactions"', '"inputs"', '"outcomes"', '"reactionId"', '"datasetId"', '"dataset_id"')
         if stripped.startswith("{") and any(k in head for k in ord_keys) and '"lines"' not in head:
             return "ord"
-    for fmt, ep in plugin_formats().items():
+    for fmt in plugin_formats():
         try:
             s = _plugin_spec(fmt)
         except ExchangeError:
@@ -142,11 +145,15 @@ def import_other(nb, path, author=None):
         raise ExchangeError(f"no file or folder {path}", "give the path of a file to import")
     fmt = format_of(path)
     if fmt is None:
-        raise ExchangeError(f"cannot tell the format of {path}",
-                            "import a .jsonl/.json run file, an ORD file (.pb, .pbtxt, .json) or an RO-Crate (.zip or folder)")
+        raise ExchangeError(
+            f"cannot tell the format of {path}",
+            "import a .jsonl/.json run file, an ORD file (.pb, .pbtxt, .json) or an RO-Crate (.zip or folder)",
+        )
     entry = spec(fmt)
     if not entry.get("import"):
-        raise ExchangeError(f"the format '{fmt}' can be exported but not imported", "import a JSON-lines or RO-Crate export instead")
+        raise ExchangeError(
+            f"the format '{fmt}' can be exported but not imported", "import a JSON-lines or RO-Crate export instead"
+        )
     return _resolve(entry["import"])(nb, path, author=author)
 
 

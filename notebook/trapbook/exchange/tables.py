@@ -16,14 +16,47 @@ from ..errors import ExchangeError, TrapbookError
 from ..files import write_atomic
 
 RUN_COLUMNS = (
-    "run id", "title", "chemist", "date", "status", "screen", "tags",
-    "intermediate", "intermediate SMILES", "precursor", "trap", "trap equiv", "fluoride source", "fluoride equiv",
-    "additive", "solvent", "limiting amount (mmol)", "concentration (M)", "T max (°C)", "T min (°C)", "time (min)",
-    "sealed", "isolated yield (%)", "NMR yield (%)", "dr", "ee (%)", "worst finding",
+    "run id",
+    "title",
+    "chemist",
+    "date",
+    "status",
+    "screen",
+    "tags",
+    "intermediate",
+    "intermediate SMILES",
+    "precursor",
+    "trap",
+    "trap equiv",
+    "fluoride source",
+    "fluoride equiv",
+    "additive",
+    "solvent",
+    "limiting amount (mmol)",
+    "concentration (M)",
+    "T max (°C)",
+    "T min (°C)",
+    "time (min)",
+    "sealed",
+    "isolated yield (%)",
+    "NMR yield (%)",
+    "dr",
+    "ee (%)",
+    "worst finding",
 )
 LINE_COLUMNS = (
-    "run id", "line", "role", "SMILES", "given as", "MW (g/mol)", "equiv", "amount (mmol)", "mass (mg)", "volume (µL)",
-    "molarity (M)", "purity (fraction)",
+    "run id",
+    "line",
+    "role",
+    "SMILES",
+    "given as",
+    "MW (g/mol)",
+    "equiv",
+    "amount (mmol)",
+    "mass (mg)",
+    "volume (µL)",
+    "molarity (M)",
+    "purity (fraction)",
 )
 
 
@@ -59,19 +92,32 @@ def run_row(run, index_row: dict | None = None) -> dict:
         tmin = tmax = tsum = None
     factors = {f"level: {k}": v for k, v in run.factors.items()}
     row = {
-        "run id": run.id, "title": run.title, "chemist": run.chemist, "date": run.date.isoformat() if run.date else None,
-        "status": run.status, "screen": run.screen, "tags": ", ".join(run.tags),
-        "intermediate": run.intermediate_name, "intermediate SMILES": run.intermediate,
-        "precursor": _names(run, "precursor"), "trap": _names(run, "trap"), "trap equiv": _equiv(table, run, "trap"),
-        "fluoride source": _names(run, "fluoride source"), "fluoride equiv": _equiv(table, run, "fluoride source"),
-        "additive": _names(run, "additive"), "solvent": _names(run, "solvent"),
+        "run id": run.id,
+        "title": run.title,
+        "chemist": run.chemist,
+        "date": run.date.isoformat() if run.date else None,
+        "status": run.status,
+        "screen": run.screen,
+        "tags": ", ".join(run.tags),
+        "intermediate": run.intermediate_name,
+        "intermediate SMILES": run.intermediate,
+        "precursor": _names(run, "precursor"),
+        "trap": _names(run, "trap"),
+        "trap equiv": _equiv(table, run, "trap"),
+        "fluoride source": _names(run, "fluoride source"),
+        "fluoride equiv": _equiv(table, run, "fluoride source"),
+        "additive": _names(run, "additive"),
+        "solvent": _names(run, "solvent"),
         "limiting amount (mmol)": table.limiting_mmol if table else None,
         "concentration (M)": table.concentration_M if table else None,
-        "T max (°C)": tmax, "T min (°C)": tmin, "time (min)": tsum,
+        "T max (°C)": tmax,
+        "T min (°C)": tmin,
+        "time (min)": tsum,
         "sealed": any(s.sealed for s in run.steps),
         "isolated yield (%)": best.isolated_yield_pct if best else None,
         "NMR yield (%)": best.nmr_yield_pct if best else None,
-        "dr": best.dr if best else None, "ee (%)": best.ee_pct if best else None,
+        "dr": best.dr if best else None,
+        "ee (%)": best.ee_pct if best else None,
         "worst finding": (index_row or {}).get("worst"),
     }
     row.update(factors)
@@ -84,12 +130,27 @@ def line_rows(run) -> list[dict]:
     try:
         table = amounts.compute(run)
     except TrapbookError:
-        return [{"run id": run.id, "line": ln.name, "role": ln.role, "SMILES": ln.smiles, "given as": ln.given} for ln in run.lines]
+        return [
+            {"run id": run.id, "line": ln.name, "role": ln.role, "SMILES": ln.smiles, "given as": ln.given} for ln in run.lines
+        ]
     out = []
     for ln, x in zip(run.lines, table.lines):
-        out.append({"run id": run.id, "line": x.name, "role": x.role, "SMILES": ln.smiles, "given as": x.given,
-                    "MW (g/mol)": x.mw_g_mol, "equiv": x.equiv, "amount (mmol)": x.mmol, "mass (mg)": x.mass_mg,
-                    "volume (µL)": x.volume_ul, "molarity (M)": x.molarity_M, "purity (fraction)": x.purity})
+        out.append(
+            {
+                "run id": run.id,
+                "line": x.name,
+                "role": x.role,
+                "SMILES": ln.smiles,
+                "given as": x.given,
+                "MW (g/mol)": x.mw_g_mol,
+                "equiv": x.equiv,
+                "amount (mmol)": x.mmol,
+                "mass (mg)": x.mass_mg,
+                "volume (µL)": x.volume_ul,
+                "molarity (M)": x.molarity_M,
+                "purity (fraction)": x.purity,
+            }
+        )
     return out
 
 

@@ -25,12 +25,39 @@ The package: `levels` (what the planner knows and how a level changes the base r
 
 from __future__ import annotations
 
-from .levels import (FACTOR_NAMES, FLUORIDE_PROTOCOLS, KNOWN_TRAPS, FluorideProtocol, KnownTrap, apply_level,
-                     factor_name, find_protocol, find_trap)
+from .levels import (
+    FACTOR_NAMES,
+    FLUORIDE_PROTOCOLS,
+    KNOWN_TRAPS,
+    FluorideProtocol,
+    KnownTrap,
+    apply_level,
+    factor_name,
+    find_protocol,
+    find_trap,
+)
 from .plan import PlannedRun, PlannedScreen, make_screen, parse_vary, plan_screen, split_levels, store_plan, totals
 from .sheet import bench_sheet_html, bench_sheet_text, vial_instructions
 
-__all__ = ["FACTOR_NAMES", "FLUORIDE_PROTOCOLS", "KNOWN_TRAPS", "FluorideProtocol", "KnownTrap", "PlannedRun",
-           "PlannedScreen", "apply_level", "bench_sheet_html", "bench_sheet_text", "factor_name", "find_protocol",
-           "find_trap", "make_screen", "parse_vary", "plan_screen", "split_levels", "store_plan", "totals",
-           "vial_instructions"]
+__all__ = [
+    "FACTOR_NAMES",
+    "FLUORIDE_PROTOCOLS",
+    "KNOWN_TRAPS",
+    "FluorideProtocol",
+    "KnownTrap",
+    "PlannedRun",
+    "PlannedScreen",
+    "apply_level",
+    "bench_sheet_html",
+    "bench_sheet_text",
+    "factor_name",
+    "find_protocol",
+    "find_trap",
+    "make_screen",
+    "parse_vary",
+    "plan_screen",
+    "split_levels",
+    "store_plan",
+    "totals",
+    "vial_instructions",
+]

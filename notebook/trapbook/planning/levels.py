@@ -8,7 +8,6 @@ from dataclasses import dataclass
 from ..errors import RecordError, TrapbookError
 from ..records import Run
 
-
 # --- what the planner knows ------------------------------------------------------------------
 
 
@@ -26,14 +25,30 @@ class KnownTrap:
 
 #: Common traps for strained alkenes, allenes and alkynes; densities of the neat liquids.
 KNOWN_TRAPS: tuple[KnownTrap, ...] = (
-    KnownTrap("furan", "c1ccoc1", ("furane",), 0.951, "CRC Handbook of Chemistry and Physics (from memory)",
-              "bp 31 °C: volatile and peroxide-forming"),
+    KnownTrap(
+        "furan",
+        "c1ccoc1",
+        ("furane",),
+        0.951,
+        "CRC Handbook of Chemistry and Physics (from memory)",
+        "bp 31 °C: volatile and peroxide-forming",
+    ),
     KnownTrap("2,5-dimethylfuran", "Cc1ccc(C)o1", ("DMFu", "2,5-DMF"), 0.903, "supplier data sheet (from memory)"),
     KnownTrap("anthracene", "c1ccc2cc3ccccc3cc2c1", ()),
-    KnownTrap("1,3-diphenylisobenzofuran", "c1ccc(cc1)-c1oc(-c2ccccc2)c2ccccc12", ("DPIBF", "DPBF"),
-              note="light-sensitive; weigh and keep in the dark"),
-    KnownTrap("cyclopentadiene", "C1C=CC=C1", ("Cp", "CpH"), 0.802, "CRC Handbook of Chemistry and Physics (from memory)",
-              "dimerises at room temperature: crack freshly and keep cold"),
+    KnownTrap(
+        "1,3-diphenylisobenzofuran",
+        "c1ccc(cc1)-c1oc(-c2ccccc2)c2ccccc12",
+        ("DPIBF", "DPBF"),
+        note="light-sensitive; weigh and keep in the dark",
+    ),
+    KnownTrap(
+        "cyclopentadiene",
+        "C1C=CC=C1",
+        ("Cp", "CpH"),
+        0.802,
+        "CRC Handbook of Chemistry and Physics (from memory)",
+        "dimerises at room temperature: crack freshly and keep cold",
+    ),
     KnownTrap("N-tert-butyl-alpha-phenylnitrone", "CC(C)(C)[N+]([O-])=Cc1ccccc1", ("PBN", "N-tert-butyl-α-phenylnitrone")),
 )
 
@@ -52,15 +67,25 @@ class FluorideProtocol:
 FLUORIDE_PROTOCOLS: tuple[FluorideProtocol, ...] = (
     FluorideProtocol(
         "TBAF",
-        ({"role": "fluoride source", "name": "TBAF 1.0 M in THF", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]",
-          "molarity": "1.0 M", "equiv": 1.5, "water": "5 wt%"},),
+        (
+            {
+                "role": "fluoride source",
+                "name": "TBAF 1.0 M in THF",
+                "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[F-]",
+                "molarity": "1.0 M",
+                "equiv": 1.5,
+                "water": "5 wt%",
+            },
+        ),
         ("TBAF 1.0 M in THF", "TBAF/THF"),
         "commercial solution; about 5 wt% water (supplier specification, from memory)",
     ),
     FluorideProtocol(
         "CsF/TBAB",
-        ({"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 5},
-         {"role": "additive", "name": "TBAB", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[Br-]", "equiv": 1.0}),
+        (
+            {"role": "fluoride source", "name": "CsF", "smiles": "[Cs+].[F-]", "equiv": 5},
+            {"role": "additive", "name": "TBAB", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.[Br-]", "equiv": 1.0},
+        ),
         ("CsF + TBAB", "CsF-TBAB"),
         "slow release; CsF is hygroscopic: dry it and weigh it in a glovebox",
     ),
@@ -72,15 +97,23 @@ FLUORIDE_PROTOCOLS: tuple[FluorideProtocol, ...] = (
     ),
     FluorideProtocol(
         "TBAT",
-        ({"role": "fluoride source", "name": "TBAT", "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1",
-          "equiv": 1.5},),
+        (
+            {
+                "role": "fluoride source",
+                "name": "TBAT",
+                "smiles": "CCCC[N+](CCCC)(CCCC)CCCC.F[Si-](F)(c1ccccc1)(c1ccccc1)c1ccccc1",
+                "equiv": 1.5,
+            },
+        ),
         ("tetrabutylammonium difluorotriphenylsilicate",),
         "anhydrous, weighable fluoride source",
     ),
     FluorideProtocol(
         "KF/18-crown-6",
-        ({"role": "fluoride source", "name": "KF", "smiles": "[K+].[F-]", "equiv": 5},
-         {"role": "additive", "name": "18-crown-6", "smiles": "C1COCCOCCOCCOCCOCCO1", "equiv": 1.0}),
+        (
+            {"role": "fluoride source", "name": "KF", "smiles": "[K+].[F-]", "equiv": 5},
+            {"role": "additive", "name": "18-crown-6", "smiles": "C1COCCOCCOCCOCCOCCO1", "equiv": 1.0},
+        ),
         ("KF + 18-crown-6",),
         "KF is hygroscopic; 18-crown-6 is toxic — gloves",
     ),
@@ -88,9 +121,17 @@ FLUORIDE_PROTOCOLS: tuple[FluorideProtocol, ...] = (
 
 FACTOR_NAMES = ("trap", "fluoride", "temperature", "time", "trap equiv", "solvent")
 _FACTOR_ALIASES = {
-    "temp": "temperature", "t": "temperature", "fluoride source": "fluoride", "protocol": "fluoride",
-    "activator": "fluoride", "hold": "time", "duration": "time", "trap_equiv": "trap equiv",
-    "trap-equiv": "trap equiv", "equiv": "trap equiv", "trap eq": "trap equiv",
+    "temp": "temperature",
+    "t": "temperature",
+    "fluoride source": "fluoride",
+    "protocol": "fluoride",
+    "activator": "fluoride",
+    "hold": "time",
+    "duration": "time",
+    "trap_equiv": "trap equiv",
+    "trap-equiv": "trap equiv",
+    "equiv": "trap equiv",
+    "trap eq": "trap equiv",
 }
 
 
@@ -105,8 +146,10 @@ def find_trap(text: str) -> KnownTrap | None:
 
 def find_protocol(text: str) -> FluorideProtocol | None:
     k = _key(text).replace(" ", "")
-    return next((p for p in FLUORIDE_PROTOCOLS
-                 if k in {_key(p.name).replace(" ", ""), *(_key(a).replace(" ", "") for a in p.aliases)}), None)
+    return next(
+        (p for p in FLUORIDE_PROTOCOLS if k in {_key(p.name).replace(" ", ""), *(_key(a).replace(" ", "") for a in p.aliases)}),
+        None,
+    )
 
 
 def factor_name(text: str) -> str:
@@ -185,8 +228,10 @@ def _apply_trap(data: dict, level: str, base: Run) -> None:
         return
     known = find_trap(level)
     if known is None:
-        raise RecordError(f"trap '{level}' is not a trap line of the base run nor one the planner knows",
-                          "use a trap of the base run, or one of: " + ", ".join(t.name for t in KNOWN_TRAPS))
+        raise RecordError(
+            f"trap '{level}' is not a trap line of the base run nor one the planner knows",
+            "use a trap of the base run, or one of: " + ", ".join(t.name for t in KNOWN_TRAPS),
+        )
     if len(traps) == 1 and traps[0].get("smiles") and _same_structure(traps[0]["smiles"], known.smiles):
         return
     new = {"role": "trap", "name": known.name, "smiles": known.smiles, "equiv": round(_trap_equiv(base, traps[0]["name"]), 6)}
@@ -219,8 +264,10 @@ def _apply_fluoride(data: dict, level: str) -> None:
         return
     proto = find_protocol(level)
     if proto is None:
-        raise RecordError(f"fluoride protocol '{level}' is not known",
-                          "use a fluoride line of the base run, or one of: " + ", ".join(p.name for p in FLUORIDE_PROTOCOLS))
+        raise RecordError(
+            f"fluoride protocol '{level}' is not known",
+            "use a fluoride line of the base run, or one of: " + ", ".join(p.name for p in FLUORIDE_PROTOCOLS),
+        )
     helper_names = {_key(ln["name"]) for p in FLUORIDE_PROTOCOLS for ln in p.lines if ln["role"] == "additive"}
     helpers = [ln for ln in data["lines"] if ln["role"] == "additive" and _key(ln["name"]) in helper_names]
     old_names = [ln["name"] for ln in olds + helpers]

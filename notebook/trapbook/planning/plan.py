@@ -9,8 +9,7 @@ from dataclasses import dataclass, field
 
 from ..errors import RecordError, TrapbookError
 from ..records import Run, Screen, load_run
-from .levels import _key, apply_level, factor_name, _scale_to
-
+from .levels import _key, _scale_to, apply_level, factor_name
 
 # --- the plan --------------------------------------------------------------------------------
 
@@ -92,12 +91,15 @@ def _combos(levels: dict[str, list[str]], subset) -> list[dict[str, str]]:
                 raise RecordError(f"no combination of the grid has {want}", "use levels listed in the factors")
             chosen.extend(m for m in match if m not in chosen)
         else:
-            raise RecordError(f"subset entry {item!r} is neither a vial number nor a set of levels", "give e.g. [1, 3] or [{'trap': 'furan'}]")
+            raise RecordError(
+                f"subset entry {item!r} is neither a vial number nor a set of levels", "give e.g. [1, 3] or [{'trap': 'furan'}]"
+            )
     return chosen
 
 
-def plan_screen(base: Run, factors: dict[str, list[str]], scale=None, subset=None, name: str | None = None,
-                nb=None) -> PlannedScreen:
+def plan_screen(
+    base: Run, factors: dict[str, list[str]], scale=None, subset=None, name: str | None = None, nb=None
+) -> PlannedScreen:
     """The planned runs of a screen: every combination of levels (or `subset`: vial numbers
     from 1, or dicts of levels), each with its amounts at `scale` and its bench findings under
     the settings of notebook `nb` (the documented defaults when None), as stored later."""
@@ -107,9 +109,14 @@ def plan_screen(base: Run, factors: dict[str, list[str]], scale=None, subset=Non
     levels = _levels(factors)
     combos = _combos(levels, subset)
     sc_name = name or f"{base.title}: " + " × ".join(levels)
-    screen = Screen(name=sc_name[:200], factors=levels, base_run=base.id, chemist=base.chemist,
-                    scale=str(scale) if scale is not None else None,
-                    description=f"planned from {'run ' + base.id if base.id else 'a base run file'}: {base.title}")
+    screen = Screen(
+        name=sc_name[:200],
+        factors=levels,
+        base_run=base.id,
+        chemist=base.chemist,
+        scale=str(scale) if scale is not None else None,
+        description=f"planned from {'run ' + base.id if base.id else 'a base run file'}: {base.title}",
+    )
     plan = PlannedScreen(screen, base)
     for n, combo in enumerate(combos, 1):
         data = base.to_json_dict()
@@ -119,12 +126,14 @@ def plan_screen(base: Run, factors: dict[str, list[str]], scale=None, subset=Non
             _scale_to(data, base, scale)
         for f, level in combo.items():
             apply_level(data, f, level, base)
-        data.update({
-            "title": f"{sc_name[:150]} — " + ", ".join(f"{k} {v}" for k, v in combo.items()),
-            "status": "planned",
-            "factors": combo,
-            "tags": sorted(set(base.tags) | {"planned"}),
-        })
+        data.update(
+            {
+                "title": f"{sc_name[:150]} — " + ", ".join(f"{k} {v}" for k, v in combo.items()),
+                "status": "planned",
+                "factors": combo,
+                "tags": sorted(set(base.tags) | {"planned"}),
+            }
+        )
         try:
             run = load_run(data)
         except RecordError as exc:
@@ -165,8 +174,10 @@ def totals(plan: PlannedScreen) -> list[dict]:
         for row in pr.amounts.lines:
             if row.role == "product":
                 continue
-            d = acc.setdefault(row.name, {"line": row.name, "role": row.role, "form": row.form, "vials": 0,
-                                          "mass_mg": 0.0, "volume_ul": 0.0, "mmol": 0.0})
+            d = acc.setdefault(
+                row.name,
+                {"line": row.name, "role": row.role, "form": row.form, "vials": 0, "mass_mg": 0.0, "volume_ul": 0.0, "mmol": 0.0},
+            )
             d["vials"] += 1
             d["mass_mg"] += row.mass_mg or 0.0
             d["volume_ul"] += row.volume_ul or 0.0
@@ -204,8 +215,9 @@ def parse_vary(items: list[str]) -> dict[str, list[str]]:
     return out
 
 
-def make_screen(nb, base, factors, *, scale=None, subset=None, name: str | None = None, store: bool = True,
-                author: str | None = None) -> PlannedScreen:
+def make_screen(
+    nb, base, factors, *, scale=None, subset=None, name: str | None = None, store: bool = True, author: str | None = None
+) -> PlannedScreen:
     """Plan a screen and, unless store is False (a dry run), save it with its planned runs."""
     plan = plan_screen(base, factors, scale=scale, subset=subset, name=name, nb=nb)
     if store:

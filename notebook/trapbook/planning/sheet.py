@@ -8,7 +8,6 @@ import html
 from ..phrases import step_phrases
 from .plan import PlannedRun, PlannedScreen, totals
 
-
 # --- the bench sheet --------------------------------------------------------------------------
 
 
@@ -56,8 +55,17 @@ def vial_instructions(pr: PlannedRun) -> list[dict]:
                 extra.append(f"{row.equiv:.3g} equiv")
             if row.molarity_M:
                 extra.append(f"{row.molarity_M:g} M solution")
-            out.append({"step": i, "action": verb, "line": name, "role": row.role, "quantity": qty, "detail": ", ".join(extra),
-                        "weighed": _weighed(pr.run, name)})
+            out.append(
+                {
+                    "step": i,
+                    "action": verb,
+                    "line": name,
+                    "role": row.role,
+                    "quantity": qty,
+                    "detail": ", ".join(extra),
+                    "weighed": _weighed(pr.run, name),
+                }
+            )
         cond = step_phrases(s.model_copy(update={"note": None}), with_additions=False)
         if cond or s.note:
             out.append({"step": i, "action": "conditions", "line": "", "quantity": "; ".join(cond), "detail": s.note or ""})
@@ -65,8 +73,16 @@ def vial_instructions(pr: PlannedRun) -> list[dict]:
         for row in table.lines:
             if row.role != "product" and row.name.casefold() not in added:
                 verb, qty = _how(row)
-                out.append({"step": None, "action": verb, "line": row.name, "role": row.role, "quantity": qty,
-                            "detail": "not named in any step — decide when it goes in"})
+                out.append(
+                    {
+                        "step": None,
+                        "action": verb,
+                        "line": row.name,
+                        "role": row.role,
+                        "quantity": qty,
+                        "detail": "not named in any step — decide when it goes in",
+                    }
+                )
     return out
 
 
@@ -112,7 +128,11 @@ def bench_sheet_text(plan: PlannedScreen) -> str:
                 lines.append(f"   {step:4} {ins['quantity']}" + (f" ({ins['detail']})" if ins["detail"] else ""))
             else:
                 weighed = f"  weighed: {ins.get('weighed') or '________'}" if ins["action"] != "add" else ""
-                lines.append(f"   {step:4} [ ] {ins['action']:7} {ins['quantity']:>12}  {ins['line']}" + (f"  ({ins['detail']})" if ins.get("detail") else "") + weighed)
+                lines.append(
+                    f"   {step:4} [ ] {ins['action']:7} {ins['quantity']:>12}  {ins['line']}"
+                    + (f"  ({ins['detail']})" if ins.get("detail") else "")
+                    + weighed
+                )
         for f in pr.findings:
             if f.severity in ("stop", "warn"):
                 lines.append(f"   ! {f.severity.upper()} {f.code}: {f.message}")
@@ -124,14 +144,16 @@ def bench_sheet_text(plan: PlannedScreen) -> str:
 def bench_sheet_html(plan: PlannedScreen) -> str:
     """A printable page: one block per vial with check boxes, in the order of addition."""
     e = html.escape
-    out = ["<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
-           f"<title>Bench sheet — {e(plan.screen.name)}</title>",
-           "<style>body{font-family:system-ui,sans-serif;margin:1.5rem;color:#222}"
-           "h1{font-size:1.3rem}h2{font-size:1.05rem;margin:1.2rem 0 .3rem;border-bottom:2px solid #5a6f3c}"
-           "table{border-collapse:collapse;width:100%;font-size:.9rem}td,th{border:1px solid #bbb;padding:.25rem .4rem;text-align:left}"
-           "td.n{text-align:right;font-variant-numeric:tabular-nums}.box{width:1.2rem}.vial{break-inside:avoid}"
-           ".warn{color:#7a3b00}.stop{color:#a00000;font-weight:bold}.safety{border:1px solid #a06000;padding:.5rem;background:#fff8ec}"
-           "@media print{body{margin:.5cm}}</style></head><body>"]
+    out = [
+        "<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
+        f"<title>Bench sheet — {e(plan.screen.name)}</title>",
+        "<style>body{font-family:system-ui,sans-serif;margin:1.5rem;color:#222}"
+        "h1{font-size:1.3rem}h2{font-size:1.05rem;margin:1.2rem 0 .3rem;border-bottom:2px solid #5a6f3c}"
+        "table{border-collapse:collapse;width:100%;font-size:.9rem}td,th{border:1px solid #bbb;padding:.25rem .4rem;text-align:left}"
+        "td.n{text-align:right;font-variant-numeric:tabular-nums}.box{width:1.2rem}.vial{break-inside:avoid}"
+        ".warn{color:#7a3b00}.stop{color:#a00000;font-weight:bold}.safety{border:1px solid #a06000;padding:.5rem;background:#fff8ec}"
+        "@media print{body{margin:.5cm}}</style></head><body>",
+    ]
     out.append(f"<h1>Bench sheet — {e(plan.screen.name)}{' (' + e(plan.screen_id) + ')' if plan.screen_id else ''}</h1>")
     out.append("<p>Varied: " + "; ".join(f"<b>{e(k)}</b>: {e(', '.join(v))}" for k, v in plan.screen.factors.items()) + "</p>")
     if plan.screen.scale:
@@ -140,23 +162,36 @@ def bench_sheet_html(plan: PlannedScreen) -> str:
     out.append("<h2>Have at hand</h2><table><tr><th>material</th><th>role</th><th>total</th><th>vials</th></tr>")
     for t in totals(plan):
         amt = _total_text(t)
-        out.append(f"<tr><td>{e(t['line'])}</td><td>{e(t['role'])}</td><td class='n'>{e(amt)}</td><td class='n'>{t['vials']}</td></tr>")
+        out.append(
+            f"<tr><td>{e(t['line'])}</td><td>{e(t['role'])}</td><td class='n'>{e(amt)}</td><td class='n'>{t['vials']}</td></tr>"
+        )
     out.append("</table>")
     for i, pr in enumerate(plan.runs):
         rid = plan.run_ids[i] if i < len(plan.run_ids) else ""
-        out.append(f"<div class='vial'><h2>{e(pr.vial)} {e(rid)} — " + e(", ".join(f"{k}: {v}" for k, v in pr.run.factors.items())) + "</h2>")
+        out.append(
+            f"<div class='vial'><h2>{e(pr.vial)} {e(rid)} — "
+            + e(", ".join(f"{k}: {v}" for k, v in pr.run.factors.items()))
+            + "</h2>"
+        )
         if pr.problem:
             out.append(f"<p class='stop'>Amounts cannot be worked out: {e(pr.problem)}</p>")
-        out.append("<table><tr><th class='box'>✓</th><th>step</th><th>do</th><th>amount</th><th>weighed</th><th>line</th><th>detail</th></tr>")
+        out.append(
+            "<table><tr><th class='box'>✓</th><th>step</th><th>do</th><th>amount</th><th>weighed</th><th>line</th><th>detail</th></tr>"
+        )
         for ins in vial_instructions(pr):
-            out.append(f"<tr><td class='box'>☐</td><td>{ins['step'] or '?'}</td><td>{e(ins['action'])}</td>"
-                       f"<td class='n'>{e(ins['quantity'])}</td><td class='n weighed'>{e(ins.get('weighed') or '')}</td>"
-                       f"<td>{e(ins['line'])}</td><td>{e(ins.get('detail') or '')}</td></tr>")
+            out.append(
+                f"<tr><td class='box'>☐</td><td>{ins['step'] or '?'}</td><td>{e(ins['action'])}</td>"
+                f"<td class='n'>{e(ins['quantity'])}</td><td class='n weighed'>{e(ins.get('weighed') or '')}</td>"
+                f"<td>{e(ins['line'])}</td><td>{e(ins.get('detail') or '')}</td></tr>"
+            )
         out.append("</table>")
         for f in pr.findings:
             if f.severity in ("stop", "warn"):
-                out.append(f"<p class='{e(f.severity)}'>{e(f.severity.upper())} {e(f.code)}: {e(f.message)}"
-                           + (f"<br><i>caution: {e(f.caution)}</i>" if f.caution else "") + "</p>")
+                out.append(
+                    f"<p class='{e(f.severity)}'>{e(f.severity.upper())} {e(f.code)}: {e(f.message)}"
+                    + (f"<br><i>caution: {e(f.caution)}</i>" if f.caution else "")
+                    + "</p>"
+                )
         out.append("</div>")
     out.append("</body></html>")
     return "\n".join(out)

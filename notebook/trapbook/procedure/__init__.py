@@ -45,8 +45,9 @@ def procedure_for(nb, ref) -> Document:
         try:
             screen = nb.get_screen(ref)
         except NotFoundError:
-            raise NotFoundError(f"no run or screen '{ref}' in this notebook",
-                                "list them with 'trapbook list' and 'trapbook screens'") from None
+            raise NotFoundError(
+                f"no run or screen '{ref}' in this notebook", "list them with 'trapbook list' and 'trapbook screens'"
+            ) from None
     return screen_procedure(screen, nb.screen_runs(screen))
 
 

@@ -118,8 +118,9 @@ def as_markdown(doc: Document) -> str:
             out.append("## " + md_escape(b.text))
         elif isinstance(b, Paragraph):
             marks = {"bold": "**", "italic": "*"}
-            out.append("".join(f"{marks.get(s, '')}{md_escape(t, k == 0)}{marks.get(s, '')}"
-                               for k, (t, s) in enumerate(b.pieces)))
+            out.append(
+                "".join(f"{marks.get(s, '')}{md_escape(t, k == 0)}{marks.get(s, '')}" for k, (t, s) in enumerate(b.pieces))
+            )
         else:
             out.append("*" + md_escape(b.caption) + "*")
             out.append("")

@@ -54,8 +54,12 @@ def outcome_sentences(run: Run, table: AmountTable | None) -> tuple[list[str], l
         if y.nmr_yield_pct is not None:
             std = clean(res.qnmr.standard) if res.qnmr and res.qnmr.standard else "the internal standard"
             extra = "" if y.isolated_yield_pct is not None else "".join(f", {b}" for b in bits)
-            out.append(sentence(f"The yield of {clean(y.product)} by 1H NMR against {std} was "
-                                 f"{fmt_pct(y.nmr_yield_pct)} ({fmt_mmol(y.nmr_mmol)} mmol{extra})"))
+            out.append(
+                sentence(
+                    f"The yield of {clean(y.product)} by 1H NMR against {std} was "
+                    f"{fmt_pct(y.nmr_yield_pct)} ({fmt_mmol(y.nmr_mmol)} mmol{extra})"
+                )
+            )
         if y.isolated_yield_pct is None and y.nmr_yield_pct is None:
             notes.append(f"no isolated mass or NMR yield is recorded for '{clean(y.product)}'")
     if not oc.products:
@@ -87,14 +91,17 @@ def characterisation(run: Run) -> tuple[list[Paragraph], list[str]]:
         if line is not None and line.smiles:
             try:
                 m = with_masses({"smiles": line.smiles})
-                parts.append(f"Formula {m['formula']}, M = {fmt_fixed(m['molar_mass'], 2)} g/mol, "
-                             f"exact mass {fmt_fixed(m['monoisotopic_mass'], 4)}.")
+                parts.append(
+                    f"Formula {m['formula']}, M = {fmt_fixed(m['molar_mass'], 2)} g/mol, "
+                    f"exact mass {fmt_fixed(m['monoisotopic_mass'], 4)}."
+                )
             except TrapbookError as exc:
                 notes.append(f"no formula for '{clean(res.product)}': {exc.message}")
         row = hrms.get(res.product.casefold())
         if row is not None and "problem" not in row:
-            parts.append(f"HRMS m/z: {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, "
-                         f"found {row['found_mz']:.4f}.")
+            parts.append(
+                f"HRMS m/z: {row['ion']} calcd for {row['ion_formula']} {row['calcd_mz']:.4f}, found {row['found_mz']:.4f}."
+            )
         elif row is not None:
             notes.append(f"HRMS of '{clean(res.product)}': {row['problem']}")
         else:

@@ -28,8 +28,9 @@ def _title(run: Run) -> str:
     return (clean(", ".join(shown)) if shown else clean(run.title)) + label
 
 
-def procedure_paragraph(run: Run, table: amounts.AmountTable | None, varied: Varied | None = None,
-                        with_outcome: bool = True) -> tuple[Paragraph, list[str]]:
+def procedure_paragraph(
+    run: Run, table: amounts.AmountTable | None, varied: Varied | None = None, with_outcome: bool = True
+) -> tuple[Paragraph, list[str]]:
     """The one paragraph: additions in order, conditions, work-up, yields."""
     sentences, notes = step_sentences(run, table, varied)
     if with_outcome:
@@ -59,8 +60,11 @@ def run_procedure(run: Run, nb=None) -> Document:
     """Heading, procedure paragraph and characterisation of each product of a done (or failed) run,
     then the cautions for whoever repeats it (under the notebook's check settings when `nb` is given)."""
     if run.status not in ("done", "failed"):
-        raise RecordError(f"run {run.id or run.title} is {run.status}; a procedure is written from a finished run",
-                          "record the outcome and set the status to done (or failed)", field="status")
+        raise RecordError(
+            f"run {run.id or run.title} is {run.status}; a procedure is written from a finished run",
+            "record the outcome and set the status to done (or failed)",
+            field="status",
+        )
     table, notes = amount_table(run)
     doc = Document(_title(run))
     doc.blocks.append(Heading(doc.title))

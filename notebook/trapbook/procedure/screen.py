@@ -96,9 +96,11 @@ def _row(n: int, f: RunFacts, factors: list[str], columns: list[tuple[str, str]]
     cells += [fmt_equiv_paper(_equiv(f, parts[key])) for _label, key in columns]
     if with_c:
         cells.append(fmt_molarity(f.table.concentration_M) if f.table is not None else DASH)
-    cells += [fmt_pct(best.isolated_yield_pct) if best and best.isolated_yield_pct is not None else DASH,
-              fmt_pct(best.nmr_yield_pct) if best and best.nmr_yield_pct is not None else DASH,
-              best.dr if best and best.dr else DASH]
+    cells += [
+        fmt_pct(best.isolated_yield_pct) if best and best.isolated_yield_pct is not None else DASH,
+        fmt_pct(best.nmr_yield_pct) if best and best.nmr_yield_pct is not None else DASH,
+        best.dr if best and best.dr else DASH,
+    ]
     return cells
 
 
@@ -117,8 +119,13 @@ def screen_procedure(screen: Screen, runs: list[Run]) -> Document:
     if base.outcome and base.outcome.workup:
         doc.blocks.append(Paragraph().add(" ".join(base.outcome.workup.split())))
     factors = list(screen.factors) or sorted({k for r in runs for k in r.factors})
-    header = (["entry", "run"] + factors + [label for label, _ in columns]
-              + (["concentration (M)"] if varied.concentration_in_table else []) + ["isolated yield", "NMR yield", "dr"])
+    header = (
+        ["entry", "run"]
+        + factors
+        + [label for label, _ in columns]
+        + (["concentration (M)"] if varied.concentration_in_table else [])
+        + ["isolated yield", "NMR yield", "dr"]
+    )
     rows = [_row(n, f, factors, columns, base, varied.concentration_in_table) for n, f in enumerate(facts, 1)]
     caption = f"{TABLE_REF}. Conditions varied in screen {screen.id}; other amounts as in the general procedure ({base.id})."
     doc.blocks.append(Table(caption, header, rows))

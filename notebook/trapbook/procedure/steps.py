@@ -23,8 +23,6 @@ HEATED_ABOVE_C = 30.0
 SAME_TEMPERATURE_C = 0.5
 
 
-
-
 def _change_verb(before: float | None, after: float) -> str:
     if before is None or abs(after - before) < SAME_TEMPERATURE_C:
         return ""
@@ -79,8 +77,11 @@ class StepWriter:
         items = self._names(step)
         verb = "were" if len(items) > 1 else "was"
         t_words = self._temperature(step)
-        t_new = (step.temperature is not None and step.temperature_end is None  # a ramp is said by the stirring
-                 and _change_verb(self.temp_c, to_canonical(step.temperature, "temperature")) != "")
+        t_new = (
+            step.temperature is not None
+            and step.temperature_end is None  # a ramp is said by the stirring
+            and _change_verb(self.temp_c, to_canonical(step.temperature, "temperature")) != ""
+        )
         atmosphere = f" under {clean(step.atmosphere)}" if step.atmosphere and step.atmosphere != self.atmosphere else ""
         over = f" over {paper_quantity(step.over)}" if step.over is not None else ""
         if not self.charged:
@@ -101,8 +102,11 @@ class StepWriter:
         if step.temperature_end is not None:
             rising = to_canonical(step.temperature_end, "temperature") >= to_canonical(step.temperature, "temperature")
             move = "allowed to warm" if rising else "cooled"
-            ramp = t_words if " to " in t_words else (
-                f"{paper_quantity(step.temperature)} to {paper_quantity(step.temperature_end)}")
+            ramp = (
+                t_words
+                if " to " in t_words
+                else (f"{paper_quantity(step.temperature)} to {paper_quantity(step.temperature_end)}")
+            )
             ramp = ramp if self.index in self.varied.temperatures else f"from {ramp}"
             return f"{vessel} was {move} {ramp}" + (f" and stirred{during}" if hold else "")
         if step.temperature is None:
@@ -147,18 +151,22 @@ def step_sentences(run: Run, table: AmountTable | None, varied: Varied | None = 
         sentences += writer.sentences(step)
     notes = [f"a step adds '{clean(n)}', which is not one of the lines" for n in writer.unknown]
     placed = {n.casefold() for n in writer.added}
-    missing = [ln.name for ln in run.lines
-               if ln.role not in ("product", "internal standard") and ln.name.casefold() not in placed]
+    missing = [
+        ln.name for ln in run.lines if ln.role not in ("product", "internal standard") and ln.name.casefold() not in placed
+    ]
     if missing:
-        solvent = None if writer.solvent_named or writer.varied.concentration_in_table else next(
-            (n for n in missing if run.line(n).role == "solvent"), None)
+        solvent = (
+            None
+            if writer.solvent_named or writer.varied.concentration_in_table
+            else next((n for n in missing if run.line(n).role == "solvent"), None)
+        )
         items = [reagent_phrase(n, table, solvent) for n in missing]
         if not run.steps:
-            sentences.insert(0, sentence(f"{join_words(items)} were combined" if len(items) > 1
-                                          else f"{items[0]} was used"))
+            sentences.insert(0, sentence(f"{join_words(items)} were combined" if len(items) > 1 else f"{items[0]} was used"))
             notes.append("the run records no steps, so the order of additions is not known")
         else:
-            sentences.append(sentence(f"The record does not say when {join_words(items)} "
-                                       f"{'were' if len(items) > 1 else 'was'} added"))
+            sentences.append(
+                sentence(f"The record does not say when {join_words(items)} {'were' if len(items) > 1 else 'was'} added")
+            )
             notes.append("no step adds " + ", ".join(f"'{clean(n)}'" for n in missing))
     return sentences, notes

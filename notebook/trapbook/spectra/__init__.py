@@ -11,4 +11,14 @@ from .integrate import Integration, Region, integrate
 from .processing import ProcessedSpectrum, Processing, process
 from .readers import RawFID, read_bytes, read_path
 
-__all__ = ["Integration", "Processing", "ProcessedSpectrum", "RawFID", "Region", "integrate", "process", "read_bytes", "read_path"]
+__all__ = [
+    "Integration",
+    "Processing",
+    "ProcessedSpectrum",
+    "RawFID",
+    "Region",
+    "integrate",
+    "process",
+    "read_bytes",
+    "read_path",
+]

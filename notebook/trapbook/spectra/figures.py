@@ -27,8 +27,9 @@ def processing_from_record(record: dict) -> Processing:
         params["phase1_deg"] = record.get("phase1_deg", params.get("phase1_deg"))
         return Processing.from_dict(params)
     except (TypeError, ValueError) as exc:  # a record not written by this version of Trapbook
-        raise SpectrumError(f"the stored processing record cannot be read ({exc})",
-                            "integrate the spectrum again with 'trapbook nmr RUN'") from None
+        raise SpectrumError(
+            f"the stored processing record cannot be read ({exc})", "integrate the spectrum again with 'trapbook nmr RUN'"
+        ) from None
 
 
 def run_spectra_html(nb, run) -> str:
@@ -43,13 +44,18 @@ def run_spectra_html(nb, run) -> str:
             size = next((a.size for a in run.attachments if a.sha256 == rec.attachment_sha256), None)
             data = read_verified(store_dir(nb), rec.attachment_sha256, size)
             std, prod = Region.of(*rec.standard_region), Region.of(*rec.product_region)
-            spec = process(read_bytes(data, rec.attachment_name or "attachment"), processing_from_record(rec.processing),
-                           keep_out=[rec.standard_region, rec.product_region])
+            spec = process(
+                read_bytes(data, rec.attachment_name or "attachment"),
+                processing_from_record(rec.processing),
+                keep_out=[rec.standard_region, rec.product_region],
+            )
             integ = integrate(spec, std, prod, res.qnmr.standard_protons, res.qnmr.protons)
         except TrapbookError as exc:
             out.append(f"<p class='warn'>The spectrum of {html.escape(caption)} cannot be drawn: {html.escape(exc.message)}</p>")
             continue
         png = base64.b64encode(spectrum_png(spec, integ)).decode("ascii")
-        out.append(f"<figure><img alt='1H spectrum' src='data:image/png;base64,{png}'>"
-                   f"<figcaption>{html.escape(caption)}; standard {std} ppm, product {prod} ppm</figcaption></figure>")
+        out.append(
+            f"<figure><img alt='1H spectrum' src='data:image/png;base64,{png}'>"
+            f"<figcaption>{html.escape(caption)}; standard {std} ppm, product {prod} ppm</figcaption></figure>"
+        )
     return "\n".join(out)

@@ -12,8 +12,13 @@ from .integrate import Integration
 from .processing import ProcessedSpectrum
 
 
-def spectrum_png(spec: ProcessedSpectrum, integration: Integration | None = None, title: str | None = None,
-                 width_in: float = 7.0, height_in: float = 3.0) -> bytes:
+def spectrum_png(
+    spec: ProcessedSpectrum,
+    integration: Integration | None = None,
+    title: str | None = None,
+    width_in: float = 7.0,
+    height_in: float = 3.0,
+) -> bytes:
     """PNG bytes of the spectrum; the standard's region shaded blue, the product's orange."""
     from matplotlib.figure import Figure  # a bare Figure draws with Agg and touches no global backend
 
@@ -21,8 +26,10 @@ def spectrum_png(spec: ProcessedSpectrum, integration: Integration | None = None
     ax = fig.add_subplot(1, 1, 1)
     ax.plot(spec.ppm, spec.intensity, color="black", linewidth=0.6)
     if integration is not None:
-        for region, colour, label in ((integration.standard_region, "tab:blue", "standard"),
-                                      (integration.product_region, "tab:orange", "product")):
+        for region, colour, label in (
+            (integration.standard_region, "tab:blue", "standard"),
+            (integration.product_region, "tab:orange", "product"),
+        ):
             ax.axvspan(region.low, region.high, color=colour, alpha=0.25, label=f"{label} {region}")
         ax.legend(loc="upper left", fontsize=7, frameon=False)
     ax.set_xlim(float(spec.ppm.max()), float(spec.ppm.min()))

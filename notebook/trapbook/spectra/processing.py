@@ -50,8 +50,12 @@ class Processing:
     reverse: bool = True
 
     def __post_init__(self) -> None:
-        numbers = {"line broadening": self.line_broadening_hz, "phase 0": self.phase0_deg, "phase 1": self.phase1_deg,
-                   "reference ppm": self.reference_ppm}
+        numbers = {
+            "line broadening": self.line_broadening_hz,
+            "phase 0": self.phase0_deg,
+            "phase 1": self.phase1_deg,
+            "reference ppm": self.reference_ppm,
+        }
         for what, v in numbers.items():
             if not _number(v) and (v is not None or what == "line broadening"):
                 raise SpectrumError(f"{what} {v!r} is not a finite number", "give a plain number", field=what)
@@ -65,18 +69,27 @@ class Processing:
             if not isinstance(v, int) or isinstance(v, bool):
                 raise SpectrumError(f"{what} {v!r} is not a whole number", "use the default", field=what)
         if not 0 <= self.line_broadening_hz <= 50:
-            raise SpectrumError(f"line broadening {self.line_broadening_hz} Hz is outside 0-50 Hz",
-                                "0.3 Hz is usual for a 1H qNMR spectrum", field="line_broadening_hz")
+            raise SpectrumError(
+                f"line broadening {self.line_broadening_hz} Hz is outside 0-50 Hz",
+                "0.3 Hz is usual for a 1H qNMR spectrum",
+                field="line_broadening_hz",
+            )
         if self.zero_fill_factor not in (1, 2, 4, 8):
-            raise SpectrumError(f"zero-fill factor {self.zero_fill_factor} is not 1, 2, 4 or 8", "use 2", field="zero_fill_factor")
+            raise SpectrumError(
+                f"zero-fill factor {self.zero_fill_factor} is not 1, 2, 4 or 8", "use 2", field="zero_fill_factor"
+            )
         if self.phase_method not in PHASE_METHODS:
-            raise SpectrumError(f"phase method '{self.phase_method}' is not one of {', '.join(PHASE_METHODS)}",
-                                "use acme", field="phase_method")
+            raise SpectrumError(
+                f"phase method '{self.phase_method}' is not one of {', '.join(PHASE_METHODS)}", "use acme", field="phase_method"
+            )
         if not 0 <= self.baseline_order <= 6:
             raise SpectrumError(f"baseline order {self.baseline_order} is outside 0-6", "use 3", field="baseline_order")
         if (self.reference_ppm is None) != (self.reference_region is None):
-            raise SpectrumError("referencing needs both the target ppm and the region to look for the signal in",
-                                "give both, or neither", field="reference_ppm")
+            raise SpectrumError(
+                "referencing needs both the target ppm and the region to look for the signal in",
+                "give both, or neither",
+                field="reference_ppm",
+            )
 
     @classmethod
     def from_dict(cls, d: dict) -> Processing:
@@ -114,7 +127,9 @@ class ProcessedSpectrum:
         return abs(float(self.ppm[0] - self.ppm[1]))
 
 
-def process(raw: RawFID, params: Processing | None = None, keep_out: list[tuple[float, float]] | None = None) -> ProcessedSpectrum:
+def process(
+    raw: RawFID, params: Processing | None = None, keep_out: list[tuple[float, float]] | None = None
+) -> ProcessedSpectrum:
     """Process one FID; `keep_out` are ppm ranges the baseline fit must not touch (the regions)."""
     import nmrglue as ng
 
@@ -144,10 +159,19 @@ def process(raw: RawFID, params: Processing | None = None, keep_out: list[tuple[
         shift = _reference_shift(ppm, real, p.reference_region, p.reference_ppm)
         ppm = ppm + shift
     real, noise, used = _baseline(ppm, real, p.baseline_order, keep_out or [])
-    record = {"parameters": p.to_dict(), "source": raw.describe(), "digital_filter": filt, "points_transformed": size,
-              "phase0_deg": round(p0, 6), "phase1_deg": round(p1, 6), "phase_found_by": how,
-              "reference_shift_ppm": round(shift, 6), "baseline_points_used": round(used, 4),
-              "noise": noise, "nmrglue": ng.__version__}
+    record = {
+        "parameters": p.to_dict(),
+        "source": raw.describe(),
+        "digital_filter": filt,
+        "points_transformed": size,
+        "phase0_deg": round(p0, 6),
+        "phase1_deg": round(p1, 6),
+        "phase_found_by": how,
+        "reference_shift_ppm": round(shift, 6),
+        "baseline_points_used": round(used, 4),
+        "noise": noise,
+        "nmrglue": ng.__version__,
+    }
     return ProcessedSpectrum(ppm, real, noise, record, list(raw.notes))
 
 
@@ -192,14 +216,17 @@ def _tallest_peak_phase(spec: np.ndarray, p1: float, ppm: np.ndarray, region: tu
     if region is not None:
         inside = (ppm >= min(region)) & (ppm <= max(region))
         if inside.sum() < 3:
-            raise SpectrumError(f"the phase region {min(region):g}..{max(region):g} ppm is not inside the spectrum",
-                                "give a region that holds a sharp signal, or another phase method", field="phase_region")
+            raise SpectrumError(
+                f"the phase region {min(region):g}..{max(region):g} ppm is not inside the spectrum",
+                "give a region that holds a sharp signal, or another phase method",
+                field="phase_region",
+            )
         size = np.where(inside, size, -1.0)
     top = int(np.argmax(size))
     half = max(3, int(PEAK_WINDOW_PPM / abs(float(ppm[0] - ppm[1]))))
     lo, hi = max(0, top - half), min(spec.size, top + half + 1)
     half = min(top - lo, hi - 1 - top)
-    total = np.sum(turned[top - half:top + half + 1])
+    total = np.sum(turned[top - half : top + half + 1])
     return float(-np.degrees(np.angle(total)))
 
 
@@ -222,8 +249,11 @@ def _reference_shift(ppm: np.ndarray, real: np.ndarray, region: tuple[float, flo
     lo, hi = sorted(region)
     inside = np.nonzero((ppm >= lo) & (ppm <= hi))[0]
     if inside.size < 3:
-        raise SpectrumError(f"the reference region {lo:g}..{hi:g} ppm is not inside the spectrum",
-                            "give a region where the reference signal is", field="reference_region")
+        raise SpectrumError(
+            f"the reference region {lo:g}..{hi:g} ppm is not inside the spectrum",
+            "give a region where the reference signal is",
+            field="reference_region",
+        )
     i = int(inside[np.argmax(real[inside])])
     peak = float(ppm[i])
     if 0 < i < ppm.size - 1:  # a parabola through the top three points finds the top between points
@@ -234,7 +264,9 @@ def _reference_shift(ppm: np.ndarray, real: np.ndarray, region: tuple[float, flo
     return target - peak
 
 
-def _baseline(ppm: np.ndarray, real: np.ndarray, order: int, keep_out: list[tuple[float, float]]) -> tuple[np.ndarray, float, float]:
+def _baseline(
+    ppm: np.ndarray, real: np.ndarray, order: int, keep_out: list[tuple[float, float]]
+) -> tuple[np.ndarray, float, float]:
     """Subtract a polynomial fitted to the signal-free points; return it with the noise level.
 
     The noise comes from point-to-point differences (blind to a smooth baseline and to
@@ -249,8 +281,11 @@ def _baseline(ppm: np.ndarray, real: np.ndarray, order: int, keep_out: list[tupl
     for lo, hi in keep_out:
         base &= ~((ppm >= min(lo, hi)) & (ppm <= max(lo, hi)))
     if base.sum() < 4 * (order + 1):
-        raise SpectrumError("too few points outside the integral regions to fit a baseline",
-                            "use smaller integral regions or a lower baseline order", field="baseline_order")
+        raise SpectrumError(
+            "too few points outside the integral regions to fit a baseline",
+            "use smaller integral regions or a lower baseline order",
+            field="baseline_order",
+        )
     free = base.copy()
     for _ in range(4):
         coef = np.polynomial.polynomial.polyfit(x[free], real[free], order)

@@ -54,11 +54,20 @@ class RawFID:
     notes: list[str] = field(default_factory=list)
 
     def describe(self) -> dict:
-        return {"format": self.fmt, "points": int(self.fid.size), "sw_hz": self.sw_hz, "observe_mhz": self.observe_mhz,
-                "carrier_ppm": self.carrier_ppm, "nucleus": self.nucleus, "digital_filter": self.digital_filter}
+        return {
+            "format": self.fmt,
+            "points": int(self.fid.size),
+            "sw_hz": self.sw_hz,
+            "observe_mhz": self.observe_mhz,
+            "carrier_ppm": self.carrier_ppm,
+            "nucleus": self.nucleus,
+            "digital_filter": self.digital_filter,
+        }
 
 
-def _refuse(what: str, hint: str = "attach the zipped experiment folder (fid + acqus, or fid + procpar) or a JCAMP-DX FID") -> SpectrumError:
+def _refuse(
+    what: str, hint: str = "attach the zipped experiment folder (fid + acqus, or fid + procpar) or a JCAMP-DX FID"
+) -> SpectrumError:
     return SpectrumError(what, hint, field="attachment")
 
 
@@ -97,14 +106,21 @@ def read_folder(folder: Path, name: str) -> RawFID:
 
 def _experiment_folder(folder: Path, name: str) -> Path:
     """The one folder below `folder` holding ``fid`` with ``acqus`` or ``procpar``."""
-    found = sorted({p.parent for p in folder.rglob("fid") if p.is_file() and not p.is_symlink()
-                    and ((p.parent / "acqus").is_file() or (p.parent / "procpar").is_file())})
+    found = sorted(
+        {
+            p.parent
+            for p in folder.rglob("fid")
+            if p.is_file() and not p.is_symlink() and ((p.parent / "acqus").is_file() or (p.parent / "procpar").is_file())
+        }
+    )
     if not found:
         raise _refuse(f"{name} holds no experiment: no 'fid' beside an 'acqus' (Bruker) or 'procpar' (Varian/Agilent)")
     if len(found) > 1:
         shown = ", ".join(str(p.relative_to(folder)) for p in found[:5])
-        raise _refuse(f"{name} holds {len(found)} experiments ({shown}); Trapbook integrates one spectrum per attachment",
-                      "zip the one experiment folder of this vial's 1H spectrum and attach that")
+        raise _refuse(
+            f"{name} holds {len(found)} experiments ({shown}); Trapbook integrates one spectrum per attachment",
+            "zip the one experiment folder of this vial's 1H spectrum and attach that",
+        )
     return found[0]
 
 
@@ -126,8 +142,10 @@ def unzip_safely(data: bytes, dest: Path, name: str = "zip") -> Path:
             _member_path(info, name)  # every member is judged before any is written
             total += info.file_size
             if info.file_size > MAX_MEMBER_BYTES or total > MAX_UNPACKED_BYTES:
-                raise _refuse(f"{name}: member '{info.filename}' would unpack to more than a raw 1D data set can be",
-                              "attach the experiment folder of the 1H spectrum only")
+                raise _refuse(
+                    f"{name}: member '{info.filename}' would unpack to more than a raw 1D data set can be",
+                    "attach the experiment folder of the 1H spectrum only",
+                )
         for info in infos:
             rel = _member_path(info, name)
             if rel is None or info.is_dir():
@@ -196,9 +214,11 @@ def _read_bruker(exp: Path, name: str) -> RawFID:
     want = td * item
     padded = math.ceil(want / 1024) * 1024  # acquisition software pads to whole blocks
     if size < want or size > padded:
-        raise _refuse(f"{name}: 'fid' is {size} bytes but acqus promises TD = {td} points ({want} bytes); "
-                      + ("the file is truncated" if size < want else "the sizes do not belong together"),
-                      "attach the complete experiment folder again, straight from the spectrometer")
+        raise _refuse(
+            f"{name}: 'fid' is {size} bytes but acqus promises TD = {td} points ({want} bytes); "
+            + ("the file is truncated" if size < want else "the sizes do not belong together"),
+            "attach the complete experiment folder again, straight from the spectrometer",
+        )
     raw = np.frombuffer((exp / "fid").read_bytes()[:want], dtype=(">" if big else "<") + ("f8" if isfloat else "i4"))
     fid = raw[0::2].astype(np.float64) + 1j * raw[1::2].astype(np.float64)
     filt = None
@@ -217,8 +237,10 @@ def remove_bruker_filter(raw: RawFID) -> np.ndarray:
     try:
         return ng.bruker.remove_digital_filter(dic, raw.fid.astype(np.complex128))
     except ValueError as exc:
-        raise _refuse(f"the Bruker digital filter cannot be removed ({exc})",
-                      "the acqus file names a DECIM/DSPFVS pair nmrglue does not know; attach data with GRPDLY set") from None
+        raise _refuse(
+            f"the Bruker digital filter cannot be removed ({exc})",
+            "the acqus file names a DECIM/DSPFVS pair nmrglue does not know; attach data with GRPDLY set",
+        ) from None
 
 
 # --- Varian / Agilent ----------------------------------------------------------------------
@@ -239,7 +261,9 @@ def _read_varian(exp: Path, name: str) -> RawFID:
             warnings.simplefilter("error")
             pdic = ng.varian.read_procpar(str(exp / "procpar"))
     except Exception as exc:  # nmrglue raises many kinds on a broken procpar
-        raise _refuse(f"{name}: the Varian/Agilent parameter file 'procpar' cannot be read ({type(exc).__name__}: {exc})") from None
+        raise _refuse(
+            f"{name}: the Varian/Agilent parameter file 'procpar' cannot be read ({type(exc).__name__}: {exc})"
+        ) from None
     sw, sfrq = _procpar_value(pdic, "sw"), _procpar_value(pdic, "sfrq")
     if sw is None or sfrq is None:
         raise _refuse(f"{name}: 'procpar' lacks sw or sfrq, which set the ppm axis")
@@ -252,19 +276,26 @@ def _read_varian(exp: Path, name: str) -> RawFID:
     if nblocks != 1 or ntraces != 1:
         raise _refuse(f"{name}: 'fid' holds {nblocks} blocks of {ntraces} traces; Trapbook integrates one 1D FID")
     if ebytes not in (2, 4) or tbytes != npts * ebytes or nbheaders < 1 or bbytes != tbytes + 28 * nbheaders:
-        raise _refuse(f"{name}: the 'fid' header sizes do not belong together (np {npts}, {ebytes} bytes each, "
-                      f"trace {tbytes}, block {bbytes})")
+        raise _refuse(
+            f"{name}: the 'fid' header sizes do not belong together (np {npts}, {ebytes} bytes each, "
+            f"trace {tbytes}, block {bbytes})"
+        )
     if size != 32 + nblocks * bbytes:
-        raise _refuse(f"{name}: 'fid' is {size} bytes but its header promises {32 + nblocks * bbytes}; "
-                      + ("the file is truncated" if size < 32 + bbytes else "the sizes do not belong together"),
-                      "attach the complete experiment folder again, straight from the spectrometer")
+        raise _refuse(
+            f"{name}: 'fid' is {size} bytes but its header promises {32 + nblocks * bbytes}; "
+            + ("the file is truncated" if size < 32 + bbytes else "the sizes do not belong together"),
+            "attach the complete experiment folder again, straight from the spectrometer",
+        )
     isfloat = bool(status & 0x8)
     if npts % 2 or (isfloat and ebytes != 4):
-        raise _refuse(f"{name}: the 'fid' header says {npts} values of {ebytes} bytes"
-                      + (" as floats" if isfloat else "") + "; a complex FID has pairs of 2- or 4-byte integers or 4-byte floats")
+        raise _refuse(
+            f"{name}: the 'fid' header says {npts} values of {ebytes} bytes"
+            + (" as floats" if isfloat else "")
+            + "; a complex FID has pairs of 2- or 4-byte integers or 4-byte floats"
+        )
     dtype = ">f4" if isfloat else (">i4" if ebytes == 4 else ">i2")
     start = 32 + 28 * nbheaders
-    raw = np.frombuffer(blob[start:start + tbytes], dtype=dtype).astype(np.float64)
+    raw = np.frombuffer(blob[start : start + tbytes], dtype=dtype).astype(np.float64)
     fid = raw[0::2] + 1j * raw[1::2]
     _check_axis(name, sw, sfrq, fid.size)
     reffrq = _procpar_value(pdic, "reffrq")
@@ -282,8 +313,10 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
     import nmrglue as ng
 
     if len(data) > MAX_JCAMP_BYTES:
-        raise _refuse(f"{name} is {len(data) / 2**20:.0f} MB, far more than a JCAMP-DX 1D FID can be "
-                      f"(at most {MAX_JCAMP_BYTES // 2**20} MB)")
+        raise _refuse(
+            f"{name} is {len(data) / 2**20:.0f} MB, far more than a JCAMP-DX 1D FID can be "
+            f"(at most {MAX_JCAMP_BYTES // 2**20} MB)"
+        )
     with tempfile.TemporaryDirectory(prefix="trapbook-nmr-") as tmp:
         path = Path(tmp) / "data.jdx"
         path.write_bytes(data)
@@ -295,8 +328,10 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
             raise _refuse(f"{name} is not a readable JCAMP-DX file ({type(exc).__name__}: {exc})") from None
     kind = str(dic.get("DATATYPE", dic.get("DATA TYPE", [""]))[0]).upper()
     if "FID" not in kind:
-        raise _refuse(f"{name} is a JCAMP-DX file of data type '{kind or 'unknown'}', not an NMR FID",
-                      "export the FID (DATA TYPE= NMR FID) from the spectrometer software and attach that")
+        raise _refuse(
+            f"{name} is a JCAMP-DX file of data type '{kind or 'unknown'}', not an NMR FID",
+            "export the FID (DATA TYPE= NMR FID) from the spectrometer software and attach that",
+        )
     if not isinstance(values, list) or len(values) != 2 or any(v is None for v in values) or len(values[0]) != len(values[1]):
         raise _refuse(f"{name}: a JCAMP-DX FID needs a real and an imaginary table of the same length")
     fid = np.asarray(values[0], dtype=np.float64) + 1j * np.asarray(values[1], dtype=np.float64)
@@ -313,8 +348,11 @@ def read_jcamp_bytes(data: bytes, name: str) -> RawFID:
     notes = [] if bf1 else ["the JCAMP-DX file has no $O1/$BF1: the ppm axis is set by referencing only"]
     _check_axis(name, sw, obs, fid.size)
     decim, dspfvs, grpdly = _jcamp_float(dic, "$DECIM"), _jcamp_float(dic, "$DSPFVS"), _jcamp_float(dic, "$GRPDLY")
-    filt = {"DECIM": decim, "DSPFVS": int(dspfvs), "GRPDLY": grpdly if grpdly is not None else -1.0} \
-        if decim is not None and dspfvs is not None else None  # a Bruker FID exported as JCAMP-DX keeps its filter
+    filt = (
+        {"DECIM": decim, "DSPFVS": int(dspfvs), "GRPDLY": grpdly if grpdly is not None else -1.0}
+        if decim is not None and dspfvs is not None
+        else None
+    )  # a Bruker FID exported as JCAMP-DX keeps its filter
     return RawFID(_finite(fid, name), sw, obs, carrier, "jcamp-dx", None, filt, notes)
 
 

@@ -46,19 +46,31 @@ class RegionSet:
     processing: Processing = field(default_factory=Processing)
 
     def to_dict(self) -> dict:
-        return {"standard": [self.standard.low, self.standard.high], "product": [self.product.low, self.product.high],
-                "standard_protons": self.standard_protons, "product_protons": self.product_protons,
-                "product_line": self.product_line, "processing": self.processing.to_dict()}
+        return {
+            "standard": [self.standard.low, self.standard.high],
+            "product": [self.product.low, self.product.high],
+            "standard_protons": self.standard_protons,
+            "product_protons": self.product_protons,
+            "product_line": self.product_line,
+            "processing": self.processing.to_dict(),
+        }
 
     @classmethod
     def from_dict(cls, d: dict) -> RegionSet:
         try:
-            return cls(Region.of(*d["standard"], what="standard"), Region.of(*d["product"], what="product"),
-                       d.get("standard_protons"), d.get("product_protons"), d.get("product_line"),
-                       Processing.from_dict(d.get("processing") or {}))
+            return cls(
+                Region.of(*d["standard"], what="standard"),
+                Region.of(*d["product"], what="product"),
+                d.get("standard_protons"),
+                d.get("product_protons"),
+                d.get("product_line"),
+                Processing.from_dict(d.get("processing") or {}),
+            )
         except (KeyError, TypeError, ValueError) as exc:
-            raise SpectrumError(f"the stored NMR regions cannot be read ({exc})", "set them again with 'trapbook nmr SCREEN "
-                                "--standard LOW..HIGH --product LOW..HIGH'") from None
+            raise SpectrumError(
+                f"the stored NMR regions cannot be read ({exc})",
+                "set them again with 'trapbook nmr SCREEN --standard LOW..HIGH --product LOW..HIGH'",
+            ) from None
 
 
 def spectrum_attachment(run: Run, name: str | None = None):
@@ -66,16 +78,23 @@ def spectrum_attachment(run: Run, name: str | None = None):
     if name:
         att = next((a for a in run.attachments if a.name == name or (len(name) >= 8 and a.sha256.startswith(name))), None)
         if att is None:
-            raise SpectrumError(f"run {run.id} has no attachment '{name}'", "list them with 'trapbook show RUN --json'",
-                                field="attachment")
+            raise SpectrumError(
+                f"run {run.id} has no attachment '{name}'", "list them with 'trapbook show RUN --json'", field="attachment"
+            )
         return att
     found = [a for a in run.attachments if a.name.lower().endswith(SPECTRUM_ENDINGS)]
     if not found:
-        raise SpectrumError(f"run {run.id} has no attached raw NMR data (a zipped experiment folder or a JCAMP-DX file)",
-                            "attach it with 'trapbook attach RUN FILE'", field="attachment")
+        raise SpectrumError(
+            f"run {run.id} has no attached raw NMR data (a zipped experiment folder or a JCAMP-DX file)",
+            "attach it with 'trapbook attach RUN FILE'",
+            field="attachment",
+        )
     if len({a.sha256 for a in found}) > 1:
-        raise SpectrumError(f"run {run.id} has {len(found)} raw-data attachments: {', '.join(a.name for a in found)}",
-                            "choose one with --attachment NAME", field="attachment")
+        raise SpectrumError(
+            f"run {run.id} has {len(found)} raw-data attachments: {', '.join(a.name for a in found)}",
+            "choose one with --attachment NAME",
+            field="attachment",
+        )
     return found[-1]
 
 
@@ -87,8 +106,9 @@ def analyse(data: bytes, name: str, regions: RegionSet) -> tuple[ProcessedSpectr
     proc = regions.processing
     if proc.phase_method == "tallest-peak" and proc.phase_region is None and proc.phase0_deg is None:
         proc = replace(proc, phase_region=(regions.standard.low, regions.standard.high))
-    spec = process(raw, proc, keep_out=[(regions.standard.low, regions.standard.high),
-                                                     (regions.product.low, regions.product.high)])
+    spec = process(
+        raw, proc, keep_out=[(regions.standard.low, regions.standard.high), (regions.product.low, regions.product.high)]
+    )
     return spec, integrate(spec, regions.standard, regions.product, std_n, prod_n)
 
 
@@ -98,30 +118,58 @@ def integrate_run(nb, run_id: str, regions: RegionSet, attachment: str | None = 
     run = nb.get_run(run_id)
     att = spectrum_attachment(run, attachment)
     if att.size > MAX_UNPACKED_BYTES:
-        raise SpectrumError(f"{att.name} is {att.size / 2**20:.0f} MB, more than a 1D experiment can be",
-                            "attach the zipped folder of the one 1H experiment", field="attachment")
+        raise SpectrumError(
+            f"{att.name} is {att.size / 2**20:.0f} MB, more than a 1D experiment can be",
+            "attach the zipped folder of the one 1H experiment",
+            field="attachment",
+        )
     data = read_verified(store_dir(nb), att.sha256, att.size)
     product_name, previous = _product_result(run, regions.product_line)
     std_n, prod_n = _protons(regions, previous)
     regions = replace(regions, standard_protons=std_n, product_protons=prod_n)
     spec, integ = analyse(data, att.name, regions)
-    record = SpectrumRecord(attachment_sha256=att.sha256, attachment_name=att.name,
-                            standard_region=(regions.standard.low, regions.standard.high),
-                            product_region=(regions.product.low, regions.product.high),
-                            processing={**spec.record, "standard_area": integ.standard_area, "product_area": integ.product_area,
-                                        "warnings": integ.warnings})
+    record = SpectrumRecord(
+        attachment_sha256=att.sha256,
+        attachment_name=att.name,
+        standard_region=(regions.standard.low, regions.standard.high),
+        product_region=(regions.product.low, regions.product.high),
+        processing={
+            **spec.record,
+            "standard_area": integ.standard_area,
+            "product_area": integ.product_area,
+            "warnings": integ.warnings,
+        },
+    )
     old_q = previous.qnmr if previous is not None else None
-    qnmr = QNMR(standard=old_q.standard if old_q else None, standard_amount=old_q.standard_amount if old_q else None,
-                standard_integral=integ.standard_integral, standard_protons=std_n, integral=integ.product_integral,
-                protons=prod_n, spectrum=record)
+    qnmr = QNMR(
+        standard=old_q.standard if old_q else None,
+        standard_amount=old_q.standard_amount if old_q else None,
+        standard_integral=integ.standard_integral,
+        standard_protons=std_n,
+        integral=integ.product_integral,
+        protons=prod_n,
+        spectrum=record,
+    )
     new_run = _with_qnmr(run, product_name, previous, qnmr)
     yield_pct = _nmr_yield(new_run, product_name)  # refuses before anything is written
     unchanged = new_run.to_json_dict() == run.to_json_dict()  # the same bytes and settings again: no new version
     version = meta["version"] if unchanged else nb.save_run(new_run, meta["version"], author=author, reason=REASON).version
-    return {"run_id": run.id, "version": version, "saved": not unchanged, "product": product_name, "attachment": att.name,
-            "sha256": att.sha256, "standard_integral": integ.standard_integral, "product_integral": integ.product_integral,
-            "standard_protons": std_n, "product_protons": prod_n, "ratio": integ.ratio, "yield_pct": yield_pct,
-            "processing": spec.record, "warnings": integ.warnings}
+    return {
+        "run_id": run.id,
+        "version": version,
+        "saved": not unchanged,
+        "product": product_name,
+        "attachment": att.name,
+        "sha256": att.sha256,
+        "standard_integral": integ.standard_integral,
+        "product_integral": integ.product_integral,
+        "standard_protons": std_n,
+        "product_protons": prod_n,
+        "ratio": integ.ratio,
+        "yield_pct": yield_pct,
+        "processing": spec.record,
+        "warnings": integ.warnings,
+    }
 
 
 def _product_result(run: Run, wanted: str | None) -> tuple[str, ProductResult | None]:
@@ -130,7 +178,9 @@ def _product_result(run: Run, wanted: str | None) -> tuple[str, ProductResult | 
     if wanted:
         line = run.line(wanted)
         if line is None:
-            raise SpectrumError(f"run {run.id} has no line '{wanted}'", "name one of the run's product lines", field="product_line")
+            raise SpectrumError(
+                f"run {run.id} has no line '{wanted}'", "name one of the run's product lines", field="product_line"
+            )
         name = line.name
     else:
         with_q = [r for r in results if r.qnmr is not None]
@@ -140,8 +190,11 @@ def _product_result(run: Run, wanted: str | None) -> tuple[str, ProductResult | 
         elif len(products) == 1:
             name = products[0].name
         else:
-            raise SpectrumError(f"run {run.id} has {len(products)} product lines; which one is integrated?",
-                                "name it with --product-line NAME", field="product_line")
+            raise SpectrumError(
+                f"run {run.id} has {len(products)} product lines; which one is integrated?",
+                "name it with --product-line NAME",
+                field="product_line",
+            )
     prev = next((r for r in results if r.product.casefold() == name.casefold()), None)
     return (prev.product if prev else name), prev
 
@@ -151,8 +204,11 @@ def _protons(regions: RegionSet, previous: ProductResult | None) -> tuple[int, i
     std_n = regions.standard_protons or (q.standard_protons if q else None)
     prod_n = regions.product_protons or (q.protons if q else None)
     if std_n is None or prod_n is None:
-        raise SpectrumError("the proton counts of the integrated signals are not known",
-                            "give --standard-protons and --product-protons (e.g. 3 and 1)", field="standard_protons")
+        raise SpectrumError(
+            "the proton counts of the integrated signals are not known",
+            "give --standard-protons and --product-protons (e.g. 3 and 1)",
+            field="standard_protons",
+        )
     return std_n, prod_n
 
 
@@ -184,14 +240,18 @@ def screen_regions(nb, screen_id: str, given: RegionSet | None, author: str | No
         return given
     stored = nb.get_setting(key)
     if stored is None:
-        raise SpectrumError(f"screen {screen_id} has no NMR regions yet",
-                            "give them once: trapbook nmr SCREEN --standard LOW..HIGH --product LOW..HIGH "
-                            "--standard-protons N --product-protons N", field="standard")
+        raise SpectrumError(
+            f"screen {screen_id} has no NMR regions yet",
+            "give them once: trapbook nmr SCREEN --standard LOW..HIGH --product LOW..HIGH "
+            "--standard-protons N --product-protons N",
+            field="standard",
+        )
     return RegionSet.from_dict(stored)
 
 
-def integrate_screen(nb, screen_key: str, given: RegionSet | None = None, author: str | None = None,
-                     progress: Progress | None = None) -> dict:
+def integrate_screen(
+    nb, screen_key: str, given: RegionSet | None = None, author: str | None = None, progress: Progress | None = None
+) -> dict:
     """Integrate every vial of a screen that has a spectrum, with the screen's one set of regions.
 
     A vial whose data are refused is listed with the reason and left unchanged; the others
@@ -215,5 +275,4 @@ def integrate_screen(nb, screen_key: str, given: RegionSet | None = None, author
             refused.append({"run_id": run.id, **exc.to_dict()})
     if progress:
         progress("done", 1.0)
-    return {"screen": screen.id, "regions": regions.to_dict(), "integrated": done, "refused": refused,
-            "skipped": skipped}
+    return {"screen": screen.id, "regions": regions.to_dict(), "integrated": done, "refused": refused, "skipped": skipped}

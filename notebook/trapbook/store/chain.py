@@ -32,20 +32,48 @@ def data_sha(data: str) -> str:
 
 def version_hash(run_id: str, version: int, author: str, time: str, reason: str, action: str, prev: str | None, data: str) -> str:
     """SHA-256 over a run version's metadata and its canonical JSON: the link of the chain."""
-    return _sha({"run": run_id, "version": version, "author": author, "time": time, "reason": reason,
-                 "action": action, "prev": prev, "data_sha256": data_sha(data)})
+    return _sha(
+        {
+            "run": run_id,
+            "version": version,
+            "author": author,
+            "time": time,
+            "reason": reason,
+            "action": action,
+            "prev": prev,
+            "data_sha256": data_sha(data),
+        }
+    )
 
 
 def screen_hash(screen_id: str, version: int, author: str, time: str, reason: str, prev: str | None, data: str) -> str:
     """The same link for a screen's versions."""
-    return _sha({"screen": screen_id, "version": version, "author": author, "time": time, "reason": reason,
-                 "prev": prev, "data_sha256": data_sha(data)})
+    return _sha(
+        {
+            "screen": screen_id,
+            "version": version,
+            "author": author,
+            "time": time,
+            "reason": reason,
+            "prev": prev,
+            "data_sha256": data_sha(data),
+        }
+    )
 
 
 def setting_hash(key: str, version: int, author: str, time: str, reason: str, prev: str | None, value: str) -> str:
     """The same link for one setting's versions (`value` is its stored JSON text)."""
-    return _sha({"setting": key, "version": version, "author": author, "time": time, "reason": reason,
-                 "prev": prev, "value_sha256": data_sha(value)})
+    return _sha(
+        {
+            "setting": key,
+            "version": version,
+            "author": author,
+            "time": time,
+            "reason": reason,
+            "prev": prev,
+            "value_sha256": data_sha(value),
+        }
+    )
 
 
 def save_hash(n: int, kind: str, record: str, version: int, item_hash: str, prev: str | None) -> str:
@@ -72,10 +100,15 @@ def append_save(conn: sqlite3.Connection, kind: str, record: str, version: int, 
     count, prev = (row[0], row[1]) if row else (0, None)
     n = count + 1
     h = save_hash(n, kind, record, version, item_hash, prev)
-    conn.execute("INSERT INTO saves (n, kind, record, version, item_hash, prev, hash) VALUES (?,?,?,?,?,?,?)",
-                 (n, kind, record, version, item_hash, prev, h))
-    conn.execute("INSERT INTO head (one, count, hash) VALUES (1, ?, ?) ON CONFLICT(one) DO UPDATE SET count = excluded.count, "
-                 "hash = excluded.hash", (n, h))
+    conn.execute(
+        "INSERT INTO saves (n, kind, record, version, item_hash, prev, hash) VALUES (?,?,?,?,?,?,?)",
+        (n, kind, record, version, item_hash, prev, h),
+    )
+    conn.execute(
+        "INSERT INTO head (one, count, hash) VALUES (1, ?, ?) ON CONFLICT(one) DO UPDATE SET count = excluded.count, "
+        "hash = excluded.hash",
+        (n, h),
+    )
     return h
 
 

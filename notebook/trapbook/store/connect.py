@@ -66,15 +66,19 @@ def plain_error(path: Path, exc: sqlite3.Error) -> StoreError | None:
     code = _code(exc)
     text = str(exc).lower()
     if code == _SQLITE_FULL or "disk is full" in text:
-        return StoreError("the disk is full; nothing was changed",
-                          f"free some space on the disk that holds {path.parent}, then try again")
+        return StoreError(
+            "the disk is full; nothing was changed", f"free some space on the disk that holds {path.parent}, then try again"
+        )
     if code == _SQLITE_IOERR or "disk i/o error" in text:
         free = _free_bytes(path)
         if free is not None and free < 1024 * 1024:
-            return StoreError("the disk is full; nothing was changed",
-                              f"free some space on the disk that holds {path.parent}, then try again")
-        return StoreError(f"the disk refused to write {path} ({exc}); nothing was changed",
-                          "check the disk or network share the notebook is on, then try again")
+            return StoreError(
+                "the disk is full; nothing was changed", f"free some space on the disk that holds {path.parent}, then try again"
+            )
+        return StoreError(
+            f"the disk refused to write {path} ({exc}); nothing was changed",
+            "check the disk or network share the notebook is on, then try again",
+        )
     if is_busy(exc):
         return locked_error(path, None)
     return access_error(path, exc)
@@ -89,8 +93,10 @@ def _free_bytes(path: Path) -> int | None:
 
 def locked_error(path: Path, waited: float | None) -> StoreError:
     how_long = f" for {waited:.0f} s" if waited is not None else ""
-    return StoreError(f"another program kept the notebook {path} locked{how_long}; nothing was changed",
-                      "another Trapbook window, script or sync tool is writing to it: let it finish (or close it) and try again")
+    return StoreError(
+        f"another program kept the notebook {path} locked{how_long}; nothing was changed",
+        "another Trapbook window, script or sync tool is writing to it: let it finish (or close it) and try again",
+    )
 
 
 def _say_waiting(message: str) -> None:
@@ -162,8 +168,7 @@ def open_read_only(path: Path) -> sqlite3.Connection:
     last: sqlite3.Error | None = None
     for query in ("mode=ro", "immutable=1"):
         try:
-            conn = sqlite3.connect(uri(path, query), uri=True, isolation_level=None, timeout=30.0,
-                                   check_same_thread=False)
+            conn = sqlite3.connect(uri(path, query), uri=True, isolation_level=None, timeout=30.0, check_same_thread=False)
             conn.execute("SELECT count(*) FROM sqlite_master").fetchone()
             return conn
         except sqlite3.DatabaseError as exc:
@@ -181,15 +186,20 @@ def check_path(path: Path, create: bool) -> None:
         raise StoreError(f"{path} is a folder, not a notebook", "give the notebook file's path")
     if not path.exists():
         if not create:
-            raise NotFoundError(f"no notebook at {path}: create one with `trapbook init {path}`",
-                                "or point --db / TRAPBOOK_DB at your notebook")
+            raise NotFoundError(
+                f"no notebook at {path}: create one with `trapbook init {path}`", "or point --db / TRAPBOOK_DB at your notebook"
+            )
         try:
             path.parent.mkdir(parents=True, exist_ok=True)
         except OSError as exc:
-            raise StoreError(f"cannot create folder {path.parent}: {exc.strerror}", "choose a writable location with --db") from None
+            raise StoreError(
+                f"cannot create folder {path.parent}: {exc.strerror}", "choose a writable location with --db"
+            ) from None
     elif path.stat().st_size == 0 and not create:
-        raise StoreError(f"{path} is an empty file, not a notebook",
-                         f"create a notebook there with `trapbook init {path}`, or point --db at your notebook")
+        raise StoreError(
+            f"{path} is an empty file, not a notebook",
+            f"create a notebook there with `trapbook init {path}`, or point --db at your notebook",
+        )
 
 
 def connect(path: Path, create: bool) -> tuple[sqlite3.Connection, StoreError | None]:
@@ -204,8 +214,13 @@ def connect(path: Path, create: bool) -> tuple[sqlite3.Connection, StoreError | 
     if writable_here(path):
         try:
             # mode=rw when opening: SQLite must not make a new file if this one vanished meanwhile
-            conn = sqlite3.connect(uri(path, "mode=rwc" if create else "mode=rw"), uri=True, isolation_level=None,
-                                   timeout=LOCK_SLICE_MS / 1000, check_same_thread=False)
+            conn = sqlite3.connect(
+                uri(path, "mode=rwc" if create else "mode=rw"),
+                uri=True,
+                isolation_level=None,
+                timeout=LOCK_SLICE_MS / 1000,
+                check_same_thread=False,
+            )
             _set_busy_timeout(conn)
             _use_wal(conn, path)
             conn.execute("PRAGMA synchronous=FULL")
@@ -216,14 +231,17 @@ def connect(path: Path, create: bool) -> tuple[sqlite3.Connection, StoreError | 
                 conn = None
             problem = plain_error(path, exc)
             if problem is None:
-                raise StoreError(f"{path} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup") from None
+                raise StoreError(
+                    f"{path} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup"
+                ) from None
             if create or access_error(path, exc) is None:
                 raise problem from None
             write_problem = problem
     if conn is None:
         if create:
             raise access_error(path, sqlite3.OperationalError("attempt to write a readonly database")) or StoreError(
-                f"cannot create {path}", "choose a writable location with --db")
+                f"cannot create {path}", "choose a writable location with --db"
+            )
         try:
             conn = open_read_only(path)
         except sqlite3.DatabaseError as exc:
@@ -243,11 +261,15 @@ def _bring_up_to_date(conn: sqlite3.Connection, path: Path, create: bool, write_
         if applied is None:
             others = [r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")]
             if others:
-                raise StoreError(f"{path} is not a Trapbook notebook (it holds another program's tables)",
-                                 "check the path; Trapbook never adds its tables to another program's file")
+                raise StoreError(
+                    f"{path} is not a Trapbook notebook (it holds another program's tables)",
+                    "check the path; Trapbook never adds its tables to another program's file",
+                )
             if not create:
-                raise StoreError(f"{path} is an empty database, not a notebook",
-                                 f"create a notebook there with `trapbook init {path}`, or point --db at your notebook")
+                raise StoreError(
+                    f"{path} is an empty database, not a notebook",
+                    f"create a notebook there with `trapbook init {path}`, or point --db at your notebook",
+                )
         newer = newer_schema_problem(conn, path)
         if newer is not None:
             return newer
@@ -255,8 +277,10 @@ def _bring_up_to_date(conn: sqlite3.Connection, path: Path, create: bool, write_
             schema.migrate(conn, lambda: begin_immediate(conn, path))
         return write_problem
     except sqlite3.DatabaseError as exc:
-        raise (plain_error(path, exc) or StoreError(f"{path} is not a Trapbook notebook ({exc})",
-                                                    "check the path, or restore from a backup")) from None
+        raise (
+            plain_error(path, exc)
+            or StoreError(f"{path} is not a Trapbook notebook ({exc})", "check the path, or restore from a backup")
+        ) from None
 
 
 def newer_schema_problem(conn: sqlite3.Connection, path: Path) -> StoreError | None:
@@ -268,4 +292,5 @@ def newer_schema_problem(conn: sqlite3.Connection, path: Path) -> StoreError | N
     return StoreError(
         f"{path} was written by a newer Trapbook (notebook schema {newest}; this Trapbook knows up to "
         f"{schema.SCHEMA_VERSION}): it can be read here but not changed",
-        f"install Trapbook {release} or later to save to it" if release else "install a newer Trapbook to save to it")
+        f"install Trapbook {release} or later to save to it" if release else "install a newer Trapbook to save to it",
+    )

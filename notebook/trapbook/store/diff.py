@@ -77,7 +77,11 @@ def _list_key(old: Any, new: Any) -> str | None:
         return None
     items = old + new
     for key in ("name", "product"):
-        if items and all(isinstance(x, dict) and key in x for x in items) \
-                and len({x[key] for x in old}) == len(old) and len({x[key] for x in new}) == len(new):
+        if (
+            items
+            and all(isinstance(x, dict) and key in x for x in items)
+            and len({x[key] for x in old}) == len(old)
+            and len({x[key] for x in new}) == len(new)
+        ):
             return key
     return None

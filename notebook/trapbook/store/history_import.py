@@ -47,7 +47,9 @@ def _text(value, what: str, where: str) -> str:
     try:
         return check_line(value, MAX_TEXT)
     except ValueError as exc:
-        raise RecordError(f"{where}: the {what} {exc}", "the archive's history is damaged or crafted; nothing was imported") from None
+        raise RecordError(
+            f"{where}: the {what} {exc}", "the archive's history is damaged or crafted; nothing was imported"
+        ) from None
 
 
 def _one(item, run_id: str, n: int) -> HistoryVersion:
@@ -56,22 +58,31 @@ def _one(item, run_id: str, n: int) -> HistoryVersion:
         raise RecordError(f"{where} is not a version record", "the archive's history is damaged; nothing was imported")
     version = item.get("version")
     if not isinstance(version, int) or isinstance(version, bool) or version != n:
-        raise RecordError(f"{where}: expected version number {n}, found {str(version)[:20]!r}",
-                          "the archive's history has a gap or is out of order; nothing was imported")
+        raise RecordError(
+            f"{where}: expected version number {n}, found {str(version)[:20]!r}",
+            "the archive's history has a gap or is out of order; nothing was imported",
+        )
     time = _text(item.get("time"), "time", where)
     try:
         _dt.datetime.fromisoformat(time)
     except ValueError:
-        raise RecordError(f"{where}: '{time[:40]}' is not a date and time", "the archive's history is damaged; nothing was imported") from None
+        raise RecordError(
+            f"{where}: '{time[:40]}' is not a date and time", "the archive's history is damaged; nothing was imported"
+        ) from None
     action = item.get("action")
     if action not in ACTIONS or (n == 1) != (action == "create"):
-        raise RecordError(f"{where}: '{str(action)[:20]}' is not a possible action here",
-                          "the first version creates the run, later ones edit, withdraw or restore it; nothing was imported")
+        raise RecordError(
+            f"{where}: '{str(action)[:20]}' is not a possible action here",
+            "the first version creates the run, later ones edit, withdraw or restore it; nothing was imported",
+        )
     prev, h, data = item.get("prev_hash"), item.get("hash"), item.get("data")
     if not isinstance(h, str) or not (prev is None or isinstance(prev, str)) or not isinstance(data, str):
-        raise RecordError(f"{where}: the hash, previous hash or data is missing", "the archive's history is damaged; nothing was imported")
-    return HistoryVersion(n, _text(item.get("author"), "author", where), time, _text(item.get("reason"), "reason", where),
-                          action, prev, h, data)
+        raise RecordError(
+            f"{where}: the hash, previous hash or data is missing", "the archive's history is damaged; nothing was imported"
+        )
+    return HistoryVersion(
+        n, _text(item.get("author"), "author", where), time, _text(item.get("reason"), "reason", where), action, prev, h, data
+    )
 
 
 def checked_history(run_id: str, items: list) -> list[HistoryVersion]:
@@ -92,11 +103,15 @@ def checked_history(run_id: str, items: list) -> list[HistoryVersion]:
         v = _one(item, run_id, n)
         where = f"history of {run_id}, version {n}"
         if v.prev_hash != prev:
-            raise RecordError(f"{where} does not point at the hash of the version before it",
-                              "the archive's history was changed or is incomplete; nothing was imported")
+            raise RecordError(
+                f"{where} does not point at the hash of the version before it",
+                "the archive's history was changed or is incomplete; nothing was imported",
+            )
         if version_hash(run_id, n, v.author, v.time, v.reason, v.action, v.prev_hash, v.data) != v.hash:
-            raise RecordError(f"{where}: its content does not match its SHA-256",
-                              "the archive's history was changed after it was written; nothing was imported")
+            raise RecordError(
+                f"{where}: its content does not match its SHA-256",
+                "the archive's history was changed after it was written; nothing was imported",
+            )
         run = _run_of(v.data, where)
         if run.id != run_id:
             raise RecordError(f"{where} is a record of run {str(run.id)[:40]}, not of {run_id}", "nothing was imported")
@@ -139,8 +154,9 @@ def write_history(nb, run_id: str, versions: list[HistoryVersion]):
     from . import index as run_index
     from .notebook import SaveResult
 
-    if nb.conn.execute("SELECT 1 FROM runs WHERE id = ? UNION SELECT 1 FROM versions WHERE run_id = ?",
-                       (run_id, run_id)).fetchone():
+    if nb.conn.execute(
+        "SELECT 1 FROM runs WHERE id = ? UNION SELECT 1 FROM versions WHERE run_id = ?", (run_id, run_id)
+    ).fetchone():
         raise RecordError(f"run id {run_id} is already in this notebook", "nothing was imported")
     withdrawn = 0
     runs = []
@@ -159,8 +175,20 @@ def write_history(nb, run_id: str, versions: list[HistoryVersion]):
     nb.conn.execute(
         """INSERT INTO runs (id, title, chemist, date, status, screen, withdrawn, version, hash, created, updated, data)
            VALUES (?,?,?,?,?,?,?,?,?,?,?,?)""",
-        (run_id, run.title, run.chemist, run.date.isoformat() if run.date else None, run.status, run.screen,
-         withdrawn, last.version, last.hash, versions[0].time, last.time, last.data),
+        (
+            run_id,
+            run.title,
+            run.chemist,
+            run.date.isoformat() if run.date else None,
+            run.status,
+            run.screen,
+            withdrawn,
+            last.version,
+            last.hash,
+            versions[0].time,
+            last.time,
+            last.data,
+        ),
     )
     run_index.index_run(nb, run)
     return SaveResult(run_id, last.version, last.hash, True)

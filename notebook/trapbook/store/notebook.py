@@ -14,8 +14,8 @@ the first write: a Logbook is drawn without either.
 from __future__ import annotations
 
 import contextlib
-import functools
 import datetime as _dt
+import functools
 import json
 import os
 import sqlite3
@@ -192,7 +192,10 @@ class Notebook:
         with self.transaction():
             if keep_id and run.id:
                 if self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run.id,)).fetchone():
-                    raise RecordError(f"run id {run.id} is already in this notebook", "import into another notebook, or drop the id to get a new one")
+                    raise RecordError(
+                        f"run id {run.id} is already in this notebook",
+                        "import into another notebook, or drop the id to get a new one",
+                    )
                 run_id = run.id
             else:
                 run_id = self._next_id("run", "TB-")
@@ -238,7 +241,9 @@ class Notebook:
                 # Saying it twice would only add a version that changes nothing.
                 if restore:
                     raise RecordError(f"run {run_id} is not withdrawn", "nothing to bring back; see 'trapbook history RUN_ID'")
-                raise RecordError(f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'")
+                raise RecordError(
+                    f"run {run_id} is already withdrawn", "bring it back with 'trapbook withdraw RUN_ID --undo --reason ...'"
+                )
             from ..records import stored_run
 
             run = stored_run(row[2])
@@ -252,15 +257,35 @@ class Notebook:
         data = canonical_json(run.to_json_dict())
         t = now_utc()
         h = version_hash(run.id, version, author, t, reason, action, prev, data)
-        self.db["versions"].insert({"run_id": run.id, "version": version, "author": author, "time": t, "reason": reason,
-                                    "action": action, "prev_hash": prev, "hash": h, "data": data})
+        self.db["versions"].insert(
+            {
+                "run_id": run.id,
+                "version": version,
+                "author": author,
+                "time": t,
+                "reason": reason,
+                "action": action,
+                "prev_hash": prev,
+                "hash": h,
+                "data": data,
+            }
+        )
         chain.append_save(self.conn, "run", run.id, version, h)
         withdrawn = 1 if action == "withdraw" else 0
         if action not in ("withdraw", "restore") and version > 1:
             withdrawn = self.conn.execute("SELECT withdrawn FROM runs WHERE id = ?", (run.id,)).fetchone()[0]
-        row = {"title": run.title, "chemist": run.chemist, "date": run.date.isoformat() if run.date else None,
-               "status": run.status, "screen": run.screen, "withdrawn": withdrawn, "version": version, "hash": h,
-               "updated": t, "data": data}
+        row = {
+            "title": run.title,
+            "chemist": run.chemist,
+            "date": run.date.isoformat() if run.date else None,
+            "status": run.status,
+            "screen": run.screen,
+            "withdrawn": withdrawn,
+            "version": version,
+            "hash": h,
+            "updated": t,
+            "data": data,
+        }
         if version == 1:
             self.db["runs"].insert({"id": run.id, **row, "created": t})
         else:
@@ -314,8 +339,26 @@ class Notebook:
             + (" WHERE " + " AND ".join(where) if where else "")
             + " ORDER BY r.id"
         )
-        keys = ["id", "title", "chemist", "date", "status", "screen", "withdrawn", "version", "intermediate", "trap",
-                "fluoride", "solvent", "temp_max_c", "time_min", "yield_pct", "yield_kind", "worst", "sealed"]
+        keys = [
+            "id",
+            "title",
+            "chemist",
+            "date",
+            "status",
+            "screen",
+            "withdrawn",
+            "version",
+            "intermediate",
+            "trap",
+            "fluoride",
+            "solvent",
+            "temp_max_c",
+            "time_min",
+            "yield_pct",
+            "yield_kind",
+            "worst",
+            "sealed",
+        ]
         out = []
         for row in self.conn.execute(sql, args):
             d = dict(zip(keys, row))
@@ -346,7 +389,9 @@ class Notebook:
             cur = json.loads(data)
             changes = diff_runs(prev, cur) if prev is not None else ["created"]
             if action in ("withdraw", "restore"):
-                changes = [("withdrawn" if action == "withdraw" else "restored")] + [c for c in changes if c != "no field changed"]
+                changes = [("withdrawn" if action == "withdraw" else "restored")] + [
+                    c for c in changes if c != "no field changed"
+                ]
             out.append(VersionInfo(run_id, version, author, time, reason, action, h, ph, changes))
             prev = cur
         return out
@@ -379,11 +424,22 @@ class Notebook:
         t = now_utc()
         prev = None
         if version > 1:
-            prev = self.conn.execute("SELECT hash FROM screen_versions WHERE screen_id = ? AND version = ?",
-                                     (screen.id, version - 1)).fetchone()[0]
+            prev = self.conn.execute(
+                "SELECT hash FROM screen_versions WHERE screen_id = ? AND version = ?", (screen.id, version - 1)
+            ).fetchone()[0]
         h = chain.screen_hash(screen.id, version, author, t, reason, prev, data)
-        self.db["screen_versions"].insert({"screen_id": screen.id, "version": version, "author": author, "time": t,
-                                           "reason": reason, "data": data, "prev_hash": prev, "hash": h})
+        self.db["screen_versions"].insert(
+            {
+                "screen_id": screen.id,
+                "version": version,
+                "author": author,
+                "time": t,
+                "reason": reason,
+                "data": data,
+                "prev_hash": prev,
+                "hash": h,
+            }
+        )
         chain.append_save(self.conn, "screen", screen.id, version, h)
         row = {"name": screen.name, "version": version, "updated": t, "data": data}
         if version == 1:
@@ -432,22 +488,34 @@ class Notebook:
         stored = chain.stored_value(value)
         with self.transaction():
             if not chain.is_private_setting(key):
-                last = self.conn.execute("SELECT version, hash, value FROM setting_versions WHERE key = ? "
-                                         "ORDER BY version DESC LIMIT 1", (key,)).fetchone()
+                last = self.conn.execute(
+                    "SELECT version, hash, value FROM setting_versions WHERE key = ? ORDER BY version DESC LIMIT 1", (key,)
+                ).fetchone()
                 if last is not None and last[2] == stored:
                     return
                 version, prev = (last[0] + 1, last[1]) if last else (1, None)
                 who, why, t = default_author(self, author), reason.strip() or "settings changed", now_utc()
                 h = chain.setting_hash(key, version, who, t, why, prev, stored)
-                self.db["setting_versions"].insert({"key": key, "version": version, "value": stored, "author": who,
-                                                    "time": t, "reason": why, "prev_hash": prev, "hash": h})
+                self.db["setting_versions"].insert(
+                    {
+                        "key": key,
+                        "version": version,
+                        "value": stored,
+                        "author": who,
+                        "time": t,
+                        "reason": why,
+                        "prev_hash": prev,
+                        "hash": h,
+                    }
+                )
                 chain.append_save(self.conn, "setting", key, version, h)
             self.db["settings"].upsert({"key": key, "value": stored}, pk="key")
 
     def setting_history(self, key: str) -> list[dict]:
         """Every version of a setting: value, author, time and reason, oldest first."""
-        rows = self.conn.execute("SELECT version, value, author, time, reason FROM setting_versions WHERE key = ? ORDER BY version",
-                                 (key,)).fetchall()
+        rows = self.conn.execute(
+            "SELECT version, value, author, time, reason FROM setting_versions WHERE key = ? ORDER BY version", (key,)
+        ).fetchall()
         return [{"version": v, "value": json.loads(val), "author": a, "time": t, "reason": r} for v, val, a, t, r in rows]
 
     def set_check_settings(self, values: dict, author: str | None = None, reason: str = "settings changed") -> None:
@@ -462,8 +530,9 @@ class Notebook:
         """A cached result, or None; an entry whose content no longer matches its hash is a miss."""
         if not self._cache_is_hashed():
             return None  # a notebook not yet upgraded (read-only here): its entries cannot be checked, so none is served
-        row = self.conn.execute("SELECT smiles, tier, engine, result, content_sha256 FROM strain_cache WHERE key = ?",
-                                (key,)).fetchone()
+        row = self.conn.execute(
+            "SELECT smiles, tier, engine, result, content_sha256 FROM strain_cache WHERE key = ?", (key,)
+        ).fetchone()
         if row is None or row[4] != chain.cache_hash(key, row[0], row[1], row[2], row[3]):
             return None
         return json.loads(row[3])
@@ -477,9 +546,18 @@ class Notebook:
     def cache_put(self, key: str, smiles: str, tier: str, engine: str, result: dict) -> None:
         text = json.dumps(result)
         with self.transaction():
-            self.db["strain_cache"].upsert({"key": key, "smiles": smiles, "tier": tier, "engine": engine, "created": now_utc(),
-                                            "result": text, "content_sha256": chain.cache_hash(key, smiles, tier, engine, text)},
-                                           pk="key")
+            self.db["strain_cache"].upsert(
+                {
+                    "key": key,
+                    "smiles": smiles,
+                    "tier": tier,
+                    "engine": engine,
+                    "created": now_utc(),
+                    "result": text,
+                    "content_sha256": chain.cache_hash(key, smiles, tier, engine, text),
+                },
+                pk="key",
+            )
 
     def reindex(self, run_ids: Iterable[str] | None = None) -> int:
         """Rebuild the summary rows (e.g. after strain results arrive, which change the checks)."""
@@ -490,12 +568,16 @@ class Notebook:
         return len(ids)
 
     # --- bulk ----------------------------------------------------------------------
-    def import_runs(self, runs: Iterable[Run], author: str | None = None, reason: str = "imported", keep_ids: bool = True) -> list[SaveResult]:
+    def import_runs(
+        self, runs: Iterable[Run], author: str | None = None, reason: str = "imported", keep_ids: bool = True
+    ) -> list[SaveResult]:
         """All or nothing: either every run is stored or none is."""
         results = []
         with self.transaction():
             for run in runs:
-                keep = keep_ids and bool(run.id) and not self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run.id,)).fetchone()
+                keep = (
+                    keep_ids and bool(run.id) and not self.conn.execute("SELECT 1 FROM runs WHERE id = ?", (run.id,)).fetchone()
+                )
                 results.append(self.add_run(run, author=author, reason=reason, keep_id=keep))
         return results
 
@@ -515,7 +597,6 @@ class Notebook:
             if new_id != run_id:
                 checked = history_import.rekeyed(checked, new_id)
             return history_import.write_history(self, new_id, checked)
-
 
 
 __all__ = ["Notebook", "SaveResult", "VersionInfo", "default_author", "default_path", "diff_runs", "version_hash"]

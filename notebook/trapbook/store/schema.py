@@ -224,21 +224,30 @@ def _v5_integrity(conn: sqlite3.Connection) -> None:
     from . import chain
 
     db = sqlite_utils.Database(conn)
-    db["saves"].create({"n": int, "kind": str, "record": str, "version": int, "item_hash": str, "prev": str, "hash": str},
-                       pk="n", not_null={"kind", "record", "version", "item_hash", "hash"})
+    db["saves"].create(
+        {"n": int, "kind": str, "record": str, "version": int, "item_hash": str, "prev": str, "hash": str},
+        pk="n",
+        not_null={"kind", "record", "version", "item_hash", "hash"},
+    )
     db["saves"].create_index(["kind", "record", "version"], index_name="idx_saves_record", unique=True)
     db["head"].create({"one": int, "count": int, "hash": str}, pk="one", not_null={"count", "hash"})
     db["setting_versions"].create(
         {"key": str, "version": int, "value": str, "author": str, "time": str, "reason": str, "prev_hash": str, "hash": str},
-        pk=("key", "version"), not_null={"value", "author", "time", "reason", "hash"})
+        pk=("key", "version"),
+        not_null={"value", "author", "time", "reason", "hash"},
+    )
     db["screen_versions"].add_column("prev_hash", str)
     db["screen_versions"].add_column("hash", str)
     db["strain_cache"].add_column("content_sha256", str)
     db["migrations"].add_column("app_version", str)
     _backfill_screens(conn, chain)
     _backfill_settings(conn, chain)
-    for key, smiles, tier, engine, result in conn.execute("SELECT key, smiles, tier, engine, result FROM strain_cache").fetchall():
-        conn.execute("UPDATE strain_cache SET content_sha256 = ? WHERE key = ?", (chain.cache_hash(key, smiles, tier, engine, result), key))
+    for key, smiles, tier, engine, result in conn.execute(
+        "SELECT key, smiles, tier, engine, result FROM strain_cache"
+    ).fetchall():
+        conn.execute(
+            "UPDATE strain_cache SET content_sha256 = ? WHERE key = ?", (chain.cache_hash(key, smiles, tier, engine, result), key)
+        )
     _backfill_log(conn, chain)
 
 
@@ -247,8 +256,10 @@ def _backfill_screens(conn: sqlite3.Connection, chain) -> None:
     rows = conn.execute("SELECT screen_id, version, author, time, reason, data FROM screen_versions ORDER BY screen_id, version")
     for sid, version, author, time, reason, data in rows.fetchall():
         h = chain.screen_hash(sid, version, author, time, reason, prev.get(sid), data)
-        conn.execute("UPDATE screen_versions SET prev_hash = ?, hash = ? WHERE screen_id = ? AND version = ?",
-                     (prev.get(sid), h, sid, version))
+        conn.execute(
+            "UPDATE screen_versions SET prev_hash = ?, hash = ? WHERE screen_id = ? AND version = ?",
+            (prev.get(sid), h, sid, version),
+        )
         prev[sid] = h
 
 
@@ -259,16 +270,23 @@ def _backfill_settings(conn: sqlite3.Connection, chain) -> None:
         if chain.is_private_setting(key):
             continue
         h = chain.setting_hash(key, 1, "trapbook", t, reason, None, value)
-        conn.execute("INSERT INTO setting_versions (key, version, value, author, time, reason, prev_hash, hash) "
-                     "VALUES (?,?,?,?,?,?,?,?)", (key, 1, value, "trapbook", t, reason, None, h))
+        conn.execute(
+            "INSERT INTO setting_versions (key, version, value, author, time, reason, prev_hash, hash) VALUES (?,?,?,?,?,?,?,?)",
+            (key, 1, value, "trapbook", t, reason, None, h),
+        )
 
 
 def _backfill_log(conn: sqlite3.Connection, chain) -> None:
     items = []
-    for kind, table, id_col in (("run", "versions", "run_id"), ("screen", "screen_versions", "screen_id"),
-                                ("setting", "setting_versions", "key")):
-        items += [(time, kind, rec, version, h) for rec, version, time, h in
-                  conn.execute(f"SELECT {id_col}, version, time, hash FROM {table}").fetchall()]
+    for kind, table, id_col in (
+        ("run", "versions", "run_id"),
+        ("screen", "screen_versions", "screen_id"),
+        ("setting", "setting_versions", "key"),
+    ):
+        items += [
+            (time, kind, rec, version, h)
+            for rec, version, time, h in conn.execute(f"SELECT {id_col}, version, time, hash FROM {table}").fetchall()
+        ]
     for _time, kind, rec, version, h in sorted(items, key=lambda x: (x[0], x[1], x[2], x[3])):
         chain.append_save(conn, kind, rec, version, h)
 
@@ -285,8 +303,9 @@ MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
 #: The newest schema this code knows; a notebook with a later migration is read but not written.
 SCHEMA_VERSION = MIGRATIONS[-1][0]
 
-_MIGRATIONS_TABLE = ("CREATE TABLE IF NOT EXISTS migrations (version INTEGER PRIMARY KEY, applied TEXT NOT NULL, "
-                     "description TEXT NOT NULL)")
+_MIGRATIONS_TABLE = (
+    "CREATE TABLE IF NOT EXISTS migrations (version INTEGER PRIMARY KEY, applied TEXT NOT NULL, description TEXT NOT NULL)"
+)
 
 
 def applied_versions(conn: sqlite3.Connection) -> set[int] | None:
@@ -335,8 +354,11 @@ def migrate(conn: sqlite3.Connection, begin: Callable[[], None]) -> list[int]:
             fn(conn)
             import sqlite_utils
 
-            row = {"version": version, "applied": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
-                   "description": description}
+            row = {
+                "version": version,
+                "applied": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
+                "description": description,
+            }
             if "app_version" in {c[1] for c in conn.execute("PRAGMA table_info(migrations)")}:
                 row["app_version"] = __version__
             sqlite_utils.Database(conn)["migrations"].insert(row)
