@@ -231,7 +231,7 @@ async def test_a_reflux_step_is_checked_against_the_runs_solvent(notebook_copy):
         await pilot.press("f4")
         await pilot.pause()
         screen.query_one("#step-temperature").value = "reflux"
-        screen.preview_step()
+        screen.steps_tab.preview()
         msg = shown_text(screen.query_one("#step-msg").content, 200)
     # Source: docs/sources.md "Amounts, molar masses and solvents" — acetonitrile boils at 81.6 °C (CRC Handbook).
     assert "acetonitrile" in msg.lower() and "81.6" in msg

@@ -11,19 +11,33 @@ trapbook.exchange import ord``, keep working unchanged.
 
 from __future__ import annotations
 
-from .ord_common import ROLE_TO_ORD
-from .ord_export import build_dataset, export, run_to_reaction, validate
-from .ord_import import import_path, parse_bytes, reaction_to_run, read_path, runs_from_dataset
+from .ord_common import ROLE_TO_ORD, digest
+from .ord_export import (
+    _email,  # noqa: F401  (kept for callers of the old single module)
+    build_dataset,
+    export,
+    ord_dataset_id,
+    ord_reaction_id,
+    run_to_reaction,
+    serialise,
+    validate,
+)
+from .ord_import import MAX_IMPORT_BYTES, import_path, parse_bytes, reaction_to_run, read_path, runs_from_dataset
 
 __all__ = [
-    "run_to_reaction",
+    "MAX_IMPORT_BYTES",
+    "ROLE_TO_ORD",
     "build_dataset",
-    "validate",
+    "digest",
     "export",
     "import_path",
+    "ord_dataset_id",
+    "ord_reaction_id",
     "parse_bytes",
-    "runs_from_dataset",
     "reaction_to_run",
     "read_path",
-    "ROLE_TO_ORD",
+    "run_to_reaction",
+    "runs_from_dataset",
+    "serialise",
+    "validate",
 ]

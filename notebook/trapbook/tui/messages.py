@@ -59,9 +59,18 @@ class SidePanelToggled(Message):
 
 
 class RowCommand(Message):
-    """A row key on a Workbench table tab: 'blank' (a new row), 'remove', 'move' (by delta) or 'limiting'."""
+    """A row key on a Workbench table tab: 'blank' (a new row), 'remove', 'move' (by delta), 'limiting' or 'expected'."""
 
     def __init__(self, command: str, delta: int = 0) -> None:
         super().__init__()
         self.command = command
         self.delta = delta
+
+
+class StepKept(Message):
+    """Enter on the Steps tab kept a step: new when `index` is None, else the one it changes."""
+
+    def __init__(self, step: dict, index: int | None) -> None:
+        super().__init__()
+        self.step = step
+        self.index = index

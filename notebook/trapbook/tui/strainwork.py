@@ -8,8 +8,8 @@ next look at any run with the same intermediate or precursor is instant.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from pathlib import Path
-from typing import Callable
 
 from ..errors import TrapbookError
 

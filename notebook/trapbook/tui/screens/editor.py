@@ -26,14 +26,15 @@ from ..rundata import form_data, plan_from
 from ..widgets.bench_side import BenchSide
 from ..widgets.field import Field, FormCheck
 from ..widgets.keybar import KeyBar
-from ..widgets.row_tabs import LinesTab, OutcomeTab, RowsTab
+from ..widgets.row_tabs import LinesTab, OutcomeTab
+from ..widgets.steps_tab import StepsTab
 from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
 from .workbench.outcome_tab import OUTCOME_FIELDS, PRODUCT_CHECKS, PRODUCT_COLUMNS, OutcomeTabMixin
 from .workbench.repaint import RepaintMixin
 from .workbench.rows import TabRowsMixin
 from .workbench.run_tab import MAX_FACTORS, RUN_FIELDS, RunTabMixin
-from .workbench.steps_tab import STEP_COLUMNS, STEP_FIELDS, StepsTabMixin
+from .workbench.steps_tab import StepsTabMixin
 from .workbench.strain_panel import StrainPanelMixin
 
 NEW_DRAFT = "draft:new"
@@ -68,7 +69,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         self.data: dict = {}
         self.original = ""
         self.line_index: int | None = None
-        self.step_index: int | None = None
         self.product_index: int | None = None
         self.provisional = False
         self.screens: dict = {}
@@ -108,14 +108,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
                             yield Field(label, f"line-{key}", ph, check, sugg)
                         yield FormCheck("limiting line: the other lines' equiv refer to it", id="line-limiting")
                     yield Static("", id="line-msg", classes="form-msg")
-                with RowsTab("Steps F4", id="tab-steps"):
-                    yield DataTable(id="steps", cursor_type="row", cell_padding=0)
-                    yield Static("", id="step-head", classes="form-head")
-                    with Vertical(classes="form"):
-                        for key, label, ph, check, sugg in STEP_FIELDS:
-                            yield Field(label, f"step-{key}", ph, check, sugg)
-                        yield FormCheck("sealed vessel (pressure builds on heating)", id="step-sealed")
-                    yield Static("", id="step-msg", classes="form-msg")
+                yield StepsTab("Steps F4", id="tab-steps")
                 with OutcomeTab("Outcome F5", id="tab-outcome"):
                     with VerticalScroll(id="outcome-scroll"):
                         yield DataTable(id="products", cursor_type="row", cell_padding=0)
@@ -134,9 +127,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         yield KeyBar()
 
     def on_mount(self) -> None:
-        steps = self.query_one("#steps", DataTable)
-        for label, width in STEP_COLUMNS:
-            steps.add_column(label, width=width)
         products = self.query_one("#products", DataTable)
         for label, width in PRODUCT_COLUMNS:
             products.add_column(label, width=width)
@@ -259,8 +249,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             self.set_factor(row, event.value)
         elif fid.startswith("line-"):
             self.preview_line()
-        elif fid.startswith("step-"):
-            self.preview_step()
         elif fid.startswith("prod-"):
             self.preview_product()
         elif fid.startswith("out-"):
@@ -271,8 +259,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         fid = event.input.id or ""
         if fid.startswith("line-"):
             self.commit_line()
-        elif fid.startswith("step-"):
-            self.commit_step()
         elif fid.startswith("prod-"):
             self.commit_product()
         elif fid.startswith(("run-", "out-", "fac-")):
@@ -282,8 +268,6 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
     def _box_submitted(self, event: FormCheck.Submitted) -> None:
         if event.box.id == "line-limiting":
             self.commit_line()
-        elif event.box.id == "step-sealed":
-            self.commit_step()
 
     @on(Checkbox.Changed)
     def _box_changed(self, event: Checkbox.Changed) -> None:
@@ -291,16 +275,10 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             return
         if event.checkbox.id == "line-limiting":
             self.preview_line()
-        elif event.checkbox.id == "step-sealed":
-            self.preview_step()
 
     @on(DataTable.RowSelected, "#lines")
     def _line_selected(self, event: DataTable.RowSelected) -> None:
         self.edit_line(int(event.row_key.value))
-
-    @on(DataTable.RowSelected, "#steps")
-    def _step_selected(self, event: DataTable.RowSelected) -> None:
-        self.edit_step(int(event.row_key.value))
 
     @on(DataTable.RowSelected, "#products")
     def _product_selected(self, event: DataTable.RowSelected) -> None:

@@ -44,7 +44,7 @@ def _key_text(b: Binding) -> str:
 def key_table() -> Group:
     from ...search_query import help_rows as filter_help_rows
     from ..app import TrapbookApp
-    from ..widgets.row_tabs import LinesTab, RowsTab
+    from ..widgets.row_tabs import LinesTab, OutcomeTab, RowsTab
     from .dialogs import LeaveDialog, ReasonDialog
     from .editor import WorkbenchScreen
     from .history import TrailScreen
@@ -53,6 +53,7 @@ def key_table() -> Group:
 
     screens = [("Everywhere", TrapbookApp), ("Logbook (runs)", LogbookScreen), ("Workbench (run editor)", WorkbenchScreen),
                ("Workbench tables (Lines, Steps, Outcome tabs)", RowsTab), ("Workbench Lines tab", LinesTab),
+               ("Workbench Outcome tab", OutcomeTab),
                ("Screen board (review)", BoardScreen), ("Version trail (history)", TrailScreen),
                ("Leaving with unsaved changes", LeaveDialog), ("Reason for a change", ReasonDialog)]
     parts = []
