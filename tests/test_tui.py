@@ -277,8 +277,11 @@ async def test_filter_by_trap_name(demo_path):
         shown = {r["id"] for r in app.screen.shown}
     with Notebook.open(demo_path) as nb:
         # independent of the index: read each stored run's trap lines
-        expected = {r.id for r in nb.iter_runs(include_withdrawn=False)
-                    if any("anthracene" in ln.name.lower() for ln in r.lines_by_role("trap"))}
+        expected = {
+            r.id
+            for r in nb.iter_runs(include_withdrawn=False)
+            if any("anthracene" in ln.name.lower() for ln in r.lines_by_role("trap"))
+        }
     assert shown == expected and expected
 
 
@@ -320,6 +323,7 @@ async def test_strain_card_computes_in_a_worker(demo_path):
 
 # --- the run editor's outcome rows, limiting mark, screen fields ----------------------------
 
+
 async def clear_and_type(pilot, text: str) -> None:
     """Empty the focused field (Home, then delete to the end) and type `text`."""
     await pilot.press("home", "ctrl+k")
@@ -354,8 +358,10 @@ async def test_outcome_keeps_one_row_per_product(demo_path):
         await pilot.pause()
         table = screen.query_one("#products")
         assert table.row_count == 2
-        assert [str(table.get_row_at(i)[3]) for i in range(2)] == [f"{100 * 7.2 / 190.286 / 0.100:.0f} %",
-                                                                  f"{100 * 3.8 / 190.286 / 0.100:.0f} %"]
+        assert [str(table.get_row_at(i)[3]) for i in range(2)] == [
+            f"{100 * 7.2 / 190.286 / 0.100:.0f} %",
+            f"{100 * 3.8 / 190.286 / 0.100:.0f} %",
+        ]
         # a second row for the same product is refused beside the form
         await pilot.press("f5")
         await new_field(pilot, "furan adduct")
@@ -366,7 +372,9 @@ async def test_outcome_keeps_one_row_per_product(demo_path):
     with Notebook.open(demo_path) as nb:
         run = nb.get_run("TB-0013")
         assert [(p.product, str(p.isolated_mass)) for p in run.outcome.products] == [
-            ("furan adduct", "7.2 milligram"), ("endo adduct", "3.8 milligram")]
+            ("furan adduct", "7.2 milligram"),
+            ("endo adduct", "3.8 milligram"),
+        ]
 
 
 async def test_mark_limiting_line(demo_path):
@@ -525,6 +533,7 @@ async def test_narrow_terminal_keeps_f1_and_the_addition_track_in_sight(demo_pat
 def test_preview_names_each_finding_once(demo_path):
     """TB-0001 has three material cautions (furan, TBAF, THF): one mark with a count, not three."""
     from rich.console import Console
+
     from trapbook.tui.preview import preview
 
     with Notebook.open(demo_path) as nb:

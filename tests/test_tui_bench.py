@@ -35,9 +35,15 @@ def _run(title: str, intermediate: str | None, temperature: str = "23 °C", **ex
         {"role": "solvent", "name": "MeCN", "smiles": "CC#N", "volume": "2.0 mL"},
         {"role": "trap", "name": "furan", "smiles": "c1ccoc1", "equiv": 10, "density": "0.951 g/mL"},
     ]
-    run = {"title": title, "lines": lines,
-           "steps": [{"add": ["precursor", "MeCN", "furan"], "temperature": "23 °C"},
-                     {"add": ["CsF"], "temperature": temperature, "hold": "1 h"}], **extra}
+    run = {
+        "title": title,
+        "lines": lines,
+        "steps": [
+            {"add": ["precursor", "MeCN", "furan"], "temperature": "23 °C"},
+            {"add": ["CsF"], "temperature": temperature, "hold": "1 h"},
+        ],
+        **extra,
+    }
     if intermediate:
         run["intermediate"] = intermediate
     return run
@@ -54,8 +60,9 @@ def two_kinds(tmp_path_factory):
     with Notebook.create(path) as nb:
         ids = {}
         for key, smiles in (("aryne", None), ("nonene", NONENE)):
-            data = _run(f"{key}, furan", smiles, status="done",
-                        outcome={"products": [{"product": "adduct", "isolated_mass": "20.0 mg"}]})
+            data = _run(
+                f"{key}, furan", smiles, status="done", outcome={"products": [{"product": "adduct", "isolated_mass": "20.0 mg"}]}
+            )
             data["lines"].append({"role": "product", "name": "adduct", "smiles": "C1=CC2OC1c1ccccc12"})
             ids[key] = nb.add_run(load_run(data), author="pilot").run_id
         for smi in (BENZYNE, NONENE):
@@ -99,6 +106,7 @@ async def open_run(pilot, app, run_id: str) -> WorkbenchScreen:
 
 # --- the strain card -----------------------------------------------------------------------
 
+
 async def test_strain_card_reads_an_aryne_by_its_own_quantity_and_says_where_it_came_from(notebook_copy):
     path, ids = notebook_copy
     app = TrapbookApp(path, author="pilot", warm=False)
@@ -140,6 +148,7 @@ async def test_strain_card_shows_a_fast_result_as_a_prescreen_without_a_class(tm
 
 # --- the alignment at the run's temperature ------------------------------------------------
 
+
 async def test_workbench_reads_and_computes_the_alignment_at_the_runs_temperature(tmp_path):
     from trapbook.findings import cached_alignment
     from trapbook.records import load_run
@@ -170,6 +179,7 @@ async def test_workbench_reads_and_computes_the_alignment_at_the_runs_temperatur
 
 # --- the Screen board's plot ---------------------------------------------------------------
 
+
 async def test_board_plots_one_kind_at_a_time_with_its_own_quantity(notebook_copy):
     from trapbook.tui.screens.review import BoardScreen
 
@@ -193,6 +203,7 @@ async def test_board_plots_one_kind_at_a_time_with_its_own_quantity(notebook_cop
 
 
 # --- bench words and reflux ------------------------------------------------------------------
+
 
 async def test_a_workbench_save_gives_rt_the_notebooks_meaning(notebook_copy):
     from trapbook.records import load_run
@@ -239,6 +250,7 @@ async def test_a_reflux_step_is_checked_against_the_runs_solvent(notebook_copy):
 
 
 # --- expected products and planned against weighed -----------------------------------------
+
 
 async def test_outcome_offers_the_expected_products_worked_out_in_a_worker(notebook_copy):
     from trapbook.tui.screens.expected_dialog import ExpectedProductsDialog

@@ -120,11 +120,12 @@ async def test_every_screen_keeps_f1_in_the_footer(demo_path, size):
 
 def _relative_luminance(hex_colour: str) -> float:
     """WCAG 2.1 relative luminance of an sRGB colour, written out here from the definition."""
+
     def channel(v: int) -> float:
         c = v / 255
         return c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4
 
-    r, g, b = (int(hex_colour.lstrip("#")[i:i + 2], 16) for i in (0, 2, 4))
+    r, g, b = (int(hex_colour.lstrip("#")[i : i + 2], 16) for i in (0, 2, 4))
     return 0.2126 * channel(r) + 0.7152 * channel(g) + 0.0722 * channel(b)
 
 
@@ -181,7 +182,11 @@ def test_no_colour_is_written_into_the_tuis_python():
     """Colours come from the theme (theme.py's roles, app.tcss's variables), never a hex code in code."""
     tui = Path(__file__).resolve().parents[1] / "notebook" / "trapbook" / "tui"
     hex_colour = re.compile(r"#[0-9a-fA-F]{6}\b")
-    found = [f"{p.relative_to(tui)}:{n}" for p in tui.rglob("*.py")
-             for n, line in enumerate(p.read_text(encoding="utf-8").splitlines(), 1) if hex_colour.search(line)]
+    found = [
+        f"{p.relative_to(tui)}:{n}"
+        for p in tui.rglob("*.py")
+        for n, line in enumerate(p.read_text(encoding="utf-8").splitlines(), 1)
+        if hex_colour.search(line)
+    ]
     assert not found
     assert not hex_colour.search((tui / "app.tcss").read_text(encoding="utf-8"))

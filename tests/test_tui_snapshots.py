@@ -28,7 +28,7 @@ def snap_db(tmp_path_factory):
     from trapbook.store import notebook as store_notebook
 
     ticks = iter(range(10_000))
-    start = _dt.datetime(2026, 10, 7, 9, 0, tzinfo=_dt.timezone.utc)
+    start = _dt.datetime(2026, 10, 7, 9, 0, tzinfo=_dt.UTC)
     real = store_notebook.now_utc
     store_notebook.now_utc = lambda: (start + _dt.timedelta(seconds=next(ticks))).isoformat(timespec="microseconds")
     try:
@@ -88,6 +88,7 @@ def test_logbook_filtered_by_trap(snap_compare, snap_db, size):
 @sizes
 def test_workbench_lines(snap_compare, snap_db, size):
     """Workbench on TB-0001: reagent table, addition track, strain card, checks."""
+
     async def before(pilot):
         await pilot.press("e")
         await settle(pilot)
@@ -98,6 +99,7 @@ def test_workbench_lines(snap_compare, snap_db, size):
 @sizes
 def test_workbench_steps_trap_late(snap_compare, snap_db, size):
     """TB-0010 added the furan after TBAF: the track and the checks say so."""
+
     async def before(pilot):
         await pilot.press(*["down"] * 9, "e")
         await settle(pilot)
@@ -110,6 +112,7 @@ def test_workbench_steps_trap_late(snap_compare, snap_db, size):
 @sizes
 def test_workbench_outcome_qnmr(snap_compare, snap_db, size):
     """TB-0004's outcome: qNMR integrals and the NMR yield worked out from them."""
+
     async def before(pilot):
         await pilot.press(*["down"] * 3, "e")
         await settle(pilot)
@@ -122,6 +125,7 @@ def test_workbench_outcome_qnmr(snap_compare, snap_db, size):
 @sizes
 def test_screen_board(snap_compare, snap_db, size):
     """SC-0001: yield grid of trap × temperature, best conditions, strain plot."""
+
     async def before(pilot):
         await pilot.press(*["down"] * 12, "b")
         await settle(pilot)
@@ -169,6 +173,7 @@ def test_leave_question(snap_compare, snap_db, tmp_path, size):
 @sizes
 def test_workbench_run_tab_in_a_screen(snap_compare, snap_db, size):
     """TB-0013's Run tab: its screen SC-0001 and one row per varied condition with its level."""
+
     async def before(pilot):
         await pilot.press(*["down"] * 12, "e")
         await settle(pilot)

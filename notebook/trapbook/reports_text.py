@@ -114,8 +114,12 @@ def outcome_words_text(outcome) -> list[str]:
     return out
 
 
+#: The last column holds a whole finding code ("stop:strain-untrapped"); cut only past this.
+WORST_WIDTH = 32
+
+
 def run_rows_text(rows: list[dict]) -> str:
-    head = f"{'id':8} {'date':10} {'chemist':10} {'title':38} {'trap':18} {'T max':>7} {'yield':>6} {'worst':16}"
+    head = f"{'id':8} {'date':10} {'chemist':10} {'title':38} {'trap':18} {'T max':>7} {'yield':>6} worst"
     out = [head, "-" * len(head)]
     for r in rows:
         title = printable(r["title"])
@@ -124,6 +128,6 @@ def run_rows_text(rows: list[dict]) -> str:
         out.append(
             f"{printable(r['id']):8} {cell(r.get('date'), 10)} {cell(r.get('chemist'), 10)} {cell(title, 38)} "
             f"{cell(r.get('trap') or '—', 18)} {fmt_temp_c(r.get('temp_max_c')):>7} "
-            f"{fmt_yield(r.get('yield_pct'), r.get('yield_kind')):>6} {cell(r.get('worst'), 16)}"
+            f"{fmt_yield(r.get('yield_pct'), r.get('yield_kind')):>6} {cell(r.get('worst'), WORST_WIDTH)}".rstrip()
         )
     return "\n".join(out)

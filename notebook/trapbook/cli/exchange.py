@@ -1,15 +1,66 @@
-"""Commands that move runs and files in and out: attach, attachment, formats.
+"""Commands that move runs and files in and out: export, import, attach, attachment, formats.
 
-`export` and `import` themselves live in cli/core.py; the formats they reach are
-dispatched by trapbook.exchange.registry.
+The formats that export and import reach are dispatched by trapbook.exchange.registry.
 """
 
 from __future__ import annotations
 
+import sys
+from pathlib import Path
+
 import click
 
 from ..errors import TrapbookError
+from ..text_safety import printable
 from .core import Ctx, emit_json, json_option, main, pass_ctx, say
+
+
+@main.command("export")
+@click.option(
+    "--format",
+    "fmt",
+    default="jsonl",
+    show_default=True,
+    help="jsonl (one run per line), ord, rocrate, csv, xlsx, or a plugin's (see 'trapbook formats').",
+)
+@click.option("--screen", help="Only the runs of this screen.")
+@click.option("-o", "--output", help="Write to this file instead of stdout.")
+@click.option("--all", "include_withdrawn", is_flag=True, help="Include withdrawn runs.")
+@pass_ctx
+def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, include_withdrawn: bool) -> None:
+    """Export runs (JSON lines by default)."""
+    from ..exchange import export_runs
+
+    with ctx.notebook() as nb:
+        text_or_path = export_runs(nb, fmt, screen=screen, output=output, include_withdrawn=include_withdrawn)
+    if output is None and isinstance(text_or_path, str):
+        # Piped, the export is the data itself, byte for byte; on a terminal it is escaped.
+        click.echo(printable(text_or_path, multiline=True) if sys.stdout.isatty() else text_or_path, nl=False)
+    elif output:
+        click.echo(f"wrote {output}", err=True)
+
+
+@main.command("import")
+@click.argument("path")
+@json_option(
+    help="Print {format, imported: [run ids], screens: [...], skipped: [...], notes: [...]}; "
+    "an RO-Crate also gives attachments and versions (every version of each run comes back)."
+)
+@click.option("--create", is_flag=True, help="Create the notebook first if there is none at --db.")
+@pass_ctx
+def import_cmd(ctx: Ctx, path: str, create: bool, as_json: bool) -> None:
+    """Import runs from a file, or JSON lines on stdin with '-' (all or nothing; errors name the record and field)."""
+    from ..exchange.jsonl import import_path, import_text
+
+    text = sys.stdin.read() if path == "-" else None
+    with ctx.notebook(create=create, offer_create=True) as nb:
+        report = import_text(nb, text, author=ctx.author) if text is not None else import_path(nb, Path(path), author=ctx.author)
+    if as_json:
+        emit_json(report)
+        return
+    say(f"imported {len(report['imported'])} run(s): {', '.join(report['imported'])}")
+    for note in report.get("notes", []):
+        say(f"  note: {note}")
 
 
 @main.command()

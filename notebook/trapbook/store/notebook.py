@@ -4,7 +4,8 @@ Every save appends a version (author, UTC time, reason, SHA-256 of the content, 
 the previous version) and an entry in the notebook's log of saves (store/chain.py) inside
 one SQLite transaction, so a crash leaves either the whole save or none of it. A save
 made from a stale version is refused, never merged. Runs are withdrawn, never deleted.
-Opening and locking live in store/connect.py.
+Opening and locking live in store/connect.py; screens, settings and the strain cache in the
+mixins of store/screens.py and store/settings_cache.py.
 
 Listing runs reads only the index rows (plain SQLite), so the records module (pydantic and
 pint behind it) is imported where a run or screen is read or written, and sqlite-utils on
@@ -22,7 +23,7 @@ import sqlite3
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 from .. import attachments
 from ..errors import NotFoundError, RecordError, StaleVersionError, StoreError
@@ -31,9 +32,11 @@ from . import chain, connect
 from . import index as run_index
 from .chain import version_hash
 from .diff import diff_runs
+from .screens import ScreenStore
+from .settings_cache import SettingsCacheStore
 
 if TYPE_CHECKING:  # pragma: no cover - typing only
-    from ..records import Run, Screen
+    from ..records import Run
 
 APP_NAME = "trapbook"
 
@@ -87,8 +90,11 @@ class VersionInfo:
         return self.__dict__.copy()
 
 
-class Notebook:
-    """One notebook file. Open with `Notebook.open(path)` or create with `Notebook.create(path)`."""
+class Notebook(ScreenStore, SettingsCacheStore):
+    """One notebook file. Open with `Notebook.open(path)` or create with `Notebook.create(path)`.
+
+    Screens live in store/screens.py, settings and the strain cache in store/settings_cache.py.
+    """
 
     def __init__(self, path: Path, conn: sqlite3.Connection, write_problem: StoreError | None = None):
         self.path = path
@@ -395,169 +401,6 @@ class Notebook:
             out.append(VersionInfo(run_id, version, author, time, reason, action, h, ph, changes))
             prev = cur
         return out
-
-    # --- screens -------------------------------------------------------------------
-    def add_screen(self, screen: Screen | dict, author: str | None = None, reason: str = "created") -> str:
-        from ..records import Screen, load_screen
-
-        screen = load_screen(screen) if not isinstance(screen, Screen) else screen
-        with self.transaction():
-            sid = screen.id
-            if sid and self.conn.execute("SELECT 1 FROM screens WHERE id = ?", (sid,)).fetchone():
-                raise RecordError(f"screen id {sid} is already in this notebook", "choose another id")
-            sid = sid or self._next_id("screen", "SC-")
-            screen = screen.model_copy(update={"id": sid})
-            self._write_screen(screen, default_author(self, author), reason, 1)
-        return sid
-
-    def save_screen(self, screen: Screen, author: str | None = None, reason: str = "updated") -> int:
-        with self.transaction():
-            row = self.conn.execute("SELECT version FROM screens WHERE id = ?", (screen.id,)).fetchone()
-            if row is None:
-                raise NotFoundError(f"no screen {screen.id} in this notebook", "list screens with 'trapbook screens'")
-            self._write_screen(screen, default_author(self, author), reason, row[0] + 1)
-            return row[0] + 1
-
-    def _write_screen(self, screen: Screen, author: str, reason: str, version: int) -> None:
-        # not canonical: the order of the factors is the order the chemist gave them in
-        data = json.dumps(screen.model_dump(mode="json", exclude_none=True), ensure_ascii=False)
-        t = now_utc()
-        prev = None
-        if version > 1:
-            prev = self.conn.execute(
-                "SELECT hash FROM screen_versions WHERE screen_id = ? AND version = ?", (screen.id, version - 1)
-            ).fetchone()[0]
-        h = chain.screen_hash(screen.id, version, author, t, reason, prev, data)
-        self.db["screen_versions"].insert(
-            {
-                "screen_id": screen.id,
-                "version": version,
-                "author": author,
-                "time": t,
-                "reason": reason,
-                "data": data,
-                "prev_hash": prev,
-                "hash": h,
-            }
-        )
-        chain.append_save(self.conn, "screen", screen.id, version, h)
-        row = {"name": screen.name, "version": version, "updated": t, "data": data}
-        if version == 1:
-            self.db["screens"].insert({"id": screen.id, **row, "created": t})
-        else:
-            self.db["screens"].update(screen.id, row)
-
-    def get_screen(self, key: str) -> Screen:
-        row = self.conn.execute("SELECT data FROM screens WHERE id = ? OR name = ? ORDER BY id LIMIT 1", (key, key)).fetchone()
-        if row is None:
-            raise NotFoundError(f"no screen '{key}' in this notebook", "list screens with 'trapbook screens'")
-        from ..records import stored_screen
-
-        return stored_screen(row[0])
-
-    def list_screens(self) -> list[Screen]:
-        from ..records import stored_screen
-
-        return [stored_screen(r[0]) for r in self.conn.execute("SELECT data FROM screens ORDER BY id")]
-
-    def screen_runs(self, screen: Screen) -> list[Run]:
-        """Runs of a screen: those listed in it plus any run that names the screen."""
-        ids = list(screen.runs)
-        for (rid,) in self.conn.execute("SELECT id FROM runs WHERE screen = ? AND withdrawn = 0 ORDER BY id", (screen.id,)):
-            if rid not in ids:
-                ids.append(rid)
-        out = []
-        for rid in ids:
-            meta = self.conn.execute("SELECT withdrawn FROM runs WHERE id = ?", (rid,)).fetchone()
-            if meta is None or meta[0]:
-                continue
-            out.append(self.get_run(rid))
-        return out
-
-    # --- settings and cache --------------------------------------------------------
-    def get_setting(self, key: str, default: Any = None) -> Any:
-        row = self.conn.execute("SELECT value FROM settings WHERE key = ?", (key,)).fetchone()
-        return json.loads(row[0]) if row else default
-
-    def set_setting(self, key: str, value: Any, author: str | None = None, reason: str = "settings changed") -> None:
-        """Store a setting as a new version (author, time, reason), logged like any save.
-
-        Editor drafts (`draft:...`) are scratch space and are only kept, not versioned.
-        Setting the value it already has adds no version.
-        """
-        stored = chain.stored_value(value)
-        with self.transaction():
-            if not chain.is_private_setting(key):
-                last = self.conn.execute(
-                    "SELECT version, hash, value FROM setting_versions WHERE key = ? ORDER BY version DESC LIMIT 1", (key,)
-                ).fetchone()
-                if last is not None and last[2] == stored:
-                    return
-                version, prev = (last[0] + 1, last[1]) if last else (1, None)
-                who, why, t = default_author(self, author), reason.strip() or "settings changed", now_utc()
-                h = chain.setting_hash(key, version, who, t, why, prev, stored)
-                self.db["setting_versions"].insert(
-                    {
-                        "key": key,
-                        "version": version,
-                        "value": stored,
-                        "author": who,
-                        "time": t,
-                        "reason": why,
-                        "prev_hash": prev,
-                        "hash": h,
-                    }
-                )
-                chain.append_save(self.conn, "setting", key, version, h)
-            self.db["settings"].upsert({"key": key, "value": stored}, pk="key")
-
-    def setting_history(self, key: str) -> list[dict]:
-        """Every version of a setting: value, author, time and reason, oldest first."""
-        rows = self.conn.execute(
-            "SELECT version, value, author, time, reason FROM setting_versions WHERE key = ? ORDER BY version", (key,)
-        ).fetchall()
-        return [{"version": v, "value": json.loads(val), "author": a, "time": t, "reason": r} for v, val, a, t, r in rows]
-
-    def set_check_settings(self, values: dict, author: str | None = None, reason: str = "settings changed") -> None:
-        """New check thresholds and every run's findings judged by them, in one transaction."""
-        from ..settings import CHECKS_KEY
-
-        with self.transaction():
-            self.set_setting(CHECKS_KEY, values, author=author, reason=reason)
-            run_index.refresh_summaries(self)
-
-    def cache_get(self, key: str) -> dict | None:
-        """A cached result, or None; an entry whose content no longer matches its hash is a miss."""
-        if not self._cache_is_hashed():
-            return None  # a notebook not yet upgraded (read-only here): its entries cannot be checked, so none is served
-        row = self.conn.execute(
-            "SELECT smiles, tier, engine, result, content_sha256 FROM strain_cache WHERE key = ?", (key,)
-        ).fetchone()
-        if row is None or row[4] != chain.cache_hash(key, row[0], row[1], row[2], row[3]):
-            return None
-        return json.loads(row[3])
-
-    def _cache_is_hashed(self) -> bool:
-        if self._hashed_cache is None:
-            columns = {row[1] for row in self.conn.execute("PRAGMA table_info(strain_cache)")}
-            self._hashed_cache = "content_sha256" in columns
-        return self._hashed_cache
-
-    def cache_put(self, key: str, smiles: str, tier: str, engine: str, result: dict) -> None:
-        text = json.dumps(result)
-        with self.transaction():
-            self.db["strain_cache"].upsert(
-                {
-                    "key": key,
-                    "smiles": smiles,
-                    "tier": tier,
-                    "engine": engine,
-                    "created": now_utc(),
-                    "result": text,
-                    "content_sha256": chain.cache_hash(key, smiles, tier, engine, text),
-                },
-                pk="key",
-            )
 
     def reindex(self, run_ids: Iterable[str] | None = None) -> int:
         """Rebuild the summary rows (e.g. after strain results arrive, which change the checks)."""

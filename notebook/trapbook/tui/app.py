@@ -38,8 +38,14 @@ class TrapbookApp(App):
     #: Actions that write to a notebook: refused (hidden, and said) when the app is read-only.
     WRITE_ACTIONS = frozenset({"new_run", "copy_run", "whoami", "fill_strain", "open_best"})
 
-    def __init__(self, path: str | Path | None, author: str | None = None, warm: bool = True,
-                 group: tuple[str, ...] = (), read_only: bool = False):
+    def __init__(
+        self,
+        path: str | Path | None,
+        author: str | None = None,
+        warm: bool = True,
+        group: tuple[str, ...] = (),
+        read_only: bool = False,
+    ):
         super().__init__()
         from .theme import register
 
@@ -209,4 +215,3 @@ class TrapbookApp(App):
 def run_app(path: str | Path | None, author: str | None = None, group: tuple[str, ...] = (), read_only: bool = False) -> None:
     """Entry point used by `trapbook`, `trapbook open [DB]`, `trapbook demo` and `trapbook serve`."""
     TrapbookApp(path, author=author, group=group, read_only=read_only).run()
-

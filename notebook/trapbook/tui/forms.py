@@ -30,8 +30,13 @@ def which_amount(text: str) -> tuple[str, object]:
         try:
             q = parse_quantity(text, kind)
             if q.magnitude <= 0:
-                raise TrapbookError(f"'{text}' must be greater than zero", "give a positive amount",
-                                    field=kind, got=text, expected="greater than zero")
+                raise TrapbookError(
+                    f"'{text}' must be greater than zero",
+                    "give a positive amount",
+                    field=kind,
+                    got=text,
+                    expected="greater than zero",
+                )
             return kind, q
         except TrapbookError as exc:
             last = exc
@@ -49,7 +54,9 @@ def which_form(text: str) -> tuple[str, object]:
             return kind, parse_quantity(text, kind)
         except TrapbookError:
             continue
-    raise TrapbookError(f"'{text}' is neither a molarity nor a density", "write e.g. '1.0 M' (solution) or '0.951 g/mL' (neat liquid)")
+    raise TrapbookError(
+        f"'{text}' is neither a molarity nor a density", "write e.g. '1.0 M' (solution) or '0.951 g/mL' (neat liquid)"
+    )
 
 
 def _words(exc: TrapbookError) -> str:

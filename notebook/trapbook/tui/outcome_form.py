@@ -38,8 +38,9 @@ def resolve_product(text: str, product_lines: list[str]) -> str | None:
     return starts[0] if len(starts) == 1 else None
 
 
-def product_entry(values: dict[str, str], product_lines: list[str], rows: list[dict],
-                  index: int | None) -> tuple[dict | None, str | None]:
+def product_entry(
+    values: dict[str, str], product_lines: list[str], rows: list[dict], index: int | None
+) -> tuple[dict | None, str | None]:
     """(stored product result, None) or (None, why not); (None, None) for an empty form.
 
     `rows` are the results already kept, `index` the one being changed (None for a new one).
@@ -113,9 +114,13 @@ def form_values(entry: dict) -> dict[str, str]:
     from .text import qtext
 
     q = entry.get("qnmr") or {}
-    out = {"product": entry.get("product", ""), "isolated_mass": qtext(entry.get("isolated_mass")),
-           "dr": entry.get("dr") or "", "er": entry.get("er") or "",
-           "ee": qtext(entry.get("ee")) if entry.get("ee") is not None else ""}
+    out = {
+        "product": entry.get("product", ""),
+        "isolated_mass": qtext(entry.get("isolated_mass")),
+        "dr": entry.get("dr") or "",
+        "er": entry.get("er") or "",
+        "ee": qtext(entry.get("ee")) if entry.get("ee") is not None else "",
+    }
     for k in QNMR_KEYS:
         out[k] = qtext(q.get(k)) if q.get(k) is not None else ""
     return out

@@ -14,14 +14,21 @@ from .theme import tone
 
 def amounts_table(table) -> Table:
     t = Table(box=None, padding=(0, 1), show_edge=False, header_style=f"bold {tone('muted')}")
-    for col, just in (("role", "left"), ("line", "left"), ("equiv", "right"), ("mmol", "right"),
-                      ("mg", "right"), ("µL", "right")):
+    for col, just in (
+        ("role", "left"),
+        ("line", "left"),
+        ("equiv", "right"),
+        ("mmol", "right"),
+        ("mg", "right"),
+        ("µL", "right"),
+    ):
         t.add_column(col, justify=just)
     for row in table.lines:
         if row.role == "product":
             continue
-        t.add_row(row.role, clip(row.name, 34), fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg),
-                  fmt_ul(row.volume_ul))
+        t.add_row(
+            row.role, clip(row.name, 34), fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg), fmt_ul(row.volume_ul)
+        )
     return t
 
 
@@ -34,7 +41,10 @@ def preview(nb, run_id: str):
     head = Text()
     head.append(f"{shown(run.id)}  ", style=f"bold {tone('accent')}")
     head.append(shown(run.title), style="bold")
-    head.append(f"   v{meta['version']} · {run.status}" + (f" · screen {shown(run.screen)}" if run.screen else ""), style=f"{tone('muted')}")
+    head.append(
+        f"   v{meta['version']} · {run.status}" + (f" · screen {shown(run.screen)}" if run.screen else ""),
+        style=f"{tone('muted')}",
+    )
     if nb.get_setting(f"draft:{run_id}"):
         head.append("  ✎ unsaved draft", style=f"{tone('warn')}")
     parts = [head]

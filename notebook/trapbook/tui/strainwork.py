@@ -14,9 +14,9 @@ from pathlib import Path
 from ..errors import TrapbookError
 
 
-def strain_and_alignment(path: Path, smiles: str, precursor: str | None,
-                         progress: Callable[[str, float], None],
-                         temperature_c: float = 25.0) -> tuple[dict | None, dict | None, str | None]:
+def strain_and_alignment(
+    path: Path, smiles: str, precursor: str | None, progress: Callable[[str, float], None], temperature_c: float = 25.0
+) -> tuple[dict | None, dict | None, str | None]:
     """(strain, alignment, note): the best strain result reached and the alignment, if any.
 
     The alignment is computed at `temperature_c`, the run's release temperature

@@ -19,9 +19,9 @@ from textual.theme import Theme
 
 DARK = Theme(
     name="trapbook-dark",
-    primary="hsl(186,55%,50%)",      # teal: structure, headings, the precursor lane
+    primary="hsl(186,55%,50%)",  # teal: structure, headings, the precursor lane
     secondary="hsl(205,30%,40%)",
-    accent="hsl(40,90%,55%)",        # amber: keys, the best cell, the fluoride lane
+    accent="hsl(40,90%,55%)",  # amber: keys, the best cell, the fluoride lane
     warning="hsl(44,86%,62%)",
     error="hsl(8,100%,64%)",
     success="hsl(96,70%,64%)",
@@ -52,12 +52,12 @@ THEMES = (DARK, LIGHT)
 
 #: What each role of our own drawing is, as a theme variable.
 ROLES = {
-    "accent": "primary",            # headings, run ids, the precursor lane
-    "attention": "accent",          # keys in the help, the best conditions, the fluoride lane
+    "accent": "primary",  # headings, run ids, the precursor lane
+    "attention": "accent",  # keys in the help, the best conditions, the fluoride lane
     "ok": "success",
     "warn": "warning",
     "stop": "error",
-    "muted": "foreground-muted",    # hints, units, secondary facts
+    "muted": "foreground-muted",  # hints, units, secondary facts
     "faint": "foreground-disabled",  # steps before a line enters the flask
     "ground": "background",
     "ink": "foreground",

@@ -40,8 +40,9 @@ from .workbench.strain_panel import StrainPanelMixin
 NEW_DRAFT = "draft:new"
 
 
-class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin, StrainPanelMixin, TabRowsMixin,
-                      LiveRunMixin, RepaintMixin, Screen):
+class WorkbenchScreen(
+    RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin, StrainPanelMixin, TabRowsMixin, LiveRunMixin, RepaintMixin, Screen
+):
     """The run editor: its layout, keys and event routing, and opening, saving and leaving a run.
 
     Each tab's form, the strain card, the live rebuild and the row keys are mixins from
@@ -204,8 +205,14 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             # name ("root") never replaces the chemist the run's author chose.
             self.data["chemist"] = self.app.chosen_author or self.data.get("chemist")
         else:
-            self.data = {"title": "", "chemist": self.app.chosen_author or "", "date": _dt.date.today().isoformat(),
-                         "status": "planned", "lines": [], "steps": []}
+            self.data = {
+                "title": "",
+                "chemist": self.app.chosen_author or "",
+                "date": _dt.date.today().isoformat(),
+                "status": "planned",
+                "lines": [],
+                "steps": [],
+            }
         self.original = json.dumps(self.data, sort_keys=True)
         draft = self.nb.get_setting(self.draft_key) if not self.copy_of else None
         if draft and isinstance(draft, dict) and draft.get("data"):
@@ -224,8 +231,10 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
     def keep_draft(self) -> None:
         self._draft_timer = None
         if self.dirty:
-            self.nb.set_setting(self.draft_key, {"data": self.data, "base_version": self.base_version,
-                                                 "saved": _dt.datetime.now().isoformat(timespec="seconds")})
+            self.nb.set_setting(
+                self.draft_key,
+                {"data": self.data, "base_version": self.base_version, "saved": _dt.datetime.now().isoformat(timespec="seconds")},
+            )
 
     def drop_draft(self) -> None:
         if self._draft_timer is not None:
@@ -290,8 +299,9 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
 
     def action_tab(self, tab: str) -> None:
         self.query_one("#tabs", TabbedContent).active = tab
-        first = {"tab-run": "#run-title", "tab-lines": "#line-role", "tab-steps": "#step-add",
-                 "tab-outcome": "#prod-product"}[tab]
+        first = {"tab-run": "#run-title", "tab-lines": "#line-role", "tab-steps": "#step-add", "tab-outcome": "#prod-product"}[
+            tab
+        ]
         self.query_one(first, Input).focus()
         self.refresh_bindings()
 
@@ -306,9 +316,11 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         A chemist who types the isolated mass and presses ctrl+s means it to be saved; an
         Enter forgotten must not lose it, and a half-written row must not be saved silently.
         """
-        forms_ = (("line", "Lines", self.line_form, self.commit_line, lambda: self.line_index),
-                  ("step", "Steps", self.step_form, self.commit_step, lambda: self.step_index),
-                  ("product result", "Outcome", self.product_form, self.commit_product, lambda: self.product_index))
+        forms_ = (
+            ("line", "Lines", self.line_form, self.commit_line, lambda: self.line_index),
+            ("step", "Steps", self.step_form, self.commit_step, lambda: self.step_index),
+            ("product result", "Outcome", self.product_form, self.commit_product, lambda: self.product_index),
+        )
         kept = []
         for what, tab, form, commit, index in forms_:
             row, why = form()
@@ -335,8 +347,13 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
         if screen_text:
             sc = self.find_screen(screen_text)
             if sc is None:
-                self.notify(f"No screen '{screen_text}' in this notebook: give one of {', '.join(sorted(self.screens)) or '(none)'} "
-                            "or leave Screen blank (Run tab, f2).", title="Not saved", severity="error", timeout=8)
+                self.notify(
+                    f"No screen '{screen_text}' in this notebook: give one of {', '.join(sorted(self.screens)) or '(none)'} "
+                    "or leave Screen blank (Run tab, f2).",
+                    title="Not saved",
+                    severity="error",
+                    timeout=8,
+                )
                 return
             self.data["screen"] = sc.id
         try:
@@ -401,6 +418,7 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
 
         A kept row only loaded into its form (to look at or change) counts once it differs.
         """
+
         def with_step(step: dict) -> dict:
             steps = list(self.data.get("steps", []))
             steps[self.step_index] = step
@@ -412,9 +430,11 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
             return [plain(v) for v in value] if isinstance(value, list) else value
 
         same = plain(self.data)
-        for (row, why), index, apply in ((self.line_form(), self.line_index, self.with_line),
-                                         (self.step_form(), self.step_index, with_step),
-                                         (self.product_form(), self.product_index, self.with_product)):
+        for (row, why), index, apply in (
+            (self.line_form(), self.line_index, self.with_line),
+            (self.step_form(), self.step_index, with_step),
+            (self.product_form(), self.product_index, self.with_product),
+        ):
             if index is None and (row is not None or why):
                 return True
             if index is not None and (why or (row is not None and plain(apply(row)) != same)):
@@ -434,8 +454,11 @@ class WorkbenchScreen(RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin
 
     def _leave_answer(self, answer: str | None) -> None:
         if answer == "keep":
-            for form, commit in ((self.line_form, self.commit_line), (self.step_form, self.commit_step),
-                                 (self.product_form, self.commit_product)):
+            for form, commit in (
+                (self.line_form, self.commit_line),
+                (self.step_form, self.commit_step),
+                (self.product_form, self.commit_product),
+            ):
                 if form()[0] is not None:  # a complete row still in its form goes into the draft
                     commit(focus=False)
             self.keep_draft()

@@ -51,8 +51,7 @@ class ExpectedProductsDialog(ModalScreen[dict | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="expected-box"):
             yield Label("Expected products of this run", classes="dialog-title")
-            yield Static(Text("working them out (adducts, stereoisomers, by-products)…", style="italic"),
-                         id="expected-state")
+            yield Static(Text("working them out (adducts, stereoisomers, by-products)…", style="italic"), id="expected-state")
             yield OptionList(id="expected-list")
             yield Static("Enter picks one as a product result · Esc goes back", classes="dialog-hint")
 
@@ -84,8 +83,13 @@ class ExpectedProductsDialog(ModalScreen[dict | None]):
             state.update(Text("No product is expected from this run's intermediate and traps.", style="italic"))
             return
         origin = report.get("intermediate_origin")
-        state.update(Text(f"intermediate {shown(report.get('intermediate') or '')}" + (f" ({shown(origin)})" if origin else ""),
-                          style=tone("muted"), overflow="fold"))
+        state.update(
+            Text(
+                f"intermediate {shown(report.get('intermediate') or '')}" + (f" ({shown(origin)})" if origin else ""),
+                style=tone("muted"),
+                overflow="fold",
+            )
+        )
         options = self.query_one("#expected-list", OptionList)
         options.add_options([Option(option_text(p), id=str(i)) for i, p in enumerate(self.products)])
         options.display = True

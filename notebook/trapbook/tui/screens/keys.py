@@ -51,11 +51,18 @@ def key_table() -> Group:
     from .review import BoardScreen
     from .runs import LogbookScreen
 
-    screens = [("Everywhere", TrapbookApp), ("Logbook (runs)", LogbookScreen), ("Workbench (run editor)", WorkbenchScreen),
-               ("Workbench tables (Lines, Steps, Outcome tabs)", RowsTab), ("Workbench Lines tab", LinesTab),
-               ("Workbench Outcome tab", OutcomeTab),
-               ("Screen board (review)", BoardScreen), ("Version trail (history)", TrailScreen),
-               ("Leaving with unsaved changes", LeaveDialog), ("Reason for a change", ReasonDialog)]
+    screens = [
+        ("Everywhere", TrapbookApp),
+        ("Logbook (runs)", LogbookScreen),
+        ("Workbench (run editor)", WorkbenchScreen),
+        ("Workbench tables (Lines, Steps, Outcome tabs)", RowsTab),
+        ("Workbench Lines tab", LinesTab),
+        ("Workbench Outcome tab", OutcomeTab),
+        ("Screen board (review)", BoardScreen),
+        ("Version trail (history)", TrailScreen),
+        ("Leaving with unsaved changes", LeaveDialog),
+        ("Reason for a change", ReasonDialog),
+    ]
     parts = []
 
     def section(title: str, rows: list[tuple[str, str]]) -> None:

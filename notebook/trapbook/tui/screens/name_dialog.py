@@ -36,12 +36,17 @@ class NameDialog(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
             yield Label("Who is saving in this notebook?", classes="dialog-title")
-            said = (f"Saves are now recorded as {printable(self.current)}." if self.current
-                    else "No name is set: saves would be recorded under the computer's login name.")
+            said = (
+                f"Saves are now recorded as {printable(self.current)}."
+                if self.current
+                else "No name is set: saves would be recorded under the computer's login name."
+            )
             yield Static(said + " The name goes on every version you save here (author of the change).", markup=False)
             yield Input(value=self.suggestion, placeholder="e.g. A. Trial", id="author-name")
             yield Static("", id="author-msg", classes="field-msg", markup=False)
-            hint = "Enter keeps the name · Esc " + ("saves under the login name this time" if self.first_save else "changes nothing")
+            hint = "Enter keeps the name · Esc " + (
+                "saves under the login name this time" if self.first_save else "changes nothing"
+            )
             yield Static(hint, classes="dialog-hint")
 
     def on_mount(self) -> None:

@@ -57,8 +57,11 @@ def best_text(review: dict) -> Text:
 
 def plotted_kinds(strain_map: dict) -> list[str]:
     """The kinds with at least one point (a strain and a yield), in the ranking's order."""
-    with_points = {e["kind"] for e in strain_map["intermediates"]
-                   if e["kind"] and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None}
+    with_points = {
+        e["kind"]
+        for e in strain_map["intermediates"]
+        if e["kind"] and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None
+    }
     return sorted(with_points)
 
 
@@ -67,17 +70,19 @@ def plot_note(strain_map: dict, kind: str | None, pts: list[dict], n_kinds: int)
     text = Text()
     missing = strain_map.get("missing_strain") or []
     if missing:
-        text.append(f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n",
-                    style=f"{tone('warn')}")
+        text.append(
+            f"{len(missing)} intermediate(s) without cached strain: press g to compute the fast tier.\n", style=f"{tone('warn')}"
+        )
     if n_kinds > 1:
-        text.append(f"{n_kinds} kinds, one plot each (k for the next): their strain numbers are different "
-                    "quantities.\n", style=f"italic {tone('muted')}")
+        text.append(
+            f"{n_kinds} kinds, one plot each (k for the next): their strain numbers are different quantities.\n",
+            style=f"italic {tone('muted')}",
+        )
     rk = next((k for k in (strain_map.get("ranking") or {}).get("by_kind", []) if k["kind"] == kind), None)
     if rk and rk.get("spearman_rho") is not None:
         text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} {kind} intermediates. ", style="bold")
     elif kind:
-        text.append(f"No ρ for {kind}: needs at least 3 intermediates with a strain and a yield, not all tied. ",
-                    style="italic")
+        text.append(f"No ρ for {kind}: needs at least 3 intermediates with a strain and a yield, not all tied. ", style="italic")
     if any(e["strain_tier"] != "accurate" for e in pts):
         text.append("○ = fast-tier prescreen, not classed. ", style=f"italic {tone('warn')}")
     methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
@@ -157,8 +162,9 @@ class BoardScreen(Screen):
             head.append(f"\n {shown(r['description'], multiline=True)}", style="italic")
         title.update(head)
         best = (r.get("best") or {}).get("run_id")
-        self.query_one("#heat", Static).update(Group(grid(r.get("matrix"), best),
-                                                     Text(r.get("yield_rule", ""), style=f"italic {tone('muted')}")))
+        self.query_one("#heat", Static).update(
+            Group(grid(r.get("matrix"), best), Text(r.get("yield_rule", ""), style=f"italic {tone('muted')}"))
+        )
         self.query_one("#best", Static).update(best_text(r))
         self.show_plot()
 
@@ -174,8 +180,11 @@ class BoardScreen(Screen):
         self.kinds = plotted_kinds(self.map)
         self.kind_index = min(self.kind_index, max(len(self.kinds) - 1, 0))
         kind = self.kinds[self.kind_index] if self.kinds else None
-        pts = [e for e in self.map["intermediates"]
-               if e["kind"] == kind and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None]
+        pts = [
+            e
+            for e in self.map["intermediates"]
+            if e["kind"] == kind and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None
+        ]
         self.draw(kind, pts)
         note.update(plot_note(self.map, kind, pts, len(self.kinds)))
 
@@ -195,8 +204,13 @@ class BoardScreen(Screen):
             for accurate, marker, label in ((True, "●", "accurate tier"), (False, "○", "prescreen (fast tier)")):
                 some = [e for e in pts if (e["strain_tier"] == "accurate") == accurate]
                 if some:
-                    plt.scatter([e["strain_kcal_mol"] for e in some], [e["best_yield_pct"] for e in some],
-                                marker=marker, color="orange", label=label)
+                    plt.scatter(
+                        [e["strain_kcal_mol"] for e in some],
+                        [e["best_yield_pct"] for e in some],
+                        marker=marker,
+                        color="orange",
+                        label=label,
+                    )
             xs = [e["strain_kcal_mol"] for e in pts]
             lo, hi = min(xs), max(xs)
             span = (hi - lo) or 1.0

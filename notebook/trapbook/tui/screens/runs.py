@@ -44,6 +44,8 @@ COLUMNS = (
 #: Rows put into the table at a time: a terminal table pays for every row it holds, so a
 #: notebook of 10 000 runs shows the first page and adds the next as the cursor nears the end.
 PAGE = 120
+
+
 def _sort_value(row: dict, key: str):
     v = row.get(key)
     return (v is None, v if not isinstance(v, str) else v.casefold())
@@ -240,7 +242,7 @@ class LogbookScreen(Screen):
         if start >= len(self.shown):
             return
         self.limit = start + PAGE
-        for r in self.shown[start: self.limit]:
+        for r in self.shown[start : self.limit]:
             table.add_row(*cells(r, self.columns), key=r["id"])
         self.show_status()
 
@@ -304,7 +306,7 @@ class LogbookScreen(Screen):
             if self.in_group:  # the same Query on every member (the group's connections are read-only)
                 ids = {h["ref"] for h in self.app.group.search(query)}
             else:
-                with (open_member(self.nb.path) if self.app.read_only else Notebook.open(self.nb.path)) as nb:
+                with open_member(self.nb.path) if self.app.read_only else Notebook.open(self.nb.path) as nb:
                     ids = {h.run_id for h in search.search(nb, query)}
         except TrapbookError as exc:
             self.post_message(FilterAnswered(text, None, exc))

@@ -6,7 +6,7 @@ writes what is wrong (or what was understood, like a molar mass) in the message 
 
 from __future__ import annotations
 
-from typing import Callable
+from collections.abc import Callable
 
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -24,8 +24,15 @@ class Field(Horizontal):
 
     DEFAULT_CLASSES = "field"
 
-    def __init__(self, label: str, field_id: str, placeholder: str = "", check: Check | None = None,
-                 suggestions: list[str] | None = None, value: str = ""):
+    def __init__(
+        self,
+        label: str,
+        field_id: str,
+        placeholder: str = "",
+        check: Check | None = None,
+        suggestions: list[str] | None = None,
+        value: str = "",
+    ):
         super().__init__(id=f"row-{field_id}")
         self.label = label
         self.field_id = field_id
@@ -37,8 +44,9 @@ class Field(Horizontal):
     def compose(self) -> ComposeResult:
         yield Label(self.label, classes="field-label")
         suggester = SuggestFromList(self.suggestions, case_sensitive=False) if self.suggestions else None
-        yield Input(value=self.initial, placeholder=self.placeholder, id=self.field_id, suggester=suggester,
-                    classes="field-input")
+        yield Input(
+            value=self.initial, placeholder=self.placeholder, id=self.field_id, suggester=suggester, classes="field-input"
+        )
         yield Static("", id=f"msg-{self.field_id}", classes="field-msg")
 
     @property
@@ -86,7 +94,7 @@ class FormCheck(Checkbox):
     ]
 
     class Submitted(Message):
-        def __init__(self, box: "FormCheck") -> None:
+        def __init__(self, box: FormCheck) -> None:
             super().__init__()
             self.box = box
 

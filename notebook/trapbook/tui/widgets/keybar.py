@@ -51,8 +51,14 @@ class KeyBar(Footer):
             fitted.append(item)
         self.styles.grid_size_columns = len(fitted) + (1 if help_key else 0)
         for binding, enabled, tooltip in fitted + ([help_key] if help_key else []):
-            yield FooterKey(binding.key, self.app.get_key_display(binding), binding.description, binding.action,
-                            disabled=not enabled, tooltip=tooltip).data_bind(compact=Footer.compact)
+            yield FooterKey(
+                binding.key,
+                self.app.get_key_display(binding),
+                binding.description,
+                binding.action,
+                disabled=not enabled,
+                tooltip=tooltip,
+            ).data_bind(compact=Footer.compact)
 
     def rank(self, item) -> tuple[int, int]:
         """The screen's first keys lead (listed by importance), then those of the widget in

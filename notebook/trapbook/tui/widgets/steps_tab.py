@@ -72,9 +72,17 @@ class StepsTab(RowsTab):
                 marks.append("● trap")
             if any(roles.get(n.casefold()) == "fluoride source" for n in adds):
                 marks.append("● F⁻")
-            rows.append([str(i + 1), clip("; ".join(adds) or "—", 26), qtext(step.get("temperature")) or "—",
-                         qtext(step.get("hold")) or "", qtext(step.get("over")) or "", "▣" if step.get("sealed") else "",
-                         " ".join(marks)])
+            rows.append(
+                [
+                    str(i + 1),
+                    clip("; ".join(adds) or "—", 26),
+                    qtext(step.get("temperature")) or "—",
+                    qtext(step.get("hold")) or "",
+                    qtext(step.get("over")) or "",
+                    "▣" if step.get("sealed") else "",
+                    " ".join(marks),
+                ]
+            )
         if rows == self._rows:
             return
         self._rows = rows
@@ -127,7 +135,8 @@ class StepsTab(RowsTab):
         self.query_one("#step-sealed", Checkbox).value = False
         self._loading = False
         self.query_one("#step-head", Static).update(
-            Text("New step — Enter keeps it; pick a row above to change one", style=tone("muted")))
+            Text("New step — Enter keeps it; pick a row above to change one", style=tone("muted"))
+        )
         self.say(Text(""))
 
     def edit(self, index: int) -> None:
@@ -142,7 +151,8 @@ class StepsTab(RowsTab):
         self.query_one("#step-sealed", Checkbox).value = bool(step.get("sealed"))
         self._loading = False
         self.query_one("#step-head", Static).update(
-            Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style=tone("warn")))
+            Text(f"Changing step {index + 1} — Enter keeps it; ctrl+n for a new step", style=tone("warn"))
+        )
         self.query_one("#step-add", Input).focus()
 
     def preview(self) -> None:

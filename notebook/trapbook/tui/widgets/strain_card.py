@@ -28,8 +28,14 @@ def _strain_rows(t: Table, strain: dict) -> None:
     value = fmt_fixed(r["strain_kcal_mol"], 1, " kcal/mol")
     t.add_row("strain", Text(f"{quantity}: {value}", overflow="fold"))
     if r["prescreen"]:
-        t.add_row("class", Text(f"none: {r['tier'] or '?'}-tier prescreen, ctrl+g for the accurate tier",
-                                style=f"italic {tone('warn')}", overflow="fold"))
+        t.add_row(
+            "class",
+            Text(
+                f"none: {r['tier'] or '?'}-tier prescreen, ctrl+g for the accurate tier",
+                style=f"italic {tone('warn')}",
+                overflow="fold",
+            ),
+        )
     else:
         cls = r["stability_class"] or "—"
         style = f"bold {tone('attention')}" if r["needs_trap"] else "bold"
@@ -43,12 +49,13 @@ def _strain_rows(t: Table, strain: dict) -> None:
         t.add_row("", Text(strain["message"], style="italic", overflow="fold"))
 
 
-def card(smiles: str | None, strain: dict | None, alignment: dict | None, note: str | None = None,
-         origin: str | None = None):
+def card(smiles: str | None, strain: dict | None, alignment: dict | None, note: str | None = None, origin: str | None = None):
     """The card's table; `origin` says how the intermediate was found (recorded, or derived and how)."""
     if not smiles:
-        return Text("No intermediate: give its SMILES on the Run tab, or a silyl precursor line it can be "
-                    "derived from.", style=f"italic {tone('muted')}")
+        return Text(
+            "No intermediate: give its SMILES on the Run tab, or a silyl precursor line it can be derived from.",
+            style=f"italic {tone('muted')}",
+        )
     t = Table.grid(padding=(0, 1))
     t.add_column(style=f"{tone('muted')}", width=13)
     t.add_column()
@@ -68,6 +75,7 @@ def card(smiles: str | None, strain: dict | None, alignment: dict | None, note: 
 
 
 class StrainCard(Static):
-    def show(self, smiles: str | None, strain: dict | None, alignment: dict | None, note: str | None = None,
-             origin: str | None = None) -> None:
+    def show(
+        self, smiles: str | None, strain: dict | None, alignment: dict | None, note: str | None = None, origin: str | None = None
+    ) -> None:
         self.update(card(smiles, strain, alignment, note, origin))

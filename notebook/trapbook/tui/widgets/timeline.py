@@ -55,7 +55,7 @@ def track(run, findings: list | None, width: int | None = None) -> Text:
     out.append("\n" + " " * LABEL_W)
     for step in run.steps:
         mark = _temp(step) + ("▣" if step.sealed else "")
-        out.append(f"{mark[:cell - 1]:<{cell}}", style=f"{tone('muted')}")
+        out.append(f"{mark[: cell - 1]:<{cell}}", style=f"{tone('muted')}")
     out.append("\n")
     for role, label, colour_role in LANES:
         colour = tone(colour_role)
@@ -66,7 +66,7 @@ def track(run, findings: list | None, width: int | None = None) -> Text:
             continue
         for line in lines:
             at = first.get(line.name.casefold())
-            out.append(f"{label[:LABEL_W - 1]:<{LABEL_W}}", style=colour)
+            out.append(f"{label[: LABEL_W - 1]:<{LABEL_W}}", style=colour)
             if at is None:  # said in words, which fit the panel however many steps there are
                 out.append("never added in any step\n", style=f"{tone('warn')}")
                 continue

@@ -29,8 +29,18 @@ LINE_FIELDS = (
 LIMIT_MARK = "◆"
 #: "given" says which amount the line was given in, or "weighed" once it records what went into the flask;
 #: then "planned" holds the plan in the kind that was measured, beside the amounts worked out from the weighing.
-LINE_COLUMNS = (("#", 3), ("role", 10), ("name", 19), ("given", 7), ("planned", 10), ("equiv", 6), ("mmol", 7),
-                ("mg", 7), ("µL", 6), ("g/mol", 7))
+LINE_COLUMNS = (
+    ("#", 3),
+    ("role", 10),
+    ("name", 19),
+    ("given", 7),
+    ("planned", 10),
+    ("equiv", 6),
+    ("mmol", 7),
+    ("mg", 7),
+    ("µL", 6),
+    ("g/mol", 7),
+)
 #: The side panel's width beside the tabs (app.tcss `#bench-side`), and the name column's bounds.
 SIDE_WIDTH = 44
 NAME_MIN, NAME_MAX = 8, 40
@@ -132,10 +142,12 @@ class LinesTabMixin:
                 data["title"] = "(untitled)"  # a title is not needed to work out amounts
             table = amounts.compute(self.build(data))
             row = table.line(line["name"])
-            bits = [f"{fmt_mmol(row.mmol)} mmol" if row.mmol is not None else None,
-                    f"{row.equiv:.3g} equiv" if row.equiv is not None else None,
-                    f"{fmt_mg(row.mass_mg)} mg" if row.mass_mg is not None else None,
-                    f"{fmt_ul(row.volume_ul)} µL" if row.volume_ul is not None else None]
+            bits = [
+                f"{fmt_mmol(row.mmol)} mmol" if row.mmol is not None else None,
+                f"{row.equiv:.3g} equiv" if row.equiv is not None else None,
+                f"{fmt_mg(row.mass_mg)} mg" if row.mass_mg is not None else None,
+                f"{fmt_ul(row.volume_ul)} µL" if row.volume_ul is not None else None,
+            ]
             say(Text("→ " + " · ".join(b for b in bits if b) + "   (Enter keeps this line)", style=f"{tone('ok')}"))
         except TrapbookError as exc:
             say(Text(f"valid line; amounts not yet worked out: {exc.message}   (Enter keeps it)", style=f"{tone('warn')}"))
@@ -146,8 +158,13 @@ class LinesTabMixin:
     def blank_line(self, focus: bool = True) -> None:
         self.line_index = None
         self.clear_form("line", LINE_FIELDS, "#line-limiting")
-        self.put("#line-head", Text(f"New line — Enter keeps it · pick a row to change it · {LIMIT_MARK} limiting: ctrl+l",
-                                    style=f"{tone('muted')}"), layout=False)
+        self.put(
+            "#line-head",
+            Text(
+                f"New line — Enter keeps it · pick a row to change it · {LIMIT_MARK} limiting: ctrl+l", style=f"{tone('muted')}"
+            ),
+            layout=False,
+        )
         self.put("#line-msg", Text(""), layout=False)
         if focus:
             self.query_one("#line-role", Input).focus()
@@ -156,14 +173,24 @@ class LinesTabMixin:
         line = self.data["lines"][index]
         self.line_index = index
         amount = next((line[k] for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "")
-        values = {"role": line.get("role", ""), "name": line.get("name", ""), "smiles": line.get("smiles", ""),
-                  "amount": qtext(amount), "form": qtext(line.get("density") or line.get("molarity") or ""),
-                  "purity": qtext(line.get("purity", "")), "water": qtext(line.get("water", ""))}
+        values = {
+            "role": line.get("role", ""),
+            "name": line.get("name", ""),
+            "smiles": line.get("smiles", ""),
+            "amount": qtext(amount),
+            "form": qtext(line.get("density") or line.get("molarity") or ""),
+            "purity": qtext(line.get("purity", "")),
+            "water": qtext(line.get("water", "")),
+        }
         for k, *_ in LINE_FIELDS:
             self.query_one(f"#line-{k}", Input).value = values[k] or ""
         marked = bool(line.get("limiting")) or (self.data.get("limiting") or "").casefold() == line.get("name", "").casefold()
         self.query_one("#line-limiting", Checkbox).value = marked
-        self.put("#line-head", Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style=f"{tone('warn')}"), layout=False)
+        self.put(
+            "#line-head",
+            Text(f"Changing line {index + 1} — Enter keeps it; ctrl+n for a new line", style=f"{tone('warn')}"),
+            layout=False,
+        )
         self.query_one("#line-name", Input).focus()
 
     def name_width(self) -> int:
@@ -202,8 +229,9 @@ class LinesTabMixin:
             compared = planned_vs_weighed(self.run)
         except TrapbookError:  # the plan alone cannot be worked out: said as unknown, the checks say why
             return {ln.name.casefold(): "?" for ln in self.run.lines if ln.actual is not None}
-        return {w.name.casefold(): f"{fmt_sig(w.planned, 3)} {w.unit}" if w.planned is not None else "not planned"
-                for w in compared}
+        return {
+            w.name.casefold(): f"{fmt_sig(w.planned, 3)} {w.unit}" if w.planned is not None else "not planned" for w in compared
+        }
 
     def refresh_lines(self) -> None:
         from ....units import fmt_equiv, fmt_mg, fmt_mmol, fmt_ul
@@ -218,11 +246,21 @@ class LinesTabMixin:
             given = "weighed" if key in planned else next((k for k in forms.AMOUNT_FIELDS if line.get(k) not in (None, "")), "—")
             role = line.get("role") or ""
             mark = LIMIT_MARK if limiting and key == limiting else ""
-            cells = [f"{i + 1}{mark}", ROLE_SHORT.get(role, role)[:9], clip(line.get("name"), self._name_width - 1), given,
-                     clip(planned.get(key, ""), 10)]
+            cells = [
+                f"{i + 1}{mark}",
+                ROLE_SHORT.get(role, role)[:9],
+                clip(line.get("name"), self._name_width - 1),
+                given,
+                clip(planned.get(key, ""), 10),
+            ]
             if row is not None:
-                cells += [fmt_equiv(row.equiv), fmt_mmol(row.mmol), fmt_mg(row.mass_mg), fmt_ul(row.volume_ul),
-                          f"{row.mw_g_mol:.2f}" if row.mw_g_mol else "—"]
+                cells += [
+                    fmt_equiv(row.equiv),
+                    fmt_mmol(row.mmol),
+                    fmt_mg(row.mass_mg),
+                    fmt_ul(row.volume_ul),
+                    f"{row.mw_g_mol:.2f}" if row.mw_g_mol else "—",
+                ]
             else:
                 cells += ["", "", "", "", ""]
             rows.append(cells)
@@ -247,8 +285,11 @@ class LinesTabMixin:
             self.notify("A product line cannot be the limiting line.", severity="warning")
             return
         elif line.get("equiv") not in (None, ""):
-            self.notify(f"'{name}' is given in equiv; give it an amount, mass or volume first, then mark it limiting.",
-                        severity="warning", timeout=6)
+            self.notify(
+                f"'{name}' is given in equiv; give it an amount, mass or volume first, then mark it limiting.",
+                severity="warning",
+                timeout=6,
+            )
             return
         else:
             for other in lines:

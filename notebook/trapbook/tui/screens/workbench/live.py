@@ -77,19 +77,33 @@ class LiveRunMixin:
         else:
             self.put("#track", Text("the run is not complete yet", style=f"italic {tone('muted')}"))
         if self.run is None:
-            self.put("#checks", Text("Checks start once the run has its lines: " + (self.problem or ""), style=f"italic {tone('warn')}"))
+            self.put(
+                "#checks",
+                Text("Checks start once the run has its lines: " + (self.problem or ""), style=f"italic {tone('warn')}"),
+            )
         else:
-            self.put("#checks", findings_text(findings, table_problem or (f"not saved yet: {self.problem}" if self.problem else None)))
+            self.put(
+                "#checks", findings_text(findings, table_problem or (f"not saved yet: {self.problem}" if self.problem else None))
+            )
         found = self.intermediate_found()
         smiles, origin = found if found else (None, None)
         derived = smiles if smiles and not (self.data.get("intermediate") or "").strip() else None
         if getattr(self, "_derived_shown", None) != derived:
             self._derived_shown = derived
             self.query_one("#run-intermediate", Input).placeholder = (
-                f"from precursor: {derived}" if derived else "SMILES of the strained intermediate")
-        self.put("#strain", card(smiles, self.strain, self.alignment, self.strain_note, origin),
-                 key=(smiles, origin, json.dumps(self.strain, sort_keys=True, default=str),
-                      json.dumps(self.alignment, sort_keys=True, default=str), self.strain_note))
+                f"from precursor: {derived}" if derived else "SMILES of the strained intermediate"
+            )
+        self.put(
+            "#strain",
+            card(smiles, self.strain, self.alignment, self.strain_note, origin),
+            key=(
+                smiles,
+                origin,
+                json.dumps(self.strain, sort_keys=True, default=str),
+                json.dumps(self.alignment, sort_keys=True, default=str),
+                self.strain_note,
+            ),
+        )
         self.refresh_status()
 
     def provisional_run(self):

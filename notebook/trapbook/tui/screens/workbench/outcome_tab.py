@@ -35,8 +35,16 @@ OUTCOME_FIELDS = (
     ("recovered_precursor", "Recovered", "mass of precursor recovered", forms.check_kind("mass", "a mass"), None),
     ("observations", "Observations", "colour change, gas, solids, TLC…", None, None),
 )
-PRODUCT_COLUMNS = (("#", 3), ("product", 16), ("isolated", 9), ("yield", 7), ("qNMR ∫P:∫IS", 14), ("NMR", 7),
-                   ("dr", 7), ("ee", 9))
+PRODUCT_COLUMNS = (
+    ("#", 3),
+    ("product", 16),
+    ("isolated", 9),
+    ("yield", 7),
+    ("qNMR ∫P:∫IS", 14),
+    ("NMR", 7),
+    ("dr", 7),
+    ("ee", 9),
+)
 
 
 def yield_words(y) -> str:
@@ -115,14 +123,19 @@ class OutcomeTabMixin:
             self.put("#prod-msg", Text(text, style=f"{tone('ok')}"), layout=False)
         except (TrapbookError, StopIteration) as exc:
             why = exc.message if isinstance(exc, TrapbookError) else "no yield"
-            self.put("#prod-msg", Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=f"{tone('warn')}"),
-                     layout=False)
+            self.put(
+                "#prod-msg",
+                Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=f"{tone('warn')}"),
+                layout=False,
+            )
 
     def action_expected(self) -> None:
         """ctrl+t: the run's expected products (worked out in the dialog's worker), one to pick."""
         if self.run is None:
-            self.notify(f"The expected products need the run's lines first: {self.problem or 'the run is incomplete'}.",
-                        severity="warning")
+            self.notify(
+                f"The expected products need the run's lines first: {self.problem or 'the run is incomplete'}.",
+                severity="warning",
+            )
             return
         from ..expected_dialog import ExpectedProductsDialog
 
@@ -162,8 +175,11 @@ class OutcomeTabMixin:
     def blank_product(self, focus: bool = True) -> None:
         self.product_index = None
         self.clear_form("prod", PRODUCT_FIELDS)
-        self.put("#prod-head", Text("New product result — Enter keeps it; pick a row above to change one", style=f"{tone('muted')}"),
-                 layout=False)
+        self.put(
+            "#prod-head",
+            Text("New product result — Enter keeps it; pick a row above to change one", style=f"{tone('muted')}"),
+            layout=False,
+        )
         self.put("#prod-msg", Text(""), layout=False)
         if focus:
             self.query_one("#prod-product", Input).focus()
@@ -178,8 +194,14 @@ class OutcomeTabMixin:
         for k, *_ in PRODUCT_FIELDS:
             self.query_one(f"#prod-{k}", Input).value = values.get(k, "")
         self._loading = False
-        self.put("#prod-head", Text(f"Changing result {index + 1} ({rows[index].get('product')}) — Enter keeps it; "
-                                    "ctrl+n for a new one", style=f"{tone('warn')}"), layout=False)
+        self.put(
+            "#prod-head",
+            Text(
+                f"Changing result {index + 1} ({rows[index].get('product')}) — Enter keeps it; ctrl+n for a new one",
+                style=f"{tone('warn')}",
+            ),
+            layout=False,
+        )
         self.query_one("#prod-isolated_mass", Input).focus()
 
     def refresh_products(self) -> None:
@@ -195,18 +217,29 @@ class OutcomeTabMixin:
             q = p.get("qnmr") or {}
             qn = ""
             if q:
-                qn = "{:g}/{}:{:g}/{}".format(float(q.get("integral") or 0), q.get("protons", ""),
-                                              float(q.get("standard_integral") or 0), q.get("standard_protons", ""))
+                qn = "{:g}/{}:{:g}/{}".format(
+                    float(q.get("integral") or 0),
+                    q.get("protons", ""),
+                    float(q.get("standard_integral") or 0),
+                    q.get("standard_protons", ""),
+                )
             ee = ""
             if y is not None and y.ee_pct is not None:
                 ee = f"{y.ee_pct:.0f} %"
             elif p.get("ee") is not None:
                 ee = f"{p['ee']} %"
-            rows.append([str(i + 1), clip(p.get("product"), 15), clip(qtext(p.get("isolated_mass")), 8) or "—",
-                         f"{y.isolated_yield_pct:.0f} %" if y and y.isolated_yield_pct is not None else "—",
-                         clip(qn, 13) or "—",
-                         f"{y.nmr_yield_pct:.0f} %" if y and y.nmr_yield_pct is not None else "—",
-                         clip(p.get("dr") or "", 6), clip(ee or p.get("er") or "", 8)])
+            rows.append(
+                [
+                    str(i + 1),
+                    clip(p.get("product"), 15),
+                    clip(qtext(p.get("isolated_mass")), 8) or "—",
+                    f"{y.isolated_yield_pct:.0f} %" if y and y.isolated_yield_pct is not None else "—",
+                    clip(qn, 13) or "—",
+                    f"{y.nmr_yield_pct:.0f} %" if y and y.nmr_yield_pct is not None else "—",
+                    clip(p.get("dr") or "", 6),
+                    clip(ee or p.get("er") or "", 8),
+                ]
+            )
         self._fill_table(self.query_one("#products", DataTable), rows)
 
     def apply_outcome(self) -> None:
@@ -232,8 +265,10 @@ class OutcomeTabMixin:
         from ....units import fmt_mmol
 
         if self.run is None or self.table is None or self.run.outcome is None or not self.run.outcome.products:
-            self.put("#yields", Text("Yields appear here once the run has its lines and a product result.",
-                                     style=f"italic {tone('muted')}"))
+            self.put(
+                "#yields",
+                Text("Yields appear here once the run has its lines and a product result.", style=f"italic {tone('muted')}"),
+            )
             return
         out = Text()
         for name, y, why in yields_each(self.run, self.table):
@@ -243,6 +278,8 @@ class OutcomeTabMixin:
             else:
                 out.append(yield_words(y) or "no yield yet")
             out.append("\n")
-        out.append(f"yields on {fmt_mmol(self.table.limiting_mmol)} mmol of {self.table.limiting} (the limiting line)",
-                   style=f"italic {tone('muted')}")
+        out.append(
+            f"yields on {fmt_mmol(self.table.limiting_mmol)} mmol of {self.table.limiting} (the limiting line)",
+            style=f"italic {tone('muted')}",
+        )
         self.put("#yields", out)

@@ -99,8 +99,11 @@ class RunTabMixin:
             row.run_check()
         self._loading = False
         if sc is not None:
-            hint = Text(f"{sc.id} varies {', '.join(self.factor_names) or 'nothing yet'}: give this run's level of each "
-                        "(→ completes a level)", style=f"{tone('muted')}")
+            hint = Text(
+                f"{sc.id} varies {', '.join(self.factor_names) or 'nothing yet'}: give this run's level of each "
+                "(→ completes a level)",
+                style=f"{tone('muted')}",
+            )
         elif (self.data.get("screen") or "").strip():
             hint = Text("")
         else:

@@ -64,5 +64,4 @@ class StrainPanelMixin:
             return
         from ...widgets.bench_side import BenchSide
 
-        self.query_one(BenchSide).start_strain(self.nb.path, smiles, self.precursor_smiles(),
-                                               self.release_temperature_c())
+        self.query_one(BenchSide).start_strain(self.nb.path, smiles, self.precursor_smiles(), self.release_temperature_c())
