@@ -210,13 +210,10 @@ def _compare_current(rep: Report, cur: tuple, versions: list, run, withdrawn: in
         rep.add("current-mismatch", run_id, "current data differs from its last version (changed outside Trapbook)")
     if run is None:
         return
+    from .store.notebook import listed_columns
+
     expected = {
-        "title": run.title,
-        "chemist": run.chemist,
-        "date": run.date.isoformat() if run.date else None,
-        "status": run.status,
-        "screen": run.screen,
-        "withdrawn": withdrawn,
+        **listed_columns(run, withdrawn),
         "created": versions[0][3],
         "updated": last[3],
     }

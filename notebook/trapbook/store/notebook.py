@@ -66,6 +66,19 @@ def default_path() -> Path:
     return Path(platformdirs.user_data_dir(APP_NAME, appauthor=False)) / "notebook.sqlite"
 
 
+def listed_columns(run, withdrawn: int) -> dict:
+    """The columns of a run's current row that lists and searches read without opening the
+    record: copied from the run at each save, and recomputed the same way by verify."""
+    return {
+        "title": run.title,
+        "chemist": run.chemist,
+        "date": run.date.isoformat() if run.date else None,
+        "status": run.status,
+        "screen": run.screen,
+        "withdrawn": withdrawn,
+    }
+
+
 @dataclass
 class SaveResult:
     run_id: str
@@ -281,12 +294,7 @@ class Notebook(ScreenStore, SettingsCacheStore):
         if action not in ("withdraw", "restore") and version > 1:
             withdrawn = self.conn.execute("SELECT withdrawn FROM runs WHERE id = ?", (run.id,)).fetchone()[0]
         row = {
-            "title": run.title,
-            "chemist": run.chemist,
-            "date": run.date.isoformat() if run.date else None,
-            "status": run.status,
-            "screen": run.screen,
-            "withdrawn": withdrawn,
+            **listed_columns(run, withdrawn),
             "version": version,
             "hash": h,
             "updated": t,
