@@ -45,12 +45,100 @@ def _safe_id(text: str) -> str:
     return keep.strip(".") or "run"
 
 
+def _add_run(crate, work: Path, nb, run, store, seen_blobs: set[str]) -> None:
+    """A run's record, its version history and every file any of its versions names."""
+    from .. import attachments
+
+    rid = _safe_id(run.id or run.title)
+    src = work / f"{rid}.json"
+    src.write_text(_json_text(run.to_json_dict()), encoding="utf-8")
+    crate.add_file(
+        src,
+        f"{RUN_DIR}/{rid}.json",
+        properties={
+            "name": run.title,
+            "encodingFormat": "application/json",
+            "description": f"Trapbook run record {run.id or ''}".strip(),
+            "identifier": run.id or "",
+        },
+    )
+    history_atts = []
+    if run.id:
+        hist = work / f"{rid}.history.jsonl"
+        text, history_atts = _history_jsonl(nb, run.id)
+        hist.write_text(text, encoding="utf-8")
+        crate.add_file(
+            hist,
+            f"{RUN_DIR}/{rid}.history.jsonl",
+            properties={
+                "name": f"version history of {run.id}",
+                "encodingFormat": "application/x-ndjson",
+            },
+        )
+    for att in [*run.attachments, *history_atts]:  # older versions keep their files too
+        if att.sha256 in seen_blobs:
+            continue
+        blob = attachments.blob_path(store, att.sha256)
+        problem = attachments.check_blob(store, att.sha256, att.size)
+        if problem:
+            raise ExchangeError(
+                f"run {run.id} attachment {att.name}: {problem}",
+                "run 'trapbook verify' and restore the file before exporting",
+            )
+        crate.add_file(
+            blob,
+            f"{FILE_DIR}/{att.sha256}",
+            properties={
+                "name": att.name,
+                "encodingFormat": att.media_type or "application/octet-stream",
+                "contentSize": str(att.size),
+                "sha256": att.sha256,
+            },
+        )
+        seen_blobs.add(att.sha256)
+
+
+def _add_screen(crate, work: Path, sc) -> None:
+    src = work / f"screen-{_safe_id(sc.id)}.json"
+    src.write_text(_json_text(sc.model_dump(mode="json", exclude_none=True)), encoding="utf-8")
+    crate.add_file(
+        src,
+        f"{SCREEN_DIR}/{_safe_id(sc.id)}.json",
+        properties={
+            "name": sc.name,
+            "encodingFormat": "application/json",
+            "description": "Trapbook screen record",
+        },
+    )
+
+
+def _add_ord(crate, work: Path, nb, runs, screen) -> str | None:
+    """The runs as an ORD dataset inside the crate; the reason when one cannot be written."""
+    from . import ord as ordx
+
+    try:
+        ds, _report = ordx.build_dataset(runs, screen, email=ordx._email(nb), nb=nb)
+    except TrapbookError as exc:
+        return f"no ORD file: {exc.message}"
+    src = work / "dataset.pbtxt"
+    src.write_text(ordx.serialise(ds, src), encoding="utf-8")
+    crate.add_file(
+        src,
+        ORD_PATH,
+        properties={
+            "name": "Open Reaction Database dataset",
+            "encodingFormat": "text/plain",
+            "description": "ord_schema Dataset message in protobuf text format",
+        },
+    )
+    return None
+
+
 def export(nb, runs, screen=None, output=None):
     """Registry entry: write a crate to `output` (.zip, or a folder); returns the path."""
     from rocrate.rocrate import ROCrate
 
     from .. import attachments
-    from . import ord as ordx
 
     if not output:
         raise ExchangeError("an RO-Crate is a zip archive or a folder, not text", "give a file name with -o, e.g. -o runs.zip")
@@ -72,85 +160,14 @@ def export(nb, runs, screen=None, output=None):
         )
         crate.datePublished = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
         crate.root_dataset["keywords"] = ["trapping experiment", "strained intermediate", "lab notebook"]
-        notes: list[str] = []
         seen_blobs: set[str] = set()
         for run in runs:
-            rid = _safe_id(run.id or run.title)
-            src = work / f"{rid}.json"
-            src.write_text(_json_text(run.to_json_dict()), encoding="utf-8")
-            crate.add_file(
-                src,
-                f"{RUN_DIR}/{rid}.json",
-                properties={
-                    "name": run.title,
-                    "encodingFormat": "application/json",
-                    "description": f"Trapbook run record {run.id or ''}".strip(),
-                    "identifier": run.id or "",
-                },
-            )
-            history_atts = []
-            if run.id:
-                hist = work / f"{rid}.history.jsonl"
-                text, history_atts = _history_jsonl(nb, run.id)
-                hist.write_text(text, encoding="utf-8")
-                crate.add_file(
-                    hist,
-                    f"{RUN_DIR}/{rid}.history.jsonl",
-                    properties={
-                        "name": f"version history of {run.id}",
-                        "encodingFormat": "application/x-ndjson",
-                    },
-                )
-            for att in [*run.attachments, *history_atts]:  # older versions keep their files too
-                if att.sha256 in seen_blobs:
-                    continue
-                blob = attachments.blob_path(store, att.sha256)
-                problem = attachments.check_blob(store, att.sha256, att.size)
-                if problem:
-                    raise ExchangeError(
-                        f"run {run.id} attachment {att.name}: {problem}",
-                        "run 'trapbook verify' and restore the file before exporting",
-                    )
-                crate.add_file(
-                    blob,
-                    f"{FILE_DIR}/{att.sha256}",
-                    properties={
-                        "name": att.name,
-                        "encodingFormat": att.media_type or "application/octet-stream",
-                        "contentSize": str(att.size),
-                        "sha256": att.sha256,
-                    },
-                )
-                seen_blobs.add(att.sha256)
+            _add_run(crate, work, nb, run, store, seen_blobs)
         for sc in screens:
-            src = work / f"screen-{_safe_id(sc.id)}.json"
-            src.write_text(_json_text(sc.model_dump(mode="json", exclude_none=True)), encoding="utf-8")
-            crate.add_file(
-                src,
-                f"{SCREEN_DIR}/{_safe_id(sc.id)}.json",
-                properties={
-                    "name": sc.name,
-                    "encodingFormat": "application/json",
-                    "description": "Trapbook screen record",
-                },
-            )
-        try:
-            ds, _report = ordx.build_dataset(runs, screens[0] if screen else None, email=ordx._email(nb), nb=nb)
-            src = work / "dataset.pbtxt"
-            src.write_text(ordx.serialise(ds, src), encoding="utf-8")
-            crate.add_file(
-                src,
-                ORD_PATH,
-                properties={
-                    "name": "Open Reaction Database dataset",
-                    "encodingFormat": "text/plain",
-                    "description": "ord_schema Dataset message in protobuf text format",
-                },
-            )
-        except TrapbookError as exc:
-            notes.append(f"no ORD file: {exc.message}")
-        if notes:
-            crate.root_dataset["comment"] = "; ".join(notes)
+            _add_screen(crate, work, sc)
+        note = _add_ord(crate, work, nb, runs, screens[0] if screen else None)
+        if note:
+            crate.root_dataset["comment"] = note
         try:
             if out.suffix.lower() == ".zip":
                 with atomic_target(out) as part:
