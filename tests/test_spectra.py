@@ -363,6 +363,10 @@ def test_cli_refuses_random_bytes_and_changes_nothing(cli, tmp_path):
     assert len(json.loads(cli("history", "TB-0001", "--json").output)) == 2
 
 
+#: The regions every screen test integrates: the standard's 3H singlet and the product's 1H signal.
+SCREEN_REGIONS = ("--standard", "6.00..6.20", "--product", "5.20..5.40", "--standard-protons", "3", "--product-protons", "1")
+
+
 def test_screen_uses_one_set_of_regions_for_every_vial(cli, tmp_path, bruker_bytes):
     from trapbook.spectra.runs import integrate_screen
     from trapbook.store import Notebook
@@ -378,19 +382,7 @@ def test_screen_uses_one_set_of_regions_for_every_vial(cli, tmp_path, bruker_byt
         cli("attach", rid, str(zipped))
     with Notebook.open(tmp_path / "nb.sqlite") as nb:
         sid = nb.add_screen({"name": "trap screen", "runs": ["TB-0001", "TB-0002", "TB-0003"]})
-    res = cli(
-        "nmr",
-        sid,
-        "--standard",
-        "6.00..6.20",
-        "--product",
-        "5.20..5.40",
-        "--standard-protons",
-        "3",
-        "--product-protons",
-        "1",
-        "--json",
-    )
+    res = cli("nmr", sid, *SCREEN_REGIONS, "--json")
     out = json.loads(res.output)
     assert [r["run_id"] for r in out["integrated"]] == ["TB-0001", "TB-0002"] and out["skipped"] == ["TB-0003"]
     assert all(r["yield_pct"] == pytest.approx(62.0, abs=1.0) for r in out["integrated"])
@@ -416,19 +408,7 @@ def test_screen_with_a_refused_vial_does_not_exit_as_done(cli, tmp_path, bruker_
     cli("attach", "TB-0002", str(junk))
     with Notebook.open(tmp_path / "nb.sqlite") as nb:
         sid = nb.add_screen({"name": "trap screen", "runs": ["TB-0001", "TB-0002"]})
-    res = cli(
-        "nmr",
-        sid,
-        "--standard",
-        "6.00..6.20",
-        "--product",
-        "5.20..5.40",
-        "--standard-protons",
-        "3",
-        "--product-protons",
-        "1",
-        "--json",
-    )
+    res = cli("nmr", sid, *SCREEN_REGIONS, "--json")
     out = json.loads(res.output)
     assert [r["run_id"] for r in out["integrated"]] == ["TB-0001"]
     assert [r["run_id"] for r in out["refused"]] == ["TB-0002"]

@@ -165,26 +165,7 @@ def _check_png_path(png: str) -> None:
     "warnings: [...]}; for a screen {screen, regions, integrated: [...], refused: [...], skipped: [...]} (exit code 3 when any vial was refused)."
 )
 @pass_ctx
-def nmr(
-    ctx: Ctx,
-    target: str,
-    standard,
-    product,
-    standard_protons,
-    product_protons,
-    product_line,
-    attachment,
-    lb,
-    phase0,
-    phase1,
-    phase_method,
-    baseline_order,
-    reference,
-    reference_region,
-    reverse,
-    png,
-    as_json: bool,
-) -> None:
+def nmr(ctx: Ctx, target: str, attachment, png, as_json: bool, **processing) -> None:
     """NMR yield from the attached FID: process, integrate, save as a new version.
 
     RUN is a stored run with a zipped Bruker or Varian/Agilent experiment folder, or a
@@ -199,21 +180,7 @@ def nmr(
     """
     from ..spectra.runs import integrate_run, integrate_screen
 
-    regions = _regions(
-        standard,
-        product,
-        standard_protons,
-        product_protons,
-        product_line,
-        lb,
-        phase0,
-        phase1,
-        phase_method,
-        baseline_order,
-        reference,
-        reference_region,
-        reverse,
-    )
+    regions = _regions(**processing)  # the region and processing options, as click named them
     if png:
         _check_png_path(png)
     with ctx.notebook() as nb:
