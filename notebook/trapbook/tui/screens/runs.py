@@ -363,11 +363,16 @@ class LogbookScreen(Screen):
 
     @work(thread=True, exclusive=True, group="preview", exit_on_error=False)
     def draw_preview(self, rid: str, nb, run_id: str) -> None:
-        """Work out the preview off the UI thread: the first one loads RDKit, which must not freeze the table."""
+        """Work out the preview off the UI thread: the first one loads RDKit, which must not freeze the table.
+
+        It reads through a connection of its own: the screen's connection is closed when the
+        app quits, which may be while this thread still reads (SQLite does not survive that)."""
+        from ...group import open_member
         from ..preview import preview
 
         try:
-            shown_now = preview(nb, run_id)
+            with open_member(nb.path) as own:  # read-only: a preview never writes
+                shown_now = preview(own, run_id)
         except TrapbookError as exc:
             shown_now = Text(exc.message, style="italic")
         self.post_message(PreviewReady(rid, shown_now))
