@@ -27,7 +27,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "notebook"))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from search import bulk_add, make_run, structures  # noqa: E402  (benchmarks/search.py)
+from search import bulk_add, make_run, structures, timed  # noqa: E402  (benchmarks/search.py)
 
 from trapbook import integrity  # noqa: E402
 from trapbook import search as S  # noqa: E402
@@ -64,17 +64,6 @@ def build(folder: Path, members: int, runs: int) -> tuple[list[Path], Path]:
     return paths, single
 
 
-def median_seconds(fn, repeat: int, cold: bool) -> tuple[float, object]:
-    times, out = [], None
-    for _ in range(repeat):
-        if cold:
-            S.clear_caches()
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times), out
-
-
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--members", type=int, default=20)
@@ -104,10 +93,10 @@ def main() -> None:
     ratios = []
     for name, options in QUERIES.items():
         query = query_from_options(**options)
-        one_s, hits = median_seconds(lambda q=query: S.search(nb, q), args.repeat, cold=True)
-        grp_s, ghits = median_seconds(lambda q=query: group.search(q), args.repeat, cold=True)
-        one_r, _ = median_seconds(lambda q=query: S.search(nb, q), args.repeat, cold=False)
-        grp_r, _ = median_seconds(lambda q=query: group.search(q), args.repeat, cold=False)
+        one_s, hits = timed(lambda q=query: S.search(nb, q), args.repeat, cold=True)
+        grp_s, ghits = timed(lambda q=query: group.search(q), args.repeat, cold=True)
+        one_r, _ = timed(lambda q=query: S.search(nb, q), args.repeat, cold=False)
+        grp_r, _ = timed(lambda q=query: group.search(q), args.repeat, cold=False)
         assert {h.run_id for h in hits} == {h["run_id"] for h in ghits}, f"{name}: the group found other runs"
         ratios.append(grp_s / one_s if one_s else float("nan"))
         print(f"{name:46} {len(hits):6d} {one_s:12.3f} {grp_s:11.3f} {ratios[-1]:6.2f} {one_r:11.3f} {grp_r:10.3f}")

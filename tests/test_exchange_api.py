@@ -36,6 +36,16 @@ def test_top_level_api(tmp_path, minimal_run):
     nb.close()
 
 
+def test_lazy_top_level_names_are_the_api_module_s_names():
+    # the lazy table in trapbook/__init__.py is written out (importing api would defeat the
+    # laziness), so it is held to api.__all__ here: a name added to one must reach the other
+    import trapbook
+    from trapbook import api
+
+    assert set(trapbook._API.values()) == set(api.__all__)
+    assert all(callable(getattr(trapbook, name)) for name in trapbook._API)
+
+
 def test_import_trapbook_is_fast_and_lazy():
     code = "import sys, trapbook; print('trapbook.api' in sys.modules, 'pydantic' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()
