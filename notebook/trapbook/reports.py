@@ -308,7 +308,6 @@ def heat_map_html(mx: dict | None) -> str:
 def screen_report_html(nb, screen_id: str) -> str:
     """A screen on one page: structures, yield map, per-level summaries, failures, strain plot, runs."""
     from . import review
-    from .chemistry import molecules
 
     rv = review.review_screen(nb, screen_id)
     screen = nb.get_screen(screen_id)
@@ -335,6 +334,25 @@ def screen_report_html(nb, screen_id: str) -> str:
             f"<p><b>Best run:</b> {e(b['run_id'])} — {e(', '.join(f'{k} {v}' for k, v in b['factors'].items()))}: "
             f"{b['yield_pct']:.0f} % ({e(b['yield_kind'])})" + (f" <i>{e(b['note'])}</i>" if b.get("note") else "") + "</p>"
         )
+    body += _screen_levels_html(rv) + _screen_failed_html(rv) + _screen_strain_html(nb, runs)
+    body.append(
+        "<h2>Runs</h2><table><tr><th>run</th><th>conditions</th><th>status</th><th>isolated (%)</th><th>NMR (%)</th><th>dr</th><th>ee (%)</th></tr>"
+    )
+    for r in rv["rows"]:
+        body.append(
+            f"<tr><td>{e(r['run_id'])}</td><td>{e(', '.join(f'{k} {v}' for k, v in r['factors'].items() if v))}</td>"
+            f"<td>{e(r['status'])}</td><td class='n'>{fmt_pct(r['isolated_yield_pct'], '')}</td>"
+            f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
+            f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>"
+        )
+    body.append("</table>")
+    body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs, nb)]
+    return _page(f"{rv['screen_id']} {rv['name']}", body)
+
+
+def _screen_levels_html(rv: dict) -> list[str]:
+    """Per level of each condition, isolated and NMR summaries side by side (never averaged together)."""
+    body: list[str] = []
     body.append(
         "<h2>By level</h2><table><tr><th>condition</th><th>level</th><th>runs</th><th>mean isolated (%)</th>"
         "<th>best isolated (%)</th><th>mean NMR (%)</th><th>best NMR (%)</th></tr>"
@@ -349,6 +367,12 @@ def screen_report_html(nb, screen_id: str) -> str:
                 f"<td class='n'>{fmt_pct(s['nmr']['best_pct'], '')}</td></tr>"
             )
     body.append("</table>")
+    return body
+
+
+def _screen_failed_html(rv: dict) -> list[str]:
+    """The failed runs with the findings that may explain them, or a plain 'none'."""
+    body: list[str] = []
     body.append("<h2>Runs that failed</h2>")
     if rv["failed"]:
         body.append("<ul>")
@@ -360,6 +384,15 @@ def screen_report_html(nb, screen_id: str) -> str:
         body.append("</ul>")
     else:
         body.append("<p>None.</p>")
+    return body
+
+
+def _screen_strain_html(nb, runs: list) -> list[str]:
+    """The whole notebook's strain-against-outcome plot with this screen's intermediate marked."""
+    body: list[str] = []
+    from . import review
+    from .chemistry import molecules
+
     smap = review.strain_map(nb)
     highlight = None
     for run in runs[:1]:
@@ -374,19 +407,7 @@ def screen_report_html(nb, screen_id: str) -> str:
         f"<figure>{strain_plot_svg(smap, highlight)}</figure>",
         f"<p class='meta'>{e(smap['ranking']['method'])}</p>",
     ]
-    body.append(
-        "<h2>Runs</h2><table><tr><th>run</th><th>conditions</th><th>status</th><th>isolated (%)</th><th>NMR (%)</th><th>dr</th><th>ee (%)</th></tr>"
-    )
-    for r in rv["rows"]:
-        body.append(
-            f"<tr><td>{e(r['run_id'])}</td><td>{e(', '.join(f'{k} {v}' for k, v in r['factors'].items() if v))}</td>"
-            f"<td>{e(r['status'])}</td><td class='n'>{fmt_pct(r['isolated_yield_pct'], '')}</td>"
-            f"<td class='n'>{fmt_pct(r['nmr_yield_pct'], '')}</td><td>{e(r['dr'] or '—')}</td>"
-            f"<td class='n'>{fmt_pct(r['ee_pct'], '')}</td></tr>"
-        )
-    body.append("</table>")
-    body += ["<h2>Raw outcome data</h2>", screen_raw_rows_html(runs, nb)]
-    return _page(f"{rv['screen_id']} {rv['name']}", body)
+    return body
 
 
 def write_report(nb, ref: str, output: str | Path) -> dict:

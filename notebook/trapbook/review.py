@@ -78,53 +78,7 @@ def review_screen(nb, screen_id: str) -> dict:
             factors.setdefault(k, [])
             if v not in factors[k]:
                 factors[k].append(v)
-    rows = []
-    for run in runs:
-        y = _yields(run)
-        found = findings_for(nb, run)
-        row = {
-            "run_id": run.id,
-            "title": run.title,
-            "status": run.status,
-            "factors": {k: run.factors.get(k) for k in factors},
-            **y,
-            "findings": [
-                {"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")
-            ],
-        }
-        row["yield_pct"], row["yield_kind"] = (None, None) if y["yield_problem"] else amounts.headline_yield(run)
-        rows.append(row)
-
-    levels: dict[str, dict[str, dict]] = {}
-    for name, lv in factors.items():
-        levels[name] = {}
-        for level in lv:
-            mine = [r for r in rows if r["factors"].get(name) == level]
-            iso = [(r["isolated_yield_pct"], r["run_id"]) for r in mine if r["isolated_yield_pct"] is not None]
-            nmr = [(r["nmr_yield_pct"], r["run_id"]) for r in mine if r["nmr_yield_pct"] is not None]
-            head = [(r["yield_pct"], r["run_id"]) for r in mine if r["yield_pct"] is not None]
-            levels[name][level] = {
-                "runs": [r["run_id"] for r in mine],
-                "isolated": _summary(iso),
-                "nmr": _summary(nmr),
-                "headline": _summary(head),
-            }
-
-    done = [r for r in rows if r["yield_pct"] is not None]
-    best = max(done, key=lambda r: (r["yield_pct"], r["run_id"])) if done else None
-    best_out = None
-    if best is not None:
-        kinds = {r["yield_kind"] for r in done if r["yield_kind"] in ("isolated", "NMR")}
-        best_out = {
-            "run_id": best["run_id"],
-            "title": best["title"],
-            "factors": best["factors"],
-            "yield_pct": best["yield_pct"],
-            "yield_kind": best["yield_kind"],
-            "note": None
-            if len(kinds) == 1
-            else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield",
-        }
+    rows = [_row(nb, run, factors) for run in runs]
     failed = [
         {
             "run_id": r["run_id"],
@@ -144,12 +98,69 @@ def review_screen(nb, screen_id: str) -> dict:
         "description": screen.description,
         "factors": factors,
         "rows": rows,
-        "levels": levels,
-        "best": best_out,
+        "levels": _levels(rows, factors),
+        "best": _best(rows),
         "failed": failed,
         "not_done": planned,
         "matrix": matrix(rows, factors),
         "yield_rule": "headline yield = isolated if recorded, else NMR; level means are also given per kind",
+    }
+
+
+def _row(nb, run, factors: dict[str, list[str]]) -> dict:
+    """One run of the screen: its levels, yields (headline by `amounts.headline_yield`, the one
+    rule every view uses) and the stop/warn findings that may explain it."""
+    y = _yields(run)
+    found = findings_for(nb, run)
+    row = {
+        "run_id": run.id,
+        "title": run.title,
+        "status": run.status,
+        "factors": {k: run.factors.get(k) for k in factors},
+        **y,
+        "findings": [
+            {"code": f.code, "severity": f.severity, "message": f.message} for f in found if f.severity in ("stop", "warn")
+        ],
+    }
+    row["yield_pct"], row["yield_kind"] = (None, None) if y["yield_problem"] else amounts.headline_yield(run)
+    return row
+
+
+def _levels(rows: list[dict], factors: dict[str, list[str]]) -> dict[str, dict[str, dict]]:
+    """Per level of each condition: its runs and the isolated, NMR and headline summaries kept apart."""
+    levels: dict[str, dict[str, dict]] = {}
+    for name, lv in factors.items():
+        levels[name] = {}
+        for level in lv:
+            mine = [r for r in rows if r["factors"].get(name) == level]
+            iso = [(r["isolated_yield_pct"], r["run_id"]) for r in mine if r["isolated_yield_pct"] is not None]
+            nmr = [(r["nmr_yield_pct"], r["run_id"]) for r in mine if r["nmr_yield_pct"] is not None]
+            head = [(r["yield_pct"], r["run_id"]) for r in mine if r["yield_pct"] is not None]
+            levels[name][level] = {
+                "runs": [r["run_id"] for r in mine],
+                "isolated": _summary(iso),
+                "nmr": _summary(nmr),
+                "headline": _summary(head),
+            }
+    return levels
+
+
+def _best(rows: list[dict]) -> dict | None:
+    """The run with the highest headline yield, with a note when the screen mixes yield kinds."""
+    done = [r for r in rows if r["yield_pct"] is not None]
+    if not done:
+        return None
+    best = max(done, key=lambda r: (r["yield_pct"], r["run_id"]))
+    kinds = {r["yield_kind"] for r in done if r["yield_kind"] in ("isolated", "NMR")}
+    return {
+        "run_id": best["run_id"],
+        "title": best["title"],
+        "factors": best["factors"],
+        "yield_pct": best["yield_pct"],
+        "yield_kind": best["yield_kind"],
+        "note": None
+        if len(kinds) == 1
+        else "the screen mixes isolated and NMR yields; the best run is picked on each run's headline yield",
     }
 
 

@@ -216,28 +216,7 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
     if isinstance(value, pint.Quantity):
         q = value
     elif isinstance(value, dict):
-        if set(value) - {"value", "unit"} or "value" not in value:
-            raise UnitError(
-                f"{_label(field)}{shown} is not a quantity",
-                'write it as {"value": 1.5, "unit": "mmol"} or as text such as "1.5 mmol"',
-                field=field,
-            )
-        v = value["value"]
-        unit = value.get("unit") or ""
-        if isinstance(v, bool) or not isinstance(v, (int, float)):
-            raise UnitError(f"{_label(field)}value {shown_input(v)} is not a number", "give a number", field=field)
-        if not isinstance(unit, str):
-            raise UnitError(
-                f"{_label(field)}unit {shown_input(unit)} is not text", f"give a unit such as {examples}", field=field
-            )
-        shown = shown_input(f"{v} {unit}".strip())
-        try:
-            number = float(v)
-        except OverflowError:  # an integer of hundreds of digits
-            raise UnitError(
-                f"{_label(field)}value {shown_input(str(v))} is not a finite number", f"give {words} ({examples})", field=field
-            ) from None
-        q = _build(number, unit, field, shown, examples)
+        q, shown = _from_mapping(value, field, words, examples)
     elif isinstance(value, bool):
         raise UnitError(f"{_label(field)}{shown} is not a quantity", f"give {words} ({examples})", field=field)
     elif isinstance(value, (int, float)):
@@ -263,6 +242,43 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
     if isinstance(mag, complex) or not isinstance(mag, (int, float)) or not math.isfinite(float(mag)):
         raise UnitError(f"{_label(field)}'{shown}' is not a finite number", f"give {words} ({examples})", field=field)
 
+    _check_dimension(q, kind, dim, field, shown, words, examples)
+    if kind == "temperature":
+        kelvin = q.to("K").magnitude
+        if kelvin < 0:
+            raise UnitError(f"{_label(field)}'{shown}' is below absolute zero", "check the sign and unit", field=field)
+    _check_limits(q, kind, field, shown)
+    return q
+
+
+def _from_mapping(value: dict, field: str | None, words: str, examples: str) -> tuple[pint.Quantity, str]:
+    """A stored {"value", "unit"} pair: refused whole if it carries anything else, so a typo'd key never passes as a number."""
+    shown = shown_input(value)
+    if set(value) - {"value", "unit"} or "value" not in value:
+        raise UnitError(
+            f"{_label(field)}{shown} is not a quantity",
+            'write it as {"value": 1.5, "unit": "mmol"} or as text such as "1.5 mmol"',
+            field=field,
+        )
+    v = value["value"]
+    unit = value.get("unit") or ""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        raise UnitError(f"{_label(field)}value {shown_input(v)} is not a number", "give a number", field=field)
+    if not isinstance(unit, str):
+        raise UnitError(f"{_label(field)}unit {shown_input(unit)} is not text", f"give a unit such as {examples}", field=field)
+    shown = shown_input(f"{v} {unit}".strip())
+    try:
+        number = float(v)
+    except OverflowError:  # an integer of hundreds of digits
+        raise UnitError(
+            f"{_label(field)}value {shown_input(str(v))} is not a finite number", f"give {words} ({examples})", field=field
+        ) from None
+    q = _build(number, unit, field, shown, examples)
+    return q, shown
+
+
+def _check_dimension(q: pint.Quantity, kind: str, dim: Any, field: str | None, shown: str, words: str, examples: str) -> None:
+    """The quantity must be of the kind's dimension: 2 mL where a mass belongs is refused, not converted."""
     if dim:
         expected = ureg.parse_expression("1 " + _probe_unit(kind)).dimensionality
         if q.dimensionality != expected:
@@ -281,12 +297,6 @@ def parse_quantity(value: Any, kind: str, field: str | None = None) -> pint.Quan
             got=str(q.dimensionality),
             expected="dimensionless",
         )
-    if kind == "temperature":
-        kelvin = q.to("K").magnitude
-        if kelvin < 0:
-            raise UnitError(f"{_label(field)}'{shown}' is below absolute zero", "check the sign and unit", field=field)
-    _check_limits(q, kind, field, shown)
-    return q
 
 
 def _build(v: float, unit: str, field: str | None, shown: str, examples: str) -> pint.Quantity:
