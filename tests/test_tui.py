@@ -252,10 +252,10 @@ async def test_filter_runs_by_substructure(demo_path):
         screen = app.screen
         for _ in range(100):  # the structure search runs in a worker; wait for its answer
             await pilot.pause(0.1)
-            if screen.answered == f"sub:{core}" or screen.filter_error is not None:
+            if screen.filter_box.answered == f"sub:{core}" or screen.filter_box.error is not None:
                 break
         await pilot.pause(0.2)
-        assert screen.filter_error is None
+        assert screen.filter_box.error is None
         shown = {r["id"] for r in screen.shown}
         table = screen.query_one("#runs")
         assert {table.get_row_at(i)[0] for i in range(table.row_count)} == shown
@@ -272,7 +272,7 @@ async def test_filter_by_trap_name(demo_path):
         await pilot.press("enter")
         for _ in range(100):  # the filter's search runs in a worker; wait for its answer
             await pilot.pause(0.05)
-            if app.screen.answered == "trap:anthracene":
+            if app.screen.filter_box.answered == "trap:anthracene":
                 break
         shown = {r["id"] for r in app.screen.shown}
     with Notebook.open(demo_path) as nb:

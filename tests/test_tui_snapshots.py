@@ -181,3 +181,40 @@ def test_workbench_run_tab_in_a_screen(snap_compare, snap_db, size):
         await settle(pilot)
 
     assert snap_compare(make_app(snap_db), terminal_size=size, run_before=before)
+
+
+def seed_campaign(path) -> None:
+    """A fast-tier campaign of two bridgehead alkenes, one candidate that fails and one unreadable line."""
+    from distributed import Client
+
+    from trapbook import campaign as cp
+    from trapbook.chemistry import conformers
+    from trapbook.store import Notebook
+
+    lines = [
+        "C12=CCC(CC1)CC2 bicyclo[2.2.2]oct-1-ene",
+        "C1=C2CCCC(CC1)C2 bicyclo[3.3.1]non-1-ene",
+        "C1=C2CCC(C1)CC2.[U] no force field for uranium",
+        "C1CC(  not a structure",
+    ]
+    threads = conformers.THREADS
+    with Client(processes=False, n_workers=1, threads_per_worker=1, dashboard_address=":0") as client:
+        with Notebook.open(path) as nb:
+            cp.run_campaign(nb, cp.plan("candidates.txt", tier="fast", precursors=False, lines=lines), client=client)
+    conformers.THREADS = threads
+
+
+@sizes
+def test_campaigns(snap_compare, snap_db, tmp_path, size):
+    """a on the Logbook: the stored campaign, its ranked candidates, the failures with their reasons."""
+    import shutil
+
+    copy = tmp_path / "demo.sqlite"
+    shutil.copy(snap_db, copy)
+    seed_campaign(copy)
+
+    async def before(pilot):
+        await pilot.press("a")
+        await settle(pilot)
+
+    assert snap_compare(make_app(copy), terminal_size=size, run_before=before)

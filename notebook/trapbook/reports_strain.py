@@ -47,12 +47,18 @@ def plot_panels(smap: dict) -> list[dict]:
     return panels
 
 
+def band_shade(k: int, n_bands: int) -> str:
+    """The shade of a kind's k-th class band of n: counted from the top, so the last band (the
+    one that needs a trap most) is always red, whatever the number of classes of the kind."""
+    return _CLASS_SHADES[min(k + len(_CLASS_SHADES) - n_bands, len(_CLASS_SHADES) - 1)]
+
+
 def _shade(ax, bands: list, lo: float, hi: float) -> None:
     for k, (low, high, name) in enumerate(bands):
         x0, x1 = max(lo, low if low is not None else lo), min(hi, high if high is not None else hi)
         if x1 <= x0:
             continue
-        ax.axvspan(x0, x1, color=_CLASS_SHADES[min(k + len(_CLASS_SHADES) - len(bands), len(_CLASS_SHADES) - 1)], zorder=0)
+        ax.axvspan(x0, x1, color=band_shade(k, len(bands)), zorder=0)
         # upright at the top of its band, so narrow neighbouring bands do not write over each other
         ax.text((x0 + x1) / 2, 108, name, fontsize=6, color="#555", rotation=90, ha="center", va="top", zorder=1)
 

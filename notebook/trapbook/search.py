@@ -15,7 +15,7 @@ import sqlite3
 from dataclasses import dataclass, field
 
 from .errors import ChemistryError, TrapbookError
-from .search_query import Query, Range, check_time_limit, query_from_options
+from .search_query import Query, Range, check_limit, check_time_limit, plain_words, query_from_options
 from .search_structures import (  # noqa: F401  (clear_caches, substructure_ids: the benchmark calls them here)
     clear_caches,
     inchikey_ids,
@@ -238,6 +238,57 @@ def _text_hits(nb, text: str) -> dict[str, tuple[float, list[str]]]:
     return {rid: (1.0, ["text: " + snip]) for rid, _, snip in rows}
 
 
+def _name_words(text: str) -> list[str]:
+    return re.findall(r"[^\W_]+", text.casefold())
+
+
+def _names_chemist(word: str, chemist: str) -> bool:
+    """True when the word is the chemist's name or a run of its words ('Iyer', 'S. Iyer'); an
+    initial alone ('S.') names nobody, and part of a word ('Iy') is not a name."""
+    want, have = _name_words(word), _name_words(chemist)
+    if not want or max(len(w) for w in want) < 2:
+        return False
+    return any(have[i : i + len(want)] == want for i in range(len(have) - len(want) + 1))
+
+
+def _named_runs(nb, word: str) -> dict[str, str]:
+    """run id → what matched, for the runs this word names: by id (exactly, any case) or by chemist."""
+    found = {rid: f"id: {rid}" for (rid,) in nb.conn.execute("SELECT id FROM runs WHERE lower(id) = ?", (word.casefold(),))}
+    chemists = [c for (c,) in nb.conn.execute("SELECT DISTINCT chemist FROM runs WHERE chemist IS NOT NULL")]
+    named = [c for c in chemists if _names_chemist(word, c)]
+    if named:
+        marks = ",".join("?" * len(named))
+        for rid, chemist in nb.conn.execute(f"SELECT id, chemist FROM runs WHERE chemist IN ({marks})", named):
+            found.setdefault(rid, f"chemist: {chemist}")
+    return found
+
+
+def _plain_word_hits(nb, text: str) -> dict[str, tuple[float, list[str]]]:
+    """The runs plain words find: the full text as typed, and the runs where every word is in the
+    run's text, its id or its chemist's name (so `TB-0012` and `Iyer` find what a chemist means).
+
+    A run a word names by id or chemist ranks first (score 1); full-text hits keep their relevance.
+    """
+    hits = dict(_text_hits(nb, text))
+    words = plain_words(text)
+    named = [_named_runs(nb, w) for w in words]
+    if not any(named):
+        return hits
+    every: set[str] | None = None
+    for word, by_name in zip(words, named):
+        plain = _fts_query(word)[-1]
+        if not re.search(r"\w", plain):
+            continue  # no word to match (as the plain form of the whole text drops it)
+        by_text = {rid for rid, _, _ in _text_rows(nb, plain)}
+        mine = set(by_name) | by_text
+        every = mine if every is None else every & mine
+    for rid in sorted(every or ()):
+        why = [by_name[rid] for by_name in named if rid in by_name]
+        if why:
+            hits[rid] = (1.0, why + (hits[rid][1] if rid in hits else []))
+    return hits
+
+
 # --- running a query ---------------------------------------------------------------------------
 
 
@@ -276,7 +327,7 @@ def _run_sets(nb, q: Query) -> list[tuple[dict, bool]]:
             )
         )
     if q.text:
-        sets.append((remember(memo, ("text", q.text.strip()), lambda: _text_hits(nb, q.text)), not q.similar))
+        sets.append((remember(memo, ("text", q.text.strip()), lambda: _plain_word_hits(nb, q.text)), not q.similar))
     return sets
 
 
@@ -332,8 +383,8 @@ def _condition_words(q: Query, row: tuple) -> list[str]:
 
 def run_query(nb, q: Query) -> list[Hit]:
     """Runs passing every part of the query, best first (similarity, then text relevance, then id)."""
-    if q.limit is not None and q.limit < 0:
-        raise TrapbookError(f"limit {q.limit} is negative", "give a positive number of results")
+    if q.limit is not None:
+        check_limit(q.limit)
     check_time_limit(q.time_limit_s)
     ensure_indexed(nb)
     where, args = condition_sql(nb, q)

@@ -12,7 +12,8 @@ Typed syntax (the Logbook filter; `keys_markdown()` writes the README's table of
   `yield:50..80`, `time:>=2h`, `date:2026-09` (the whole month), `date:>=2026-09-12`.
   A bare value means "equal to"; a year or month means the whole period.
 - Plain words (and "quoted phrases") are a full-text query over titles, notes, observations
-  and tags, the same as `trapbook search --text`.
+  and tags, the same as `trapbook search --text`; a word that is a run id (`TB-0012`) or a
+  chemist's name (`Iyer`, `"S. Iyer"`) finds that run or that chemist's runs too.
 - An unknown key, a key given twice or a value that cannot be read is a `TrapbookError`
   naming the keys there are, never an empty answer.
 """
@@ -26,6 +27,8 @@ from .errors import TrapbookError
 
 #: Seconds a substructure match may take before the search stops and says so.
 DEFAULT_TIME_LIMIT_S = 5.0
+#: The most results a search may be asked to cap itself at (leave the limit out for every run).
+MAX_LIMIT = 1_000_000
 
 
 @dataclass(frozen=True)
@@ -76,6 +79,10 @@ class Query:
     limit: int | None = None
     include_withdrawn: bool = False
     time_limit_s: float = DEFAULT_TIME_LIMIT_S
+
+    def __post_init__(self) -> None:
+        if self.limit is not None:
+            check_limit(self.limit)
 
     def has_conditions(self) -> bool:
         """True when a summary-row condition (not a structure or text set) is asked for."""
@@ -185,7 +192,10 @@ def keys_markdown() -> str:
     for k in FILTER_KEYS:
         also = "".join(f", `{a}:`" for a in k.aliases)
         rows.append(f"| `{k.name}:`{also} | `{k.example}` | {k.help} | `{k.option}` |")
-    rows.append('| plain words | `glovebox` `"silyl triflate"` | full text of titles, notes, observations and tags | `--text` |')
+    rows.append(
+        '| plain words | `glovebox` `"silyl triflate"` `TB-0012` `Iyer` | full text of titles, notes, observations and tags;'
+        " also a run id, or a chemist's name or surname | `--text` |"
+    )
     return "\n".join(rows)
 
 
@@ -193,12 +203,22 @@ def help_rows() -> list[tuple[str, str]]:
     """(example, meaning) for the filter's help in the terminal UI, from the same table."""
     rows = [(k.example, k.help) for k in FILTER_KEYS]
     rows.append(("glovebox", "plain words: full text of titles, notes, observations and tags"))
+    rows.append(("TB-0012  Iyer", "a plain word also finds a run by its id, or a chemist's runs by name"))
     rows.append(("temp:>100 yield:<20", "parts combine: every one must hold"))
     return rows
 
 
 def _unquote(text: str) -> str:
     return text[1:-1] if len(text) >= 2 and text[0] == text[-1] == '"' else text.strip('"')
+
+
+_PLAIN_WORD = re.compile(r'"[^"]*"?|\S+')
+
+
+def plain_words(text: str) -> list[str]:
+    """The words and "quoted phrases" of a text query, unquoted: each is matched on its own
+    against run ids and chemists' names, where a whole-text match would miss them."""
+    return [w for w in (_unquote(m.group()).strip() for m in _PLAIN_WORD.finditer(text or "")) if w]
 
 
 def parse_query(text: str) -> Query:
@@ -332,6 +352,21 @@ def check_time_limit(seconds) -> float:
             "give e.g. 5 (the default) or 30",
             field="time limit",
             got=seconds,
+        )
+    return value
+
+
+def check_limit(value) -> int:
+    """The most results to return: a whole number from 1 to MAX_LIMIT (a bigger cap means nothing)."""
+    whole = isinstance(value, int) and not isinstance(value, bool)
+    if not whole or not 1 <= value <= MAX_LIMIT:
+        shown = str(value) if not whole or abs(value) < 10**12 else f"{str(value)[:6]}… ({len(str(abs(value)))} digits)"
+        raise TrapbookError(
+            f"limit {shown} is not a whole number from 1 to {MAX_LIMIT}",
+            "give e.g. --limit 20, or leave --limit out to list every matching run",
+            field="limit",
+            got=shown,
+            expected=f"1..{MAX_LIMIT}",
         )
     return value
 

@@ -126,6 +126,13 @@ def _units(mol: Chem.Mol) -> list[tuple]:
 def unassigned_diastereomers(mol: Chem.Mol) -> list[Chem.Mol]:
     """Every diastereomer that can be embedded when stereocentres are left open (one of each
     mirror pair); [] when there is only one, e.g. all centres set or a lone open centre."""
+    kept = embeddable_diastereomers(mol)
+    return kept if len(kept) > 1 else []
+
+
+def embeddable_diastereomers(mol: Chem.Mol) -> list[Chem.Mol]:
+    """The diastereomers of the open stereocentres that embed in 3D, one of each mirror pair
+    (RDKit's tryEmbedding: an isomer that cannot be embedded is taken as non-physical)."""
     opts = StereoEnumerationOptions(
         onlyUnassigned=True, tryEmbedding=True, unique=True, maxIsomers=MAX_DIASTEREOMERS, rand=0xC0FFEE
     )
@@ -139,7 +146,7 @@ def unassigned_diastereomers(mol: Chem.Mol) -> list[Chem.Mol]:
             continue
         seen.add(smi)
         kept.append(iso)
-    return kept if len(kept) > 1 else []
+    return kept
 
 
 def _mirror(mol: Chem.Mol) -> Chem.Mol:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from ..search_query import DEFAULT_TIME_LIMIT_S
+from ..search_query import DEFAULT_TIME_LIMIT_S, MAX_LIMIT
 from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 
 
@@ -29,8 +29,12 @@ from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 @click.option("--screen", help="Runs of this screen (id or name).")
 @click.option("--tag", "tags", multiple=True, help="Runs carrying this tag (repeat for several).")
 @click.option("--finding", help="Runs with this bench-check finding code, e.g. trap-late.")
-@click.option("--text", help="Full-text query over titles, notes, observations and tags (the Logbook filter's plain words).")
-@click.option("--limit", type=int, help="At most this many results.")
+@click.option(
+    "--text",
+    help="Plain words: full text of titles, notes, observations and tags; a word that is a run id (TB-0012) "
+    "or a chemist's name (Iyer) finds those runs too (the Logbook filter's plain words).",
+)
+@click.option("--limit", type=int, help=f"At most this many results (a whole number from 1 to {MAX_LIMIT}).")
 @click.option(
     "--time-limit",
     "time_limit_s",

@@ -85,6 +85,19 @@ def check_amount(text: str) -> tuple[bool, str]:
         return False, _words(exc)
 
 
+def check_measured(text: str) -> tuple[bool, str]:
+    """What was weighed or measured: read by the one rule the run file is (`units.parse_measured`)."""
+    from ..units import measured_kind, parse_measured, shown_input
+
+    try:
+        q = parse_measured(text)
+    except TrapbookError as exc:
+        return False, _words(exc)
+    if q.magnitude <= 0:  # as the line itself refuses it (records.Line), said where it was typed
+        return False, f"'{shown_input(text)}' must be greater than zero"
+    return True, f"weighed as {measured_kind(q)}"
+
+
 def check_form(text: str) -> tuple[bool, str]:
     try:
         kind, _ = which_form(text)

@@ -22,6 +22,10 @@ class FilterAnswered(Message):
         self.error = error
 
 
+class FilterLeft(Message):
+    """The chemist is done with the Logbook's filter box (Enter, Esc or ↓): the run table takes the keys again."""
+
+
 class PreviewReady(Message):
     """The Logbook's preview of a run, worked out (amounts, track, outcome) and ready to show."""
 
@@ -58,15 +62,6 @@ class SidePanelToggled(Message):
         self.in_sight = in_sight
 
 
-class RowCommand(Message):
-    """A row key on a Workbench table tab: 'blank' (a new row), 'remove', 'move' (by delta), 'limiting' or 'expected'."""
-
-    def __init__(self, command: str, delta: int = 0) -> None:
-        super().__init__()
-        self.command = command
-        self.delta = delta
-
-
 class StepKept(Message):
     """Enter on the Steps tab kept a step: new when `index` is None, else the one it changes."""
 
@@ -74,3 +69,120 @@ class StepKept(Message):
         super().__init__()
         self.step = step
         self.index = index
+
+
+class LineKept(Message):
+    """Enter on the Lines tab kept a line: new when `index` is None, else the one it changes."""
+
+    def __init__(self, line: dict, index: int | None) -> None:
+        super().__init__()
+        self.line = line
+        self.index = index
+
+
+class LimitingMarked(Message):
+    """ctrl+l on the Lines tab: line `index` marked limiting (every equiv refers to it), or unmarked."""
+
+    def __init__(self, index: int, marked: bool) -> None:
+        super().__init__()
+        self.index = index
+        self.marked = marked
+
+
+class RowRemoved(Message):
+    """ctrl+r on a table tab: row `index` of the run's `rows` ('lines', 'steps' or 'products') is to go."""
+
+    def __init__(self, rows: str, index: int) -> None:
+        super().__init__()
+        self.rows = rows
+        self.index = index
+
+
+class RowMoved(Message):
+    """ctrl+↑/↓ on a table tab: row `index` of the run's `rows` changes places with row `to`."""
+
+    def __init__(self, rows: str, index: int, to: int) -> None:
+        super().__init__()
+        self.rows = rows
+        self.index = index
+        self.to = to
+
+
+class RunFieldChanged(Message):
+    """A box of the Run tab changed: the run's `key` is now `value` (tags a list, factors a dict)."""
+
+    def __init__(self, key: str, value: Any) -> None:
+        super().__init__()
+        self.key = key
+        self.value = value
+
+
+class ResultKept(Message):
+    """Enter on the Outcome tab kept a product result: new when `index` is None, else the one it changes."""
+
+    def __init__(self, entry: dict, index: int | None) -> None:
+        super().__init__()
+        self.entry = entry
+        self.index = index
+
+
+class RunOutcomeTyped(Message):
+    """A run-wide box of the Outcome tab changed: each field as it now reads (None: empty or refused)."""
+
+    def __init__(self, values: dict[str, str | None]) -> None:
+        super().__init__()
+        self.values = values
+
+
+class ExpectedPicked(Message):
+    """ctrl+t on the Outcome tab picked an expected product: its product line (added if the run has
+    none with that SMILES) becomes the product of the result being written."""
+
+    def __init__(self, name: str, smiles: str) -> None:
+        super().__init__()
+        self.name = name
+        self.smiles = smiles
+
+
+class SpectrumWorked(Message):
+    """The spectra behind a run's qNMR results, processed again from their records in a worker:
+    for each, (product, attachment name, spectrum, integration, stored qNMR) or (product, name, error)."""
+
+    def __init__(self, key: str, found: list[tuple]) -> None:
+        super().__init__()
+        self.key = key
+        self.found = found
+
+
+class CampaignProgress(Message):
+    """A campaign running in a worker moved on: tasks done, failed and left, or a new stage in words."""
+
+    def __init__(self, campaign_id: str | None, done: int, failed: int, left: int, stage: str | None = None) -> None:
+        super().__init__()
+        self.campaign_id = campaign_id
+        self.done = done
+        self.failed = failed
+        self.left = left
+        self.stage = stage
+
+
+class CampaignEnded(Message):
+    """A campaign's worker is done: its summary (run_campaign's), or the error that stopped it, or stopped on request."""
+
+    def __init__(self, campaign_id: str | None, summary: dict | None, error: Any = None, stopped: bool = False) -> None:
+        super().__init__()
+        self.campaign_id = campaign_id
+        self.summary = summary
+        self.error = error
+        self.stopped = stopped
+
+
+class CampaignTableReady(Message):
+    """A stored campaign's record and ranked rows (campaign.campaign_table), read off the UI thread."""
+
+    def __init__(self, key: str, record: dict | None, rows: list[dict], error: Any = None) -> None:
+        super().__init__()
+        self.key = key
+        self.record = record
+        self.rows = rows
+        self.error = error

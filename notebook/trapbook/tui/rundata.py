@@ -62,3 +62,73 @@ def plan_from(stored: dict) -> dict:
     data["date"] = _dt.date.today().isoformat()
     data["title"] = f"Plan from {stored.get('id', 'earlier run')}: {stored.get('title', '')}"[:300]
     return data
+
+
+def build_run(nb, data: dict):
+    """The run as typed, with 'rt' and 'overnight' in this notebook's meaning.
+
+    Saving goes through here, so the Workbench prepares a run for the store with the same
+    core step as the CLI (`settings.in_lab_words`); a line's preview in the Lines tab goes
+    through it too, so what a line comes to while typed is what will be saved.
+    """
+    from ..records import load_run
+    from ..settings import in_lab_words
+
+    return in_lab_words(nb, load_run(clean(data)))
+
+
+def with_line(data: dict, line: dict, index: int | None) -> dict:
+    """A copy of the run with `line` added (index None) or put in place of line `index`.
+
+    One limiting line: a line that takes the mark takes it from every other. Renaming a line
+    renames it in the steps that add it and the product results that name it, since line
+    names are the run's handles.
+    """
+    data = copy.deepcopy(data)
+    lines = data.setdefault("lines", [])
+    if line.get("limiting"):
+        for other in lines:
+            other.pop("limiting", None)
+        data.pop("limiting", None)
+    if index is None:
+        lines.append(line)
+        return data
+    old = lines[index].get("name")
+    if not line.get("limiting") and old and (data.get("limiting") or "").casefold() == old.casefold():
+        data.pop("limiting", None)  # unticked: the run-level mark goes too
+    lines[index] = line
+    if old and old != line["name"]:
+        for step in data.get("steps", []):
+            step["add"] = [line["name"] if n == old else n for n in step.get("add", [])]
+        for p in (data.get("outcome") or {}).get("products", []):
+            if p.get("product") == old:
+                p["product"] = line["name"]
+    return data
+
+
+def is_limiting(data: dict, index: int) -> bool:
+    """Whether line `index` carries the limiting mark, on the line or by name on the run."""
+    line = data["lines"][index]
+    return bool(line.get("limiting")) or (data.get("limiting") or "").casefold() == str(line.get("name", "")).casefold()
+
+
+def with_limiting(data: dict, index: int, marked: bool) -> dict:
+    """A copy of the run with line `index` marked limiting (and no other), or with no mark at all."""
+    data = copy.deepcopy(data)
+    for other in data.get("lines", []) if marked else [data["lines"][index]]:
+        other.pop("limiting", None)
+    data.pop("limiting", None)
+    if marked:
+        data["lines"][index]["limiting"] = True
+    return data
+
+
+def with_step(data: dict, step: dict, index: int | None) -> dict:
+    """A copy of the run with `step` added (index None) or put in place of step `index`."""
+    data = copy.deepcopy(data)
+    steps = data.setdefault("steps", [])
+    if index is None or index >= len(steps):
+        steps.append(step)
+    else:
+        steps[index] = step
+    return data

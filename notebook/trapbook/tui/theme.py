@@ -64,15 +64,21 @@ ROLES = {
 }
 
 
-def _variables() -> tuple[dict[str, str], str]:
-    """The running app's theme variables (the dark theme's when no app runs, as in a unit test)."""
+def _running_app():
     from textual._context import active_app
 
     try:
-        app = active_app.get()
+        return active_app.get()
     except LookupError:
-        return DARK.to_color_system().generate(), "trapbook-dark"
-    return app.theme_variables or app.get_css_variables(), app.theme
+        return None
+
+
+def _variables(app) -> dict[str, str]:
+    """The theme variables of the app's current theme (the dark theme's when no app runs, as in a
+    unit test). Worked out from the theme itself: right after a switch the app's stored variables
+    are still the old theme's until its stylesheet is refreshed, and a colour cached then would
+    stay wrong."""
+    return app.get_css_variables() if app is not None else DARK.to_color_system().generate()
 
 
 _cache: dict[tuple[str, str], str] = {}
@@ -80,9 +86,10 @@ _cache: dict[tuple[str, str], str] = {}
 
 def tone(role: str) -> str:
     """The colour of a role in the running theme, as a Rich colour (alpha blended onto the ground)."""
-    variables, theme_name = _variables()
-    key = (theme_name, role)
+    app = _running_app()
+    key = (app.theme if app is not None else DARK.name, role)
     if key not in _cache:
+        variables = _variables(app)
         ground = Color.parse(variables["background"])
         colour = Color.parse(variables[ROLES[role]])
         _cache[key] = ground.blend(colour.with_alpha(1.0), colour.a).hex

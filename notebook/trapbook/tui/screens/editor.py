@@ -15,38 +15,44 @@ import json
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import Horizontal
 from textual.screen import Screen
-from textual.widgets import Checkbox, DataTable, Header, Input, Static, TabbedContent, TabPane
+from textual.widgets import Header, Input, Static, TabbedContent
 
 from ...errors import StaleVersionError, TrapbookError
-from ..messages import RowCommand, StrainDone
-from ..outcome_form import PRODUCT_FIELDS
-from ..rundata import form_data, plan_from
+from ..messages import (
+    ExpectedPicked,
+    LimitingMarked,
+    LineKept,
+    ResultKept,
+    RowMoved,
+    RowRemoved,
+    RunFieldChanged,
+    RunOutcomeTyped,
+    StepKept,
+    StrainDone,
+)
+from ..outcome_form import with_product_line, with_result, with_result_moved, with_run_outcome, without_result
+from ..rundata import form_data, plan_from, with_limiting, with_line, with_step
 from ..widgets.bench_side import BenchSide
-from ..widgets.field import Field, FormCheck
 from ..widgets.keybar import KeyBar
-from ..widgets.row_tabs import LinesTab, OutcomeTab
+from ..widgets.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTab  # noqa: F401  (for tests)
+from ..widgets.outcome_tab import OutcomeTab
+from ..widgets.run_tab import MAX_FACTORS, RUN_FIELDS, RunTab  # noqa: F401  (for tests)
 from ..widgets.steps_tab import StepsTab
-from .workbench.lines_tab import LINE_COLUMNS, LINE_FIELDS, LinesTabMixin  # noqa: F401  (LINE_COLUMNS: for tests)
 from .workbench.live import LiveRunMixin
-from .workbench.outcome_tab import OUTCOME_FIELDS, PRODUCT_CHECKS, PRODUCT_COLUMNS, OutcomeTabMixin
-from .workbench.repaint import RepaintMixin
-from .workbench.rows import TabRowsMixin
-from .workbench.run_tab import MAX_FACTORS, RUN_FIELDS, RunTabMixin
-from .workbench.steps_tab import StepsTabMixin
 from .workbench.strain_panel import StrainPanelMixin
 
 NEW_DRAFT = "draft:new"
 
 
-class WorkbenchScreen(
-    RunTabMixin, LinesTabMixin, StepsTabMixin, OutcomeTabMixin, StrainPanelMixin, TabRowsMixin, LiveRunMixin, RepaintMixin, Screen
-):
+class WorkbenchScreen(StrainPanelMixin, LiveRunMixin, Screen):
     """The run editor: its layout, keys and event routing, and opening, saving and leaving a run.
 
-    Each tab's form, the strain card, the live rebuild and the row keys are mixins from
-    `screens/workbench/`; the state they share is set up here.
+    The Run, Lines, Steps and Outcome tabs are widgets (widgets/run_tab.py, lines_tab.py,
+    steps_tab.py, outcome_tab.py) that own their forms and keys and post what they keep; the
+    screen puts it into the run it holds and hands the tabs the rebuilt run. The live rebuild
+    and the strain card are mixins from `screens/workbench/`; the state they share is set up here.
     """
 
     BINDINGS = [  # in order of importance: the footer shows the first that fit, f1 lists them all
@@ -69,11 +75,7 @@ class WorkbenchScreen(
         self.base_version: int | None = None
         self.data: dict = {}
         self.original = ""
-        self.line_index: int | None = None
-        self.product_index: int | None = None
         self.provisional = False
-        self.screens: dict = {}
-        self.factor_names: list[str] = []
         self.run = None
         self.table = None
         self.findings: list | None = None
@@ -87,50 +89,18 @@ class WorkbenchScreen(
 
     # --- layout -----------------------------------------------------------------
     def compose(self) -> ComposeResult:
-        self.screens = {sc.id: sc for sc in self.nb.list_screens()}
         yield Header()
         with Horizontal(id="bench"):
             with TabbedContent(id="tabs", initial="tab-lines"):
-                with TabPane("Run F2", id="tab-run"):
-                    with VerticalScroll(classes="form"):
-                        for key, label, ph, check, sugg in RUN_FIELDS:
-                            if key == "screen":
-                                yield Field(label, "run-screen", ph, self.check_screen, sorted(self.screens))
-                                yield Static("", id="factor-hint", classes="form-note")
-                                for i in range(MAX_FACTORS):
-                                    yield Field("", f"fac-{i}", "", None, None)
-                            else:
-                                yield Field(label, f"run-{key}", ph, check, sugg)
-                with LinesTab("Lines F3", id="tab-lines"):
-                    yield DataTable(id="lines", cursor_type="row", cell_padding=0)
-                    yield Static("", id="line-head", classes="form-head")
-                    with Vertical(classes="form"):
-                        for key, label, ph, check, sugg in LINE_FIELDS:
-                            yield Field(label, f"line-{key}", ph, check, sugg)
-                        yield FormCheck("limiting line: the other lines' equiv refer to it", id="line-limiting")
-                    yield Static("", id="line-msg", classes="form-msg")
+                yield RunTab("Run F2", {sc.id: sc for sc in self.nb.list_screens()}, id="tab-run")
+                yield LinesTab("Lines F3", id="tab-lines")
                 yield StepsTab("Steps F4", id="tab-steps")
-                with OutcomeTab("Outcome F5", id="tab-outcome"):
-                    with VerticalScroll(id="outcome-scroll"):
-                        yield DataTable(id="products", cursor_type="row", cell_padding=0)
-                        yield Static("", id="prod-head", classes="form-head")
-                        with Vertical(classes="form"):
-                            for key, label, ph in PRODUCT_FIELDS:
-                                yield Field(label, f"prod-{key}", ph, PRODUCT_CHECKS.get(key), None)
-                        yield Static("", id="prod-msg", classes="form-msg")
-                        yield Static("For the run as a whole", classes="form-head form-title")
-                        with Vertical(classes="form"):
-                            for key, label, ph, check, sugg in OUTCOME_FIELDS:
-                                yield Field(label, f"out-{key}", ph, check, sugg)
-                        yield Static("", id="yields")
+                yield OutcomeTab("Outcome F5", id="tab-outcome")
             yield BenchSide(id="bench-side")
         yield Static("", id="status")
         yield KeyBar()
 
     def on_mount(self) -> None:
-        products = self.query_one("#products", DataTable)
-        for label, width in PRODUCT_COLUMNS:
-            products.add_column(label, width=width)
         self.fit_name_column()
         self.load()
         self.query_one("#line-role", Input).focus()
@@ -156,19 +126,107 @@ class WorkbenchScreen(
         self.call_after_refresh(self.fit_name_column)
         self.call_after_refresh(self.recompute)
 
-    def on_row_command(self, message: RowCommand) -> None:
-        """A table tab's row key: done here, on the run the screen holds (rows.py, lines_tab.py)."""
+    # --- what the tabs post ------------------------------------------------------
+    @property
+    def run_tab(self) -> RunTab:
+        return self.query_one(RunTab)
+
+    @property
+    def lines_tab(self) -> LinesTab:
+        return self.query_one(LinesTab)
+
+    @property
+    def steps_tab(self) -> StepsTab:
+        return self.query_one(StepsTab)
+
+    @property
+    def outcome_tab(self) -> OutcomeTab:
+        return self.query_one(OutcomeTab)
+
+    def on_run_field_changed(self, message: RunFieldChanged) -> None:
         message.stop()
-        if message.command == "blank":
-            self.action_blank()
-        elif message.command == "remove":
-            self.action_remove()
-        elif message.command == "move":
-            self.action_move(message.delta)
-        elif message.command == "limiting":
-            self.action_limiting()
-        elif message.command == "expected":
-            self.action_expected()
+        self.data[message.key] = message.value
+        self.changed()
+
+    def on_line_kept(self, message: LineKept) -> None:
+        message.stop()
+        self.take_in(with_line(self.data, message.line, message.index))
+
+    def on_step_kept(self, message: StepKept) -> None:
+        message.stop()
+        self.take_in(with_step(self.data, message.step, message.index))
+
+    def on_limiting_marked(self, message: LimitingMarked) -> None:
+        message.stop()
+        self.take_in(with_limiting(self.data, message.index, message.marked))
+
+    def on_row_removed(self, message: RowRemoved) -> None:
+        message.stop()
+        if message.rows == "products":  # the results live in the run's outcome
+            self.take_in(without_result(self.data, message.index))
+            return
+        rows = self.data.setdefault(message.rows, [])
+        if 0 <= message.index < len(rows):
+            rows.pop(message.index)
+            self.changed()
+            self.recompute()
+
+    def on_row_moved(self, message: RowMoved) -> None:
+        message.stop()
+        if message.rows == "products":
+            self.take_in(with_result_moved(self.data, message.index, message.to))
+            return
+        rows = self.data.setdefault(message.rows, [])
+        i, j = message.index, message.to
+        if 0 <= i < len(rows) and 0 <= j < len(rows):
+            rows[i], rows[j] = rows[j], rows[i]
+            self.recompute()
+            self.changed()
+
+    def take_in(self, data: dict) -> None:
+        """The run with a row a tab kept: the panels follow, the draft is kept."""
+        self.data = data
+        self.changed()
+        self.recompute()
+
+    def commit_line(self, focus: bool = True) -> bool:
+        """Keep the line in the Lines tab's form now (before a save or on leaving), if it is complete."""
+        line, index = self.lines_tab.take(focus)
+        if line is not None:
+            self.take_in(with_line(self.data, line, index))
+        return line is not None
+
+    def commit_step(self, focus: bool = True) -> bool:
+        """Keep the step in the Steps tab's form now, if it is complete."""
+        step, index = self.steps_tab.take(focus)
+        if step is not None:
+            self.take_in(with_step(self.data, step, index))
+        return step is not None
+
+    def on_result_kept(self, message: ResultKept) -> None:
+        message.stop()
+        self.take_in(with_result(self.data, message.entry, message.index))
+
+    def commit_product(self, focus: bool = True) -> bool:
+        """Keep the product result in the Outcome tab's form now, if it is complete."""
+        entry, index = self.outcome_tab.take(focus)
+        if entry is not None:
+            self.take_in(with_result(self.data, entry, index))
+        return entry is not None
+
+    def on_run_outcome_typed(self, message: RunOutcomeTyped) -> None:
+        message.stop()
+        self.data = with_run_outcome(self.data, message.values)
+        self.changed()
+
+    def on_expected_picked(self, message: ExpectedPicked) -> None:
+        """The picked product's line (added when the run has none with its SMILES) is the new result's product."""
+        message.stop()
+        data, name, added = with_product_line(self.data, message.name, message.smiles)
+        if added:
+            self.notify(f"Added the product line '{name}' ({message.smiles}).", title="Product line", markup=False)
+        self.take_in(data)
+        self.outcome_tab.start_result(name)
 
     def on_strain_done(self, message: StrainDone) -> None:
         """The side panel's strain computation finished: keep what it found and rebuild."""
@@ -182,7 +240,6 @@ class WorkbenchScreen(
     def repaint_colours(self) -> None:
         """After a change of theme: every panel drawn again in the new colours."""
         self.__dict__.pop("_shown", None)
-        self.__dict__.pop("_table_rows", None)
         self.recompute()
 
     @property
@@ -220,11 +277,11 @@ class WorkbenchScreen(
             if self.run_id and draft.get("base_version"):
                 self.base_version = draft["base_version"]
             self.notify(f"Restored your unsaved draft from {str(draft.get('saved', ''))[:16]}.", title="Draft")
-        self.fill_run_fields()
-        self.fill_outcome_fields()
-        self.blank_line()
-        self.blank_step()
-        self.blank_product(focus=False)
+        self.run_tab.fill(self.data)
+        self.outcome_tab.fill(self.data)
+        self.lines_tab.blank(focus=True)
+        self.steps_tab.blank()
+        self.outcome_tab.blank()
         self.recompute()
 
     # --- drafts -----------------------------------------------------------------
@@ -242,56 +299,6 @@ class WorkbenchScreen(
             self._draft_timer = None
         if self.nb.get_setting(self.draft_key) is not None:
             self.nb.set_setting(self.draft_key, None)
-
-    # --- events of the forms and tables -----------------------------------------
-    @on(Input.Changed)
-    def _input_changed(self, event: Input.Changed) -> None:
-        fid = event.input.id or ""
-        row = event.input.parent
-        if isinstance(row, Field):
-            row.run_check()
-        if self._loading:
-            return
-        if fid.startswith("run-"):
-            self.set_run_field(fid[4:], event.value)
-        elif fid.startswith("fac-"):
-            self.set_factor(row, event.value)
-        elif fid.startswith("line-"):
-            self.preview_line()
-        elif fid.startswith("prod-"):
-            self.preview_product()
-        elif fid.startswith("out-"):
-            self.apply_outcome()
-
-    @on(Input.Submitted)
-    def _submitted(self, event: Input.Submitted) -> None:
-        fid = event.input.id or ""
-        if fid.startswith("line-"):
-            self.commit_line()
-        elif fid.startswith("prod-"):
-            self.commit_product()
-        elif fid.startswith(("run-", "out-", "fac-")):
-            self.focus_next()
-
-    @on(FormCheck.Submitted)
-    def _box_submitted(self, event: FormCheck.Submitted) -> None:
-        if event.box.id == "line-limiting":
-            self.commit_line()
-
-    @on(Checkbox.Changed)
-    def _box_changed(self, event: Checkbox.Changed) -> None:
-        if self._loading:
-            return
-        if event.checkbox.id == "line-limiting":
-            self.preview_line()
-
-    @on(DataTable.RowSelected, "#lines")
-    def _line_selected(self, event: DataTable.RowSelected) -> None:
-        self.edit_line(int(event.row_key.value))
-
-    @on(DataTable.RowSelected, "#products")
-    def _product_selected(self, event: DataTable.RowSelected) -> None:
-        self.edit_product(int(event.row_key.value))
 
     # --- tabs -------------------------------------------------------------------
     def _active(self) -> str:
@@ -317,9 +324,9 @@ class WorkbenchScreen(
         Enter forgotten must not lose it, and a half-written row must not be saved silently.
         """
         forms_ = (
-            ("line", "Lines", self.line_form, self.commit_line, lambda: self.line_index),
-            ("step", "Steps", self.step_form, self.commit_step, lambda: self.step_index),
-            ("product result", "Outcome", self.product_form, self.commit_product, lambda: self.product_index),
+            ("line", "Lines", self.lines_tab.form, self.commit_line, lambda: self.lines_tab.index),
+            ("step", "Steps", self.steps_tab.form, self.commit_step, lambda: self.steps_tab.index),
+            ("product result", "Outcome", self.outcome_tab.form, self.commit_product, lambda: self.outcome_tab.index),
         )
         kept = []
         for what, tab, form, commit, index in forms_:
@@ -345,10 +352,10 @@ class WorkbenchScreen(
             return
         screen_text = (self.data.get("screen") or "").strip()
         if screen_text:
-            sc = self.find_screen(screen_text)
+            sc = self.run_tab.find_screen(screen_text)
             if sc is None:
                 self.notify(
-                    f"No screen '{screen_text}' in this notebook: give one of {', '.join(sorted(self.screens)) or '(none)'} "
+                    f"No screen '{screen_text}' in this notebook: give one of {', '.join(sorted(self.run_tab.screens)) or '(none)'} "
                     "or leave Screen blank (Run tab, f2).",
                     title="Not saved",
                     severity="error",
@@ -419,11 +426,6 @@ class WorkbenchScreen(
         A kept row only loaded into its form (to look at or change) counts once it differs.
         """
 
-        def with_step(step: dict) -> dict:
-            steps = list(self.data.get("steps", []))
-            steps[self.step_index] = step
-            return {**self.data, "steps": steps}
-
         def plain(value):  # an unticked box reads the same as one never set
             if isinstance(value, dict):
                 return {k: plain(v) for k, v in value.items() if v not in (False, None, "")}
@@ -431,9 +433,9 @@ class WorkbenchScreen(
 
         same = plain(self.data)
         for (row, why), index, apply in (
-            (self.line_form(), self.line_index, self.with_line),
-            (self.step_form(), self.step_index, with_step),
-            (self.product_form(), self.product_index, self.with_product),
+            (self.lines_tab.form(), self.lines_tab.index, lambda row: with_line(self.data, row, self.lines_tab.index)),
+            (self.steps_tab.form(), self.steps_tab.index, lambda row: with_step(self.data, row, self.steps_tab.index)),
+            (self.outcome_tab.form(), self.outcome_tab.index, lambda row: with_result(self.data, row, self.outcome_tab.index)),
         ):
             if index is None and (row is not None or why):
                 return True
@@ -455,9 +457,9 @@ class WorkbenchScreen(
     def _leave_answer(self, answer: str | None) -> None:
         if answer == "keep":
             for form, commit in (
-                (self.line_form, self.commit_line),
-                (self.step_form, self.commit_step),
-                (self.product_form, self.commit_product),
+                (self.lines_tab.form, self.commit_line),
+                (self.steps_tab.form, self.commit_step),
+                (self.outcome_tab.form, self.commit_product),
             ):
                 if form()[0] is not None:  # a complete row still in its form goes into the draft
                     commit(focus=False)

@@ -30,6 +30,7 @@ LONGER = {
     "Remove": "Remove the row under the cursor (line, step or product result)",
     "New row": "Empty the form for a new line, step or product result",
     "Limiting": "Mark the line under the cursor limiting: equiv and yields refer to it (again: unmark)",
+    "To the table": "Back to the run table (Enter too: it searches at once, then goes back)",
 }
 
 
@@ -44,7 +45,11 @@ def _key_text(b: Binding) -> str:
 def key_table() -> Group:
     from ...search_query import help_rows as filter_help_rows
     from ..app import TrapbookApp
-    from ..widgets.row_tabs import LinesTab, OutcomeTab, RowsTab
+    from ..widgets.lines_tab import LinesTab
+    from ..widgets.logbook_filter import LogbookFilter
+    from ..widgets.outcome_tab import OutcomeTab
+    from ..widgets.row_tabs import RowsTab
+    from .campaign import CampaignScreen
     from .dialogs import LeaveDialog, ReasonDialog
     from .editor import WorkbenchScreen
     from .history import TrailScreen
@@ -54,12 +59,14 @@ def key_table() -> Group:
     screens = [
         ("Everywhere", TrapbookApp),
         ("Logbook (runs)", LogbookScreen),
+        ("Logbook filter box (/)", LogbookFilter),
         ("Workbench (run editor)", WorkbenchScreen),
         ("Workbench tables (Lines, Steps, Outcome tabs)", RowsTab),
         ("Workbench Lines tab", LinesTab),
         ("Workbench Outcome tab", OutcomeTab),
         ("Screen board (review)", BoardScreen),
         ("Version trail (history)", TrailScreen),
+        ("Campaigns (a)", CampaignScreen),
         ("Leaving with unsaved changes", LeaveDialog),
         ("Reason for a change", ReasonDialog),
     ]
@@ -70,7 +77,7 @@ def key_table() -> Group:
         t.add_column(style=f"bold {tone('attention')}", width=16)
         t.add_column()
         for k, d in rows:
-            t.add_row(k, d)
+            t.add_row(Text(k), Text(d))  # plain text: a SMARTS such as c1cc[nH]c1 is not markup
         parts.extend([Text(title, style=f"bold {tone('accent')} underline"), t, Text("")])
 
     for title, cls in screens:

@@ -12,7 +12,7 @@ from rich.text import Text
 from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import Horizontal, VerticalScroll
 from textual.screen import Screen
 from textual.widgets import Header, ProgressBar, Static
 
@@ -21,6 +21,7 @@ from ..text import shown
 from ..theme import tone
 from ..widgets.heatgrid import grid
 from ..widgets.keybar import KeyBar
+from ..widgets.plot_labels import axis_ticks, canvas_size, label_plan
 
 
 def best_text(review: dict) -> Text:
@@ -65,9 +66,12 @@ def plotted_kinds(strain_map: dict) -> list[str]:
     return sorted(with_points)
 
 
-def plot_note(strain_map: dict, kind: str | None, pts: list[dict], n_kinds: int) -> Text:
-    """Under the plot: what is missing, this kind's Spearman rho (never one across kinds), the method."""
+def plot_note(strain_map: dict, kind: str | None, pts: list[dict], n_kinds: int, legend: list[str] = ()) -> Text:
+    """Under the plot: the names that did not fit beside their points, what is missing, this
+    kind's Spearman rho (never one across kinds), the method."""
     text = Text()
+    if legend:
+        text.append("\n".join(legend) + "\n", style=tone("accent"))
     missing = strain_map.get("missing_strain") or []
     if missing:
         text.append(
@@ -83,6 +87,8 @@ def plot_note(strain_map: dict, kind: str | None, pts: list[dict], n_kinds: int)
         text.append(f"Spearman ρ = {rk['spearman_rho']:.2f} over {rk['n']} {kind} intermediates. ", style="bold")
     elif kind:
         text.append(f"No ρ for {kind}: needs at least 3 intermediates with a strain and a yield, not all tied. ", style="italic")
+    if any(e["strain_tier"] == "accurate" for e in pts):
+        text.append("● = accurate tier. ", style=f"italic {tone('muted')}")
     if any(e["strain_tier"] != "accurate" for e in pts):
         text.append("○ = fast-tier prescreen, not classed. ", style=f"italic {tone('warn')}")
     methods = sorted({e.get("strain_method") for e in pts if e.get("strain_method")})
@@ -116,9 +122,13 @@ class BoardScreen(Screen):
         self.map: dict | None = None
         self.kinds: list[str] = []
         self.kind_index = 0
+        #: The kind and points the plot shows: drawn again at a new size (names placed for it).
+        self.plotted: tuple[str | None, list[dict]] = (None, [])
+        #: The names the plot had no room for, as the note says them.
+        self.legend: list[str] | None = None
 
     def compose(self) -> ComposeResult:
-        from textual_plotext import PlotextPlot
+        from ..widgets.strain_plot import StrainPlot  # loads plotext: only when the board is opened
 
         yield Header()
         yield Static("", id="board-title")
@@ -126,8 +136,8 @@ class BoardScreen(Screen):
             with VerticalScroll(id="board-left"):
                 yield Static("", id="heat")
                 yield Static("", id="best")
-            with Vertical(id="board-right"):
-                yield PlotextPlot(id="strain-plot")
+            with VerticalScroll(id="board-right"):  # the plot keeps its least height; the note scrolls
+                yield StrainPlot(id="strain-plot")
                 yield Static("", id="plot-note")
                 yield ProgressBar(id="fill-progress", show_eta=False)
         yield KeyBar()
@@ -185,11 +195,26 @@ class BoardScreen(Screen):
             for e in self.map["intermediates"]
             if e["kind"] == kind and e["strain_kcal_mol"] is not None and e["best_yield_pct"] is not None
         ]
-        self.draw(kind, pts)
+        self.plotted = (kind, pts)
+        self.legend = None
         note.update(plot_note(self.map, kind, pts, len(self.kinds)))
+        self.query_one("#strain-plot").replot(self.draw_at)
 
-    def draw(self, kind: str | None, pts: list[dict]) -> None:
-        """One kind's points: its own strain quantity on x; a prescreen (fast tier) drawn hollow."""
+    def draw_at(self, size) -> None:
+        """The plot for its present size (the names are placed in its cells), and the note with
+        the names that found no room (said after the plot is drawn: the note's height moves it)."""
+        kind, pts = self.plotted
+        legend = self.draw(kind, pts, size)
+        if legend != self.legend:
+            self.legend = legend
+            note = plot_note(self.map, kind, pts, len(self.kinds), legend)
+            self.call_later(self.query_one("#plot-note", Static).update, note)
+
+    def draw(self, kind: str | None, pts: list[dict], size) -> list[str]:
+        """One kind's points: its own strain quantity on x; a prescreen (fast tier) drawn hollow.
+
+        Each name is written beside its point where it touches no other name (plot_labels);
+        the names that find no room are returned as legend lines for the note."""
         from ...stability import quantity_of
 
         plot = self.query_one("#strain-plot")
@@ -200,29 +225,28 @@ class BoardScreen(Screen):
         plt.title(f"best yield vs {quantity}: {kind}" if kind else "best yield vs strain")
         plt.xlabel(f"{quantity.split(' (')[0]} (kcal/mol)")
         plt.ylabel("best yield %")
+        legend: list[str] = []
         if pts:
-            for accurate, marker, label in ((True, "●", "accurate tier"), (False, "○", "prescreen (fast tier)")):
+            for accurate, marker in ((True, "●"), (False, "○")):  # the note says which is which
                 some = [e for e in pts if (e["strain_tier"] == "accurate") == accurate]
                 if some:
                     plt.scatter(
-                        [e["strain_kcal_mol"] for e in some],
-                        [e["best_yield_pct"] for e in some],
-                        marker=marker,
-                        color="orange",
-                        label=label,
+                        [e["strain_kcal_mol"] for e in some], [e["best_yield_pct"] for e in some], marker=marker, color="orange"
                     )
             xs = [e["strain_kcal_mol"] for e in pts]
-            lo, hi = min(xs), max(xs)
-            span = (hi - lo) or 1.0
-            for e in pts:
-                label = (e.get("name") or e["smiles"]).replace("bicyclo", "")
-                x = e["strain_kcal_mol"]
-                # the label sits just above its point, so the marker stays visible; near an edge
-                # it grows inwards so it is not cut off by the frame
-                side = "left" if x - lo < 0.25 * span else "right" if hi - x < 0.25 * span else "center"
-                plt.text(label, x, min(e["best_yield_pct"] + 6, 98), color="cyan", alignment=side)
-            plt.ylim(0, 100)
-        plot.refresh()
+            pad = 0.08 * (max(xs) - min(xs)) or 1.0  # points kept off the frame
+            xlim, ylim = (min(xs) - pad, max(xs) + pad), (0.0, 100.0)
+            plt.xlim(*xlim)
+            plt.ylim(*ylim)
+            plt.xticks(*axis_ticks(xlim, canvas_size(size.width, size.height)[0]))
+            names = [
+                (shown(e.get("name") or e["smiles"]).replace("bicyclo", ""), e["strain_kcal_mol"], e["best_yield_pct"])
+                for e in pts
+            ]
+            placed, legend = label_plan(names, size.width, size.height, xlim, ylim)
+            for label in placed:
+                plt.text(label.text, label.x, label.y, color="cyan", alignment="left")
+        return legend
 
     def action_kind(self, delta: int) -> None:
         if len(self.kinds) > 1:

@@ -1,11 +1,9 @@
 """Logbook: every run in the notebook, sortable and filterable, with a preview.
 
-The filter box reads the query language of `trapbook search` (search_query.py: `trap:furan`,
-`temp:>100`, `sub:c1cc[nH]c1`, plain words for the full text, ...). The screen only parses
-the text and shows the runs the core's search returns; it never matches rows itself, so
-the filter and the CLI give the same runs. The search runs in a worker, with its own
-notebook connection, so typing never waits for RDKit; a text that cannot be read is said
-in the status line (with the keys there are) and filters nothing.
+The filter box (widgets/logbook_filter.py) reads the query language of `trapbook search`
+and asks the core's search for the runs; the screen only shows the runs its answer names
+(`FilterAnswered`), so the filter and the CLI give the same runs. The screen never matches
+rows itself.
 """
 
 from __future__ import annotations
@@ -19,12 +17,10 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Header, Input, Static
 
 from ...errors import TrapbookError
-from ...search_query import Query, parse_query
-from ..messages import FilterAnswered, PreviewReady
+from ..messages import FilterAnswered, FilterLeft, PreviewReady
 from ..text import clip, minutes_text, temp_text, worst_text, yield_text
-from ..text import shown as stored_text
-from ..theme import tone
 from ..widgets.keybar import KeyBar
+from ..widgets.logbook_filter import LogbookFilter
 
 #: (row key, header, width) of the run table.
 COLUMNS = (
@@ -96,9 +92,9 @@ class LogbookScreen(Screen):
         Binding("S", "reverse", "Reverse", show=False),
         Binding("h", "history", "History"),
         Binding("b", "board", "Screen board"),
+        Binding("a", "campaigns", "Campaigns"),
         Binding("p", "toggle_preview", "Preview"),
         Binding("m", "more", "More rows", show=False),
-        Binding("escape", "leave_filter", "Back to table", show=False),
         Binding("q", "app.quit", "Quit", show=False),
     ]
 
@@ -108,22 +104,13 @@ class LogbookScreen(Screen):
         self.shown: list[dict] = []
         self.sort_index = 0
         self.sort_reverse = False
-        #: The filter text being answered (None: ask again, the rows may have changed).
-        self.filter_text: str | None = None
-        self.filter_query: Query | None = None
-        #: The runs of the last answer, and the text it answers (kept on screen while a new one is found).
-        self.found_ids: set[str] | None = None
-        self.answered: str | None = None
-        #: Why the filter text filters nothing: it cannot be read, or the search refused it.
-        self.filter_error: TrapbookError | None = None
         self.limit = PAGE
         self.columns = COLUMNS
         self.shown_before = False
 
     def compose(self) -> ComposeResult:
         yield Header()
-        yield Input(placeholder="/ filter: words · trap:furan · finding:trap-late · sub:SMILES or SMARTS", id="filter")
-        yield Static("", id="filter-status")
+        yield LogbookFilter(id="logbook-filter")
         table = DataTable(id="runs", cursor_type="row", zebra_stripes=False, cell_padding=0)
         yield table
         with Vertical(id="preview-box"):
@@ -173,6 +160,10 @@ class LogbookScreen(Screen):
 
     # --- data -------------------------------------------------------------------
     @property
+    def filter_box(self) -> LogbookFilter:
+        return self.query_one(LogbookFilter)
+
+    @property
     def nb(self):
         return self.app.nb
 
@@ -202,7 +193,7 @@ class LogbookScreen(Screen):
             self.rows = [{**r, "id": r["ref"]} for r in self.app.group.list_runs()]
         else:
             self.rows = self.nb.list_runs()
-        self.filter_text = None  # runs may have changed since the last answer
+        self.filter_box.ask_again()  # runs may have changed since the last answer
         self.apply(select=select)
 
     def apply(self, select: str | None = None, force: bool = False) -> None:
@@ -211,9 +202,6 @@ class LogbookScreen(Screen):
         While a new filter text is being searched the old answer stays; the table is refilled
         only when the rows it would list differ (a refill and its redraw slow the search).
         """
-        text = self.query_one("#filter", Input).value.strip()
-        if text != self.filter_text:
-            self.start_filter(text)
         self.shown = shown = self.filtered_rows()
         filled = (id(self.rows), self.columns, tuple(r["id"] for r in shown))
         if not force and select is None and filled == getattr(self, "_filled", None):
@@ -246,25 +234,11 @@ class LogbookScreen(Screen):
             table.add_row(*cells(r, self.columns), key=r["id"])
         self.show_status()
 
-    def start_filter(self, text: str) -> None:
-        """Read the filter text into a Query and ask the core for its runs (in a worker)."""
-        self.filter_text, self.filter_query, self.filter_error = text, None, None
-        if not text:
-            self.found_ids, self.answered = None, ""
-            return
-        try:
-            self.filter_query = parse_query(text)
-        except TrapbookError as exc:
-            self.filter_error = exc
-            return
-        self.run_filter(text, self.filter_query)
-
     def filtered_rows(self) -> list[dict]:
         """The rows of the runs the core's answer names; every row when there is no answer to show."""
         rows = self.sorted_rows()
-        if not self.filter_text or self.filter_error is not None or self.found_ids is None:
-            return list(rows)
-        return [r for r in rows if r["id"] in self.found_ids]
+        found = self.filter_box.run_ids
+        return list(rows) if found is None else [r for r in rows if r["id"] in found]
 
     def sorted_rows(self) -> list[dict]:
         """Every row in the chosen order, sorted once per order and read of the rows, not per keystroke."""
@@ -277,51 +251,19 @@ class LogbookScreen(Screen):
         return cached[1]
 
     def show_status(self) -> None:
-        """Counts and sort order; what the filter is doing; an unreadable filter in words (no markup)."""
-        status = self.query_one("#filter-status", Static)
+        """Counts and sort order, said on the filter's status line (which adds what the filter is doing)."""
         arrow = "▼" if self.sort_reverse else "▲"
-        msg = Text()
-        if self.filter_error is not None:
-            exc = self.filter_error
-            msg.append(f"filter not applied: {stored_text(exc.message)}", style=f"bold {tone('warn')}")
-            msg.append(f" · {stored_text(exc.hint)}" if exc.hint else "")
-            msg.append(" · ")
-        msg.append(f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}")
+        msg = f"{len(self.shown)} of {len(self.rows)} runs · sorted by {COLUMNS[self.sort_index][1]} {arrow}"
         if len(self.shown) > self.limit:
-            msg.append(f" · first {self.limit} listed, more as you scroll (m)")
-        if self.filter_error is None and self.filter_text and self.answered != self.filter_text:
-            msg.append(f" · searching for {stored_text(self.filter_text)} …")
-        elif self.filter_error is None and self.filter_query is not None and self.filter_query.substructure:
-            msg.append(f" · structures searched for {stored_text(self.filter_query.substructure)}")
-        status.update(msg)
-
-    @work(thread=True, exclusive=True, group="filter", exit_on_error=False)
-    def run_filter(self, text: str, query: Query) -> None:
-        """The core's search, on a connection of its own; the answer (or the refusal) goes back to the screen."""
-        from ... import search
-        from ...group import open_member
-        from ...store import Notebook
-
-        try:
-            if self.in_group:  # the same Query on every member (the group's connections are read-only)
-                ids = {h["ref"] for h in self.app.group.search(query)}
-            else:
-                with open_member(self.nb.path) if self.app.read_only else Notebook.open(self.nb.path) as nb:
-                    ids = {h.run_id for h in search.search(nb, query)}
-        except TrapbookError as exc:
-            self.post_message(FilterAnswered(text, None, exc))
-            return
-        except Exception as exc:  # shown in the status line as the failure it is, never as "no runs"
-            failure = TrapbookError(f"the search failed ({type(exc).__name__}: {exc})", "please report it")
-            self.post_message(FilterAnswered(text, None, failure))
-            return
-        self.post_message(FilterAnswered(text, ids))
+            msg += f" · first {self.limit} listed, more as you scroll (m)"
+        self.filter_box.show(msg)
 
     def on_filter_answered(self, message: FilterAnswered) -> None:
-        if message.text != self.filter_text:
-            return  # the text changed meanwhile; its own answer is on the way
-        self.found_ids, self.answered, self.filter_error = message.run_ids, message.text, message.error
+        """The filter's answer is in: the table lists the runs it names (every run when it names none)."""
         self.apply()
+
+    def on_filter_left(self, message: FilterLeft) -> None:
+        self.query_one("#runs", DataTable).focus()
 
     # --- preview ----------------------------------------------------------------
     def current_id(self) -> str | None:
@@ -382,22 +324,8 @@ class LogbookScreen(Screen):
             self.query_one("#preview", Static).update(message.content)
 
     # --- filter -----------------------------------------------------------------
-    @on(Input.Changed, "#filter")
-    def _filter_changed(self) -> None:
-        if getattr(self, "_filter_timer", None) is not None:
-            self._filter_timer.stop()
-        self._filter_timer = self.set_timer(0.12, self.apply)
-
-    @on(Input.Submitted, "#filter")
-    def _filter_submitted(self) -> None:
-        self.apply()
-        self.query_one("#runs", DataTable).focus()
-
     def action_focus_filter(self) -> None:
-        self.query_one("#filter", Input).focus()
-
-    def action_leave_filter(self) -> None:
-        self.query_one("#runs", DataTable).focus()
+        self.filter_box.focus_box()
 
     @on(DataTable.HeaderSelected, "#runs")
     def _header(self, event: DataTable.HeaderSelected) -> None:
@@ -450,6 +378,11 @@ class LogbookScreen(Screen):
         rid = self.current_id()
         if rid:
             self.app.push_screen(TrailScreen(self.pick(rid)))
+
+    def action_campaigns(self) -> None:
+        from .campaign import show_campaigns
+
+        show_campaigns(self.app)
 
     def action_board(self) -> None:
         from .review import BoardScreen

@@ -1,17 +1,18 @@
 """The Workbench's table tabs (Lines, Steps, Outcome): each owns the keys that act on its rows.
 
 A tab holds a table of rows and the form that writes one row at a time; its keys — a new
-row, remove, move up or down, and on the Lines tab the limiting mark — work while the focus
-is anywhere in it, and post a `RowCommand` that the screen carries out on the run it holds.
-The footer shows them only where they work.
+row, remove, move up or down — work while the focus is anywhere in it, and the footer shows
+them only where they work. A new row clears the tab's form; removing or moving a row posts
+`RowRemoved` or `RowMoved`, naming the run's rows the tab shows (`rows_key`), for the screen
+to do on the run it holds.
 """
 
 from __future__ import annotations
 
 from textual.binding import Binding
-from textual.widgets import TabPane
+from textual.widgets import DataTable, Input, TabPane
 
-from ..messages import RowCommand
+from ..messages import RowMoved, RowRemoved
 
 
 class RowsTab(TabPane):
@@ -24,21 +25,73 @@ class RowsTab(TabPane):
         Binding("ctrl+down", "row('move', 1)", "Move row down", show=False),
     ]
 
+    #: Which of the run's row lists the table shows: "lines", "steps" or "products" (the outcome's results).
+    rows_key: str = ""
+    _rows: list[list] | None = None  # the cells the table shows now
+
     def action_row(self, command: str, delta: int = 0) -> None:
-        self.post_message(RowCommand(command, delta))
+        if command == "blank":
+            self.blank()
+            self.focus_form()
+        elif command == "remove":
+            self.remove_row()
+        elif command == "move":
+            self.move_row(delta)
 
+    # --- what each tab gives ----------------------------------------------------------------
+    @property
+    def table(self) -> DataTable:
+        return self.query_one(DataTable)
 
-class LinesTab(RowsTab):
-    """The Lines tab: its rows, and the mark of the limiting line that every equiv refers to."""
+    def rows(self) -> list:
+        """The rows the table shows, as the screen last handed them."""
+        raise NotImplementedError
 
-    BINDINGS = [
-        Binding("ctrl+l", "row('limiting')", "Limiting"),
-    ]
+    def row_label(self, index: int) -> str:
+        """How a notice names row `index` ("line 2 (furan)")."""
+        raise NotImplementedError
 
+    def blank(self) -> None:
+        """Clear the form: it writes a new row."""
+        raise NotImplementedError
 
-class OutcomeTab(RowsTab):
-    """The Outcome tab: its rows, and the run's expected products to pick a result from."""
+    def fill(self, rows: list[list]) -> None:
+        """Refill the table only if its rows changed (each refill costs a layout), keeping the cursor where it was."""
+        if rows == self._rows:
+            return
+        self._rows = rows
+        table = self.table
+        keep = table.cursor_row
+        table.clear()
+        for i, cells in enumerate(rows):
+            table.add_row(*cells, key=str(i))
+        if table.row_count:
+            table.move_cursor(row=min(max(keep, 0), table.row_count - 1), animate=False)
 
-    BINDINGS = [
-        Binding("ctrl+t", "row('expected')", "Expected products"),
-    ]
+    # --- the row keys -------------------------------------------------------------------
+    def focus_form(self) -> None:
+        """The focus to the form's first box."""
+        self.query(Input).first().focus()
+
+    def cursor_index(self) -> int | None:
+        """The row under the table's cursor (None: no rows)."""
+        count = len(self.rows())
+        return min(max(self.table.cursor_row, 0), count - 1) if count else None
+
+    def remove_row(self) -> None:
+        i = self.cursor_index()
+        if i is None:
+            return
+        label = self.row_label(i)
+        self.blank()
+        self.focus_form()
+        self.post_message(RowRemoved(self.rows_key, i))
+        self.notify(f"Removed {label}.", markup=False)
+
+    def move_row(self, delta: int) -> None:
+        """The cursor goes ahead to where the row will be; the table follows once the screen moved it."""
+        i = self.cursor_index()
+        if i is None or not 0 <= i + delta < len(self.rows()):
+            return
+        self.table.move_cursor(row=i + delta, animate=False)
+        self.post_message(RowMoved(self.rows_key, i, i + delta))

@@ -2,10 +2,10 @@
 
 A step names the lines it adds (by number, name or role), its temperature, hold and
 addition time; the table marks the steps where the trap and the fluoride enter. The tab
-owns its form and its row keys: it checks a step against the run's lines (so 'reflux' is
-the boiling point of the run's solvent), says what it will keep while it is typed, and
-posts `StepKept` when Enter keeps it. The screen puts the step into the run and shows the
-tab the run's steps and lines again (`show`).
+owns its form and its row keys (widgets/row_tabs.py): it checks a step against the run's
+lines (so 'reflux' is the boiling point of the run's solvent), says what it will keep while
+it is typed, and posts `StepKept` when Enter keeps it. The screen puts the step into the
+run and shows the tab the run's steps and lines again (`show`).
 """
 
 from __future__ import annotations
@@ -37,12 +37,13 @@ STEP_COLUMNS = (("#", 3), ("adds", 27), ("T", 9), ("hold", 7), ("over", 7), ("se
 class StepsTab(RowsTab):
     """The steps table and the form that writes one step; `index` is the step being changed."""
 
+    rows_key = "steps"
+
     def __init__(self, title: str, **kwargs) -> None:
         super().__init__(title, **kwargs)
         self.index: int | None = None
         self.steps: list[dict] = []
         self.lines: list[dict] = []
-        self._rows: list[list] | None = None
         self._loading = False
 
     def compose(self) -> ComposeResult:
@@ -83,16 +84,13 @@ class StepsTab(RowsTab):
                     " ".join(marks),
                 ]
             )
-        if rows == self._rows:
-            return
-        self._rows = rows
-        table = self.query_one("#steps", DataTable)
-        keep = table.cursor_row
-        table.clear()
-        for i, cells in enumerate(rows):
-            table.add_row(*cells, key=str(i))
-        if table.row_count:
-            table.move_cursor(row=min(max(keep, 0), table.row_count - 1), animate=False)
+        self.fill(rows)
+
+    def rows(self) -> list[dict]:
+        return self.steps
+
+    def row_label(self, index: int) -> str:
+        return f"step {index + 1}"
 
     def form(self) -> tuple[dict | None, str | None]:
         """(step, None), (None, why not), or (None, None) for an empty form."""

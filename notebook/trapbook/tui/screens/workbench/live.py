@@ -11,15 +11,29 @@ from __future__ import annotations
 import json
 
 from rich.text import Text
-from textual.widgets import Input
+from textual.widgets import Static
 
 from ....errors import TrapbookError
-from ...rundata import clean
+from ...rundata import build_run
 from ...theme import tone
+
+#: The side panel's width beside the tabs (app.tcss `#bench-side`).
+SIDE_WIDTH = 44
 
 
 class LiveRunMixin:
     """Rebuild the run from `self.data` and refresh every computed panel and the status line."""
+
+    def put(self, selector: str, content, key=None, layout: bool = True) -> None:
+        """Update a Static only when what it shows changed: every keystroke rebuilds the run, and
+        each repaint costs a layout (`repaint_colours` forgets what was shown, to draw it anew)."""
+        if key is None:
+            key = content.markup if isinstance(content, Text) else content
+        shown = self.__dict__.setdefault("_shown", {})
+        if shown.get(selector) == key:
+            return
+        shown[selector] = key
+        self.query_one(selector, Static).update(content, layout=layout)
 
     def changed(self) -> None:
         if self._recompute_timer is not None:
@@ -34,16 +48,8 @@ class LiveRunMixin:
         return json.dumps(self.data, sort_keys=True) != self.original
 
     def build(self, data: dict | None = None):
-        """The run as typed, with 'rt' and 'overnight' in this notebook's meaning.
-
-        Saving goes through here, so the Workbench prepares a run for the store with the same
-        core step as the CLI (`settings.in_lab_words`), and the live amounts and checks already
-        show what will be saved.
-        """
-        from ....records import load_run
-        from ....settings import in_lab_words
-
-        return in_lab_words(self.nb, load_run(clean(data if data is not None else self.data)))
+        """The run as typed, as it will be saved (`rundata.build_run`): the live amounts and checks show that."""
+        return build_run(self.nb, data if data is not None else self.data)
 
     def recompute(self) -> None:
         """Rebuild the run from the form and refresh every computed panel."""
@@ -63,10 +69,9 @@ class LiveRunMixin:
                 self.findings = self._findings()
             except TrapbookError as exc:
                 self.findings, table_problem = [], exc.message
-        self.refresh_lines()
-        self.refresh_steps()
-        self.refresh_products()
-        self.refresh_yields()
+        self.lines_tab.show(self.data, self.run, self.table)
+        self.steps_tab.show(self.data.get("steps", []), self.data.get("lines", []))
+        self.outcome_tab.show(self.data, self.run, self.table, self.problem, self.run_id)
         from ...widgets.findings import findings_text
         from ...widgets.strain_card import card
         from ...widgets.timeline import track
@@ -88,11 +93,7 @@ class LiveRunMixin:
         found = self.intermediate_found()
         smiles, origin = found if found else (None, None)
         derived = smiles if smiles and not (self.data.get("intermediate") or "").strip() else None
-        if getattr(self, "_derived_shown", None) != derived:
-            self._derived_shown = derived
-            self.query_one("#run-intermediate", Input).placeholder = (
-                f"from precursor: {derived}" if derived else "SMILES of the strained intermediate"
-            )
+        self.run_tab.show_derived(derived)
         self.put(
             "#strain",
             card(smiles, self.strain, self.alignment, self.strain_note, origin),
@@ -147,6 +148,11 @@ class LiveRunMixin:
         if not self.side_in_sight():
             text.append_text(self.checks_summary())
         self.put("#status", text, layout=False)
+
+    def fit_name_column(self) -> None:
+        """The Lines tab's table gets the width the tabs have: the app's, less the side panel beside them."""
+        side_beside = self.has_class("-wide") and not self.has_class("-side-toggled")
+        self.lines_tab.fit(self.app.size.width - (SIDE_WIDTH if side_beside else 0) - 1)  # one for the scroll bar
 
     def side_in_sight(self) -> bool:
         """Whether the addition track and the checks are on the screen (app.tcss, f7)."""

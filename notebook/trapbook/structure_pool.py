@@ -1,0 +1,196 @@
+"""The distinct structures of the notebooks searched together, each once, with its bit strings.
+
+A group's members (group.py) each store their own copy of the structures they share (the
+same traps, substrates, intermediates), so twenty notebooks may hold every structure
+several times over. A pool gives each distinct canonical SMILES one row, whose bits are
+read from the first notebook that holds it (bits depend on the SMILES alone, once made by
+the same fingerprint scheme: rows of another scheme are made again), and keeps for every
+notebook the pool row of each of its structure ids. A query is screened and matched over
+the pool's rows, once; each notebook's answer is read back through its ids. One notebook
+is a pool of one: the same code answers both.
+
+Rows are read with SQLite's aggregates (one string of ids, one string of SMILES, one
+blob of bits per notebook) rather than row by row; the SMILES come from their index (no
+fingerprint page is touched), and a notebook's bits are read only for the structures it
+is the first to hold. Everything is read, never written: the pool lives
+in the memory of the process (search_structures keeps it while the notebooks are unchanged).
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import StoreError
+
+#: The stored bit strings a pool reads: the substructure screen and the similarity fingerprint.
+COLUMNS = ("pattern", "morgan")
+_WORDS = 32  # 2048 bits, the width of both (chemistry/fingerprints.py), as 64-bit words
+
+
+@dataclass
+class Share:
+    """One notebook's part of a pool: its structure ids (in the order read), the pool row of each, and which
+    ids lend their stored bits to their row (the first copy of a structure the pool met)."""
+
+    key: str
+    token: str
+    ids: np.ndarray
+    rows: np.ndarray
+    lends: np.ndarray
+
+
+@dataclass
+class Pool:
+    """Each distinct SMILES of N ≥ 1 notebooks once; one bit matrix per column read so far."""
+
+    shares: dict[str, Share]
+    smiles: list[str]
+    bits: dict[str, np.ndarray] = field(default_factory=dict)
+    answers: dict[tuple, tuple] = field(default_factory=dict)
+
+
+class Moved(Exception):
+    """A notebook's structure rows changed between two reads of one pool (a save from elsewhere)."""
+
+
+def _ids(nb, joined: str | None, n: int | None = None) -> np.ndarray:
+    """Structure ids from SQLite's group_concat (commas), checked against the count expected."""
+    ids = np.fromstring(joined, dtype=np.int64, sep=",") if joined else np.zeros(0, np.int64)
+    if n is not None and len(ids) != n:
+        raise StoreError(
+            f"the structure rows of {nb.path} cannot be read apart ({len(ids)} ids, {n} SMILES)",
+            f"rebuild its search tables: open it on its own and run 'trapbook --db {nb.path} reindex'",
+        )
+    return ids
+
+
+def _read_names(nb) -> tuple[np.ndarray, list[str]]:
+    """(ids, SMILES) of every structure, from the SMILES index: no page of fingerprints is read."""
+    ids, joined = nb.conn.execute("SELECT group_concat(id), group_concat(smiles, char(10)) FROM structures").fetchone()
+    names = joined.split("\n") if joined is not None else []  # a canonical SMILES holds no newline
+    return _ids(nb, ids, len(names)), names
+
+
+def _add_share(index: dict[str, int], smiles: list[str], key: str, token: str, ids: np.ndarray, names: list[str]) -> Share:
+    """Give each new SMILES of a notebook a pool row; structures already met share theirs."""
+    start = len(smiles)
+    if not index:  # the first notebook: all its SMILES are new (a notebook stores each once, UNIQUE)
+        new, rows = names, np.arange(len(names), dtype=np.int64)
+    else:
+        new = [s for s in names if s not in index]
+    index.update(zip(new, range(start, start + len(new))))
+    smiles.extend(new)
+    if start:
+        rows = np.fromiter(map(index.__getitem__, names), dtype=np.int64, count=len(names))
+    return Share(key, token, ids, rows, rows >= start)
+
+
+def read_pool(sources: list[tuple], column: str) -> Pool:
+    """The pool of these (notebook, file key, token) sources, with the bit string `column` read."""
+    if column not in COLUMNS:
+        raise ValueError(f"no stored bit string '{column}'")
+    index: dict[str, int] = {}
+    smiles: list[str] = []
+    shares: dict[str, Share] = {}
+    lent = []
+    for nb, key, token in sources:
+        share = shares[key] = _add_share(index, smiles, key, token, *_read_names(nb))
+        lent.append(_lent_bits(nb, share, smiles, column))
+    pool = Pool(shares, smiles)
+    pool.bits[column] = _assemble(len(smiles), lent)
+    return pool
+
+
+def read_column(pool: Pool, by_key: dict, column: str) -> np.ndarray:
+    """The pool's matrix of `column`, read now if this is the pool's first query of that kind."""
+    have = pool.bits.get(column)
+    if have is not None:
+        return have
+    if column not in COLUMNS:
+        raise ValueError(f"no stored bit string '{column}'")
+    lent = [_lent_bits(by_key[key], share, pool.smiles, column) for key, share in pool.shares.items()]
+    pool.bits[column] = _assemble(len(pool.smiles), lent)
+    return pool.bits[column]
+
+
+def _lent_bits(nb, share: Share, smiles: list[str], column: str) -> tuple[np.ndarray, np.ndarray]:
+    """(pool rows, their bits) for the structures this notebook is the first to hold.
+
+    Where it lends at least half its rows the table is read in one pass (cheaper than
+    looking each id up), else only the ids it lends. The notebook's search token, read
+    again afterwards, must still be the one the share was made under: any write in
+    between (a save from elsewhere) changes it, and the pool is then read again (Moved).
+    A notebook without a token has its SMILES compared instead.
+    """
+    rows = share.rows[share.lends]
+    if not len(rows):
+        return rows, np.zeros((0, _WORDS), np.uint64)
+    ids = share.ids[share.lends]
+    where, args = ("", ()) if 2 * len(ids) >= len(share.ids) else (_BY_ID, (json.dumps(ids.tolist()),))
+    names = ", group_concat(smiles, char(10))" if not share.token else ", NULL"
+    got_ids, low, high, blob, joined = nb.conn.execute(
+        f"SELECT group_concat(id), min(scheme), max(scheme), CAST(group_concat({column}, '') AS BLOB){names} "
+        f"FROM structures{where}",
+        args,
+    ).fetchone()
+    got = _ids(nb, got_ids)
+    order = np.argsort(got, kind="stable")
+    at = order[np.minimum(np.searchsorted(got[order], ids), max(len(got) - 1, 0))] if len(got) else order
+    if not np.array_equal(got[at], ids):
+        raise Moved
+    if share.token:
+        if _token(nb) != share.token:
+            raise Moved
+    else:
+        read = joined.split("\n") if joined is not None else []
+        if [read[i] for i in at.tolist()] != [smiles[r] for r in rows.tolist()]:
+            raise Moved
+    if _made_here(low, high) and len(blob or b"") == len(got) * _WORDS * 8:
+        return rows, np.frombuffer(blob, dtype=np.uint64).reshape(len(got), _WORDS)[at]
+    return rows, _made_again(nb, column, ids, [smiles[r] for r in rows.tolist()])
+
+
+_BY_ID = " WHERE id IN (SELECT value FROM json_each(?))"
+
+
+def _token(nb) -> str:
+    return nb.conn.execute("SELECT token FROM search_token").fetchone()[0]
+
+
+def _made_here(low: str | None, high: str | None) -> bool:
+    """Whether every row read was written under this Trapbook's fingerprint scheme."""
+    from .chemistry import fingerprints
+
+    return low == high == fingerprints.SCHEME
+
+
+def _made_again(nb, column: str, ids: np.ndarray, names: list[str]) -> np.ndarray:
+    """Bits of these structures, row by row: stored ones where made under this fingerprint scheme,
+    else worked out again from the SMILES, in memory (the query's bits are this RDKit's, and a
+    screen is only sound between bits of the same making). Slow; `trapbook reindex` ends it."""
+    from .chemistry import fingerprints
+
+    stored = {
+        sid: data
+        for sid, scheme, data in nb.conn.execute(f"SELECT id, scheme, {column} FROM structures{_BY_ID}", (json.dumps(ids.tolist()),))
+        if scheme == fingerprints.SCHEME and len(data) == _WORDS * 8
+    }
+    words = np.zeros((len(ids), _WORDS), np.uint64)
+    for i, (sid, smi) in enumerate(zip(ids.tolist(), names)):
+        words[i] = np.frombuffer(stored.get(sid) or getattr(fingerprints.structure_bits(smi), column), dtype=np.uint64)
+    return words
+
+
+def _assemble(n: int, lent: list[tuple[np.ndarray, np.ndarray]]) -> np.ndarray:
+    """One matrix of n rows from each notebook's lent rows; every row is filled exactly once."""
+    out = np.zeros((n, _WORDS), dtype=np.uint64)
+    filled = 0
+    for rows, words in lent:
+        out[rows] = words
+        filled += len(rows)
+    if filled != n:  # each distinct structure is lent by exactly one notebook
+        raise StoreError(f"{filled} fingerprints read for {n} distinct structures", "search again")
+    return out
