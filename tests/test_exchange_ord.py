@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import copy
+import json
 
 import molmass
 import pytest
@@ -10,6 +11,7 @@ from google.protobuf import json_format, text_format
 from ord_schema import message_helpers, validations
 from ord_schema import units as ord_units
 from ord_schema.proto import dataset_pb2, reaction_pb2
+from rdkit import Chem
 
 from trapbook import amounts
 from trapbook.errors import ExchangeError
@@ -201,6 +203,29 @@ def test_import_of_a_reaction_built_by_ord_tools(notebook, tmp_path):
     assert any("64 % yield" in n for n in report["notes"])
     # Source: docs/sources.md equiv_i = n_i / n_limiting: 5 mmol furan on 0.5 mmol limiting is 10 equiv
     assert amounts.compute(run).line("furan").equiv == pytest.approx(10.0)
+
+
+def test_a_cxsmiles_identifier_gives_its_structure_and_keeps_its_extension(notebook, tmp_path):
+    # Source: ORD's CompoundIdentifier type CXSMILES (ord_schema reaction.proto): a SMILES followed
+    # by a space and a "|...|" extension; RDKit reads the part before the space as the structure.
+    cx = "C[Si](C)(C)[C@@H]1CCCC[C@H]1OS(=O)(=O)C(F)(F)F |&1:4,9|"
+    rxn = reaction_pb2.Reaction()
+    comp = rxn.inputs["precursor"].components.add()
+    comp.identifiers.add(type=reaction_pb2.CompoundIdentifier.CXSMILES, value=cx)
+    comp.identifiers.add(type=reaction_pb2.CompoundIdentifier.NAME, value="silyl triflate")
+    comp.reaction_role = reaction_pb2.ReactionRole.REACTANT
+    comp.amount.moles.value = 0.2
+    comp.amount.moles.units = reaction_pb2.Moles.MILLIMOLE
+    comp.is_limiting = True
+    ds = dataset_pb2.Dataset(name="x", description="y")
+    ds.reactions.append(rxn)
+    path = tmp_path / "cx.json"
+    path.write_text(json_format.MessageToJson(ds), encoding="utf-8")
+    report = import_path(notebook, path)
+    run = notebook.get_run(report["imported"][0])
+    kept = run.line("silyl triflate").smiles
+    assert Chem.MolToSmiles(Chem.MolFromSmiles(kept)) == Chem.MolToSmiles(Chem.MolFromSmiles(cx.split(" ")[0]))
+    assert any("CXSMILES" in n for n in report["notes"]) or "CXSMILES" in json.dumps(run.model_dump(mode="json"))
 
 
 @pytest.mark.parametrize(

@@ -7,6 +7,7 @@ import json
 import math
 import re
 
+import pytest
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 from rdkit import Chem, RDLogger
@@ -49,6 +50,10 @@ def test_smiles_field_agrees_with_rdkit(smiles):
         assert exc.message
         if _UNPRINTABLE.search(smiles) or len(smiles.strip()) > SMILES_MAX:
             return  # refused by the text rule (or, once stripped, by RDKit): both are named refusals
+        if re.search(r"\s", smiles.strip()):
+            # RDKit reads text after a space as the molecule's name: refused, not read as less than written
+            assert "a space" in exc.message or "U+" in exc.message
+            return
         # Source: RDKit's own parser: what Trapbook refuses is blank or unreadable to RDKit too
         assert not smiles.strip() or Chem.MolFromSmiles(smiles.strip()) is None
         return
@@ -291,3 +296,25 @@ def test_absurd_numbers_anywhere_are_refused_or_finite_and_bounded(path, value):
         assert exc.message and exc.hint
         return
     _accepted_is_clean(run)
+
+
+@pytest.mark.parametrize(
+    "smiles, rdkit_reads",
+    [
+        ("C1CC2CCC1CC2\x00CC", "C1CC2CCC1CC2"),  # RDKit stops at the NUL
+        ("CCO ethanol", "CCO"),  # RDKit takes the rest as the name
+        ("c1ccoc1\tfuran", "c1ccoc1"),
+    ],
+)
+def test_smiles_rdkit_would_read_short_is_refused_by_name(smiles, rdkit_reads):
+    # Source: RDKit's own parser reads only a prefix of these texts (checked here), so keeping
+    # them would store less than the chemist wrote; the refusal names the character.
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is not None:
+        assert Chem.MolToSmiles(mol) == Chem.MolToSmiles(Chem.MolFromSmiles(rdkit_reads))
+    from trapbook.chemistry import molecules
+    from trapbook.errors import ChemistryError
+
+    with pytest.raises(ChemistryError) as caught:
+        molecules.canonical(smiles)
+    assert "position" in caught.value.message and caught.value.hint

@@ -16,6 +16,8 @@ from rdkit import Chem, rdBase
 
 from trapbook.errors import ChemistryError
 
+from . import molecules
+
 BRIDGEHEAD = "bridgehead alkene"
 ALLENE = "cyclic allene"
 ALKYNE = "cycloalkyne"
@@ -70,6 +72,7 @@ def parse(smiles: str) -> Chem.Mol:
     """Parse without RDKit's console chatter; a bad SMILES becomes a ChemistryError."""
     if not isinstance(smiles, str) or not smiles.strip():
         raise ChemistryError("No structure given.", "Enter a SMILES string, e.g. C12=CCCC(CCC1)C2.")
+    molecules.refuse_unsafe(smiles.strip())
     with rdBase.BlockLogs():
         mol = Chem.MolFromSmiles(smiles.strip())
     if mol is None:

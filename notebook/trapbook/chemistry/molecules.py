@@ -7,12 +7,14 @@ molecule, its canonical form, formula, molar mass, InChIKey and a drawing.
 
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 
 from rdkit import Chem, RDLogger
 from rdkit.Chem import Descriptors, rdMolDescriptors
 
 from ..errors import ChemistryError
+from ..text_safety import UNSAFE_IN_A_LINE
 
 RDLogger.DisableLog("rdApp.*")
 
@@ -24,6 +26,7 @@ def parse(smiles: str, what: str = "SMILES") -> Chem.Mol:
     if not isinstance(smiles, str) or not smiles.strip():
         raise ChemistryError(f"{what} is empty", "give a SMILES string such as 'c1ccoc1'")
     text = smiles.strip()
+    refuse_unsafe(text, what)
     if len(text) > MAX_SMILES_LENGTH:
         raise ChemistryError(
             f"{what} is {len(text)} characters long", f"SMILES longer than {MAX_SMILES_LENGTH} characters are not accepted"
@@ -35,6 +38,23 @@ def parse(smiles: str, what: str = "SMILES") -> Chem.Mol:
             "check brackets, ring-closure digits and valences (e.g. furan is 'c1ccoc1')",
         )
     return Chem.Mol(mol)
+
+
+_UNSAFE_IN_SMILES = re.compile(f"[{UNSAFE_IN_A_LINE}\\s]")
+
+
+def refuse_unsafe(text: str, what: str = "SMILES") -> None:
+    """A SMILES is one word of printable characters. RDKit stops reading at a NUL and takes
+    text after a space as the molecule's name, so 'C1CC1\\x00junk' or 'CCO ethanol' would be read
+    as less than was written; refused here, before RDKit sees it, with the character named."""
+    bad = _UNSAFE_IN_SMILES.search(text)
+    if bad:
+        ch = bad.group()
+        name = "a space" if ch == " " else f"the character U+{ord(ch):04X}"
+        raise ChemistryError(
+            f"{what} holds {name} at position {bad.start() + 1}",
+            "a SMILES is one word with no spaces or control characters; put names and notes in their own fields",
+        )
 
 
 def _short(text: str) -> str:

@@ -226,8 +226,12 @@ def identifiers(msg) -> tuple[str | None, str | None, list[str]]:
         tname = type(ident).CompoundIdentifierType.Name(ident.type)
         if tname == "NAME" and name is None:
             name = ident.value.strip() or None
-        elif tname in ("SMILES", "CXSMILES") and smiles is None:
+        elif tname == "SMILES" and smiles is None:
             smiles = ident.value.strip() or None
+        elif tname == "CXSMILES" and smiles is None:
+            # the SMILES before its "|...|" extension is the structure; the whole text is kept beside it
+            smiles = ident.value.strip().split(None, 1)[0] if ident.value.strip() else None
+            other.append(f"{tname} {ident.value[:40]}")
         else:
             other.append(f"{tname} {ident.value[:40]}")
     return name, smiles, other
