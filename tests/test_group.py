@@ -47,6 +47,12 @@ def _sql(path: Path, query: str, args=()) -> list[tuple]:
         conn.close()
 
 
+@pytest.fixture(autouse=True)
+def _pool_files_in_tmp(tmp_path, monkeypatch) -> None:
+    """A group's structure pool files go to this test's own cache folder (structure_pool_file)."""
+    monkeypatch.setenv("TRAPBOOK_CACHE_DIR", str(tmp_path / "cache"))
+
+
 @pytest.fixture(scope="module")
 def lab(tmp_path_factory) -> Path:
     """Two members: alice (the demo notebook, one fast-tier strain result cached) and bob (a copy, named)."""

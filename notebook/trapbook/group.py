@@ -9,7 +9,11 @@ its problems, never silently mixed in.
 
 Every answer labels a run with its member (the file's stem) and its id, because ids such
 as TB-0001 repeat from one notebook to the next. Searches run the one query language
-(`search_query.Query`) on each member through `search.search` and merge the hits; screens
+(`search_query.Query`) on each member through `search.search` and merge the hits; a
+structure query screens the members' distinct structures together, once, under one time
+limit (search_structures: the readable members are one pool, a failing one is not in it;
+the pool is kept in the user's cache folder for the next process, never in a member's
+file: structure_pool_file); screens
 and reports are the single-notebook functions run on the member that holds them. A strain
 result cached by one member serves every other member's runs of the same intermediate:
 the cache key is made of the structure, tier and engine version, not of the notebook.
@@ -45,6 +49,9 @@ class MemberNotebook(Notebook):
         super().__init__(path, conn, write_problem=read_only_problem(path))
         #: The other members' notebooks, asked in order when this one has no cached result.
         self.siblings: list[Notebook] = []
+        #: Every readable member, this one among them: structure searches read their distinct
+        #: structures into one pool and screen it once (search_structures._sources).
+        self.screened_with: tuple[Notebook, ...] = ()
 
     def cache_get(self, key: str) -> dict | None:
         """This notebook's cached result, else the first other member's: a result depends only
@@ -208,6 +215,7 @@ class Group:
         for m in members:
             if m.ok:
                 m.nb.siblings = [o for o in readable if o is not m.nb]
+                m.nb.screened_with = tuple(readable)
 
     @classmethod
     def open(cls, paths: Iterable[str | Path]) -> Group:
@@ -235,6 +243,7 @@ class Group:
     def close(self) -> None:
         for m in self.members:
             if m.nb is not None:
+                m.nb.screened_with = ()  # a member kept after closing is searched alone, not with closed files
                 m.nb.close()
 
     def __enter__(self) -> Group:

@@ -175,7 +175,9 @@ def _made_again(nb, column: str, ids: np.ndarray, names: list[str]) -> np.ndarra
 
     stored = {
         sid: data
-        for sid, scheme, data in nb.conn.execute(f"SELECT id, scheme, {column} FROM structures{_BY_ID}", (json.dumps(ids.tolist()),))
+        for sid, scheme, data in nb.conn.execute(
+            f"SELECT id, scheme, {column} FROM structures{_BY_ID}", (json.dumps(ids.tolist()),)
+        )
         if scheme == fingerprints.SCHEME and len(data) == _WORDS * 8
     }
     words = np.zeros((len(ids), _WORDS), np.uint64)
