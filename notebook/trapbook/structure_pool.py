@@ -18,7 +18,9 @@ in the memory of the process (search_structures keeps it while the notebooks are
 
 from __future__ import annotations
 
+import itertools
 import json
+from collections import defaultdict
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -67,32 +69,51 @@ def _ids(nb, joined: str | None, n: int | None = None) -> np.ndarray:
     return ids
 
 
-def _read_names(nb) -> tuple[np.ndarray, list[str]]:
-    """(ids, SMILES) of every structure, from the SMILES index: no page of fingerprints is read."""
-    ids, joined = nb.conn.execute("SELECT group_concat(id), group_concat(smiles, char(10)) FROM structures").fetchone()
-    names = joined.split("\n") if joined is not None else []  # a canonical SMILES holds no newline
+def _read_names(nb) -> tuple[np.ndarray, list[bytes]]:
+    """(ids, UTF-8 SMILES) of every structure, from the SMILES index: no page of fingerprints is read.
+
+    As bytes: equal bytes are equal SMILES, and only the pool's new ones need to become text.
+    A file that keeps its text in UTF-16 (not one Trapbook made) has its SMILES read as text."""
+    text = "group_concat(smiles, char(10))"
+    utf8 = nb.conn.execute("PRAGMA encoding").fetchone()[0] == "UTF-8"
+    ids, joined = nb.conn.execute(
+        f"SELECT group_concat(id), {f'CAST({text} AS BLOB)' if utf8 else text} FROM structures"
+    ).fetchone()
+    if isinstance(joined, str):
+        joined = joined.encode()
+    names = joined.split(b"\n") if joined is not None else []  # a canonical SMILES holds no newline
     return _ids(nb, ids, len(names)), names
 
 
-def _add_share(index: dict[str, int], smiles: list[str], key: str, token: str, ids: np.ndarray, names: list[str]) -> Share:
-    """Give each new SMILES of a notebook a pool row; structures already met share theirs."""
+def _add_share(index: dict[bytes, int], smiles: list[str], key: str, token: str, ids: np.ndarray, names: list[bytes]) -> Share:
+    """Give each new SMILES of a notebook a pool row; structures already met share theirs.
+
+    `index` numbers a SMILES it has not met yet as it is looked up (a defaultdict over a
+    counter), so each row costs one lookup in C rather than a test and a lookup in Python;
+    the new rows are numbered from `start` in the order this notebook lists them."""
     start = len(smiles)
-    if not index:  # the first notebook: all its SMILES are new (a notebook stores each once, UNIQUE)
-        new, rows = names, np.arange(len(names), dtype=np.int64)
-    else:
-        new = [s for s in names if s not in index]
-    index.update(zip(new, range(start, start + len(new))))
-    smiles.extend(new)
     if start:
         rows = np.fromiter(map(index.__getitem__, names), dtype=np.int64, count=len(names))
-    return Share(key, token, ids, rows, rows >= start)
+        lends = rows >= start
+        smiles.extend([names[i].decode() for i in np.flatnonzero(lends).tolist()])
+    else:  # the first notebook: every SMILES is new, numbered in its order (a pool of one takes this path only)
+        index.update(zip(names, range(len(names))))
+        index.default_factory = itertools.count(len(index)).__next__
+        rows, lends = np.arange(len(names), dtype=np.int64), np.ones(len(names), dtype=bool)
+        smiles.extend(map(bytes.decode, names))
+    if len(smiles) != len(index):  # a notebook stores each SMILES once (UNIQUE): else one row would be lent twice
+        raise StoreError(
+            f"the structure rows of {key} hold a SMILES more than once",
+            f"rebuild its search tables: open it on its own and run 'trapbook --db {key} reindex'",
+        )
+    return Share(key, token, ids, rows, lends)
 
 
 def read_pool(sources: list[tuple], column: str) -> Pool:
     """The pool of these (notebook, file key, token) sources, with the bit string `column` read."""
     if column not in COLUMNS:
         raise ValueError(f"no stored bit string '{column}'")
-    index: dict[str, int] = {}
+    index: dict[bytes, int] = defaultdict(itertools.count().__next__)
     smiles: list[str] = []
     shares: dict[str, Share] = {}
     lent = []

@@ -15,6 +15,7 @@ from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import Screen
 from textual.widgets import DataTable, Header, Input, Static
+from textual.widgets.data_table import CellDoesNotExist
 
 from ...errors import TrapbookError
 from ..messages import FilterAnswered, FilterLeft, PreviewReady
@@ -272,7 +273,7 @@ class LogbookScreen(Screen):
             return None
         try:
             return table.coordinate_to_cell_key(table.cursor_coordinate).row_key.value
-        except Exception:
+        except CellDoesNotExist:  # the cursor sits past the rows while the table refills
             return None
 
     @on(DataTable.RowHighlighted, "#runs")
