@@ -7,11 +7,18 @@ alignment is a task; the tasks are independent, so a LocalCluster on this machin
 single-threaded worker process per core) or a group's scheduler runs them side by side.
 
 Why only the client writes: the notebook is SQLite with one writer. Workers get SMILES
-and return plain dicts; they never learn where the notebook is. The client stores each
-result in the cache as it arrives, so a campaign stopped half-way (Ctrl-C, a killed job)
-resumes by computing only what the cache lacks, and a re-run of a finished campaign
-computes nothing. A failed task is recorded with its reason on its candidate and the rest
-go on.
+and return plain dicts; they never learn where the notebook is. The client stores results
+in the cache as they arrive (one transaction for whatever arrived together), so a campaign
+stopped half-way (Ctrl-C, a killed job) resumes by computing only what the cache lacks, and
+a re-run of a finished campaign computes nothing. A failed task is recorded with its reason
+on its candidate and the rest go on.
+
+Why longest first: task costs differ a hundredfold, and a long task started last keeps one
+worker busy while the others idle; started first, the last to finish are the shortest.
+
+A precursor diastereomer no 3-D structure can be built for (an in/out bridgehead, a double
+bond left at a small bicycle's bridgehead) is no task: the plan names it, and the table shows
+it as one that cannot exist, beside those embedding forced far above their best diastereomer.
 """
 
 from __future__ import annotations
@@ -21,7 +28,8 @@ import json
 import logging
 import os
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import nullcontext
 from dataclasses import dataclass
 
 from .errors import ChemistryError, TrapbookError
@@ -31,6 +39,12 @@ ALIGN_TEMPERATURE_C = 25.0
 RECORD_PREFIX = "campaign:"
 Progress = Callable[[int, int, int], None]
 SCHEDULER_ADDRESS = re.compile(r"^(tcp|tls)://[A-Za-z0-9.\-\[\]:]{1,253}:\d{1,5}$")
+#: why a precursor diastereomer is shown as impossible rather than as a failure of the tool
+NO_STRUCTURE = "this diastereomer cannot exist (no 3-D structure could be built)"
+FORCED_STRUCTURE = (
+    "this diastereomer cannot exist (its best 3-D structure lies {above:.0f} kcal/mol above the precursor's "
+    "best diastereomer: embedding forced it into shape)"
+)
 
 
 # ---------------------------------------------------------------- the plan
@@ -84,10 +98,7 @@ def plan(
         row = cand.to_dict()
         row["precursors"] = []
         if precursors and cand.kind in en.KINDS + ("aryne",):
-            row["precursors"] = [
-                {"smiles": p.smiles, "leaving_group": p.leaving_group, "diastereomers": en.diastereomers_of(p.smiles)}
-                for p in en.precursors_of(cand.smiles, tuple(leaving_groups))
-            ]
+            row["precursors"] = [_precursor_row(p) for p in en.precursors_of(cand.smiles, tuple(leaving_groups))]
         rows.append(row)
     record = {
         "source": source,
@@ -99,6 +110,19 @@ def plan(
     }
     record["id"] = campaign_id(record)
     return record
+
+
+def _precursor_row(precursor) -> dict:
+    """A precursor of the plan: the diastereomers to align, and those that cannot be built."""
+    from .chemistry import enumerate as en
+
+    buildable, impossible = en.diastereomer_split(precursor.smiles)
+    return {
+        "smiles": precursor.smiles,
+        "leaving_group": precursor.leaving_group,
+        "diastereomers": buildable,
+        "impossible_diastereomers": impossible,
+    }
 
 
 def campaign_id(record: dict) -> str:
@@ -124,6 +148,15 @@ def tasks_of(record: dict) -> list[Task]:
         out.append(Task("strain", cand["smiles"], record["tier"], cand["name"]))
         out += [Task("alignment", d, "alignment", cand["name"]) for p in cand["precursors"] for d in p["diastereomers"]]
     return list({t.key: t for t in out}.values())
+
+
+def longest_first(tasks: list[Task]) -> list[Task]:
+    """The tasks in the order workers should start them: the costliest first (estimated from
+    the ring system, the tier and the kind), ties kept in plan order."""
+    from .chemistry.enumerate import work_estimate
+
+    cost = {t.key: work_estimate(t.tier, t.smiles) for t in tasks}
+    return sorted(tasks, key=lambda t: -cost[t.key])
 
 
 def cached(nb, task: Task) -> dict | None:
@@ -159,6 +192,17 @@ def run_task(what: str, smiles: str, tier: str) -> dict:
     except TrapbookError as exc:
         return {"ok": False, "reason": exc.message, "hint": exc.hint}
     return {"ok": True, "result": result}
+
+
+def warm_workers(client) -> None:
+    """Load the chemistry engine in every worker now, so that its cost shows as start-up and not
+    inside the first tasks (for measuring: a campaign does not need it to be right)."""
+    client.run(_load_engine)
+
+
+def _load_engine() -> None:
+    _one_thread_per_worker()
+    from .chemistry import alignment, strain  # noqa: F401 - imported for their load time only
 
 
 def _one_thread_per_worker() -> None:
@@ -207,23 +251,34 @@ def close_client(client) -> None:
         cluster.close()
 
 
-def stream_results(client, tasks: list[Task]):
-    """(task, outcome) pairs as the workers finish them, in finishing order; nothing is stored here."""
+def stream_batches(client, tasks: list[Task]) -> Iterator[list[tuple[Task, dict]]]:
+    """Lists of (task, outcome) as the workers finish them: each list is what arrived since the
+    last one was handed over (usually one). Tasks start in the order given (earlier = higher
+    priority on the scheduler); nothing is stored here."""
     from distributed import as_completed
 
-    futures = {client.submit(run_task, t.what, t.smiles, t.tier, key=t.key, pure=False): t for t in tasks}
-    for fut in as_completed(futures):
-        task = futures[fut]
-        try:
-            outcome = fut.result()
-        except Exception as exc:  # noqa: BLE001 - a lost worker or a bug on it: recorded on the candidate
-            outcome = {
-                "ok": False,
-                "reason": f"the worker failed ({type(exc).__name__}: {exc})",
-                "hint": "re-run the campaign: it computes only what is missing",
-            }
-        fut.release()
-        yield task, outcome
+    futures = {
+        client.submit(run_task, t.what, t.smiles, t.tier, key=t.key, pure=False, priority=len(tasks) - i): t
+        for i, t in enumerate(tasks)
+    }
+    for batch in as_completed(futures).batches():
+        yield [(futures[fut], _outcome_of(fut)) for fut in batch]
+
+
+def stream_results(client, tasks: list[Task]) -> Iterator[tuple[Task, dict]]:
+    """(task, outcome) pairs as the workers finish them, in finishing order; nothing is stored here."""
+    for batch in stream_batches(client, tasks):
+        yield from batch
+
+
+def _outcome_of(fut) -> dict:
+    try:
+        outcome = fut.result()
+    except Exception as exc:  # noqa: BLE001 - a lost worker or a bug on it: recorded on the candidate
+        why = f"the worker failed ({type(exc).__name__}: {exc})"
+        outcome = {"ok": False, "reason": why, "hint": "re-run the campaign: it computes only what is missing"}
+    fut.release()
+    return outcome
 
 
 # ---------------------------------------------------------------- the client stores
@@ -250,7 +305,7 @@ def run_campaign(
     client=None,
     retry_failed: bool = False,
 ) -> dict:
-    """Compute what the cache lacks, store each result as it arrives, and keep the campaign's record.
+    """Compute what the cache lacks, longest first; store results as they arrive; keep the campaign's record.
 
     A task that failed in an earlier run keeps its recorded reason and is not tried again
     unless `retry_failed`, so a re-run of a finished campaign computes nothing.
@@ -269,7 +324,7 @@ def run_campaign(
         }
     )
     missing = [t for t in tasks if cached(nb, t) is None]
-    todo = [t for t in missing if (t.what, t.smiles) not in earlier]
+    todo = longest_first([t for t in missing if (t.what, t.smiles) not in earlier])
     failed: list[dict] = [earlier[(t.what, t.smiles)] for t in missing if (t.what, t.smiles) in earlier]
     kept_failed = len(failed)
     done = len(tasks) - len(missing)
@@ -278,22 +333,20 @@ def run_campaign(
         client = open_client(scheduler, n_workers)  # before anything is written: a bad address changes nothing
     try:
         _save_record(nb, record, failed=None)
-        _tell(progress, done, len(failed), len(todo))
-        for left, (task, outcome) in enumerate(stream_results(client, todo) if todo else [], 1):
-            if outcome.get("ok"):
-                store_outcome(nb, task, outcome)  # as each arrives: a stopped campaign keeps what it has
-                done += 1
-            else:
-                failed.append(
-                    {
-                        "candidate": task.candidate,
-                        "smiles": task.smiles,
-                        "what": task.what,
-                        "reason": outcome.get("reason"),
-                        "hint": outcome.get("hint"),
-                    }
-                )
-            _tell(progress, done, len(failed), len(todo) - left)
+        left = len(todo)
+        _tell(progress, done, len(failed), left)
+        for batch in stream_batches(client, todo) if todo else []:
+            # as they arrive, one transaction for what arrived together: a stopped campaign keeps
+            # every batch it was told about (progress is told after the commit)
+            with nb.transaction() if nb is not None else nullcontext():
+                for task, outcome in batch:
+                    if outcome.get("ok"):
+                        store_outcome(nb, task, outcome)
+                        done += 1
+                    else:
+                        failed.append(_failure(task, outcome))
+            left -= len(batch)
+            _tell(progress, done, len(failed), left)
     finally:
         if own:
             close_client(client)
@@ -306,6 +359,11 @@ def run_campaign(
         "kept_failed": kept_failed,
         "failed": failed,
     }
+
+
+def _failure(task: Task, outcome: dict) -> dict:
+    where = {"candidate": task.candidate, "smiles": task.smiles, "what": task.what}
+    return where | {"reason": outcome.get("reason"), "hint": outcome.get("hint")}
 
 
 def _tell(progress: Progress | None, done: int, failed: int, left: int) -> None:
@@ -354,12 +412,22 @@ def campaigns(nb) -> list[str]:
 def real_diastereomers(sides: list[dict]) -> list[dict]:
     """Drop diastereomers of one precursor lying far above its best one (an impossible ring
     fusion that embedding forced into shape), by the alignment's own limit."""
+    return _split_forced(sides)[0]
+
+
+def _split_forced(sides: list[dict]) -> tuple[list[dict], list[dict]]:
+    """(real, forced) diastereomers of one precursor; each forced one as {smiles, why}."""
     from .chemistry.alignment import IMPOSSIBLE_ABOVE_KCAL
 
-    if not sides:
-        return []
-    low = min(s["mmff_energy_kcal_mol"] for s in sides)
-    return [s for s in sides if s["mmff_energy_kcal_mol"] - low <= IMPOSSIBLE_ABOVE_KCAL]
+    low = min((s["mmff_energy_kcal_mol"] for s in sides), default=0.0)
+    real, forced = [], []
+    for side in sides:
+        above = side["mmff_energy_kcal_mol"] - low
+        if above <= IMPOSSIBLE_ABOVE_KCAL:
+            real.append(side)
+        else:
+            forced.append({"smiles": side.get("smiles"), "why": FORCED_STRUCTURE.format(above=above)})
+    return real, forced
 
 
 def best_diastereomer(sides: list[dict]) -> dict | None:
@@ -381,6 +449,20 @@ def best_diastereomer(sides: list[dict]) -> dict | None:
     }
 
 
+def _precursor_sides(nb, cand: dict) -> tuple[list[dict], list[dict]]:
+    """(aligned, impossible) diastereomers of a candidate's precursors: the cached alignments of
+    those that can exist, and [{smiles, why}] of those that cannot (no 3-D structure, or one
+    forced far above the precursor's best diastereomer)."""
+    aligns: list[dict] = []
+    impossible: list[dict] = []
+    for p in cand["precursors"]:
+        sides = [a for d in p["diastereomers"] if (a := cached(nb, Task("alignment", d, "alignment", cand["name"])))]
+        real, forced = _split_forced(sides)
+        aligns += real
+        impossible += [{"smiles": d, "why": NO_STRUCTURE} for d in p.get("impossible_diastereomers") or []] + forced
+    return aligns, impossible
+
+
 def campaign_table(nb, record: dict) -> list[dict]:
     """One row per candidate from the cache, ranked: least strained first, then unclassed and failed ones."""
     from .stability import judge
@@ -389,11 +471,7 @@ def campaign_table(nb, record: dict) -> list[dict]:
     rows = []
     for cand in record["candidates"]:
         res = cached(nb, Task("strain", cand["smiles"], record["tier"], cand["name"])) if cand["kind"] != "unreadable" else None
-        aligns = []
-        for p in cand["precursors"]:
-            aligns += real_diastereomers(
-                [a for d in p["diastereomers"] if (a := cached(nb, Task("alignment", d, "alignment", cand["name"])))]
-            )
+        aligns, impossible = _precursor_sides(nb, cand)
         verdict = judge(res)
         problem = failed.get((cand["name"], "strain")) or failed.get((cand["name"], "structure"))
         rows.append(
@@ -415,6 +493,7 @@ def campaign_table(nb, record: dict) -> list[dict]:
                 "reason": problem["reason"] if problem else None,
                 "precursors": len(cand["precursors"]),
                 "diastereomers_aligned": len(aligns),
+                "impossible_diastereomers": impossible,
                 "best_precursor": best_diastereomer(aligns),
             }
         )

@@ -11,7 +11,11 @@ Each intermediate is released by fluoride from a silyl (pseudo)halide: the 1,2-e
 of `derive` run backwards. The silyl group may sit on either carbon and the leaving group
 on the other; the new stereocentres give diastereomers that can behave oppositely
 (antiperiplanar or not), which the alignment judges side by side. Every precursor is
-checked to release exactly its intermediate.
+checked to release exactly its intermediate. Diastereomers that cannot be built in 3D are
+named apart, so a campaign shows them as impossible instead of failing on them.
+
+A rough cost estimate of each campaign task lives here too (it needs RDKit): the campaign
+starts the longest tasks first.
 """
 
 from __future__ import annotations
@@ -19,6 +23,8 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field
 
 from rdkit import Chem, rdBase
+from rdkit.Chem import AllChem
+from rdkit.Chem.EnumerateStereoisomers import EnumerateStereoisomers, StereoEnumerationOptions
 
 from ..errors import ChemistryError
 from . import bridgehead as bh
@@ -37,6 +43,8 @@ _NAME_STEM = {bh.BRIDGEHEAD: "BH", bh.ALLENE: "AL", bh.ALKYNE: "YN"}
 MAX_SMALL_RING = 9
 MAX_CANDIDATES = 500
 MAX_SKELETON_ATOMS = 60
+#: seed of the embedding test of a lone precursor isomer (fixed, so a plan is repeatable)
+EMBED_SEED = 0xC0FFEE
 
 
 @dataclass
@@ -270,13 +278,75 @@ def candidates_from_lines(lines: list[str]) -> list[Candidate]:
     return out
 
 
-def diastereomers_of(precursor: str) -> list[str]:
-    """The precursor's diastereomers as the alignment judges them (every one that embeds in
-    3D, one of each mirror pair), so each becomes its own task; the precursor itself when its
-    open centres make only enantiomers."""
-    from .alignment import unassigned_diastereomers
+def diastereomer_split(precursor: str) -> tuple[list[str], list[str]]:
+    """(buildable, impossible): the precursor's diastereomers as the alignment judges them,
+    and those no 3-D structure could be built for.
+
+    The buildable ones are the alignment's own (every diastereomer that embeds, one of each
+    mirror pair), or the precursor as written when its open centres leave one real
+    diastereomer or only enantiomers. The impossible ones (an in/out bridgehead, a double
+    bond left at the bridgehead of a small bicycle) are named rather than silently dropped
+    or sent to a worker to fail, so a campaign shows them as structures that cannot exist.
+    """
+    from .alignment import MAX_DIASTEREOMERS, embeddable_diastereomers
 
     mol = parse(precursor, "precursor SMILES")
+    written = Chem.MolToSmiles(mol)
     with rdBase.BlockLogs():
-        isomers = unassigned_diastereomers(mol)
-    return [Chem.MolToSmiles(m) for m in isomers] or [Chem.MolToSmiles(mol)]
+        every, raw = _every_diastereomer(mol)
+        if raw == 1:  # nothing open: RDKit's enumeration returns the molecule untried, so try it here
+            return ([written], []) if _embeds(mol) else ([], [written])
+        kept = [Chem.MolToSmiles(m) for m in embeddable_diastereomers(mol)]
+    built = kept if len(kept) > 1 else [written] if kept else []
+    if raw > MAX_DIASTEREOMERS:  # only a sample was tried: name none of the rest impossible
+        return built, [] if kept else [written]
+    return built, [smi for smi, mirror in every if smi not in kept and mirror not in kept]
+
+
+def _every_diastereomer(mol: Chem.Mol) -> tuple[list[tuple[str, str]], int]:
+    """(SMILES, mirror image's SMILES) of every stereoisomer of the open centres, one of each
+    mirror pair, without asking whether it can be built, and how many settings of the open
+    centres there are (1 when nothing is open: the embedding pass then tries nothing)."""
+    from .alignment import _mirror
+
+    opts = StereoEnumerationOptions(onlyUnassigned=True, tryEmbedding=False, unique=False, maxIsomers=0)
+    out: list[tuple[str, str]] = []
+    seen: set[str] = set()
+    raw = 0
+    for iso in EnumerateStereoisomers(mol, options=opts):
+        raw += 1
+        smi, mirror = Chem.MolToSmiles(iso), Chem.MolToSmiles(_mirror(iso))
+        if smi not in seen and mirror not in seen:
+            seen.update((smi, mirror))
+            out.append((smi, mirror))
+    return out, raw
+
+
+def _embeds(mol: Chem.Mol) -> bool:
+    """RDKit's own test of whether a stereoisomer is physical (the one `tryEmbedding` makes):
+    one distance-geometry embedding with hydrogens."""
+    return AllChem.EmbedMolecule(Chem.AddHs(mol), randomSeed=EMBED_SEED) >= 0
+
+
+# ---------------------------------------------------------------- how long a task takes
+
+#: growth of a task's cost per ring atom, measured on the fast tier (MMFF94 conformer search)
+#: over the bridged bicycles of benchmarks/campaign.py: about 1.45 times per atom
+COST_GROWTH_PER_RING_ATOM = 1.45
+#: cost of a task relative to a fast-tier strain of the same ring system (measured roughly: an
+#: accurate-tier strain adds GFN2-xTB optimisations, an alignment 60+ conformers of a precursor)
+TASK_WEIGHT = {"fast": 1.0, "accurate": 8.0, "alignment": 30.0}
+#: a cyclic allene's conformer search costs more than a bridgehead alkene's, a cycloalkyne's less
+KIND_WEIGHT = {bh.ALLENE: 1.5, bh.ALKYNE: 0.85}
+
+
+def work_estimate(tier: str, smiles: str) -> float:
+    """A rough relative cost of a campaign task (strain at `tier`, or tier "alignment"), only to
+    start the longest tasks first: the last ones left to finish are then the shortest, and no
+    worker waits idle at the end while another finishes a long one."""
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is None:
+        return 0.0
+    ring_atoms = sum(1 for a in mol.GetAtoms() if a.IsInRing())
+    kind = bh.perceive_mol(mol).kind if tier != "alignment" else None
+    return TASK_WEIGHT.get(tier, 1.0) * KIND_WEIGHT.get(kind, 1.0) * COST_GROWTH_PER_RING_ATOM**ring_atoms

@@ -81,7 +81,8 @@ def _kinds(text: str) -> tuple[str, ...]:
 @json_option(
     help="Print {id, source, tier, tasks, computed, from_cache, failed: [{candidate, smiles, what, reason}], "
     "rows: [{rank, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
-    "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, status, reason}]}."
+    "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, "
+    "impossible_diastereomers: [{smiles, why}], status, reason}]}."
 )
 @pass_ctx
 def campaign_cmd(
@@ -157,6 +158,9 @@ def _print_table(record: dict, summary: dict, rows: list[dict]) -> None:
             f"{_n(r['pyramidalization_deg']):>6}  {align}"
         )
         say(f"   {r['smiles']}  {r['kind']}" + (f"  [{r['status']}: {r['reason']}]" if r["status"] != "done" else ""))
+        if r.get("impossible_diastereomers"):
+            n = len(r["impossible_diastereomers"])
+            say(f"   {n} precursor diastereomer(s) cannot exist (listed under --json and in the report)")
     for f in summary["failed"]:
         say(f"failed: {f['candidate']} {f['what']} {f['smiles']}: {f['reason']}")
     if summary["kept_failed"]:
