@@ -195,9 +195,18 @@ def test_cli_campaign_json_and_report(tmp_path, notebook):
     )
     assert res.exit_code == 0, res.output
     data = json.loads(res.output)
-    assert [r["rank"] for r in data["rows"]] == [1, 2, 3]
-    strains = [r["strain_kcal_mol"] for r in data["rows"]]
-    assert strains == sorted(strains)  # ranked least strained first
+    # Source: docs/sources.md "Strain": olefin strain (alkenes) and ring strain (cycloalkynes) are
+    # different quantities, so each kind is ranked on its own, least strained first
+    by_kind: dict[str, list[dict]] = {}
+    for r in data["rows"]:
+        by_kind.setdefault(r["kind"], []).append(r)
+    assert len(by_kind) == 2
+    for kind, rows in by_kind.items():
+        assert [r["rank"] for r in rows] == list(range(1, len(rows) + 1))
+        assert {r["ranked_within"] for r in rows} == {kind}
+        strains = [r["strain_kcal_mol"] for r in rows]
+        assert strains == sorted(strains)
+    assert sorted(len(v) for v in by_kind.values()) == [1, 2]  # two bridgehead alkenes, one cycloalkyne
     page = report.read_text(encoding="utf-8")
     assert "<svg" in page and "no class" in page
 
@@ -252,3 +261,12 @@ def test_a_scheduler_address_is_checked_before_anything_is_written(notebook):
     with pytest.raises(cp.TrapbookError, match="not a scheduler address"):
         cp.run_campaign(notebook, record, scheduler="foo\x1b[2J")
     assert cp.campaigns(notebook) == []  # no record was kept
+
+
+def test_the_campaign_record_carries_the_sessions_author(notebook):
+    # common practice, no source: a saved version names who saved it (--author over the default)
+    record = cp.plan("cands.txt", tier="fast", precursors=False, lines=["C1CC(  not a structure"])
+    summary = cp.run_campaign(notebook, record, author="R. Okafor")
+    assert summary["tasks"] == 0  # nothing to compute: no cluster is started
+    (version,) = notebook.setting_history(cp.RECORD_PREFIX + record["id"])
+    assert version["author"] == "R. Okafor"

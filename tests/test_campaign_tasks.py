@@ -178,3 +178,15 @@ def test_a_diastereomer_forced_far_above_its_best_is_shown_impossible_and_never_
     assert cp.best_diastereomer(cp.real_diastereomers([real, forced]))["smiles"] == "real"
     (why,) = cp._split_forced([real, forced])[1]
     assert why["smiles"] == "forced" and "70 kcal/mol" in why["why"] and "cannot exist" in why["why"]
+
+
+def test_the_screen_detail_names_each_impossible_diastereomer(allene_plan, notebook):
+    # The Campaigns screen writes what the core's table holds: every impossible diastereomer with
+    # its reason (docs/sources.md "Campaigns"), and the kind the rank is counted within.
+    from trapbook.tui.widgets.campaign_rows import detail
+
+    (row,) = cp.campaign_table(notebook, allene_plan)
+    text = detail(row, allene_plan).plain
+    for side in row["impossible_diastereomers"]:
+        assert side["smiles"] in text and side["why"] in text
+    assert f"among {row['kind']}" in text

@@ -50,7 +50,13 @@ def _bands_of(ax) -> list[tuple[float, float]]:
 
 def test_a_mixed_kind_campaign_shades_each_kinds_own_classes():
     rows = [
-        _row(f"{kind[:3]}{k}", kind, strain, 7 if kind == stability.BRIDGEHEAD else None, None if kind == stability.BRIDGEHEAD else 8)
+        _row(
+            f"{kind[:3]}{k}",
+            kind,
+            strain,
+            7 if kind == stability.BRIDGEHEAD else None,
+            None if kind == stability.BRIDGEHEAD else 8,
+        )
         for kind in KINDS
         for k, strain in enumerate(_inside_every_band(kind))
     ]

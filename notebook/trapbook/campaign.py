@@ -304,6 +304,7 @@ def run_campaign(
     progress: Progress | None = None,
     client=None,
     retry_failed: bool = False,
+    author: str | None = None,
 ) -> dict:
     """Compute what the cache lacks, longest first; store results as they arrive; keep the campaign's record.
 
@@ -332,7 +333,7 @@ def run_campaign(
     if own:
         client = open_client(scheduler, n_workers)  # before anything is written: a bad address changes nothing
     try:
-        _save_record(nb, record, failed=None)
+        _save_record(nb, record, failed=None, author=author)
         left = len(todo)
         _tell(progress, done, len(failed), left)
         for batch in stream_batches(client, todo) if todo else []:
@@ -350,7 +351,7 @@ def run_campaign(
     finally:
         if own:
             close_client(client)
-    _save_record(nb, record, failed=failed)
+    _save_record(nb, record, failed=failed, author=author)
     return {
         "id": record["id"],
         "tasks": len(tasks),
@@ -371,7 +372,7 @@ def _tell(progress: Progress | None, done: int, failed: int, left: int) -> None:
         progress(done, failed, left)
 
 
-def _save_record(nb, record: dict, failed: list[dict] | None) -> None:
+def _save_record(nb, record: dict, failed: list[dict] | None, author: str | None = None) -> None:
     """The campaign as a versioned notebook setting: its candidates and what failed last time.
 
     No time in the value, so a re-run that changes nothing adds no version (idempotent).
@@ -394,7 +395,7 @@ def _save_record(nb, record: dict, failed: list[dict] | None) -> None:
         value["failed"] = (load_record(nb, record["id"]) or {}).get("failed", unreadable)
     else:  # in a fixed order, so the same outcome is the same value
         value["failed"] = unreadable + sorted(failed, key=lambda f: (f["candidate"], f["what"], f["smiles"]))
-    nb.set_setting(RECORD_PREFIX + record["id"], value, reason=f"campaign {record['id']} on {record['source']}")
+    nb.set_setting(RECORD_PREFIX + record["id"], value, author=author, reason=f"campaign {record['id']} on {record['source']}")
 
 
 def load_record(nb, campaign: str) -> dict | None:
@@ -464,7 +465,7 @@ def _precursor_sides(nb, cand: dict) -> tuple[list[dict], list[dict]]:
 
 
 def campaign_table(nb, record: dict) -> list[dict]:
-    """One row per candidate from the cache, ranked: least strained first, then unclassed and failed ones."""
+    """One row per candidate from the cache, ranked within its kind: least strained first, then unclassed and failed ones."""
     from .stability import judge
 
     failed = {(f["candidate"], f["what"]): f for f in record.get("failed") or []}
@@ -497,9 +498,23 @@ def campaign_table(nb, record: dict) -> list[dict]:
                 "best_precursor": best_diastereomer(aligns),
             }
         )
+    return _ranked_within_kind(rows)
+
+
+def _ranked_within_kind(rows: list[dict]) -> list[dict]:
+    """Least strained first within each kind; the rank restarts at each kind, because an alkene's
+    olefin strain and a cycloalkyne's ring strain are different quantities and are never ranked
+    against each other. Kinds come in the order of their first computed row."""
     rows.sort(
         key=lambda r: (r["strain_kcal_mol"] is None, r["strain_kcal_mol"] if r["strain_kcal_mol"] is not None else 0.0, r["name"])
     )
-    for rank, row in enumerate(rows, 1):
-        row["rank"] = rank
+    order: dict[str, int] = {}
+    for row in rows:
+        order.setdefault(row["kind"], len(order))
+    rows.sort(key=lambda r: order[r["kind"]])  # stable: each kind keeps its strain order
+    seen: dict[str, int] = {}
+    for row in rows:
+        seen[row["kind"]] = seen.get(row["kind"], 0) + 1
+        row["rank"] = seen[row["kind"]]
+        row["ranked_within"] = row["kind"]
     return rows

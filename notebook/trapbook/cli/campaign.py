@@ -80,7 +80,7 @@ def _kinds(text: str) -> tuple[str, ...]:
 @click.option("--report", "report_path", metavar="FILE.html", help="Also write the campaign's HTML map.")
 @json_option(
     help="Print {id, source, tier, tasks, computed, from_cache, failed: [{candidate, smiles, what, reason}], "
-    "rows: [{rank, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
+    "rows: [{rank (within its kind), ranked_within, name, smiles, kind, s_value, trans_ring_size, strain_kcal_mol, stability_class, "
     "twist_deg, pyramidalization_deg, best_precursor {smiles, verdict, aligned_fraction}, "
     "impossible_diastereomers: [{smiles, why}], status, reason}]}."
 )
@@ -122,7 +122,13 @@ def campaign_cmd(
     )
     with ctx.notebook() as nb:
         summary = run_campaign(
-            nb, record, scheduler=scheduler, n_workers=workers, progress=_progress_line(as_json), retry_failed=retry_failed
+            nb,
+            record,
+            scheduler=scheduler,
+            n_workers=workers,
+            progress=_progress_line(as_json),
+            retry_failed=retry_failed,
+            author=ctx.author,
         )
         rows = campaign_table(nb, load_record(nb, record["id"]))
         if report_path:
@@ -149,7 +155,11 @@ def _print_table(record: dict, summary: dict, rows: list[dict]) -> None:
     say(
         f"{'#':>2} {'name':10} {'S':>2} {'trans':>5} {'strain':>7} {'class':14} {'twist':>6} {'pyr':>6}  best precursor (alignment)"
     )
+    kind = None
     for r in rows:
+        if r["kind"] != kind:
+            kind = r["kind"]
+            say(f"-- {kind}: ranked among themselves by {r.get('strain_quantity') or 'strain'}")
         best = r["best_precursor"]
         align = f"{best['smiles']} ({best['verdict']}, {(best['aligned_fraction'] or 0) * 100:.0f} % aligned)" if best else "—"
         say(

@@ -82,6 +82,7 @@ def plan_and_run(
     precursors: bool,
     cluster: ClusterOnDemand,
     progress: Callable[[str | None, int, int, int], None],
+    author: str | None = None,
 ) -> tuple[str, dict]:
     """(campaign id, run_campaign's summary). `progress(id, done, failed, left)` is called as
     results arrive; once the cluster is stopped it raises CampaignStopped instead, which leaves
@@ -98,4 +99,4 @@ def plan_and_run(
 
     progress(record["id"], 0, 0, 0)  # planned: the id is known before any result
     with Notebook.open(path) as nb:
-        return record["id"], run_campaign(nb, record, progress=told, client=cluster)
+        return record["id"], run_campaign(nb, record, progress=told, client=cluster, author=author)

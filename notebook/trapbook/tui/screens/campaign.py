@@ -148,7 +148,9 @@ class CampaignScreen(Screen):
         self.query_one("#campaign-start").display = not self.read_only
         self.query_one("#campaign-run").display = False
         self.query_one("#campaign-msg").display = False
-        self.query_one("#campaign-skeleton", Input).tooltip = "A saturated polycycle: every bridgehead alkene of it is a candidate"
+        self.query_one(
+            "#campaign-skeleton", Input
+        ).tooltip = "A saturated polycycle: every bridgehead alkene of it is a candidate"
         self.lay_out()
         self.reload()
         self.query_one("#campaign-list", DataTable).focus()
@@ -334,7 +336,9 @@ class CampaignScreen(Screen):
             self.post_message(CampaignProgress(campaign_id, done, failed, left))
 
         try:
-            campaign_id, summary = plan_and_run(path, source, tier, kinds, precursors, cluster, progress)
+            campaign_id, summary = plan_and_run(
+                path, source, tier, kinds, precursors, cluster, progress, author=getattr(self.app, "given_author", None)
+            )
             self.post_message(CampaignEnded(campaign_id, summary))
         except CampaignStopped:
             self.post_message(CampaignEnded(next(iter(planned), None), None, stopped=True))
@@ -392,9 +396,7 @@ class CampaignScreen(Screen):
             self.say_error(message.error)
             counts.update(Text("not started" if message.campaign_id is None else "stopped", style=tone("stop")))
         elif message.stopped:
-            counts.update(
-                Text("stopped: results so far are kept; Enter in the box resumes", style=tone("warn"))
-            )
+            counts.update(Text("stopped: results so far are kept; Enter in the box resumes", style=tone("warn")))
         else:
             s = message.summary
             failed = len(s["failed"])

@@ -143,7 +143,7 @@ def detail(row: dict | None, record: dict) -> Text:
     """Everything about the candidate under the cursor the table has no room for, then every failure."""
     out = Text()
     if row is not None:
-        out.append(f"#{row['rank']} {shown(row['name'])}", style="bold")
+        out.append(f"#{row['rank']} among {shown(row.get('ranked_within') or row['kind'])} · {shown(row['name'])}", style="bold")
         out.append(f" · {shown(row['kind'])} · {shown(row['smiles'])}\n")
         if row["strain_kcal_mol"] is not None:
             out.append(f"{shown(row['strain_quantity'] or 'strain')} {fmt_fixed(row['strain_kcal_mol'], 1, ' kcal/mol')}")
@@ -155,6 +155,11 @@ def detail(row: dict | None, record: dict) -> Text:
             out.append(f"  {shown(best['verdict'])} · {aligned_text(best)} aligned · Si–C–C–X {_angle(best['dihedral_deg'])}°\n")
         elif row["precursors"]:
             out.append("precursors: no diastereomer aligned yet\n", style=f"italic {tone('muted')}")
+        impossible = row.get("impossible_diastereomers") or []
+        if impossible:
+            out.append(f"{len(impossible)} precursor diastereomer(s) cannot exist:\n", style=tone("muted"))
+            for side in impossible:
+                out.append(f"  {shown(side['smiles'])}: {shown(side['why'])}\n", style=tone("muted"))
         if row["status"] == "failed":
             out.append(f"failed: {shown(row['reason'])}\n", style=tone("stop"))
     failed = record.get("failed") or []
