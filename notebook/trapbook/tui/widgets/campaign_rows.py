@@ -144,7 +144,7 @@ def detail(row: dict | None, record: dict) -> Text:
     out = Text()
     if row is not None:
         out.append(f"#{row['rank']} among {shown(row.get('ranked_within') or row['kind'])} · {shown(row['name'])}", style="bold")
-        out.append(f" · {shown(row['kind'])} · {shown(row['smiles'])}\n")
+        out.append(f" · {shown(row['smiles'])}\n")
         if row["strain_kcal_mol"] is not None:
             out.append(f"{shown(row['strain_quantity'] or 'strain')} {fmt_fixed(row['strain_kcal_mol'], 1, ' kcal/mol')}")
             out.append(f" · {class_cell(row).plain}\n")
