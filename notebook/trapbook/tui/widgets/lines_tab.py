@@ -12,7 +12,6 @@ The screen shows the tab the run again after every change (`show`).
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -25,7 +24,7 @@ from ..rundata import build_run, is_limiting, with_line
 from ..text import clip, qtext
 from ..theme import tone
 from .field import Field, FormCheck
-from .row_tabs import RowsTab
+from .row_tabs import FormRowsTab
 
 LINE_FIELDS = (
     # (data key, label, placeholder, check, suggestions)
@@ -79,7 +78,7 @@ def planned_cells(run) -> dict[str, str]:
     return {w.name.casefold(): f"{fmt_sig(w.planned, 3)} {w.unit}" if w.planned is not None else "not planned" for w in compared}
 
 
-class LinesTab(RowsTab):
+class LinesTab(FormRowsTab):
     """The lines table and the form that writes one line; `index` is the line being changed."""
 
     BINDINGS = [
@@ -316,34 +315,6 @@ class LinesTab(RowsTab):
         line, index = self.take()
         if line is not None:
             self.post_message(LineKept(line, index))
-
-    @on(Input.Changed)
-    def _changed(self, event: Input.Changed) -> None:
-        event.stop()
-        row = event.input.parent
-        if isinstance(row, Field):
-            row.run_check()
-        self.preview()
-
-    @on(Input.Submitted)
-    def _submitted(self, event: Input.Submitted) -> None:
-        event.stop()
-        self.keep()
-
-    @on(FormCheck.Submitted)
-    def _box_submitted(self, event: FormCheck.Submitted) -> None:
-        event.stop()
-        self.keep()
-
-    @on(Checkbox.Changed)
-    def _box_changed(self, event: Checkbox.Changed) -> None:
-        event.stop()
-        self.preview()
-
-    @on(DataTable.RowSelected, "#lines")
-    def _selected(self, event: DataTable.RowSelected) -> None:
-        event.stop()
-        self.edit(int(event.row_key.value))
 
 
 def planned_words(run, name: str) -> str | None:

@@ -9,10 +9,12 @@ to do on the run it holds.
 
 from __future__ import annotations
 
+from textual import on
 from textual.binding import Binding
-from textual.widgets import DataTable, Input, TabPane
+from textual.widgets import Checkbox, DataTable, Input, TabPane
 
 from ..messages import RowMoved, RowRemoved
+from .field import Field, FormCheck
 
 
 class RowsTab(TabPane):
@@ -95,3 +97,54 @@ class RowsTab(TabPane):
             return
         self.table.move_cursor(row=i + delta, animate=False)
         self.post_message(RowMoved(self.rows_key, i, i + delta))
+
+
+class FormRowsTab(RowsTab):
+    """A table tab whose form writes one row (Lines, Steps): each box is checked as it is typed,
+    the tab's preview follows, Enter keeps the row and picking a table row edits it."""
+
+    _loading = False  # set while the tab fills its own form, so filling is no edit
+
+    def keep(self) -> None:
+        """Hand the form's row to the screen (the tab's own message)."""
+        raise NotImplementedError
+
+    def preview(self) -> None:
+        """Show what the form's row would do to the run."""
+        raise NotImplementedError
+
+    def edit(self, index: int) -> None:
+        """Fill the form with row `index`."""
+        raise NotImplementedError
+
+    @on(Input.Changed)
+    def _changed(self, event: Input.Changed) -> None:
+        event.stop()
+        row = event.input.parent
+        if isinstance(row, Field):
+            row.run_check()
+        if not self._loading:
+            self.preview()
+
+    @on(Input.Submitted)
+    def _submitted(self, event: Input.Submitted) -> None:
+        event.stop()
+        self.keep()
+
+    @on(FormCheck.Submitted)
+    def _box_submitted(self, event: FormCheck.Submitted) -> None:
+        event.stop()
+        self.keep()
+
+    @on(Checkbox.Changed)
+    def _box_changed(self, event: Checkbox.Changed) -> None:
+        event.stop()
+        if not self._loading:
+            self.preview()
+
+    @on(DataTable.RowSelected)
+    def _selected(self, event: DataTable.RowSelected) -> None:
+        if event.data_table is not self.table:
+            return
+        event.stop()
+        self.edit(int(event.row_key.value))

@@ -11,7 +11,6 @@ run and shows the tab the run's steps and lines again (`show`).
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.widgets import Checkbox, DataTable, Input, Static
@@ -21,7 +20,7 @@ from ..messages import StepKept
 from ..text import clip, qtext
 from ..theme import tone
 from .field import Field, FormCheck
-from .row_tabs import RowsTab
+from .row_tabs import FormRowsTab
 
 STEP_FIELDS = (
     ("add", "Adds", "1 + 3 · precursor; trap · names", None, None),
@@ -34,7 +33,7 @@ STEP_FIELDS = (
 STEP_COLUMNS = (("#", 3), ("adds", 27), ("T", 9), ("hold", 7), ("over", 7), ("seal", 5), ("enters", 12))
 
 
-class StepsTab(RowsTab):
+class StepsTab(FormRowsTab):
     """The steps table and the form that writes one step; `index` is the step being changed."""
 
     rows_key = "steps"
@@ -177,33 +176,3 @@ class StepsTab(RowsTab):
         step, index = self.take()
         if step is not None:
             self.post_message(StepKept(step, index))
-
-    @on(Input.Changed)
-    def _changed(self, event: Input.Changed) -> None:
-        event.stop()
-        row = event.input.parent
-        if isinstance(row, Field):
-            row.run_check()
-        if not self._loading:
-            self.preview()
-
-    @on(Input.Submitted)
-    def _submitted(self, event: Input.Submitted) -> None:
-        event.stop()
-        self.keep()
-
-    @on(FormCheck.Submitted)
-    def _box_submitted(self, event: FormCheck.Submitted) -> None:
-        event.stop()
-        self.keep()
-
-    @on(Checkbox.Changed)
-    def _box_changed(self, event: Checkbox.Changed) -> None:
-        event.stop()
-        if not self._loading:
-            self.preview()
-
-    @on(DataTable.RowSelected, "#steps")
-    def _selected(self, event: DataTable.RowSelected) -> None:
-        event.stop()
-        self.edit(int(event.row_key.value))
