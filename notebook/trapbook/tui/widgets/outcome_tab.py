@@ -238,17 +238,7 @@ class OutcomeTab(RowsTab):
     def _fill_products(self) -> None:
         """One row per product result, with the yields the core works out from it."""
         ys = {name.casefold(): y for name, y, _ in yields_each(self.run, self.amount_table) if y is not None}
-        rows = [_product_row(i, p, ys.get(str(p.get("product", "")).casefold())) for i, p in enumerate(self.rows())]
-        if rows == self._rows:
-            return
-        self._rows = rows
-        table = self.query_one("#products", DataTable)
-        keep = table.cursor_row
-        table.clear()
-        for i, cells in enumerate(rows):
-            table.add_row(*cells, key=str(i))
-        if table.row_count:
-            table.move_cursor(row=min(max(keep, 0), table.row_count - 1), animate=False)
+        RowsTab.fill(self, [_product_row(i, p, ys.get(str(p.get("product", "")).casefold())) for i, p in enumerate(self.rows())])
 
     def _show_yields(self) -> None:
         from ...units import fmt_mmol
