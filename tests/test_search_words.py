@@ -160,3 +160,46 @@ def test_the_key_list_names_the_filters_keys_and_examples_as_typed():
     for key in FILTER_KEYS:
         if len(key.example) <= 16:
             assert key.example in text, key.example
+
+
+def _max_temp_c(d: dict) -> float:
+    # Source: demo_lab/runs/*.json step temperatures as written ("80 °C", "-78 °C", "rt" = 23 °C by default)
+    temps = []
+    for s in d["steps"]:
+        t = str(s.get("temperature") or "").replace("−", "-")
+        m = re.match(r"\s*(-?\d+(?:\.\d+)?)\s*°?\s*C", t)
+        if m:
+            temps.append(float(m.group(1)))
+    return max(temps) if temps else float("nan")
+
+
+def test_the_filter_typed_on_the_command_line_equals_the_options(demo_copy):
+    # The same question asked three ways gives one answer: typed as in the Logbook filter, as
+    # --options, and read from the run files themselves.
+    furan_hot = sorted(
+        d["id"]
+        for d in RUNS
+        if any(ln["role"] == "trap" and ln["name"].casefold() == "furan" for ln in d["lines"]) and _max_temp_c(d) >= 100
+    )
+    typed = CliRunner().invoke(main, ["--db", str(demo_copy), "search", "trap:furan", "temp:>=100", "--json"])
+    options = CliRunner().invoke(main, ["--db", str(demo_copy), "search", "--trap", "furan", "--temp-min", "100", "--json"])
+    assert typed.exit_code == 0 and options.exit_code == 0, typed.output + options.output
+    ids = sorted(h["run_id"] for h in json.loads(typed.output))
+    assert ids == sorted(h["run_id"] for h in json.loads(options.output)) == furan_hot
+    assert furan_hot  # the demo holds such runs
+    # a typed run id, as the Logbook filter's plain word
+    rid = RUNS[11]["id"]
+    one = CliRunner().invoke(main, ["--db", str(demo_copy), "search", rid, "--json"])
+    assert [h["run_id"] for h in json.loads(one.output)] == [rid]
+
+
+def test_a_part_given_typed_and_as_an_option_is_refused_not_overridden(demo_copy):
+    res = CliRunner().invoke(main, ["--db", str(demo_copy), "search", "trap:furan", "--trap", "anthracene", "--json"])
+    assert res.exit_code == 2
+    err = json.loads(res.output)
+    assert err["field"] == "trap" and "one way" in err["hint"]
+    # tags from both add up
+    from trapbook.search_query import combined, query_from_options
+
+    q = combined(parse_query("tag:glovebox"), query_from_options(tags=("screen",)))
+    assert set(q.tags) == {"glovebox", "screen"}

@@ -21,7 +21,7 @@ Typed syntax (the Logbook filter; `keys_markdown()` writes the README's table of
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import MISSING, dataclass, fields, replace
 
 from .errors import TrapbookError
 
@@ -444,3 +444,26 @@ def query_from_options(
         tags=tuple(t.strip() for t in tag_list if t and t.strip()),
         **given,
     )
+
+
+def combined(typed: Query, options: Query) -> Query:
+    """One Query of filter text typed on the command line and the command's options: every part of
+    both must hold. A part given both ways with different values is refused rather than one
+    silently winning; tags add up."""
+    merged: dict[str, object] = {}
+    for f in fields(Query):
+        default = f.default if f.default is not MISSING else ()
+        a, b = getattr(typed, f.name), getattr(options, f.name)
+        if f.name == "tags":
+            merged[f.name] = tuple(dict.fromkeys(a + b))
+        elif a == default or a is None:
+            merged[f.name] = b
+        elif b == default or b is None or a == b:
+            merged[f.name] = a
+        else:
+            raise TrapbookError(
+                f"'{f.name}' is given both in the typed filter and as an option",
+                "give it one way: either the word key:value or the --option",
+                field=f.name,
+            )
+    return replace(options, **merged)

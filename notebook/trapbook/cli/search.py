@@ -47,17 +47,21 @@ from .core import Ctx, emit_json, json_option, main, pass_ctx, say
 @json_option(
     help="Print a list of {run_id, title, score, matched} (under --group: {members, hits}, each hit also with member and ref MEMBER:ID)."
 )
+@click.argument("typed", nargs=-1)
 @pass_ctx
-def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], **filters) -> None:
+def search_cmd(ctx: Ctx, as_json: bool, tags: tuple[str, ...], typed: tuple[str, ...], **filters) -> None:
     """Find runs; all filters given must hold (AND). Results name what matched.
 
-    The Logbook's filter box reads the same query typed (trap:furan temp:>100 glovebox);
-    both run the same search, so they give the same runs.
+    TYPED is the Logbook filter's own query, e.g. `trapbook search trap:furan 'temp:>100' Iyer`
+    (quote what your shell would read, such as >); it combines with the options. Both run
+    the same search, so the filter box and this command give the same runs.
     """
     from ..search import search
-    from ..search_query import query_from_options
+    from ..search_query import combined, parse_query, query_from_options
 
     query = query_from_options(tags=tags, **filters)
+    if typed:
+        query = combined(parse_query(" ".join(typed)), query)
     if ctx.group:  # the same Query on every member's notebook, hits labelled MEMBER:ID
         from .group_view import search_group
 
