@@ -196,17 +196,6 @@ class LinesTab(FormRowsTab):
                 return None, f"another line is already called '{line['name']}'"
         return line, None
 
-    def take(self, focus: bool = True) -> tuple[dict | None, int | None]:
-        """The line in the form and the row it changes (None: a new one), the form cleared; or
-        (None, None) with the reason said below the form."""
-        line, why = self.form()
-        if line is None:
-            self.say(Text(why or "the form is empty", style=tone("stop")))
-            return None, None
-        index = self.index
-        self.blank(focus=focus)
-        return line, index
-
     def blank(self, focus: bool = False) -> None:
         self.index = None
         for k, *_ in LINE_FIELDS:

@@ -111,19 +111,6 @@ class StepsTab(FormRowsTab):
             return None, invalid
         return step, None
 
-    def take(self, focus: bool = True) -> tuple[dict | None, int | None]:
-        """The step in the form and the row it changes (None: a new one), the form cleared; or
-        (None, None) with the reason said below the form."""
-        step, why = self.form()
-        if step is None:
-            self.say(Text(why or "the form is empty", style=tone("stop")))
-            return None, None
-        index = self.index
-        self.blank()
-        if focus:
-            self.query_one("#step-add", Input).focus()
-        return step, index
-
     def blank(self) -> None:
         self.index = None
         self._loading = True
