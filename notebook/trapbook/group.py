@@ -101,7 +101,7 @@ def check_member(nb: Notebook) -> list[dict]:
         if "runs" not in tables or "versions" not in tables:
             rep.add("not-a-notebook", "file", "not a Trapbook notebook (its tables are missing)")
             return [p.to_dict() for p in rep.problems]
-        if not {"saves", "head", "run_index"} <= tables or schema.pending(conn):
+        if not {"saves", "head", "run_index"} <= tables or schema.pending_for_readers(conn):
             if newer_schema_problem(conn, nb.path) is None:
                 rep.add(
                     "old-schema",

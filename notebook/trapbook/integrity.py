@@ -115,7 +115,7 @@ def verify(nb, check_files: bool = True, noted_head: str | None = None) -> Repor
         rep.add("sqlite", "file", m)
     try:
         runs = _verify_runs(conn, rep)
-        current = schema.pending(conn) == []
+        current = schema.pending_for_readers(conn) == []
         if not current:
             rep.add(
                 "old-schema",

@@ -123,12 +123,21 @@ def _check_text(conn, run, rep) -> None:
 def _check_structure_rows(conn, rep) -> None:
     """Each stored structure's fingerprints, as the save computed them from its SMILES."""
     from .chemistry import fingerprints
+    from .store import structure_digest
 
+    entries = structure_digest.read(conn)
+    keys = {} if entries is None else dict(zip(entries["id"].tolist(), map(bytes, entries["key"])))
     n = 0
     for sid, smiles, inchikey, morgan, pattern, scheme in conn.execute(
         "SELECT id, smiles, inchikey, morgan, pattern, scheme FROM structures ORDER BY id"
     ):
         n += 1
+        if keys and keys.get(sid) != structure_digest.key_of(smiles):
+            rep.add(
+                "structure-mismatch",
+                f"structure {sid}",
+                "its search key differs from its SMILES: a group search would take it for another structure",
+            )
         try:
             bits = fingerprints.structure_bits(smiles)
         except TrapbookError as exc:

@@ -9,23 +9,25 @@ notebook the pool row of each of its structure ids. A query is screened and matc
 the pool's rows, once; each notebook's answer is read back through its ids. One notebook
 is a pool of one: the same code answers both.
 
-Rows are read with SQLite's aggregates (one string of ids, one string of SMILES, one
-blob of bits per notebook) rather than row by row; the SMILES come from their index (no
-fingerprint page is touched), and a notebook's bits are read only for the structures it
-is the first to hold. Everything is read, never written: the pool lives
-in the memory of the process (search_structures keeps it while the notebooks are unchanged).
+Which structures the notebooks share is found from each notebook's digest (one blob of
+(id, SMILES key) entries, store/structure_digest.py), so no SMILES is read only to learn
+that another notebook holds it too; a notebook without a usable digest has its SMILES read
+and keyed here. Each distinct structure's SMILES and bits are then read once, from the
+notebook that lends them, with SQLite's aggregates (one string of ids, one of SMILES, one
+blob of bits per notebook) rather than row by row. Everything is read, never written: the
+pool lives in the memory of the process (search_structures keeps it while the notebooks
+are unchanged).
 """
 
 from __future__ import annotations
 
-import itertools
 import json
-from collections import defaultdict
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from .errors import StoreError
+from .store import structure_digest
 
 #: The stored bit strings a pool reads: the substructure screen and the similarity fingerprint.
 COLUMNS = ("pattern", "morgan")
@@ -42,6 +44,7 @@ class Share:
     ids: np.ndarray
     rows: np.ndarray
     lends: np.ndarray
+    names: list[bytes] | None = None  # the SMILES as read, where they were read to make the share
 
 
 @dataclass
@@ -72,7 +75,6 @@ def _ids(nb, joined: str | None, n: int | None = None) -> np.ndarray:
 def _read_names(nb) -> tuple[np.ndarray, list[bytes]]:
     """(ids, UTF-8 SMILES) of every structure, from the SMILES index: no page of fingerprints is read.
 
-    As bytes: equal bytes are equal SMILES, and only the pool's new ones need to become text.
     A file that keeps its text in UTF-16 (not one Trapbook made) has its SMILES read as text."""
     text = "group_concat(smiles, char(10))"
     utf8 = nb.conn.execute("PRAGMA encoding").fetchone()[0] == "UTF-8"
@@ -85,43 +87,52 @@ def _read_names(nb) -> tuple[np.ndarray, list[bytes]]:
     return _ids(nb, ids, len(names)), names
 
 
-def _add_share(index: dict[bytes, int], smiles: list[str], key: str, token: str, ids: np.ndarray, names: list[bytes]) -> Share:
-    """Give each new SMILES of a notebook a pool row; structures already met share theirs.
+def _read_keys(nb, token: str) -> tuple[np.ndarray, np.ndarray, list[bytes] | None]:
+    """(ids, SMILES keys, SMILES or None) of every structure of a notebook.
 
-    `index` numbers a SMILES it has not met yet as it is looked up (a defaultdict over a
-    counter), so each row costs one lookup in C rather than a test and a lookup in Python;
-    the new rows are numbered from `start` in the order this notebook lists them."""
-    start = len(smiles)
-    if start:
-        rows = np.fromiter(map(index.__getitem__, names), dtype=np.int64, count=len(names))
-        lends = rows >= start
-        smiles.extend([names[i].decode() for i in np.flatnonzero(lends).tolist()])
-    else:  # the first notebook: every SMILES is new, numbered in its order (a pool of one takes this path only)
-        index.update(zip(names, range(len(names))))
-        index.default_factory = itertools.count(len(index)).__next__
-        rows, lends = np.arange(len(names), dtype=np.int64), np.ones(len(names), dtype=bool)
-        smiles.extend(map(bytes.decode, names))
-    if len(smiles) != len(index):  # a notebook stores each SMILES once (UNIQUE): else one row would be lent twice
-        raise StoreError(
-            f"the structure rows of {key} hold a SMILES more than once",
-            f"rebuild its search tables: open it on its own and run 'trapbook --db {key} reindex'",
-        )
-    return Share(key, token, ids, rows, lends)
+    From its digest where one describes every row (store/structure_digest.py: no SMILES is
+    read); else the SMILES are read and their keys worked out here, the same keys. A
+    notebook without a search token has its SMILES read: comparing them again is the only
+    way to see that it was written while the pool was read."""
+    entries = structure_digest.read(nb.conn) if token else None
+    if entries is not None:
+        return entries["id"].astype(np.int64), entries["key"], None
+    ids, names = _read_names(nb)
+    return ids, structure_digest.keys_of(names), names
 
 
 def read_pool(sources: list[tuple], column: str) -> Pool:
-    """The pool of these (notebook, file key, token) sources, with the bit string `column` read."""
+    """The pool of these (notebook, file key, token) sources, with the bit string `column` read.
+
+    Structures are told apart by the keys of their SMILES; a pool row's SMILES and bits are
+    read from the first notebook that holds it (it lends them), each once."""
     if column not in COLUMNS:
         raise ValueError(f"no stored bit string '{column}'")
-    index: dict[bytes, int] = defaultdict(itertools.count().__next__)
-    smiles: list[str] = []
+    read = [(nb, key, token, *_read_keys(nb, token)) for nb, key, token in sources]
+    keys = np.concatenate([r[4] for r in read]) if read else np.zeros((0, 2), np.uint64)
+    _, first, inverse = np.unique(keys[:, 0], return_index=True, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    if np.any(keys[first[inverse], 1] != keys[:, 1]):  # equal first words, different second: never expected
+        raise StoreError(
+            "two different structures of these notebooks share half a search key",
+            "search each notebook on its own, and report this: it should not happen",
+        )
     shares: dict[str, Share] = {}
-    lent = []
-    for nb, key, token in sources:
-        share = shares[key] = _add_share(index, smiles, key, token, *_read_names(nb))
-        lent.append(_lent_bits(nb, share, smiles, column))
-    pool = Pool(shares, smiles)
-    pool.bits[column] = _assemble(len(smiles), lent)
+    at = 0
+    for _nb, key, token, ids, _keys, names in read:
+        rows = inverse[at : at + len(ids)]
+        if len(rows) and np.bincount(rows, minlength=len(first)).max() > 1:  # a SMILES stored twice (it is UNIQUE)
+            raise StoreError(
+                f"the structure rows of {key} hold a SMILES more than once",
+                f"rebuild its search tables: open it on its own and run 'trapbook --db {key} reindex'",
+            )
+        lends = first[rows] == np.arange(at, at + len(ids))
+        shares[key] = Share(key, token, ids, rows, lends, None if token else names)
+        at += len(ids)
+    pool = Pool(shares, [""] * len(first))
+    by_key = {key: nb for nb, key, _ in sources}
+    lent = [_lent_bits(by_key[key], share, pool.smiles, column, with_names=True) for key, share in shares.items()]
+    pool.bits[column] = _assemble(len(first), lent)
     return pool
 
 
@@ -137,23 +148,24 @@ def read_column(pool: Pool, by_key: dict, column: str) -> np.ndarray:
     return pool.bits[column]
 
 
-def _lent_bits(nb, share: Share, smiles: list[str], column: str) -> tuple[np.ndarray, np.ndarray]:
-    """(pool rows, their bits) for the structures this notebook is the first to hold.
+def _lent_bits(nb, share: Share, smiles: list[str], column: str, with_names: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """(pool rows, their bits) for the structures this notebook is the first to hold; with_names,
+    their SMILES are put into the pool's list too (read in the same statement as the bits).
 
     Where it lends at least half its rows the table is read in one pass (cheaper than
     looking each id up), else only the ids it lends. The notebook's search token, read
     again afterwards, must still be the one the share was made under: any write in
     between (a save from elsewhere) changes it, and the pool is then read again (Moved).
-    A notebook without a token has its SMILES compared instead.
+    A notebook without a token has its SMILES compared with those its share was made from.
     """
     rows = share.rows[share.lends]
     if not len(rows):
         return rows, np.zeros((0, _WORDS), np.uint64)
     ids = share.ids[share.lends]
     where, args = ("", ()) if 2 * len(ids) >= len(share.ids) else (_BY_ID, (json.dumps(ids.tolist()),))
-    names = ", group_concat(smiles, char(10))" if not share.token else ", NULL"
+    text = "CAST(group_concat(smiles, char(10)) AS BLOB)" if with_names or not share.token else "NULL"
     got_ids, low, high, blob, joined = nb.conn.execute(
-        f"SELECT group_concat(id), min(scheme), max(scheme), CAST(group_concat({column}, '') AS BLOB){names} "
+        f"SELECT group_concat(id), min(scheme), max(scheme), CAST(group_concat({column}, '') AS BLOB), {text} "
         f"FROM structures{where}",
         args,
     ).fetchone()
@@ -162,13 +174,19 @@ def _lent_bits(nb, share: Share, smiles: list[str], column: str) -> tuple[np.nda
     at = order[np.minimum(np.searchsorted(got[order], ids), max(len(got) - 1, 0))] if len(got) else order
     if not np.array_equal(got[at], ids):
         raise Moved
+    names = None
+    if joined is not None:
+        read = joined.encode() if isinstance(joined, str) else joined
+        split = read.split(b"\n")
+        names = [split[i] for i in at.tolist()]
     if share.token:
         if _token(nb) != share.token:
             raise Moved
-    else:
-        read = joined.split("\n") if joined is not None else []
-        if [read[i] for i in at.tolist()] != [smiles[r] for r in rows.tolist()]:
-            raise Moved
+    elif share.names is None or names != [share.names[i] for i in np.flatnonzero(share.lends).tolist()]:
+        raise Moved
+    if with_names:
+        for r, name in zip(rows.tolist(), names or ()):
+            smiles[r] = name.decode()
     if _made_here(low, high) and len(blob or b"") == len(got) * _WORDS * 8:
         return rows, np.frombuffer(blob, dtype=np.uint64).reshape(len(got), _WORDS)[at]
     return rows, _made_again(nb, column, ids, [smiles[r] for r in rows.tolist()])

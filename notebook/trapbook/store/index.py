@@ -10,6 +10,7 @@ import json
 from typing import TYPE_CHECKING
 
 from ..errors import TrapbookError
+from . import structure_digest
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..records import Run
@@ -153,6 +154,7 @@ def structure_id(conn, smiles: str) -> int:
         "INSERT INTO structures (smiles, inchikey, morgan, pattern, mol, scheme) VALUES (?,?,?,?,?,?)",
         (canon, bits.inchikey, bits.morgan, bits.pattern, bits.mol, fingerprints.SCHEME),
     )
+    structure_digest.append(conn, cur.lastrowid, canon)
     return cur.lastrowid
 
 

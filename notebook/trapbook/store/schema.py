@@ -291,6 +291,17 @@ def _backfill_log(conn: sqlite3.Connection, chain) -> None:
         chain.append_save(conn, kind, rec, version, h)
 
 
+def _v6_structure_digest(conn: sqlite3.Connection) -> None:
+    """A compact (id, SMILES key) list of the stored structures, so notebooks searched together
+    find the structures they share without reading every SMILES (store/structure_digest.py)."""
+    from . import structure_digest
+
+    conn.execute(structure_digest.TABLE)
+    for trigger in structure_digest.TRIGGERS:
+        conn.execute(trigger)
+    structure_digest.build(conn)
+
+
 #: (version, description, function). Append, never edit: a notebook records each one applied.
 MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
     (1, "runs, versions, screens, index, strain cache, settings", _v1),
@@ -298,6 +309,7 @@ MIGRATIONS: list[tuple[int, str, Callable[[sqlite3.Connection], None]]] = [
     (3, "search: covering index of runs for condition queries", _v3_search_index),
     (4, "search: change token with triggers; covering index of structure links", _v4_search_token),
     (5, "integrity: save log and head, versioned settings, hash-chained screens, hashed cache entries", _v5_integrity),
+    (6, "search: a digest of the stored structures (id and SMILES key) for notebooks searched together", _v6_structure_digest),
 ]
 
 #: The newest schema this code knows; a notebook with a later migration is read but not written.
@@ -331,6 +343,16 @@ def pending(conn: sqlite3.Connection) -> list[int]:
     """Versions of the migrations this notebook still needs (read without taking a lock)."""
     done = applied_versions(conn) or set()
     return [v for v, _, _ in MIGRATIONS if v not in done]
+
+
+#: Migrations that only add derived aids a reader can do without (it works the same answers out
+#: another way): a notebook lacking only these is read as it is by a group or `verify`.
+READ_WITHOUT = frozenset({6})
+
+
+def pending_for_readers(conn: sqlite3.Connection) -> list[int]:
+    """The pending migrations without which this Trapbook cannot read the notebook as it means to."""
+    return [v for v in pending(conn) if v not in READ_WITHOUT]
 
 
 def migrate(conn: sqlite3.Connection, begin: Callable[[], None]) -> list[int]:
