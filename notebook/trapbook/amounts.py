@@ -15,7 +15,7 @@ from . import materials
 from .chemistry import molecules
 from .errors import ChemistryError, RecordError
 from .records import AMOUNT_FIELDS, Line, Run, parse_ratio
-from .units import to_canonical, unit_text
+from .units import parse_quantity, to_canonical, unit_text
 
 WATER_MW = 18.015  # g/mol, H2O from IUPAC standard atomic weights
 
@@ -133,6 +133,26 @@ def refuse_solid_by_volume(line: Line) -> None:
         )
 
 
+def with_density_on_file(line: Line) -> Line:
+    """A known liquid (a solvent Trapbook has data for, such as furan or 2,5-dimethylfuran)
+    given by equiv, amount, mass or volume without a density, with the density on file.
+
+    The bench syringes such a trap or additive, so its µL is what the chemist needs; and
+    counted as a solid its volume would drop out of the concentration and out of a sealed
+    vessel's fill and headspace. Solvent lines stay solvents (a volume, no equiv) and a
+    density or molarity the run gives always wins.
+    """
+    if line.density is not None or line.molarity is not None or line.role in ("solvent", "product"):
+        return line
+    mat = materials.recognise(line)
+    if mat is None or not mat.is_solvent or mat.density_g_ml is None:
+        return line
+    if mat.mp_c is not None and mat.mp_c.value > SOLID_ABOVE_MP_C:
+        return line
+    density = parse_quantity({"value": mat.density_g_ml.value, "unit": "g/mL"}, "density")
+    return line.model_copy(update={"density": density})
+
+
 def limiting_line(run: Run) -> Line:
     """The line all equiv refer to: marked limiting, else named, else the precursor."""
     flagged = [ln for ln in run.lines if ln.limiting]
@@ -235,6 +255,7 @@ def compute(run: Run, planned: bool = False) -> AmountTable:
     weighed where a line records it, or (`planned=True`) from the plan alone."""
     if not planned and any(ln.actual is not None for ln in run.lines):
         run = run.model_copy(update={"lines": [as_weighed(ln) for ln in run.lines]})
+    run = run.model_copy(update={"lines": [with_density_on_file(ln) for ln in run.lines]})
     for line in run.lines:
         refuse_solid_by_volume(line)
     lim = limiting_line(run)

@@ -33,6 +33,7 @@ from contextlib import nullcontext
 from dataclasses import dataclass
 
 from .errors import ChemistryError, TrapbookError
+from .text_rules import quoted_in_reason
 
 #: alignment temperature of the campaign's precursors (°C): fluoride additions start at room temperature
 ALIGN_TEMPERATURE_C = 25.0
@@ -395,7 +396,12 @@ def _save_record(nb, record: dict, failed: list[dict] | None, author: str | None
         value["failed"] = (load_record(nb, record["id"]) or {}).get("failed", unreadable)
     else:  # in a fixed order, so the same outcome is the same value
         value["failed"] = unreadable + sorted(failed, key=lambda f: (f["candidate"], f["what"], f["smiles"]))
-    nb.set_setting(RECORD_PREFIX + record["id"], value, author=author, reason=f"campaign {record['id']} on {record['source']}")
+    nb.set_setting(
+        RECORD_PREFIX + record["id"],
+        value,
+        author=author,
+        reason=f"campaign {record['id']} on {quoted_in_reason(record['source'])}",
+    )
 
 
 def load_record(nb, campaign: str) -> dict | None:

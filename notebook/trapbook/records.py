@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import json
+from pathlib import Path
 from typing import Any, Literal
 
 from pydantic import Field, ValidationError, ValidationInfo, field_validator, model_validator
@@ -442,6 +443,42 @@ def with_bench_words(run: Run, words: BenchWords | None) -> Run:
         if st.get("hold_written"):
             st["hold"] = st.pop("hold_written")
     return load_run(data, words)
+
+
+#: Largest run file read: a run of hundreds of lines with full notes is well under 1 MB, so
+#: more is not a run file (a device, a wrong path). Common practice, no source.
+RUN_FILE_MAX_BYTES = 16 * 2**20
+
+
+def read_text_limited(path: str, limit: int = RUN_FILE_MAX_BYTES, stream=None, what: str = "a run file") -> str:
+    """The UTF-8 text of `path` ('-': `stream`, standard input), refused past `limit` bytes.
+
+    Read in one bounded call, so /dev/zero, a huge or sparse file or an endless pipe ends in
+    a message, not in memory running out.
+    """
+    source = "standard input" if path == "-" else path
+    hint = f"give {what} (UTF-8 JSON) of at most {limit // 2**20} MB"
+    try:
+        if path == "-":
+            raw = stream.buffer.read(limit + 1) if hasattr(stream, "buffer") else stream.read(limit + 1)
+        else:
+            p = Path(path)
+            if not p.exists():
+                raise RecordError(f"no file {path}", f"give the path of {what}")
+            if p.is_dir():
+                raise RecordError(f"{path} is a folder, not {what}", f"give the path of {what}")
+            with p.open("rb") as fh:
+                raw = fh.read(limit + 1)
+    except OSError as exc:
+        raise RecordError(f"cannot read {source}: {exc.strerror or exc}", hint) from None
+    if len(raw) > limit:
+        raise RecordError(f"{source} is larger than {limit // 2**20} MB, too large for {what}", hint)
+    if isinstance(raw, str):
+        return raw
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise RecordError(f"cannot read {source}: it is not UTF-8 text ({exc.reason} at byte {exc.start})", hint) from None
 
 
 def load_run_text(text: str, source: str = "run file", words: BenchWords | None = None) -> Run:

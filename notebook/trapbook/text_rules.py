@@ -15,8 +15,9 @@ from typing import Annotated
 
 from pydantic import AfterValidator, Field
 
+from .errors import RecordError
 from .stored_reading import input_rules_apply
-from .text_safety import UNSAFE_IN_A_LINE, UNSAFE_IN_NOTES
+from .text_safety import UNSAFE_IN_A_LINE, UNSAFE_IN_NOTES, printable
 from .units import shown_input
 
 #: Longest single-line field (names, chemist, reasons, tags) and title. Common practice, no source.
@@ -94,6 +95,30 @@ def check_note(text: str) -> str:
             f"is {len(text):,} characters long; notes hold at most {NOTE_MAX:,}: shorten it, or attach the full text as a file"
         )
     return text
+
+
+#: Longest reason kept on a version: the same bound an imported history is read with
+#: (store/history_import.py), so every reason a save accepts comes back from an export.
+REASON_MAX = 2_000
+
+
+def clean_reason(reason: str) -> str:
+    """Why a save was made, as one line of plain text: it is kept in the hash-chained history,
+    shown in every history view and exported with it, so it follows the single-line rule."""
+    text = reason.strip() if isinstance(reason, str) else ""
+    try:
+        return check_line(text, REASON_MAX)
+    except ValueError as exc:
+        raise RecordError(
+            f"the reason {exc}", "say why in one line of plain text, e.g. --reason 'corrected furan volume'", field="reason"
+        ) from None
+
+
+def quoted_in_reason(text: str, limit: int = 200) -> str:
+    """A file or source name put into a reason Trapbook writes itself ('imported from NAME'):
+    control characters shown as escapes and the name cut short, so the reason stays one clean line."""
+    shown = printable(text)
+    return shown if len(shown) <= limit else shown[: limit - 1] + "…"
 
 
 def validate_run_id(text: str) -> str:

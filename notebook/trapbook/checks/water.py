@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from .. import amounts, materials
 from ..units import fmt_mmol, to_canonical
-from .context import Context
+from .context import Context, listing
 from .finding import Finding
 
 
@@ -22,6 +22,17 @@ def _solution_water(ctx: Context, line, row) -> float | None:
     return ctx.settings.tbaf_solution_water_per_fluoride * (row.mmol or 0.0)
 
 
+def _per_what(ctx: Context) -> tuple[float, str]:
+    """(mmol, words) the water is counted against: the precursor, as the threshold is set, even
+    when another line (a precious trap) is the limiting one; the limiting line only when no
+    precursor amount is known."""
+    rows = [(ln.name, ctx.row(ln.name)) for ln in ctx.run.lines_by_role("precursor")]
+    known = [(name, row.mmol) for name, row in rows if row is not None and row.mmol]
+    if known:
+        return sum(mmol for _, mmol in known), listing([name for name, _ in known])
+    return ctx.table.limiting_mmol, f"'{ctx.table.limiting}'"
+
+
 def check_water(ctx: Context) -> list[Finding]:
     """Water protonates or hydrolyses what fluoride releases; the chemist should see how much goes in."""
     if ctx.table is None:
@@ -37,12 +48,13 @@ def check_water(ctx: Context) -> list[Finding]:
     if not found:
         return []
     total = sum(w for _, w in found)
-    per = total / ctx.table.limiting_mmol
+    basis_mmol, basis = _per_what(ctx)
+    per = total / basis_mmol
     parts = ", ".join(f"'{n}' about {fmt_mmol(w)} mmol" for n, w in found)
     severity = "warn" if per > ctx.settings.water_warn_per_precursor else "note"
     msg = (
         f"The reagents bring about {fmt_mmol(total)} mmol water, {per:.2g} mmol per mmol of "
-        f"'{ctx.table.limiting}' ({parts}). Water competes with the trap (protonation, hydrolysis of the "
+        f"{basis} ({parts}). Water competes with the trap (protonation, hydrolysis of the "
         "leaving group) and slows fluoride. "
     )
     if severity == "warn":

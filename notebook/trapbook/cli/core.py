@@ -194,22 +194,10 @@ def pass_ctx(fn: Callable) -> Callable:
 
 def read_run_file(path: str):
     """A Run from a run file path ('-' for stdin), or a TrapbookError naming the file."""
-    from ..errors import RecordError
-    from ..records import load_run_text
+    from ..records import load_run_text, read_text_limited
 
-    if path == "-":
-        text = sys.stdin.read()
-        source = "standard input"
-    else:
-        p = Path(path)
-        if not p.exists():
-            raise RecordError(f"no file {path}", "give the path of a run file (JSON)")
-        try:
-            text = p.read_text(encoding="utf-8")
-        except (OSError, UnicodeDecodeError) as exc:
-            raise RecordError(f"cannot read {path}: {exc}", "give a UTF-8 JSON run file") from None
-        source = path
-    return load_run_text(text, source)
+    text = read_text_limited(path, stream=sys.stdin)
+    return load_run_text(text, "standard input" if path == "-" else path)
 
 
 def _names_a_file(ref: str) -> bool:

@@ -50,9 +50,9 @@ def export_cmd(ctx: Ctx, fmt: str, screen: str | None, output: str | None, inclu
 @pass_ctx
 def import_cmd(ctx: Ctx, path: str, create: bool, as_json: bool) -> None:
     """Import runs from a file, or JSON lines on stdin with '-' (all or nothing; errors name the record and field)."""
-    from ..exchange.jsonl import import_path, import_text
+    from ..exchange.jsonl import import_path, import_text, read_import_text
 
-    text = sys.stdin.read() if path == "-" else None
+    text = read_import_text("-", stream=sys.stdin) if path == "-" else None
     with ctx.notebook(create=create, offer_create=True) as nb:
         report = import_text(nb, text, author=ctx.author) if text is not None else import_path(nb, Path(path), author=ctx.author)
     if as_json:

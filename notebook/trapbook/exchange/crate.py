@@ -27,6 +27,7 @@ from typing import Any
 from ..errors import ExchangeError, RecordError, TrapbookError
 from ..files import atomic_target
 from ..records import Run, load_run, load_screen
+from ..text_rules import quoted_in_reason
 
 MAX_MEMBERS = 100_000
 MAX_TOTAL_BYTES = 8 * 1024**3
@@ -488,7 +489,7 @@ def import_path(nb, path, author=None) -> dict:
             stored = attachments.put_file(store, src)
             if stored.sha256 != sha:  # pragma: no cover - checked in read_folder
                 raise ExchangeError(f"attachment {sha[:12]}… changed while importing", "nothing was imported")
-        reason = f"imported from RO-Crate {path.name}"
+        reason = f"imported from RO-Crate {quoted_in_reason(path.name)}"
         with nb.transaction():
             results, notes = _store_runs(nb, runs, histories, author, reason)
             renamed = {r.id: res.run_id for r, res in zip(runs, results) if r.id and r.id != res.run_id}

@@ -11,7 +11,8 @@ from pathlib import Path
 
 from ..errors import ExchangeError, RecordError
 from ..files import write_atomic
-from ..records import Run, canonical_json, load_run
+from ..records import Run, canonical_json, load_run, read_text_limited
+from ..text_rules import quoted_in_reason
 
 
 def runs_for_export(nb, screen: str | None = None, include_withdrawn: bool = False) -> list[Run]:
@@ -62,14 +63,20 @@ def parse_jsonl(text: str, source: str) -> list[Run]:
     return runs
 
 
-def read_runs(path: Path) -> list[Run]:
-    if not path.exists():
-        raise ExchangeError(f"no file {path}", "give the path of a file to import")
+#: Largest file of runs read, the same bound as an ORD file (ord_import.MAX_IMPORT_BYTES).
+MAX_IMPORT_BYTES = 200 * 2**20
+
+
+def read_import_text(path: str, stream=None) -> str:
+    """The text of a file of runs ('-': standard input), refused past MAX_IMPORT_BYTES."""
     try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise ExchangeError(f"cannot read {path}: {exc}", "give a UTF-8 text file") from None
-    return read_runs_text(text, str(path))
+        return read_text_limited(path, MAX_IMPORT_BYTES, stream=stream, what="a file of runs")
+    except RecordError as exc:
+        raise ExchangeError(exc.message, exc.hint) from None
+
+
+def read_runs(path: Path) -> list[Run]:
+    return read_runs_text(read_import_text(str(path)), str(path))
 
 
 def read_runs_text(text: str, path: str) -> list[Run]:
@@ -121,7 +128,7 @@ def import_text(nb, text: str, source: str = "standard input", author: str | Non
 def import_runs(nb, runs: list[Run], source: str, name: str, author: str | None) -> dict:
     if not runs:
         raise ExchangeError(f"{source} holds no runs", "check the file")
-    results = nb.import_runs(runs, author=author, reason=f"imported from {name}")
+    results = nb.import_runs(runs, author=author, reason=f"imported from {quoted_in_reason(name)}")
     notes = [f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id]
     return {"format": "jsonl", "imported": [r.run_id for r in results], "screens": [], "skipped": [], "notes": notes}
 

@@ -21,6 +21,7 @@ from typing import Any
 
 from ..errors import ExchangeError, RecordError, TrapbookError
 from ..records import Run, load_run
+from ..text_rules import quoted_in_reason
 from .ord_common import (
     _MASS,
     _MOLES,
@@ -495,7 +496,7 @@ def import_path(nb, path, author=None) -> dict:
     """Registry entry: import every reaction of an ORD file as runs (all or nothing)."""
     path = Path(path)
     runs, notes = read_path(path)
-    results = nb.import_runs(runs, author=author, reason=f"imported from ORD file {path.name}")
+    results = nb.import_runs(runs, author=author, reason=f"imported from ORD file {quoted_in_reason(path.name)}")
     notes = [
         f"{r.id} was already taken; stored as {res.run_id}" for r, res in zip(runs, results) if r.id and r.id != res.run_id
     ] + notes

@@ -60,6 +60,30 @@ LINE_COLUMNS = (
 )
 
 
+#: A cell whose text starts with one of these is read as a formula by spreadsheet programs
+#: (OWASP, "CSV Injection"); docs/sources.md, "Records, files and exchange formats".
+FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+def inert(value):
+    """Stored text as a CSV cell a spreadsheet shows and never runs.
+
+    A title such as '=HYPERLINK(...)' is a chemist's text, not a formula: the leading quote
+    is the spreadsheet's own mark for "this is text". Numbers and other text pass unchanged.
+    """
+    if isinstance(value, str) and value.startswith(FORMULA_START):
+        return "'" + value
+    return value
+
+
+def _append_text_safe(sheet, values: list) -> None:
+    """Append a row whose text cells are stored as text, so none becomes a formula."""
+    sheet.append(values)
+    for cell in sheet[sheet.max_row]:
+        if isinstance(cell.value, str):
+            cell.data_type = "s"
+
+
 def _names(run, role: str) -> str:
     return "; ".join(ln.name for ln in run.lines_by_role(role))
 
@@ -172,7 +196,7 @@ def runs_csv(nb, runs, screen=None) -> str:
     w = csv.DictWriter(buf, fieldnames=_columns(rows), extrasaction="ignore", lineterminator="\n")
     w.writeheader()
     for r in rows:
-        w.writerow({k: ("" if v is None else v) for k, v in r.items()})
+        w.writerow({k: ("" if v is None else inert(v)) for k, v in r.items()})
     return buf.getvalue()
 
 
@@ -200,20 +224,20 @@ def export_xlsx(nb, runs, screen=None, output=None):
     cols = _columns(rows)
     ws.append(cols)
     for r in rows:
-        ws.append([r.get(c) for c in cols])
+        _append_text_safe(ws, [r.get(c) for c in cols])
     ws2 = wb.create_sheet("lines")
     ws2.append(list(LINE_COLUMNS))
     for run in runs:
         for lr in line_rows(run):
-            ws2.append([lr.get(c) for c in LINE_COLUMNS])
+            _append_text_safe(ws2, [lr.get(c) for c in LINE_COLUMNS])
     if screen and nb is not None:
         sc = nb.get_screen(screen)
         ws3 = wb.create_sheet("screen")
-        ws3.append(["screen id", sc.id])
-        ws3.append(["name", sc.name])
-        ws3.append(["scale", sc.scale])
+        _append_text_safe(ws3, ["screen id", sc.id])
+        _append_text_safe(ws3, ["name", sc.name])
+        _append_text_safe(ws3, ["scale", sc.scale])
         for k, v in sc.factors.items():
-            ws3.append([f"levels: {k}", ", ".join(v)])
+            _append_text_safe(ws3, [f"levels: {k}", ", ".join(v)])
     for sheet in wb.worksheets:
         for cell in sheet[1]:
             cell.font = Font(bold=True)

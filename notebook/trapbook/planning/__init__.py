@@ -36,7 +36,17 @@ from .levels import (
     find_protocol,
     find_trap,
 )
-from .plan import PlannedRun, PlannedScreen, make_screen, parse_vary, plan_screen, split_levels, store_plan, totals
+from .plan import (
+    PlannedRun,
+    PlannedScreen,
+    make_screen,
+    not_yet_happened,
+    parse_vary,
+    plan_screen,
+    split_levels,
+    store_plan,
+    totals,
+)
 from .sheet import bench_sheet_html, bench_sheet_text, vial_instructions
 
 __all__ = [
@@ -54,6 +64,7 @@ __all__ = [
     "find_protocol",
     "find_trap",
     "make_screen",
+    "not_yet_happened",
     "parse_vary",
     "plan_screen",
     "split_levels",

@@ -97,6 +97,19 @@ def _combos(levels: dict[str, list[str]], subset) -> list[dict[str, str]]:
     return chosen
 
 
+#: What a run planned from another cannot carry over: it has not happened yet.
+HAPPENED_KEYS = ("id", "outcome", "attachments", "page", "date")
+
+
+def not_yet_happened(data: dict) -> dict:
+    """A stored run's dict made the plan of a new run: no id, outcome, files, page or date, and
+    no line keeps what was weighed for the earlier run (`actual`), or the new vial would be
+    worked out from, and its bench sheet filled in with, another flask's weighings."""
+    data = {k: v for k, v in data.items() if k not in HAPPENED_KEYS}
+    data["lines"] = [{k: v for k, v in ln.items() if k != "actual"} for ln in data.get("lines", [])]
+    return data
+
+
 def plan_screen(
     base: Run, factors: dict[str, list[str]], scale=None, subset=None, name: str | None = None, nb=None
 ) -> PlannedScreen:
@@ -119,9 +132,7 @@ def plan_screen(
     )
     plan = PlannedScreen(screen, base)
     for n, combo in enumerate(combos, 1):
-        data = base.to_json_dict()
-        for k in ("id", "outcome", "attachments", "page", "date"):  # a planned run has not happened yet
-            data.pop(k, None)
+        data = not_yet_happened(base.to_json_dict())
         if scale is not None:
             _scale_to(data, base, scale)
         for f, level in combo.items():

@@ -272,7 +272,9 @@ class Notebook(ScreenStore, SettingsCacheStore):
     def _write_version(self, run: Run, author: str, reason: str, action: str, prev: str | None, version: int = 1) -> SaveResult:
         """Append the version, log the save, move the current row and rebuild the summary: one transaction."""
         from ..records import canonical_json
+        from ..text_rules import clean_reason
 
+        reason = clean_reason(reason)
         data = canonical_json(run.to_json_dict())
         t = now_utc()
         h = version_hash(run.id, version, author, t, reason, action, prev, data)

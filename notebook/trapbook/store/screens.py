@@ -44,8 +44,10 @@ class ScreenStore:
             return row[0] + 1
 
     def _write_screen(self, screen: Screen, author: str, reason: str, version: int) -> None:
+        from ..text_rules import clean_reason
         from .notebook import now_utc  # at call time: store/notebook.py imports this module
 
+        reason = clean_reason(reason)
         # not canonical: the order of the factors is the order the chemist gave them in
         data = json.dumps(screen.model_dump(mode="json", exclude_none=True), ensure_ascii=False)
         t = now_utc()

@@ -28,6 +28,7 @@ class SettingsCacheStore:
         Editor drafts (`draft:...`) are scratch space and are only kept, not versioned.
         Setting the value it already has adds no version.
         """
+        from ..text_rules import clean_reason
         from .notebook import default_author, now_utc  # at call time: store/notebook.py imports this module
 
         stored = chain.stored_value(value)
@@ -39,7 +40,7 @@ class SettingsCacheStore:
                 if last is not None and last[2] == stored:
                     return
                 version, prev = (last[0] + 1, last[1]) if last else (1, None)
-                who, why, t = default_author(self, author), reason.strip() or "settings changed", now_utc()
+                who, why, t = default_author(self, author), clean_reason(reason) or "settings changed", now_utc()
                 h = chain.setting_hash(key, version, who, t, why, prev, stored)
                 self.db["setting_versions"].insert(
                     {
