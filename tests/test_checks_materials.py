@@ -126,6 +126,9 @@ def test_hazard_texts_exist_for_every_hazard_named():
         ("TBAT", None, "tbat"),
         ("Me3SiF", None, "tmsf"),
         (None, "C[Si](C)(C)F", "tmsf"),
+        ("water", None, "water"),
+        ("H2O (degassed)", None, "water"),
+        ("solvent B", "O", "water"),  # water alone is water, though a hydrate's water is set aside
     ],
 )
 def test_recognition(name, smiles, key):
@@ -158,3 +161,27 @@ def test_solution_solvent_from_name():
 def test_fluorotrimethylsilane_is_a_gas_at_room_temperature():
     # bp ~16 °C: handbook value, from memory (the brief and DESIGN.md agree)
     assert materials.by_key("tmsf").bp_c.value == pytest.approx(16, abs=1)
+
+
+def test_water_boils_at_one_atmosphere_at_its_normal_boiling_point():
+    # Source: docs/sources.md, "Water": the normal boiling point is where the vapour pressure is
+    # 1 atm = 1.01325 bar (IUPAC Gold Book, "normal boiling point"); water's is 99.97 °C on ITS-90
+    # (from memory), so at 100 °C the pressure is within 0.5 % of 1 atm. Constants: NIST Chemistry
+    # WebBook, 344-373 K (from memory).
+    water = materials.by_key("water")
+    assert water.antoine.pressure_bar(100.0) == pytest.approx(1.01325, rel=0.005)
+    assert water.antoine.pressure_bar(99.97) == pytest.approx(1.01325, rel=0.002)
+    assert water.bp_c.value == pytest.approx(100.0, abs=0.05) and water.mp_c.value == pytest.approx(0.0, abs=0.05)
+    # Source: density 0.9982 g/mL at 20 °C (CRC Handbook, from memory)
+    assert water.density_g_ml.value == pytest.approx(0.9982, abs=5e-4)
+
+
+def test_water_molar_mass_on_file_matches_the_atomic_weights():
+    # Source: docs/sources.md, "Amounts, molar masses and solvents": water is 18.015 g/mol (IUPAC
+    # 2021); recomputed here by molmass, a formula library independent of the data file.
+    from molmass import Formula
+
+    water = materials.by_key("water")
+    assert water.molar_mass_g_mol.value == pytest.approx(18.015, abs=0.002)
+    assert water.molar_mass_g_mol.value == pytest.approx(Formula("H2O").mass, abs=0.002)
+    assert water.molar_mass_g_mol.source.strip()

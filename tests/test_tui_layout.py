@@ -50,6 +50,7 @@ async def test_logbook_at_80x24_shows_ten_runs_without_a_sideways_scroll(demo_pa
         assert table.region.height - 1 >= 10  # one line is the header
         assert table.row_count >= 10
         assert table.virtual_size.width <= table.size.width  # every column shown fits
+        await footer_drawn(pilot)
         assert f1_in_sight(app, SMALL[0])
         await pilot.press("p")  # the preview hidden: the table takes its room
         await pilot.pause()
@@ -74,6 +75,7 @@ async def test_workbench_at_80x24_shows_every_lines_amounts(demo_path):
         # 10 equiv on 0.100 mmol of precursor: 1.00 mmol × 68.07 g/mol = 68.1 mg
         assert str(row[labels.index("mg")]) == f"{1.00 * 68.07:.1f}"
         assert str(row[labels.index("mmol")]) == "1.00"
+        await footer_drawn(pilot)
         assert f1_in_sight(app, SMALL[0])
 
 

@@ -135,7 +135,8 @@ def refuse_solid_by_volume(line: Line) -> None:
 
 def with_density_on_file(line: Line) -> Line:
     """A known liquid (a solvent Trapbook has data for, such as furan or 2,5-dimethylfuran)
-    given by equiv, amount, mass or volume without a density, with the density on file.
+    given by equiv, amount, mass or volume without a density, with the density on file
+    (and, with neither SMILES nor molar mass given, the molar mass on file, as for "water").
 
     The bench syringes such a trap or additive, so its µL is what the chemist needs; and
     counted as a solid its volume would drop out of the concentration and out of a sealed
@@ -149,8 +150,10 @@ def with_density_on_file(line: Line) -> Line:
         return line
     if mat.mp_c is not None and mat.mp_c.value > SOLID_ABOVE_MP_C:
         return line
-    density = parse_quantity({"value": mat.density_g_ml.value, "unit": "g/mL"}, "density")
-    return line.model_copy(update={"density": density})
+    update = {"density": parse_quantity({"value": mat.density_g_ml.value, "unit": "g/mL"}, "density")}
+    if line.smiles is None and line.molar_mass is None and mat.molar_mass_g_mol is not None:
+        update["molar_mass"] = parse_quantity({"value": mat.molar_mass_g_mol.value, "unit": "g/mol"}, "molar_mass")
+    return line.model_copy(update=update)
 
 
 def limiting_line(run: Run) -> Line:
@@ -210,12 +213,26 @@ def _fill(line: Line, mmol: float | None, mw: float | None) -> tuple[float | Non
     return mass, vol
 
 
-def _water_mmol(line: Line, mmol: float | None, mass_mg: float | None) -> float | None:
-    """Water a line brings: hydrate water written in its SMILES, plus a stated wt% of the weighed mass.
+def _water_of_water_line(mmol: float | None, volume_ul: float | None) -> float | None:
+    """mmol of a line that is water itself: its own amount, or (a solvent line, given by volume)
+    its volume with the density and molar mass on file."""
+    if mmol is not None:
+        return mmol
+    water = materials.by_key(materials.WATER_KEY)
+    if volume_ul is None or water.density_g_ml is None or water.molar_mass_g_mol is None:
+        return None
+    return volume_ul / 1000.0 * water.density_g_ml.value * 1000.0 / water.molar_mass_g_mol.value
+
+
+def _water_mmol(line: Line, mmol: float | None, mass_mg: float | None, volume_ul: float | None = None) -> float | None:
+    """Water a line brings: all of it when the line is water; else hydrate water written in its
+    SMILES, plus a stated wt% of the weighed mass.
 
     The wt% of a stock solution cannot be turned into mmol without the solution's
     density, so it is left to the bench checks (which use the supplier's figure).
     """
+    if materials.is_water(line):
+        return _water_of_water_line(mmol, volume_ul)
     water = 0.0
     known = False
     if line.smiles and mmol is not None:
@@ -294,7 +311,7 @@ def compute(run: Run, planned: bool = False) -> AmountTable:
                 "add its SMILES (or molar_mass) so its mass can be worked out",
             )
         mass, vol = _fill(line, mmol, mw)
-        water = _water_mmol(line, mmol, mass)
+        water = _water_mmol(line, mmol, mass, vol)
         if vol is not None:
             total_ul += vol
         rows.append(

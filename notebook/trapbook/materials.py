@@ -26,6 +26,8 @@ _QUALIFIERS = re.compile(r"\b(dry|anhydrous|anh\.?|degassed|distilled|fresh|fres
 _SOLUTION_SOLVENT = re.compile(r"\bin\s+([A-Za-z0-9,\-]+(?:\s+ether)?)\s*$", re.I)
 
 _BAR_PER_KPA = 0.01
+#: The key of water in data/solvents.json: a line of it is counted whole by the water check.
+WATER_KEY = "water"
 _BAR_PER_MMHG = 1.01325 / 760.0
 
 
@@ -79,6 +81,7 @@ class Material:
     density_g_ml: Sourced | None = None
     antoine: Antoine | None = None
     hazards: tuple[str, ...] = ()
+    molar_mass_g_mol: Sourced | None = None
     fluoride_per_formula: float | None = None
     solution_water_per_fluoride: Sourced | None = None
     hygroscopic: bool = False
@@ -139,6 +142,7 @@ def _material(raw: dict, category: str) -> Material:
         density_g_ml=_sourced(raw.get("density_g_ml"), f"{key} density"),
         antoine=_antoine(raw.get("antoine"), key),
         hazards=tuple(raw.get("hazards", ())),
+        molar_mass_g_mol=_sourced(raw.get("molar_mass_g_mol"), f"{key} molar mass"),
         fluoride_per_formula=raw.get("fluoride_per_formula"),
         solution_water_per_fluoride=_sourced(raw.get("solution_water_per_fluoride"), f"{key} solution water"),
         hygroscopic=bool(raw.get("hygroscopic", False)),
@@ -182,6 +186,20 @@ def caution_text(keys) -> str:
     return " ".join([table[k].caution for k in keys] + [DEFER])
 
 
+def cautions_once(cautions) -> str:
+    """Several cautions as one text: each sentence once, then `DEFER` once at the end ("" for none).
+
+    Every caution closes with `DEFER`; joined as they are, a page would repeat it once per
+    caution. The one place cautions are put together (exports, the experimental paragraph).
+    """
+    said: list[str] = []
+    for text in cautions:
+        for sentence in re.split(r"(?<=\.)\s+", (text or "").replace(DEFER, "")):
+            if sentence.strip() and sentence.strip() not in said:
+                said.append(sentence.strip())
+    return " ".join(said + [DEFER]) if said else ""
+
+
 def material_caution(mat: Material) -> str:
     """The caution of one material: those of all its hazards."""
     return caution_text(mat.hazards)
@@ -205,13 +223,14 @@ def _name_key(text: str) -> str:
 
 
 def _structure_key(smiles: str) -> str | None:
-    """Canonical SMILES without water fragments, so a hydrate matches its anhydrous entry."""
+    """Canonical SMILES without water fragments, so a hydrate matches its anhydrous entry;
+    water alone stays water."""
     try:
         canon = molecules.canonical(smiles)
     except ChemistryError:
         return None
     frags = sorted(f for f in canon.split(".") if f != "O")
-    return ".".join(frags) or None
+    return ".".join(frags) or ("O" if canon else None)
 
 
 @lru_cache(maxsize=1)
@@ -255,6 +274,12 @@ def find(name: str | None = None, smiles: str | None = None) -> Material | None:
 def recognise(line) -> Material | None:
     """The material on a record line (anything with .name and .smiles), or None."""
     return find(getattr(line, "name", None), getattr(line, "smiles", None))
+
+
+def is_water(line) -> bool:
+    """Whether a record line is water itself (by name or structure), not a hydrate or a solution in water."""
+    mat = recognise(line)
+    return mat is not None and mat.key == WATER_KEY
 
 
 def solution_solvent(line) -> Material | None:

@@ -19,6 +19,7 @@ from pydantic import Field, ValidationError, ValidationInfo, field_validator, mo
 from . import bench_words
 from .bench_words import BenchWords
 from .errors import ChemistryError, RecordError, UnitError
+from .json_text import loads_once
 from .outcome_records import (
     HRMS,
     INTEGRAL_MAX,
@@ -483,7 +484,7 @@ def read_text_limited(path: str, limit: int = RUN_FILE_MAX_BYTES, stream=None, w
 
 def load_run_text(text: str, source: str = "run file", words: BenchWords | None = None) -> Run:
     try:
-        data = json.loads(text)
+        data = loads_once(text, source)
     except json.JSONDecodeError as exc:
         raise RecordError(
             f"{source} is not valid JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})", "fix the JSON syntax"

@@ -10,17 +10,25 @@ CHECKS_KEY = "checks"
 def notebook_check_settings(nb):
     """The thresholds in force in this notebook (documented defaults where none is set)."""
     from .checks import CheckSettings
+    from .stored_reading import reading_stored
 
     data = nb.get_setting(CHECKS_KEY, None) if nb is not None else None
-    return CheckSettings.from_dict(data) if data else CheckSettings()
+    with reading_stored():  # a value stored before its range was checked is still read as it was
+        return CheckSettings.from_dict(data) if data else CheckSettings()
 
 
 def update_check_settings(nb, assignments, reset: bool = False, author: str | None = None, reason: str = "settings changed"):
     """Apply NAME=VALUE changes (validated as a whole) and store them as a new version of the
-    notebook's settings (who, when, why); return what is in force."""
+    notebook's settings (who, when, why); return what is in force.
+
+    Each value given here must lie in its setting's range; the others are kept as stored, so a
+    value saved before ranges were checked never blocks an unrelated change.
+    """
     from .checks import CheckSettings
+    from .stored_reading import reading_stored
 
     data = {} if reset else notebook_check_settings(nb).to_dict()
+    given: list[str] = []
     for item in assignments:
         if "=" not in item:
             raise TrapbookError(f"'{item}' is not NAME=VALUE", "e.g. --set trap_min_equiv=3")
@@ -29,7 +37,10 @@ def update_check_settings(nb, assignments, reset: bool = False, author: str | No
             data[name] = float(value)
         except ValueError:
             raise TrapbookError(f"setting {name}: '{value}' is not a number", "give a plain number") from None
-    settings = CheckSettings.from_dict(data)  # raises on unknown names or bad values
+        given.append(name)
+    CheckSettings.refuse_out_of_range({name: data[name] for name in given})
+    with reading_stored():
+        settings = CheckSettings.from_dict(data)  # raises on unknown names, non-numbers and broken pairs
     nb.set_check_settings(settings.to_dict(), author=author, reason=reason)  # with the findings judged by them
     return settings
 

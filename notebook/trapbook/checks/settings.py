@@ -1,13 +1,20 @@
-"""The thresholds a lab may set for itself (`CheckSettings`), each default with its source."""
+"""The thresholds a lab may set for itself (`CheckSettings`), each default with its source.
+
+Each threshold carries the range a lab may set it within, in its own definition below. A new
+value outside it is refused; a value a notebook stored before the range was checked is still
+read as it was (`stored_reading`), so no notebook becomes unreadable.
+"""
 
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 from typing import Any
 
-from ..bench_words import OVERNIGHT_H, ROOM_TEMPERATURE_C, BenchWords
+from ..bench_words import OVERNIGHT_H, OVERNIGHT_RANGE_H, ROOM_TEMPERATURE_C, ROOM_TEMPERATURE_RANGE_C, BenchWords
 from ..errors import TrapbookError
+from ..stored_reading import input_rules_apply
 
 #: Where each default threshold comes from; shown in docs and kept next to the values.
 SETTING_SOURCES: dict[str, str] = {
@@ -33,41 +40,62 @@ SETTING_SOURCES: dict[str, str] = {
 }
 
 
+def _setting(default: float, low: float, high: float, unit: str, meaning: str = "") -> Any:
+    """A threshold with the range a lab may set it within (docs/sources.md, "Ranges of the check
+    settings"): wide enough for any lab's own choice, narrow enough that a typo of a few orders
+    of magnitude, which would silence a check or make it fire on every run, is caught."""
+    return dataclasses.field(default=default, metadata={"range": (low, high), "unit": unit, "meaning": meaning})
+
+
+def _finite(value: int | float) -> bool:
+    try:
+        return math.isfinite(value)
+    except OverflowError:  # an integer too large for a float
+        return False
+
+
 @dataclass
 class CheckSettings:
     """Thresholds a lab may set differently; stored as a notebook-level setting.
 
-    Defaults and their sources are in `SETTING_SOURCES`.
+    Defaults and their sources are in `SETTING_SOURCES`; each field's range is in its definition.
     """
 
-    trap_min_equiv: float = 2.0
-    fluoride_min_per_silyl: float = 1.0
-    water_warn_per_precursor: float = 1.0
-    tbaf_solution_water_per_fluoride: float = 2.5
-    solution_density_g_ml: float = 0.90
-    concentration_low_M: float = 0.01
-    concentration_high_M: float = 1.0
-    bp_margin_c: float = 0.0
-    mp_margin_c: float = 0.0
-    yield_max_pct: float = 100.0
-    mass_balance_max_pct: float = 105.0
-    ee_tolerance_pct: float = 2.0
-    headspace_ml: float = 10.0
-    vessel_fill_max_pct: float = 50.0
-    yield_disagree_pct: float = 15.0
-    hrms_ppm_max: float = 5.0
-    weighed_diff_max_pct: float = 10.0
-    room_temperature_c: float = ROOM_TEMPERATURE_C  # the bench's words (bench_words), set like the thresholds
-    overnight_h: float = OVERNIGHT_H
+    trap_min_equiv: float = _setting(2.0, 1.0, 1000.0, "equiv")
+    fluoride_min_per_silyl: float = _setting(1.0, 0.5, 10.0, "fluoride per silyl group")
+    water_warn_per_precursor: float = _setting(1.0, 0.001, 100.0, "mmol water per mmol precursor")
+    tbaf_solution_water_per_fluoride: float = _setting(2.5, 0.01, 20.0, "mol water per mol fluoride")
+    solution_density_g_ml: float = _setting(0.90, 0.5, 3.5, "g/mL")
+    concentration_low_M: float = _setting(0.01, 1e-5, 20.0, "M")
+    concentration_high_M: float = _setting(1.0, 1e-5, 20.0, "M")
+    bp_margin_c: float = _setting(0.0, -50.0, 50.0, "°C")
+    mp_margin_c: float = _setting(0.0, -50.0, 50.0, "°C")
+    yield_max_pct: float = _setting(100.0, 100.0, 150.0, "%")
+    mass_balance_max_pct: float = _setting(105.0, 100.0, 200.0, "%")
+    ee_tolerance_pct: float = _setting(2.0, 0.1, 50.0, "points")
+    headspace_ml: float = _setting(10.0, 0.1, 10000.0, "mL")
+    vessel_fill_max_pct: float = _setting(50.0, 1.0, 100.0, "%")
+    yield_disagree_pct: float = _setting(15.0, 1.0, 100.0, "points")
+    hrms_ppm_max: float = _setting(5.0, 0.1, 100.0, "ppm")
+    weighed_diff_max_pct: float = _setting(10.0, 0.1, 100.0, "%")
+    # the bench's words (bench_words), set like the thresholds and held to bench_words' own ranges
+    room_temperature_c: float = _setting(
+        ROOM_TEMPERATURE_C, *ROOM_TEMPERATURE_RANGE_C, "°C", "the room temperature 'rt' stands for"
+    )
+    overnight_h: float = _setting(OVERNIGHT_H, *OVERNIGHT_RANGE_H, "h", "the hours 'overnight' stands for")
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
             v = getattr(self, f.name)
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or v != v or v in (float("inf"), float("-inf")):
-                raise TrapbookError(f"check setting '{f.name}' must be a number (got {v!r})", "give a plain number")
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not _finite(v):
+                raise TrapbookError(
+                    f"check setting '{f.name}' must be a number (got {v!r})", "give a plain number", field=f.name, got=v
+                )
             setattr(self, f.name, float(v))
-        positive = [f.name for f in dataclasses.fields(self) if not f.name.endswith("_margin_c")]
-        bad = [n for n in positive if getattr(self, n) <= 0]
+        if input_rules_apply():
+            self.refuse_out_of_range(self.to_dict())
+        # Always, stored values too: a threshold that must be positive was refused at zero or below from the start.
+        bad = [f.name for f in dataclasses.fields(self) if f.metadata["range"][0] > 0 and getattr(self, f.name) <= 0]
         if bad:
             raise TrapbookError(f"check settings must be greater than zero: {', '.join(bad)}", "give positive numbers")
         BenchWords(self.room_temperature_c, self.overnight_h)  # refuses a room temperature or overnight out of range
@@ -76,6 +104,37 @@ class CheckSettings:
                 "concentration_low_M must be below concentration_high_M",
                 f"got {self.concentration_low_M:g} M and {self.concentration_high_M:g} M",
             )
+
+    @classmethod
+    def refuse_out_of_range(cls, values: dict[str, Any]) -> None:
+        """Refuse the first of these name: value pairs that lies outside its setting's range
+        (names that are not settings are left to `from_dict`, which says so)."""
+        by_name = {f.name: f for f in dataclasses.fields(cls)}
+        for name, value in values.items():
+            f = by_name.get(name)
+            if f is None:
+                continue
+            low, high = f.metadata["range"]
+            unit = f.metadata["unit"]
+            if not (isinstance(value, (int, float)) and not isinstance(value, bool) and low <= value <= high):
+                shown = f"{value:g}" if isinstance(value, float) else repr(value)
+                meaning = f" ({f.metadata['meaning']})" if f.metadata["meaning"] else ""
+                raise TrapbookError(
+                    f"check setting {name}{meaning} = {shown} is outside its range, {low:g} to {high:g} {unit}",
+                    f"give {name} a value from {low:g} to {high:g} {unit} (its default is {f.default:g}), "
+                    f"e.g. {name}={f.default:g}",
+                    field=name,
+                    got=value,
+                    expected=(low, high),
+                )
+
+    @classmethod
+    def allowed_range(cls, name: str) -> tuple[float, float, str]:
+        """(low, high, unit) a lab may set this threshold within."""
+        f = next((f for f in dataclasses.fields(cls) if f.name == name), None)
+        if f is None:
+            raise TrapbookError(f"unknown check setting: {name}", f"known settings are: {', '.join(SETTING_SOURCES)}")
+        return (*f.metadata["range"], f.metadata["unit"])
 
     def to_dict(self) -> dict:
         return dataclasses.asdict(self)

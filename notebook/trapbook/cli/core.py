@@ -134,12 +134,14 @@ class Ctx:
         return Path(self.db).expanduser() if self.db else default_path()
 
     def notebook(self, create: bool = False, offer_create: bool = False):
-        """The notebook at --db. Only `create=True` (init, --create) makes a new one: a
-        mistyped path is an error naming it, never a new empty notebook (or folders)."""
+        """The notebook at --db. Only `create=True` (--create) makes a new one, and removes it
+        again if the command fails before saving anything in it: a mistyped path is an error
+        naming it, never a new empty notebook (or folders)."""
         from ..store import Notebook
+        from ..store.made_for_command import notebook_made_for_command
 
         if create:
-            return Notebook.create(self.db_path())
+            return notebook_made_for_command(self.db_path())
         return Notebook.open(self.existing_path(offer_create))
 
     def existing_path(self, offer_create: bool = False) -> Path:

@@ -102,7 +102,8 @@ def settings(ctx: Ctx, assignments: tuple[str, ...], reset: bool, reason: str, h
     if as_json:
         emit_json(data)
         return
-    from ..checks import SETTING_SOURCES
+    from ..checks import SETTING_SOURCES, CheckSettings
 
     for name, value in data.items():
-        click.echo(f"{name:36} {value:g}    ({SETTING_SOURCES.get(name, '')})")
+        low, high, unit = CheckSettings.allowed_range(name)
+        click.echo(f"{name:36} {value:g}    [{low:g} to {high:g} {unit}]    ({SETTING_SOURCES.get(name, '')})")

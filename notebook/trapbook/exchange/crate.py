@@ -26,6 +26,7 @@ from typing import Any
 
 from ..errors import ExchangeError, RecordError, TrapbookError
 from ..files import atomic_target
+from ..json_text import loads_once
 from ..records import Run, load_run, load_screen
 from ..text_rules import quoted_in_reason
 
@@ -325,7 +326,9 @@ def _load_json(path: Path, eid: str) -> Any:
     if not path.is_file():
         raise ExchangeError(f"the crate lists {eid} but the file is not in it", "nothing was imported")
     try:
-        return json.loads(path.read_text(encoding="utf-8"))
+        return loads_once(path.read_text(encoding="utf-8"), eid)
+    except RecordError as exc:  # a key given twice
+        raise ExchangeError(exc.message, f"{exc.hint}; nothing was imported", field=exc.field) from None
     except (ValueError, UnicodeDecodeError, OSError, RecursionError) as exc:
         raise ExchangeError(f"{eid} is not valid JSON ({str(exc)[:120]})", "nothing was imported") from None
 

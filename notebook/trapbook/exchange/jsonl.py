@@ -11,6 +11,7 @@ from pathlib import Path
 
 from ..errors import ExchangeError, RecordError
 from ..files import write_atomic
+from ..json_text import loads_once
 from ..records import Run, canonical_json, load_run, read_text_limited
 from ..text_rules import quoted_in_reason
 
@@ -47,7 +48,9 @@ def parse_jsonl(text: str, source: str) -> list[Run]:
         if not raw.strip():
             continue
         try:
-            data = json.loads(raw)
+            data = loads_once(raw, f"{source} line {n}")
+        except RecordError as exc:
+            raise ExchangeError(exc.message, f"{exc.hint}; nothing was imported", field=exc.field) from None
         except json.JSONDecodeError as exc:
             raise ExchangeError(
                 f"{source} line {n} is not valid JSON ({exc.msg})", "fix that line; nothing was imported"
@@ -84,7 +87,9 @@ def read_runs_text(text: str, path: str) -> list[Run]:
     stripped = text.lstrip()
     if stripped.startswith("["):
         try:
-            items = json.loads(text)
+            items = loads_once(text, path)
+        except RecordError as exc:
+            raise ExchangeError(exc.message, f"{exc.hint}; nothing was imported", field=exc.field) from None
         except json.JSONDecodeError as exc:
             raise ExchangeError(
                 f"{path} is not valid JSON ({exc.msg}, line {exc.lineno})", "fix the file; nothing was imported"
@@ -102,11 +107,16 @@ def read_runs_text(text: str, path: str) -> list[Run]:
         return out
     if stripped.startswith("{") and "\n{" not in stripped.strip():
         try:
-            return [load_run(json.loads(text))]
+            data = loads_once(text, path)
         except (json.JSONDecodeError, RecursionError):
-            pass
+            pass  # not one JSON object: read as JSON lines below, which names the line at fault
         except RecordError as exc:
-            raise ExchangeError(f"{path}: {exc.message}", "fix the record; nothing was imported") from None
+            raise ExchangeError(exc.message, f"{exc.hint}; nothing was imported", field=exc.field) from None
+        else:
+            try:
+                return [load_run(data)]
+            except RecordError as exc:
+                raise ExchangeError(f"{path}: {exc.message}", "fix the record; nothing was imported") from None
     return parse_jsonl(text, str(path))
 
 

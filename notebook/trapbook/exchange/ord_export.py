@@ -151,19 +151,16 @@ def _step_words(i: int, step) -> str:
 _ATMOSPHERES = {"n2": "NITROGEN", "nitrogen": "NITROGEN", "ar": "ARGON", "argon": "ARGON", "air": "AIR"}
 
 
-def _safety_notes(run: Run, findings: list) -> list[str]:
-    """Cautions the bench findings attach to this run, once each, with the usual closing line."""
-    cautions: list[str] = []
-    for f in findings:
-        if f.caution and f.caution not in cautions:
-            cautions.append(f.caution)
-    from ..materials import caution_text
+def _safety_notes(run: Run, findings: list) -> str:
+    """Cautions the bench findings attach to this run, each sentence once, with the usual closing line once."""
+    from ..materials import caution_text, cautions_once
 
+    cautions = [f.caution for f in findings if f.caution]
     if any(ln.role == "fluoride source" for ln in run.lines) and not any("fluoride" in c.lower() for c in cautions):
         cautions.append(caution_text(("fluoride",)))
     if any(s.sealed for s in run.steps) and not any("pressure" in c.lower() for c in cautions):
         cautions.append(caution_text(("sealed_pressure",)))
-    return cautions
+    return cautions_once(cautions)
 
 
 def _add_inputs(rxn, run: Run, table, limiting_name: str | None, notes: list[str]) -> None:
@@ -323,7 +320,7 @@ def run_to_reaction(run: Run, email: str | None = None, record_time: str | None 
         rxn.provenance.reaction_metadata[FINDINGS_METADATA].CopyFrom(_data(json.dumps(flagged, ensure_ascii=False)))
     safety = _safety_notes(run, findings)
     if safety:
-        rxn.notes.safety_notes = " ".join(safety)
+        rxn.notes.safety_notes = safety
     if run.notes:
         rxn.notes.procedure_details = run.notes
 

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import re
-
 from .. import amounts
 from ..errors import RecordError, TrapbookError
 from ..records import Run
@@ -44,16 +42,12 @@ def cautions(nb, run: Run) -> Paragraph | None:
     """The cautions the bench checks give for this run (pressure, fluoride, solvents), once each:
     whoever repeats a procedure needs them as much as whoever planned it."""
     from ..findings import findings_for
-    from ..materials import DEFER
+    from ..materials import cautions_once
 
-    said: list[str] = []
-    for finding in findings_for(nb, run):
-        for sentence in re.split(r"(?<=\.)\s+", (finding.caution or "").replace(DEFER, "")):
-            if sentence.strip() and sentence.strip() not in said:
-                said.append(sentence.strip())
-    if not said:
+    text = cautions_once(finding.caution for finding in findings_for(nb, run))
+    if not text:
         return None
-    return Paragraph().add("Caution:", "bold").add(" ").add(" ".join(said + [DEFER]), "italic")
+    return Paragraph().add("Caution:", "bold").add(" ").add(text, "italic")
 
 
 def run_procedure(run: Run, nb=None) -> Document:

@@ -10,12 +10,13 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
-from textual import work
+from textual import events, work
 from textual.app import App
 from textual.binding import Binding
 
 from ..errors import TrapbookError
 from ..text_safety import printable
+from .screens.question import QuestionScreen, TypeAheadGate
 
 
 class TrapbookApp(App):
@@ -59,6 +60,8 @@ class TrapbookApp(App):
         #: --author for this session; otherwise the notebook's "you are" name (f9) is used.
         self.given_author = author
         self.name_asked = False
+        #: Keys typed while a question is being asked or answered are set aside (screens/question.py).
+        self.typeahead = TypeAheadGate()
         self.warm = warm
         self.nb = None
         self.started = time.perf_counter()
@@ -153,10 +156,38 @@ class TrapbookApp(App):
         name, source = self.author_and_source()
         return None if source == "login" else name
 
+    async def on_event(self, event: events.Event) -> None:
+        """Keys reach the screens only through the type-ahead gate (see `ask`)."""
+        if isinstance(event, (events.Key, events.Paste)) and not event.is_forwarded and not self.typeahead.admits(event):
+            self.typeahead.set_aside += 1
+            if isinstance(self.screen, QuestionScreen) and not self.typeahead.shut:
+                self.screen.say_set_aside()  # typed before the question appeared, read only now
+            return
+        await super().on_event(event)
+
+    def ask(self, question: QuestionScreen, answered) -> None:
+        """Show a question; `answered(answer)` runs once it is answered.
+
+        From now until the question is drawn, and from its answer until `answered` has run
+        (which may ask the next question), keys typed are set aside rather than landing in
+        the screen beneath or in a box that was not yet on the screen.
+        """
+        question.asked = True
+        self.typeahead.close()
+
+        def settle(answer) -> None:
+            try:
+                answered(answer)
+            finally:
+                if not isinstance(self.screen, QuestionScreen):  # a next question opens the gate when drawn
+                    self.typeahead.release()
+
+        self.push_screen(question, settle)
+
     def action_whoami(self) -> None:
         from .screens.name_dialog import NameDialog
 
-        self.push_screen(NameDialog(self.chosen_author), self._name_chosen)
+        self.ask(NameDialog(self.chosen_author), self._name_chosen)
 
     def ask_name_then(self, suggestion: str | None, proceed) -> bool:
         """Before the first save in a notebook without a name, ask for one; True if asked.
@@ -169,7 +200,7 @@ class TrapbookApp(App):
         from .screens.name_dialog import NameDialog
 
         self.name_asked = True
-        self.push_screen(NameDialog(None, suggestion, first_save=True), lambda name: (self._name_chosen(name), proceed()))
+        self.ask(NameDialog(None, suggestion, first_save=True), lambda name: (self._name_chosen(name), proceed()))
         return True
 
     def _name_chosen(self, name: str | None) -> None:

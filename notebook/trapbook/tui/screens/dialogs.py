@@ -9,8 +9,10 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
+from .question import AnswerInput, QuestionScreen
 
-class ReasonDialog(ModalScreen[str | None]):
+
+class ReasonDialog(QuestionScreen[str | None]):
     """A stored run only changes with a reason, recorded in its version trail."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel")]
@@ -23,8 +25,9 @@ class ReasonDialog(ModalScreen[str | None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
             yield Label(f"Why does {self.run_id} change? (it becomes version {(self.version or 0) + 1})", classes="dialog-title")
-            yield Input(placeholder="e.g. corrected furan volume; added isolated mass", id="reason")
+            yield AnswerInput(placeholder="e.g. corrected furan volume; added isolated mass", id="reason")
             yield Static("", id="reason-msg", classes="field-msg")
+            yield self.set_aside_note()
             yield Static("Enter saves · Esc goes back without saving", classes="dialog-hint")
 
     def on_mount(self) -> None:
@@ -34,6 +37,7 @@ class ReasonDialog(ModalScreen[str | None]):
     def _ok(self, event: Input.Submitted) -> None:
         if not event.value.strip():
             self.query_one("#reason-msg", Static).update("a reason is needed")
+            self.listen_again()
             return
         self.dismiss(event.value.strip())
 

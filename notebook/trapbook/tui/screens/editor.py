@@ -56,7 +56,9 @@ class WorkbenchScreen(StrainPanelMixin, LiveRunMixin, Screen):
     """
 
     BINDINGS = [  # in order of importance: the footer shows the first that fit, f1 lists them all
-        Binding("ctrl+s", "save", "Save"),
+        # priority: the save (and the questions it asks) starts before the keys typed behind it
+        # are handed to the focused field
+        Binding("ctrl+s", "save", "Save", priority=True),
         Binding("escape", "leave", "Back"),
         Binding("f7", "side", "Track/checks"),
         Binding("f2", "tab('tab-run')", "Run tab", show=False),  # the tab titles show f2-f5
@@ -109,6 +111,8 @@ class WorkbenchScreen(StrainPanelMixin, LiveRunMixin, Screen):
         self.call_after_refresh(self.fit_name_column)
         if self.run is not None:  # the addition track is drawn to the width the side panel has
             self.call_after_refresh(self.recompute)
+        else:  # the status line is fitted to the width it has
+            self.call_after_refresh(self.refresh_status)
 
     def action_side(self) -> None:
         """f7: the order of additions, strain card and checks — a pane of its own under 120 columns."""
@@ -382,7 +386,7 @@ class WorkbenchScreen(StrainPanelMixin, LiveRunMixin, Screen):
             return
         from .dialogs import ReasonDialog
 
-        self.app.push_screen(ReasonDialog(self.run_id, self.base_version), self._save_with_reason)
+        self.app.ask(ReasonDialog(self.run_id, self.base_version), self._save_with_reason)
 
     def _save_with_reason(self, reason: str | None) -> None:
         if not reason:

@@ -12,14 +12,14 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Input, Label, Static
 
 from ...errors import TrapbookError
 from ...text_safety import printable
+from .question import AnswerInput, QuestionScreen
 
 
-class NameDialog(ModalScreen[str | None]):
+class NameDialog(QuestionScreen[str | None]):
     """Asks for the name recorded on every save in this notebook; Esc keeps things as they are."""
 
     DEFAULT_CSS = """
@@ -42,8 +42,9 @@ class NameDialog(ModalScreen[str | None]):
                 else "No name is set: saves would be recorded under the computer's login name."
             )
             yield Static(said + " The name goes on every version you save here (author of the change).", markup=False)
-            yield Input(value=self.suggestion, placeholder="e.g. A. Trial", id="author-name")
+            yield AnswerInput(value=self.suggestion, placeholder="e.g. A. Trial", id="author-name")
             yield Static("", id="author-msg", classes="field-msg", markup=False)
+            yield self.set_aside_note()
             hint = "Enter keeps the name · Esc " + (
                 "saves under the login name this time" if self.first_save else "changes nothing"
             )
@@ -60,6 +61,7 @@ class NameDialog(ModalScreen[str | None]):
             name = clean_author(event.value)
         except TrapbookError as exc:
             self.query_one("#author-msg", Static).update(printable(exc.message))
+            self.listen_again()
             return
         self.dismiss(name)
 

@@ -121,7 +121,7 @@ class LinesTab(FormRowsTab):
     def show(self, data: dict, run, amounts) -> None:
         """The run's lines with the amounts worked out (`amounts`: its table), the limiting one marked."""
         self.data, self.run, self.amounts = data, run, amounts
-        self.fill(self.table_rows())
+        self.fill_rows(self.table_rows())
 
     def rows(self) -> list[dict]:
         return self.data.get("lines") or []

@@ -238,7 +238,7 @@ class OutcomeTab(RowsTab):
     def _fill_products(self) -> None:
         """One row per product result, with the yields the core works out from it."""
         ys = {name.casefold(): y for name, y, _ in yields_each(self.run, self.amount_table) if y is not None}
-        RowsTab.fill(self, [_product_row(i, p, ys.get(str(p.get("product", "")).casefold())) for i, p in enumerate(self.rows())])
+        self.fill_rows([_product_row(i, p, ys.get(str(p.get("product", "")).casefold())) for i, p in enumerate(self.rows())])
 
     def _show_yields(self) -> None:
         from ...units import fmt_mmol

@@ -59,7 +59,7 @@ class RowsTab(TabPane):
         """Clear the form: it writes a new row."""
         raise NotImplementedError
 
-    def fill(self, rows: list[list]) -> None:
+    def fill_rows(self, rows: list[list]) -> None:
         """Refill the table only if its rows changed (each refill costs a layout), keeping the cursor where it was."""
         if rows == self._rows:
             return

@@ -83,7 +83,7 @@ class StepsTab(FormRowsTab):
                     " ".join(marks),
                 ]
             )
-        self.fill(rows)
+        self.fill_rows(rows)
 
     def rows(self) -> list[dict]:
         return self.steps

@@ -138,16 +138,38 @@ class LiveRunMixin:
         return findings_for(self.nb, self.run, strain=self.strain, alignment=self.alignment)
 
     def refresh_status(self) -> None:
-        where = f"{self.run_id} v{self.base_version}" if self.run_id else "new run (not yet in the notebook)"
-        state = "unsaved changes, kept as a draft" if self.dirty else "no unsaved changes"
-        text = Text(f"{where} · {state} · ")
+        """The status line, fitted to its width (`status_line.fit_status`) so nothing runs off the edge."""
+        from .status_line import fit_status, wrapped_line_count
+
+        status = self.query_one("#status", Static)
+        width = status.content_size.width or self.app.size.width - 2  # before the first layout
+        text = fit_status(self.status_parts(), width)
+        lines = wrapped_line_count(text.plain, width)
+        # a change of height needs a layout; a change of words in the same lines does not
+        self.put("#status", text, key=(text.markup, width), layout=lines != self.__dict__.get("_status_lines"))
+        self._status_lines = lines
+
+    def status_parts(self) -> list:
+        """Where the run stands, each part with shorter readings for a narrow screen; what
+        matters most (can it be saved, which run, unsaved work) is given up last."""
+        from .status_line import Part
+
         if self.problem:
-            text.append("cannot be saved yet: " + self.problem.replace("\n", " "), style=f"{tone('stop')}")
+            why = self.problem.replace("\n", " ")
+            verdict = (f"cannot be saved yet: {why}", f"not savable yet: {why}")
         else:
-            text.append("complete: ctrl+s saves", style=f"{tone('ok')}")
+            verdict = ("complete: ctrl+s saves", "ctrl+s saves")
+        where = (f"{self.run_id} v{self.base_version}",) if self.run_id else ("new run (not yet in the notebook)", "new run")
+        parts = [Part(tuple(Text(w) for w in where), rank=1, droppable=False)]
+        if self.dirty:
+            parts.append(Part((Text("unsaved changes, kept as a draft"), Text("unsaved, draft kept"), Text("unsaved")), 2, False))
+        else:
+            parts.append(Part((Text("no unsaved changes"), Text("no changes")), rank=4))
+        style = tone("stop") if self.problem else tone("ok")
+        parts.append(Part(tuple(Text(v, style=style) for v in verdict), rank=0, droppable=False))
         if not self.side_in_sight():
-            text.append_text(self.checks_summary())
-        self.put("#status", text, layout=False)
+            parts.append(Part((self.checks_summary(),), rank=3))
+        return parts
 
     def fit_name_column(self) -> None:
         """The Lines tab's table gets the width the tabs have: the app's, less the side panel beside them."""
@@ -163,7 +185,7 @@ class LiveRunMixin:
         from ...text import SEVERITY_MARK
         from ...theme import severity_style
 
-        out = Text(" · checks: ")
+        out = Text("checks: ")
         if self.run is None or self.findings is None:
             return out.append("not run yet", style=tone("muted"))
         counts = {sev: sum(f.severity == sev for f in self.findings) for sev in ("stop", "warn")}
