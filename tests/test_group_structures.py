@@ -343,6 +343,6 @@ def test_a_cache_folder_that_cannot_be_written_is_said_and_the_answer_stands(lab
     monkeypatch.setenv("TRAPBOOK_CACHE_DIR", str(blocker))
     options = dict(substructure=ANTHRACENE)
     S.clear_caches()
-    with Group.open(_files(lab)) as group, pytest.warns(UserWarning, match="could not be kept"):
+    with pytest.warns(UserWarning, match="could not be kept"), Group.open(_files(lab)) as group:  # said by closing at the latest
         hits = {(h["member"], h["run_id"]) for h in group.search(query_from_options(**options))}
     assert hits == {(m, rid) for m, p in zip(MEMBERS, _files(lab)) for rid in _brute(p, options)} != set()

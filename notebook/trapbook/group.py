@@ -22,8 +22,10 @@ the cache key is made of the structure, tier and engine version, not of the note
 from __future__ import annotations
 
 import sqlite3
+import sys
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
+from operator import itemgetter
 from pathlib import Path
 
 from .errors import NotFoundError, StoreError, TrapbookError
@@ -241,6 +243,9 @@ class Group:
         return cls(members)
 
     def close(self) -> None:
+        kept = sys.modules.get(f"{__package__}.structure_pool_file")  # loaded only if a structure search ran
+        if kept is not None:
+            kept.settle()  # pool files kept for writing are written while the members are still known
         for m in self.members:
             if m.nb is not None:
                 m.nb.screened_with = ()  # a member kept after closing is searched alone, not with closed files
@@ -296,10 +301,13 @@ class Group:
         from .search import search
 
         hits = []
-        for m in self.readable():
-            for h in search(m.nb, query):
-                hits.append({"member": m.label, "ref": m.label + REF_SEPARATOR + h.run_id, **h.to_dict()})
-        hits.sort(key=lambda h: (-h["score"], h["member"], h["run_id"]))
+        for m in sorted(self.readable(), key=lambda m: m.label):
+            labelled = [
+                {"member": m.label, "ref": m.label + REF_SEPARATOR + h.run_id, **h.to_dict()} for h in search(m.nb, query)
+            ]
+            labelled.sort(key=itemgetter("run_id"))
+            hits += labelled
+        hits.sort(key=itemgetter("score"), reverse=True)  # stable: equal scores stay by member, then id
         if query.limit is not None:
             hits = hits[: query.limit]
         return hits

@@ -507,9 +507,14 @@ def load_screen(data: Any) -> Screen:
         raise explain(exc, data, "screen") from None
 
 
+#: json.dumps with these options builds a new encoder on every call; chains hash hundreds of
+#: thousands of small dicts when a group opens, so one encoder of the same options is kept.
+_CANONICAL = json.JSONEncoder(sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+
+
 def canonical_json(obj: Any) -> str:
     """Deterministic JSON for hashing: sorted keys, no spaces, UTF-8 kept."""
-    return json.dumps(obj, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+    return _CANONICAL.encode(obj)
 
 
 def stored_run(text: str) -> Run:

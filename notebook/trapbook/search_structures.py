@@ -146,7 +146,7 @@ def _pool_for(nb, memo: _Memo, column: str, fresh: bool = False) -> tuple[struct
         if pool is None:
             pool = _read_pool(sources, column)
             if on_disk:
-                pool_file.save_or_warn(pool, sources)
+                pool_file.save_later(pool, sources)
         _POOLS.pop(tuple(by_key), None)
         if len(_POOLS) >= _KEEP_POOLS:
             _POOLS.pop(next(iter(_POOLS)))
@@ -176,7 +176,7 @@ def _pool_with(nb, memo: _Memo, column: str) -> tuple[structure_pool.Pool, np.nd
         return pool, pool.bits[column]
     sources = [(by_key[key], key, share.token) for key, share in pool.shares.items()]
     if pool_file.kept_on_disk(sources):
-        pool_file.save_or_warn(pool, sources)  # now with this column too
+        pool_file.save_later(pool, sources)  # now with this column too
     return pool, bits
 
 

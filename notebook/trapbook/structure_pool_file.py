@@ -18,9 +18,11 @@ comes from the notebooks as they are.
 
 from __future__ import annotations
 
+import atexit
 import hashlib
 import json
 import os
+import threading
 import time
 import warnings
 import zipfile
@@ -97,8 +99,11 @@ def _pool_from(data: dict, sources: list[tuple]) -> Pool | None:
 
 def save(pool: Pool, sources: list[tuple]) -> None:
     """Write the pool for these sources (whole, then renamed into place: a reader never sees half a file)."""
-    where = folder()
-    where.mkdir(parents=True, exist_ok=True, mode=0o700)
+    _write(_arrays(pool, sources), folder() / _name(sources))
+
+
+def _arrays(pool: Pool, sources: list[tuple]) -> dict[str, np.ndarray]:
+    """What the file holds, taken from the pool now (a later query may add a column to the pool)."""
     arrays = {
         "format": np.array(FORMAT),
         "keys": np.array([k for _, k, _ in sources]),
@@ -107,26 +112,57 @@ def save(pool: Pool, sources: list[tuple]) -> None:
     }
     for i, share in enumerate(pool.shares[k] for _, k, _ in sources):
         arrays.update({f"ids{i}": share.ids, f"rows{i}": share.rows, f"lends{i}": share.lends})
-    arrays.update({f"bits_{c}": b for c, b in pool.bits.items()})
-    path = where / _name(sources)
-    part = path.with_name(f"{path.stem}.{os.getpid()}.part")
+    arrays.update({f"bits_{c}": b for c, b in list(pool.bits.items())})
+    return arrays
+
+
+def _write(arrays: dict[str, np.ndarray], path: Path) -> None:
+    path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+    part = path.with_name(f"{path.stem}.{os.getpid()}.{threading.get_ident()}.part")
     with open(part, "wb") as fh:
         np.savez(fh, **arrays)
     os.replace(part, path)
-    _prune(where)
+    _prune(path.parent)
 
 
 def save_or_warn(pool: Pool, sources: list[tuple]) -> None:
     """`save`, or a warning that says why not: the search's answer stands either way (it came from
     the notebooks), only the next process will read them again."""
+    _write_or_warn(_arrays(pool, sources), folder() / _name(sources))
+
+
+def _write_or_warn(arrays: dict[str, np.ndarray], path: Path) -> None:
     try:
-        save(pool, sources)
+        _write(arrays, path)
     except OSError as exc:
         warnings.warn(
-            f"the structure pool could not be kept in {folder()} ({exc}); the next search reads the notebooks "
+            f"the structure pool could not be kept in {path.parent} ({exc}); the next search reads the notebooks "
             "again. Set TRAPBOOK_CACHE_DIR to a folder you can write.",
             stacklevel=2,
         )
+
+
+_PENDING: dict[str, tuple[Pool, list[tuple]]] = {}
+
+
+def save_later(pool: Pool, sources: list[tuple]) -> None:
+    """Keep the pool to be written by `settle`: when the group is closed or the process ends.
+
+    The search that read the pool answers without writing a file of several megabytes that
+    only the next process needs (a file written at once, or by a thread beside the search,
+    costs the search its time). Written at the end it also holds every bit string the
+    process read meanwhile."""
+    _PENDING[_name(sources)] = (pool, list(sources))
+
+
+def settle() -> None:
+    """Write every pool kept for writing (`save_or_warn` each: a file that cannot be written is said)."""
+    while _PENDING:
+        _, (pool, sources) = _PENDING.popitem()
+        save_or_warn(pool, sources)
+
+
+atexit.register(settle)
 
 
 def _prune(where: Path) -> None:
