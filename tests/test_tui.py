@@ -509,6 +509,25 @@ async def test_copy_as_plan_is_written_by_whoever_copies_it(demo_path):
         assert screen.query_one("#run-chemist").value == "pilot"
 
 
+def test_copy_as_plan_keeps_no_weighing_of_the_earlier_flask():
+    """A copied plan is worked out from its planned amounts: the earlier run's weighed masses
+    (Line.actual), outcome, files and id stay with that run, as for a screen's vials."""
+    import copy
+
+    from samples import MINIMAL_RUN
+    from trapbook.planning.plan import HAPPENED_KEYS
+    from trapbook.tui.rundata import plan_from
+
+    stored = copy.deepcopy(MINIMAL_RUN)
+    stored.update(id="TB-0042", date="2026-01-05", outcome={"observations": "done"})
+    stored["lines"][0]["actual"] = {"value": 72.0, "unit": "mg"}
+    plan = plan_from(stored)
+    assert all("actual" not in line for line in plan["lines"])
+    assert not {"id", "outcome", "attachments", "page"} & set(plan)
+    assert plan["status"] == "planned" and plan["date"] != "2026-01-05" and "date" in HAPPENED_KEYS
+    assert stored["lines"][0]["actual"] == {"value": 72.0, "unit": "mg"}  # the stored run is not touched
+
+
 async def test_narrow_terminal_keeps_f1_and_the_addition_track_in_sight(demo_path):
     """At 100 columns the side panel is a pane of its own (f7), the footer ends in f1, the track does not wrap."""
     app = TrapbookApp(demo_path, author="pilot", warm=False)

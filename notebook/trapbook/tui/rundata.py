@@ -54,10 +54,12 @@ def clean(value):
 
 
 def plan_from(stored: dict) -> dict:
-    """An earlier run as the plan of a new one: same lines and steps, no id or outcome."""
-    data = copy.deepcopy(stored)
-    for key in ("id", "outcome", "attachments", "page"):
-        data.pop(key, None)
+    """An earlier run as the plan of a new one: same lines and steps; what happened to the
+    earlier flask (id, outcome, files, weighings) stays with it (`planning.not_yet_happened`,
+    the same rule a screen's vials are planned by)."""
+    from ..planning import not_yet_happened
+
+    data = not_yet_happened(copy.deepcopy(stored))
     data["status"] = "planned"
     data["date"] = _dt.date.today().isoformat()
     data["title"] = f"Plan from {stored.get('id', 'earlier run')}: {stored.get('title', '')}"[:300]
