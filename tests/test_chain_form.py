@@ -1,6 +1,6 @@
 """The chain's own writer of canonical JSON (store/chain.py `_canonical`) against the records'
 canonical form, which is Python's json.dumps with sorted keys and compact separators
-(source: the Python standard library's json module; the form every stored hash was made with)."""
+(source: docs/sources.md "The chain's canonical JSON")."""
 
 from __future__ import annotations
 
@@ -22,7 +22,7 @@ def test_the_chain_writes_exactly_the_canonical_json(obj):
 
 
 def test_a_version_hash_is_the_sha256_of_that_text():
-    """Source: hashlib SHA-256 over json.dumps(sorted keys, compact, UTF-8 kept) of the link's fields."""
+    """Source: docs/sources.md "The chain's canonical JSON": hashlib SHA-256 over json.dumps of the link's fields."""
     import hashlib
 
     fields = dict(run="TB-0001", version=2, author="Ö. Ñ", time="2026-12-02T10:00:00+00:00", reason='fixed \\ "q"', action="edit")

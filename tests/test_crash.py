@@ -62,8 +62,9 @@ def _writer(path: str, fd: int, seed: int, attach_dir: str) -> None:
         os.write(fd, f"{res.run_id} {res.version} {res.hash}\n".encode())
 
 
-def _warm_up(tmp_path) -> None:
-    """Import what a save uses (checks, materials, ...) once here, so each forked writer saves at once."""
+def _warm_up(tmp_path) -> float:
+    """Import what a save uses (checks, materials, ...) once here, so each forked writer saves at once;
+    return the seconds one save takes on this machine now (the median of five)."""
     from trapbook import attachments
     from trapbook.store import Notebook
 
@@ -72,11 +73,20 @@ def _warm_up(tmp_path) -> None:
         f = tmp_path / "warm.bin"
         f.write_bytes(b"warm")
         attachments.attach(nb, rid, f, author="warm")
+        took = []
+        for i in range(5):
+            t0 = time.perf_counter()
+            nb.add_run(dict(_RUN, title=f"warm {i}"), author="warm")
+            took.append(time.perf_counter() - t0)
+    return sorted(took)[2]
 
 
 def _kill_loop(path, tmp_path, kills: int, max_delay: float, seed: int):
+    """Saves reported by writers each killed at a random moment up to max_delay after starting;
+    on a machine slow enough that a save takes more than max_delay / 8, the delays stretch to
+    eight saves, so each kill still lands among several saves."""
     ctx = mp.get_context("fork")
-    _warm_up(tmp_path)
+    max_delay = max(max_delay, 8 * _warm_up(tmp_path))
     rng = random.Random(seed)
     reported: list[tuple[str, int, str]] = []
     attach_dir = tmp_path / "incoming"
@@ -126,7 +136,7 @@ def test_sigkill_at_random_moments_loses_no_reported_save(tmp_path):
 
     path = tmp_path / "crash.sqlite"
     Notebook.create(path).close()
-    reported = _kill_loop(path, tmp_path, kills=30, max_delay=0.3, seed=7)  # a save takes ~20-40 ms on a busy machine
+    reported = _kill_loop(path, tmp_path, kills=30, max_delay=0.3, seed=7)  # a save: ~20-40 ms on a busy machine, or more
     # common practice, no source: more than 3 saves per kill on average shows saves were under way
     assert len(reported) > 3 * 30  # the writer really was saving, many times, when it was killed
     _check(path, reported)

@@ -82,7 +82,7 @@ def _group_answers(paths: list[Path]) -> list[set[tuple]]:
 
 
 def test_each_stored_structure_has_the_sha256_of_its_smiles_as_key(tmp_path):
-    """Source: Python's hashlib SHA-256 (FIPS 180-4) of each stored canonical SMILES, read by plain SQL."""
+    """Source: docs/sources.md "The structure digest": hashlib SHA-256 of each stored canonical SMILES, read by plain SQL."""
     path = _lab(tmp_path)[0]
     stored = dict(_sql(path, "SELECT id, smiles FROM structures"))
     assert _entries(path) == {sid: hashlib.sha256(smi.encode()).digest()[:16] for sid, smi in stored.items()}
