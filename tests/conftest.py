@@ -50,3 +50,14 @@ def demo_notebook(demo_notebook_path):
     nb = Notebook.open(demo_notebook_path)
     yield nb
     nb.close()
+
+
+@pytest.fixture
+def demo_path(tmp_path) -> Path:
+    """A fresh demo notebook of this test's own, to write to (the demo lab names no "you are" chemist,
+    so a first save asks for one)."""
+    from trapbook.demo import build_demo
+
+    path = tmp_path / "demo.sqlite"
+    build_demo(path)
+    return path

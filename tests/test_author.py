@@ -89,15 +89,6 @@ def test_a_bad_author_option_saves_nothing(db, tmp_path):
 # --- the terminal UI ---------------------------------------------------------------------
 
 
-@pytest.fixture
-def demo_path(tmp_path):
-    from trapbook.demo import build_demo
-
-    path = tmp_path / "demo.sqlite"
-    build_demo(path)
-    return path
-
-
 async def test_a_copied_run_keeps_its_chemist_when_no_name_is_set(demo_path):
     pytest.importorskip("textual")
     from trapbook.tui.app import TrapbookApp

@@ -12,7 +12,6 @@ pytest.importorskip("textual")
 
 from rdkit import Chem  # independent reference for the structure filter
 
-from trapbook.demo import build_demo
 from trapbook.store import Notebook
 from trapbook.tui.app import TrapbookApp
 from trapbook.tui.screens.editor import WorkbenchScreen
@@ -20,13 +19,6 @@ from trapbook.tui.screens.runs import LogbookScreen
 
 SIZE = (120, 40)
 PRECURSOR = "C[Si](C)(C)[C@@]12CCC[C@@H](CC[C@H]1OS(=O)(=O)C(F)(F)F)C2"
-
-
-@pytest.fixture
-def demo_path(tmp_path):
-    path = tmp_path / "demo.sqlite"
-    build_demo(path)
-    return path
 
 
 async def type_text(pilot, text: str) -> None:

@@ -13,19 +13,11 @@ import pytest
 
 pytest.importorskip("textual")
 
-from trapbook.demo import build_demo
 from trapbook.tui.app import TrapbookApp
 
 # Source: docs/sources.md (Terminal UI): 80 columns × 24 lines is the VT100's screen and
 # still the default size of xterm and of most terminal emulators and SSH clients.
 SMALL = (80, 24)
-
-
-@pytest.fixture
-def demo_path(tmp_path):
-    path = tmp_path / "demo.sqlite"
-    build_demo(path)
-    return path
 
 
 def f1_in_sight(app, width: int) -> bool:

@@ -11,7 +11,6 @@ import pytest
 
 pytest.importorskip("textual")
 
-from trapbook.demo import build_demo
 from trapbook.settings import notebook_author
 from trapbook.store import Notebook
 from trapbook.tui.app import TrapbookApp
@@ -21,13 +20,6 @@ from trapbook.tui.screens.name_dialog import NameDialog
 from trapbook.tui.screens.question import SET_ASIDE_NOTE
 
 SIZE = (80, 24)
-
-
-@pytest.fixture
-def demo_path(tmp_path):
-    path = tmp_path / "demo.sqlite"
-    build_demo(path)  # the demo notebook has no "you are" name: the first save asks for one
-    return path
 
 
 async def rush(pilot, *keys: str) -> None:
@@ -71,6 +63,20 @@ def stored(path):
         return notebook_author(nb), [(v.author, v.reason) for v in nb.history("TB-0001")], nb.get_run("TB-0001").title
 
 
+async def answer_reason(pilot, app, editor) -> None:
+    """Type the reason at once and wait for the save to come back to the editor."""
+    await rush(pilot, *"fixed title", "enter")
+    await until(pilot, lambda: app.screen is editor, "the run was saved")
+
+
+def assert_saved_by_trial(demo_path, title: str) -> None:
+    """The save is A. Trial's, with the reason typed for it, and the title as it was before the questions."""
+    author, versions, saved_title = stored(demo_path)
+    assert author == "A. Trial"
+    assert versions[-1] == ("A. Trial", "fixed title")
+    assert saved_title == title
+
+
 async def test_a_reason_typed_right_after_the_name_never_joins_the_name(demo_path):
     app = TrapbookApp(demo_path, warm=False)
     async with app.run_test(size=SIZE) as pilot:
@@ -87,12 +93,8 @@ async def test_a_reason_typed_right_after_the_name_never_joins_the_name(demo_pat
         assert reason_box.value == ""  # typed before this box was there: set aside, and said
         assert note_of(app.screen) == SET_ASIDE_NOTE
         assert editor.data["title"] == title  # nor did any of it reach the form between the two questions
-        await rush(pilot, *"fixed title", "enter")
-        await until(pilot, lambda: app.screen is editor, "the run was saved")
-    author, versions, saved_title = stored(demo_path)
-    assert author == "A. Trial"
-    assert versions[-1] == ("A. Trial", "fixed title")
-    assert saved_title == title
+        await answer_reason(pilot, app, editor)
+    assert_saved_by_trial(demo_path, title)
 
 
 async def test_keys_typed_before_the_name_is_asked_land_nowhere(demo_path):
@@ -112,12 +114,8 @@ async def test_keys_typed_before_the_name_is_asked_land_nowhere(demo_path):
         await rush(pilot, "ctrl+u", *"A. Trial", "enter")  # the box's editing keys act in the order typed
         await until(pilot, lambda: isinstance(app.screen, ReasonDialog), "the reason was asked")
         await pilot.pause()
-        await rush(pilot, *"fixed title", "enter")
-        await until(pilot, lambda: app.screen is editor, "the run was saved")
-    author, versions, saved_title = stored(demo_path)
-    assert author == "A. Trial"
-    assert versions[-1] == ("A. Trial", "fixed title")
-    assert saved_title == title
+        await answer_reason(pilot, app, editor)
+    assert_saved_by_trial(demo_path, title)
 
 
 async def test_a_refused_answer_takes_keys_again(demo_path):

@@ -13,7 +13,6 @@ pytest.importorskip("textual")
 from rich.text import Text
 from textual.geometry import Region
 
-from trapbook.demo import build_demo
 from trapbook.tui.app import TrapbookApp
 from trapbook.tui.screens.editor import WorkbenchScreen
 from trapbook.tui.screens.workbench.status_line import Part, fit_status, wrapped_line_count
@@ -79,13 +78,6 @@ def assert_whole(app) -> None:
     text = meant(app)
     assert " ".join(r for r in rows if r) == " ".join(text.split()), (rows, text)
     assert all(len(r) <= SIZE[0] - 2 for r in rows)
-
-
-@pytest.fixture
-def demo_path(tmp_path):
-    path = tmp_path / "demo.sqlite"
-    build_demo(path)
-    return path
 
 
 async def test_the_status_line_is_whole_at_80_columns(demo_path):
