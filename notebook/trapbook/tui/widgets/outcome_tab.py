@@ -157,19 +157,6 @@ class OutcomeTab(RowsTab):
         values = {k: self.query_one(f"#prod-{k}", Input).value for k, *_ in PRODUCT_FIELDS}
         return product_entry(values, self.product_lines(), self.rows(), self.index)
 
-    def take(self, focus: bool = True) -> tuple[dict | None, int | None]:
-        """The result in the form and the row it changes (None: a new one), the form cleared; or
-        (None, None) with the reason said below the form."""
-        entry, why = self.form()
-        if entry is None:
-            self._say(Text(why or "the form is empty", style=tone("stop")))
-            return None, None
-        index = self.index
-        self.blank()
-        if focus:
-            self.focus_form()
-        return entry, index
-
     def blank(self) -> None:
         self.index = None
         self._loading = True
@@ -181,7 +168,7 @@ class OutcomeTab(RowsTab):
             Text("New product result — Enter keeps it; pick a row above to change one", style=tone("muted")),
             layout=False,
         )
-        self._say(Text(""))
+        self.say(Text(""))
 
     def edit(self, index: int) -> None:
         rows = self.rows()
@@ -211,7 +198,7 @@ class OutcomeTab(RowsTab):
         entry, why = self.form()
         bad = next((f.problem for f in self.query(Field) if f.id.startswith("row-prod-") and f.problem), None)
         if entry is None or bad:
-            self._say(Text(bad or why or "", style=tone("stop")))
+            self.say(Text(bad or why or "", style=tone("stop")))
             return
         data = with_result(self.data, entry, self.index)
         if not (data.get("title") or "").strip():
@@ -219,10 +206,10 @@ class OutcomeTab(RowsTab):
         try:
             ys = amounts.product_yields(build_run(self.app.nb, data))
             y = next(y for y in ys if y.product.casefold() == entry["product"].casefold())
-            self._say(Text("→ " + (yield_words(y) or "kept as given") + "   (Enter keeps this result)", style=tone("ok")))
+            self.say(Text("→ " + (yield_words(y) or "kept as given") + "   (Enter keeps this result)", style=tone("ok")))
         except (TrapbookError, StopIteration) as exc:
             why = exc.message if isinstance(exc, TrapbookError) else "no yield"
-            self._say(Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=tone("warn")))
+            self.say(Text(f"valid result; yield not worked out yet: {why}   (Enter keeps it)", style=tone("warn")))
 
     # --- drawing ------------------------------------------------------------------------
     def _put(self, selector: str, text: Text, layout: bool = True) -> None:
@@ -232,7 +219,7 @@ class OutcomeTab(RowsTab):
             self._shown[selector] = key
             self.query_one(selector, Static).update(text, layout=layout)
 
-    def _say(self, text: Text) -> None:
+    def say(self, text: Text) -> None:
         self._put("#prod-msg", text, layout=False)
 
     def _fill_products(self) -> None:

@@ -55,6 +55,29 @@ class RowsTab(TabPane):
         """How a notice names row `index` ("line 2 (furan)")."""
         raise NotImplementedError
 
+    index: int | None = None  # the row the form changes (None: it writes a new one)
+
+    def form(self) -> tuple[dict | None, str | None]:
+        """The row the form holds, or (None, why not)."""
+        raise NotImplementedError
+
+    def say(self, text) -> None:
+        """A line under the form."""
+        raise NotImplementedError
+
+    def take(self, focus: bool = True) -> tuple[dict | None, int | None]:
+        """The row in the form and the row it changes (None: a new one), the form cleared; or
+        (None, None) with the reason said below the form."""
+        row, why = self.form()
+        if row is None:
+            self.say(Text(why or "the form is empty", style=tone("stop")))
+            return None, None
+        index = self.index
+        self.blank()
+        if focus:
+            self.focus_form()
+        return row, index
+
     def blank(self) -> None:
         """Clear the form: it writes a new row."""
         raise NotImplementedError
@@ -107,32 +130,9 @@ class FormRowsTab(RowsTab):
 
     _loading = False  # set while the tab fills its own form, so filling is no edit
 
-    index: int | None = None  # the row the form changes (None: it writes a new one)
-
     def keep(self) -> None:
         """Hand the form's row to the screen (the tab's own message)."""
         raise NotImplementedError
-
-    def form(self) -> tuple[dict | None, str | None]:
-        """The row the form holds, or (None, why not)."""
-        raise NotImplementedError
-
-    def say(self, text) -> None:
-        """A line under the form."""
-        raise NotImplementedError
-
-    def take(self, focus: bool = True) -> tuple[dict | None, int | None]:
-        """The row in the form and the row it changes (None: a new one), the form cleared; or
-        (None, None) with the reason said below the form."""
-        row, why = self.form()
-        if row is None:
-            self.say(Text(why or "the form is empty", style=tone("stop")))
-            return None, None
-        index = self.index
-        self.blank()
-        if focus:
-            self.focus_form()
-        return row, index
 
     def preview(self) -> None:
         """Show what the form's row would do to the run."""
