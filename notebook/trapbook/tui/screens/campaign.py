@@ -36,6 +36,7 @@ from ..messages import CampaignEnded, CampaignProgress, CampaignTableReady
 from ..text import shown
 from ..theme import tone
 from ..widgets import campaign_rows as cr
+from ..widgets.in_order_input import InOrderInput
 from ..widgets.keybar import KeyBar
 
 #: The name the screen is installed under: one per app, so a running campaign outlives a visit.
@@ -124,8 +125,8 @@ class CampaignScreen(Screen):
         yield Header()
         yield DataTable(id="campaign-list", cursor_type="row", cell_padding=0)
         with Horizontal(id="campaign-start"):
-            yield Input(placeholder="skeleton SMILES, e.g. C1CC2CCCC(C1)C2 — Enter starts", id="campaign-skeleton")
-            yield Input(DEFAULT_KINDS, placeholder="bridgehead,allene,alkyne", id="campaign-kinds")
+            yield InOrderInput(placeholder="skeleton SMILES, e.g. C1CC2CCCC(C1)C2 — Enter starts", id="campaign-skeleton")
+            yield InOrderInput(DEFAULT_KINDS, placeholder="bridgehead,allene,alkyne", id="campaign-kinds")
             yield Select(
                 [("accurate", "accurate"), ("fast", "fast")],
                 value=DEFAULT_TIER,

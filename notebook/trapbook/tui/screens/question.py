@@ -16,7 +16,9 @@ from typing import TypeVar
 from textual import events
 from textual.message import Message
 from textual.screen import ModalScreen
-from textual.widgets import Input, Static
+from textual.widgets import Static
+
+from ..widgets.in_order_input import InOrderInput
 
 #: Quitting always gets through, so a question can never lock the keyboard.
 NEVER_SET_ASIDE = frozenset({"ctrl+q"})
@@ -65,9 +67,9 @@ class TypeAheadGate:
         return self.open_since is None or event.time >= self.open_since
 
 
-class AnswerInput(Input):
-    """The answer box: its editing keys act in the order typed, and what is typed after its
-    Enter belongs to whatever comes next, never to this answer."""
+class AnswerInput(InOrderInput):
+    """The answer box: its editing keys act in the order typed (InOrderInput), and what is
+    typed after its Enter belongs to whatever comes next, never to this answer."""
 
     answered = False
 
@@ -79,13 +81,7 @@ class AnswerInput(Input):
             self.answered = True
             if getattr(self.screen, "asked", False):
                 self.app.typeahead.close()
-        if event.is_printable:
-            return
-        bindings = next((self._bindings.key_to_bindings[k] for k in event.aliases if k in self._bindings.key_to_bindings), None)
-        if bindings:  # now, not once the key has bubbled up to the app behind the keys typed after it
-            event.prevent_default()
-            event.stop()
-            await self.run_action(bindings[0].action)
+        await super().on_key(event)
 
     def on_paste(self, event: events.Paste) -> None:
         if self.answered:

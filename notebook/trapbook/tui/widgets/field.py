@@ -15,6 +15,8 @@ from textual.message import Message
 from textual.suggester import SuggestFromList
 from textual.widgets import Checkbox, Input, Label, Static
 
+from .in_order_input import InOrderInput
+
 #: A check takes the text and returns (ok, message).
 Check = Callable[[str], tuple[bool, str]]
 
@@ -44,7 +46,7 @@ class Field(Horizontal):
     def compose(self) -> ComposeResult:
         yield Label(self.label, classes="field-label")
         suggester = SuggestFromList(self.suggestions, case_sensitive=False) if self.suggestions else None
-        yield Input(
+        yield InOrderInput(
             value=self.initial, placeholder=self.placeholder, id=self.field_id, suggester=suggester, classes="field-input"
         )
         yield Static("", id=f"msg-{self.field_id}", classes="field-msg")

@@ -26,6 +26,7 @@ from ...search_query import Query, parse_query
 from ..messages import FilterAnswered, FilterLeft
 from ..text import shown as stored_text
 from ..theme import tone
+from .in_order_input import InOrderInput
 
 #: Seconds after the last key before the text is searched.
 PAUSE_S = 0.12
@@ -62,7 +63,7 @@ class LogbookFilter(Vertical):
         self._pause = None
 
     def compose(self) -> ComposeResult:
-        yield Input(placeholder=PLACEHOLDER, id="filter")
+        yield InOrderInput(placeholder=PLACEHOLDER, id="filter")
         yield Static("", id="filter-status")
 
     # --- what the screen reads -----------------------------------------------------
