@@ -22,7 +22,6 @@ import atexit
 import hashlib
 import json
 import os
-import threading
 import time
 import warnings
 import zipfile
@@ -118,7 +117,7 @@ def _arrays(pool: Pool, sources: list[tuple]) -> dict[str, np.ndarray]:
 
 def _write(arrays: dict[str, np.ndarray], path: Path) -> None:
     path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
-    part = path.with_name(f"{path.stem}.{os.getpid()}.{threading.get_ident()}.part")
+    part = path.with_name(f"{path.stem}.{os.getpid()}.part")
     with open(part, "wb") as fh:
         np.savez(fh, **arrays)
     os.replace(part, path)
